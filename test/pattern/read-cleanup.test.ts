@@ -1,0 +1,64 @@
+import { describe, it, expect } from 'vitest';
+import { fixtureText, readText, expectValidPattern } from './helpers.js';
+
+describe('clean-up after reading', () => {
+  it('reverses a descending scan and says so', () => {
+    const p = readText('5 50\n4 40\n3 30\n2 20\n1 10\n');
+    expect(Array.from(p.x)).toEqual([1, 2, 3, 4, 5]);
+    expect(Array.from(p.y)).toEqual([10, 20, 30, 40, 50]);
+    expect(p.readerNotes.join(' ')).toContain('descending');
+  });
+
+  it('reverses the descending fixture with its sigma column and reads the Kα1/Kα2 pair', () => {
+    const p = readText(fixtureText('simulated-si111-descending.xy'), 'simulated-si111-descending.xy');
+    expectValidPattern(p);
+    expect(p.x[0]).toBe(28.2);
+    expect(p.y[12]).toBe(1283);
+    expect(p.sigma[12]).toBe(35.82);
+    expect(p.wavelength).toMatchObject({ lambda1: 1.540593, lambda2: 1.544414 });
+  });
+
+  it('sorts stray rows by 2θ and says so', () => {
+    const p = readText('1 10\n2 20\n4 40\n3 30\n5 50\n6 60\n');
+    expect(Array.from(p.x)).toEqual([1, 2, 3, 4, 5, 6]);
+    expect(Array.from(p.y)).toEqual([10, 20, 30, 40, 50, 60]);
+    expect(p.readerNotes.join(' ')).toContain('sorted');
+  });
+
+  it('merges duplicate 2θ by averaging, with the uncertainty of the mean', () => {
+    const p = readText('1 10\n2 16\n2 20\n2 24\n3 30\n4 40\n5 50\n');
+    expect(Array.from(p.x)).toEqual([1, 2, 3, 4, 5]);
+    expect(p.y[1]).toBe(20);
+    // mean of three Poisson counts: σ = √(16 + 20 + 24) / 3 (common practice: propagation of variance)
+    expect(p.sigma[1]).toBeCloseTo(Math.sqrt(60) / 3, 12);
+    expect(p.readerNotes.join(' ')).toContain('2 point(s) repeated');
+  });
+
+  it('keeps zero and negative counts with a sigma floor of 1 and a note', () => {
+    const p = readText('1 0\n2 -5\n3 0.5\n4 4\n5 9\n');
+    expect(Array.from(p.y)).toEqual([0, -5, 0.5, 4, 9]);
+    expect(Array.from(p.sigma)).toEqual([1, 1, 1, 2, 3]);
+    expect(p.readerNotes.join(' ')).toContain('2 point(s) have zero or negative counts');
+  });
+
+  it('replaces a non-positive given sigma by √counts and says so', () => {
+    const p = readText('1 4 0\n2 9 1\n3 16 -1\n4 25 1\n5 36 1\n');
+    expect(Array.from(p.sigma)).toEqual([2, 1, 4, 1, 1]);
+    expect(p.readerNotes.join(' ')).toContain('2 uncertainty value(s)');
+  });
+
+  it('keeps unevenly stepped 2θ as it is, with a note', () => {
+    const p = readText('10 1\n10.01 2\n10.03 3\n10.1 4\n10.2 5\n');
+    expect(Array.from(p.x)).toEqual([10, 10.01, 10.03, 10.1, 10.2]);
+    expect(p.readerNotes.join(' ')).toContain('uneven');
+  });
+
+  it('adds no notes to a clean evenly stepped file', () => {
+    const p = readText('10 1\n10.02 2\n10.04 3\n10.06 4\n10.08 5\n');
+    expect(p.readerNotes).toEqual([]);
+  });
+
+  it('refuses a file that has fewer than 5 points once duplicates are merged', () => {
+    expect(() => readText('1 1\n1 2\n2 3\n2 4\n3 5\n3 6\n4 7\n')).toThrow(/at least 5/);
+  });
+});
