@@ -1,0 +1,255 @@
+import type { Command } from 'commander';
+import { existsSync, renameSync, rmSync, writeFileSync } from 'node:fs';
+import { InputError } from '../../errors.js';
+import { readReferenceFile } from '../../library/import-files.js';
+import { formatReferenceJson } from '../../library/json-format.js';
+import type { Reference } from '../../library/reference.js';
+import { ensureSeeded } from '../../library/seed.js';
+import { ReferenceLibrary, type ImportSummary, type ReferenceVersionInfo } from '../../library/store.js';
+import { parseWavelength } from '../../pattern/wavelengths.js';
+import { runCommand } from '../run-command.js';
+
+/** `crystallog library ...`: import, list, export, remove, history, restore, seed. */
+export function registerLibrary(program: Command): void {
+  const library = program.command('library').description('The reference library: phases to match against, kept with their history.');
+
+  library
+    .command('import')
+    .description('Add references from JSON, CSV peak lists or structure CIFs (all files or none).')
+    .argument('<files...>', 'reference files (.json, .csv, .cif)')
+    .requiredOption('--library <db>', 'library file (created if missing)')
+    .option('--wavelength <w>', 'CIF: radiation for computed intensities (default Cu Kα1); CSV: wavelength of a 2θ column')
+    .option('--name <name>', 'CSV: name of the reference (default: the file name)')
+    .option('--source <text>', 'CSV: where the values come from')
+    .option('--formula <formula>', 'CSV: chemical formula')
+    .option('--tag <tag>', 'CSV: a tag (target, impurity, precursor, decomposition product, standard, or your own); repeat for more', collect, [])
+    .option('--json', 'print the result as JSON')
+    .action((files: string[], o: ImportOptions) => runCommand(Boolean(o.json), () => importCommand(files, o), importText));
+
+  library
+    .command('list')
+    .description('List the references (current versions).')
+    .requiredOption('--library <db>', 'library file')
+    .option('--search <text>', 'part of the name or formula')
+    .option('--tag <tag>', 'only references with this tag')
+    .option('--json', 'print the result as JSON')
+    .action((o: ListOptions) => runCommand(Boolean(o.json), () => listCommand(o), listText));
+
+  library
+    .command('export')
+    .description('Write the references as a JSON array (the import format) to a file or stdout.')
+    .requiredOption('--library <db>', 'library file')
+    .option('--out <file>', 'write here instead of stdout (replaced only once fully written)')
+    .option('--json', 'with --out: print a JSON summary')
+    .action((o: ExportOptions) => {
+      if (o.out) return runCommand(Boolean(o.json), () => exportCommand(o), (r) => `Wrote ${r.count} references to ${r.out}\n`);
+      return runCommand(false, () => exportCommand(o), (r) => r.text);
+    });
+
+  library
+    .command('remove')
+    .description('Delete a reference (recoverable with restore).')
+    .argument('<name>', 'reference name')
+    .requiredOption('--library <db>', 'library file')
+    .option('--json', 'print the result as JSON')
+    .action((name: string, o: LibraryOption) =>
+      runCommand(Boolean(o.json), () => removeCommand(name, o), (r) => `Deleted "${r.removed}" (restore it with: library restore "${r.removed}" --version ${r.version})\n`),
+    );
+
+  library
+    .command('history')
+    .description('Show every version of a reference.')
+    .argument('<name>', 'reference name')
+    .requiredOption('--library <db>', 'library file')
+    .option('--json', 'print the result as JSON')
+    .action((name: string, o: LibraryOption) => runCommand(Boolean(o.json), () => historyCommand(name, o), historyText));
+
+  library
+    .command('restore')
+    .description('Make an earlier version current again (also brings back a deleted reference).')
+    .argument('<name>', 'reference name')
+    .requiredOption('--library <db>', 'library file')
+    .requiredOption('--version <n>', 'version to restore')
+    .option('--json', 'print the result as JSON')
+    .action((name: string, o: LibraryOption & { version: string }) =>
+      runCommand(Boolean(o.json), () => restoreCommand(name, o), (r) => `"${r.name}" is now version ${r.version} (a copy of version ${r.restoredFrom})\n`),
+    );
+
+  library
+    .command('seed')
+    .description('Load the references shipped with Crystallog (once per library).')
+    .requiredOption('--library <db>', 'library file (created if missing)')
+    .option('--json', 'print the result as JSON')
+    .action((o: LibraryOption) =>
+      runCommand(Boolean(o.json), () => seedCommand(o), (r) => (r.alreadySeeded ? 'Already seeded; nothing done.\n' : `Added ${r.added.length} references.\n`)),
+    );
+}
+
+function collect(value: string, previous: string[]): string[] {
+  return [...previous, value];
+}
+
+interface LibraryOption {
+  library: string;
+  json?: boolean;
+}
+export interface ImportOptions extends LibraryOption {
+  wavelength?: string;
+  name?: string;
+  source?: string;
+  formula?: string;
+  tag?: string[];
+}
+export interface ListOptions extends LibraryOption {
+  search?: string;
+  tag?: string;
+}
+export interface ExportOptions extends LibraryOption {
+  out?: string;
+}
+
+export interface ImportResult extends ImportSummary {
+  library: string;
+  files: { file: string; references: string[] }[];
+}
+
+/** Read every file first, then store all references in one transaction: one bad file changes nothing. */
+export function importCommand(files: string[], o: ImportOptions): ImportResult {
+  const wavelength = o.wavelength === undefined ? undefined : parseWavelength(o.wavelength);
+  const csv = {
+    ...(o.name !== undefined ? { name: o.name } : {}),
+    ...(o.source !== undefined ? { source: o.source } : {}),
+    ...(o.formula !== undefined ? { formula: o.formula } : {}),
+    ...(o.tag !== undefined && o.tag.length > 0 ? { tags: o.tag } : {}),
+  };
+  const read: { file: string; refs: Reference[] }[] = files.map((file) => ({
+    file,
+    refs: readReferenceFile(file, { csv, ...(wavelength ? { wavelength } : {}) }),
+  }));
+  const all = read.flatMap((r) => r.refs);
+  const from = new Map<string, string>();
+  for (const { file, refs } of read) {
+    for (const ref of refs) {
+      const earlier = from.get(ref.name.toLowerCase());
+      if (earlier) throw new InputError(`the reference "${ref.name}" is also in ${earlier}; import one of them`, { file });
+      from.set(ref.name.toLowerCase(), file);
+    }
+  }
+  return withLibrary(o.library, true, (lib) => {
+    const summary = lib.importReferences(all, { change: `import from ${files.length === 1 ? files[0] : `${files.length} files`}` });
+    return { library: o.library, files: read.map(({ file, refs }) => ({ file, references: refs.map((r) => r.name) })), ...summary };
+  });
+}
+
+function importText(r: ImportResult): string {
+  return `Imported into ${r.library}: ${r.added.length} added, ${r.updated.length} updated (old versions kept), ${r.unchanged.length} unchanged.\n`;
+}
+
+export interface ListedReference {
+  id: number;
+  name: string;
+  version: number;
+  formula: string;
+  tags: string[];
+  source: string;
+  lineCount: number;
+  rir: number | null;
+  spaceGroup: string | null;
+  intensityBasis: string | null;
+  createdAt: string;
+}
+
+export function listCommand(o: ListOptions): { library: string; count: number; references: ListedReference[] } {
+  return withLibrary(o.library, false, (lib) => {
+    const filter = { ...(o.search !== undefined ? { search: o.search } : {}), ...(o.tag !== undefined ? { tag: o.tag } : {}) };
+    const references = lib.list(filter).map((r) => ({
+      id: r.id,
+      name: r.name,
+      version: r.version,
+      formula: r.formula,
+      tags: r.tags,
+      source: r.source,
+      lineCount: r.lines.length,
+      rir: r.rir ?? null,
+      spaceGroup: r.cell?.spaceGroup ?? null,
+      intensityBasis: r.intensityBasis ?? null,
+      createdAt: r.createdAt,
+    }));
+    return { library: o.library, count: references.length, references };
+  });
+}
+
+function listText(r: { count: number; references: ListedReference[] }): string {
+  const rows = r.references.map((x) => `${x.name}  v${x.version}  ${x.formula || '-'}  [${x.tags.join(', ')}]  ${x.lineCount} lines`);
+  return `${rows.join('\n')}${rows.length ? '\n' : ''}${r.count} reference${r.count === 1 ? '' : 's'}\n`;
+}
+
+/** The export text; with --out it is written to a temporary file beside the target and renamed over it. */
+export function exportCommand(o: ExportOptions): { out: string | null; count: number; text: string } {
+  const { text, count } = withLibrary(o.library, false, (lib) => {
+    const refs = lib.exportReferences();
+    return { text: formatReferenceJson(refs), count: refs.length };
+  });
+  if (!o.out) return { out: null, count, text };
+  writeFileAtomically(o.out, text);
+  return { out: o.out, count, text: '' };
+}
+
+export function writeFileAtomically(path: string, text: string): void {
+  const temporary = `${path}.${process.pid}.tmp`;
+  try {
+    writeFileSync(temporary, text, { flush: true });
+    renameSync(temporary, path);
+  } catch (err) {
+    rmSync(temporary, { force: true });
+    throw new InputError(`cannot write the export (${(err as { code?: string }).code ?? String(err)})`, { file: path });
+  }
+}
+
+export function removeCommand(name: string, o: LibraryOption): { library: string; removed: string; version: number } {
+  return withLibrary(o.library, false, (lib) => {
+    const current = lib.get(name);
+    if (!current) throw new InputError(`there is no reference named "${name}" in the library`, { file: o.library });
+    lib.remove(name);
+    return { library: o.library, removed: current.name, version: current.version };
+  });
+}
+
+export function historyCommand(name: string, o: LibraryOption): { library: string; name: string; versions: ReferenceVersionInfo[] } {
+  return withLibrary(o.library, false, (lib) => {
+    const versions = lib.history(name);
+    return { library: o.library, name: versions[versions.length - 1]!.name, versions };
+  });
+}
+
+function historyText(r: { name: string; versions: ReferenceVersionInfo[] }): string {
+  const rows = r.versions.map(
+    (v) => `v${v.version}  ${v.createdAt}  ${v.change}  ${v.lineCount} lines${v.current ? '  (current)' : ''}${v.deleted && v === r.versions.at(-1) ? '  (deleted)' : ''}`,
+  );
+  return `${r.name}\n${rows.join('\n')}\n`;
+}
+
+export function restoreCommand(name: string, o: LibraryOption & { version: string }): { library: string; name: string; version: number; restoredFrom: number } {
+  const version = Number(o.version);
+  if (!Number.isInteger(version) || version < 1) throw new InputError(`option --version ${o.version}: give a version number (1, 2, ...)`);
+  return withLibrary(o.library, false, (lib) => {
+    const restored = lib.restore(name, version);
+    return { library: o.library, name: restored.name, version: restored.version, restoredFrom: version };
+  });
+}
+
+export function seedCommand(o: LibraryOption): { library: string; added: string[]; alreadySeeded: boolean } {
+  return withLibrary(o.library, true, (lib) => ({ library: o.library, ...ensureSeeded(lib) }));
+}
+
+function withLibrary<T>(path: string, create: boolean, work: (lib: ReferenceLibrary) => T): T {
+  if (!create && !existsSync(path)) {
+    throw new InputError('there is no library here; create it with "crystallog library import FILE --library DB"', { file: path });
+  }
+  const lib = ReferenceLibrary.open(path);
+  try {
+    return work(lib);
+  } finally {
+    lib.close();
+  }
+}
