@@ -27,3 +27,13 @@ export {
   type PowderLine,
   type PowderOptions,
 } from './powder.js';
+export { ATOMIC_WEIGHTS, ATOMIC_WEIGHT_SOURCE, AVOGADRO_PER_MOL } from './atomic-weights.js';
+export {
+  cellContents,
+  corundumStructure,
+  intensityPerUnitWeight,
+  referenceIntensityRatio,
+  type CellContents,
+  type IntensityPerWeight,
+  type RirOptions,
+} from './rir.js';
