@@ -1,0 +1,134 @@
+import type { Command } from 'commander';
+import { readPatternFile } from '../../pattern/read.js';
+import { anodeWavelength, parseWavelength, type Wavelength } from '../../pattern/wavelengths.js';
+import { findPeaks } from '../../process/peaks.js';
+import type { FittedPeak } from '../../process/types.js';
+import { numberOption, runCommand } from '../run-command.js';
+
+export interface PeaksCommandOptions {
+  wavelength?: string;
+  threshold?: string;
+  background?: string;
+  json?: boolean;
+}
+
+/** The JSON of `crystallog peaks` (field names fixed by the command contract; extra fields welcome). */
+export interface PeaksReport {
+  file: string;
+  points: number;
+  wavelength: { lambda1: number; lambda2: number | null; ratio: number; label: string; source: 'option' | 'file' | 'default' };
+  thresholdSigma: number;
+  peaks: Array<{
+    twoTheta: number;
+    twoThetaSigma: number;
+    d: number;
+    height: number;
+    heightSigma: number;
+    area: number;
+    areaSigma: number;
+    fwhm: number;
+    fwhmSigma: number;
+    integralBreadth: number;
+    integralBreadthSigma: number;
+    eta: number;
+    etaSigma: number;
+    group: number;
+    groupChi2: number;
+    overlapped: boolean;
+  }>;
+  notes: string[];
+}
+
+/** `crystallog peaks FILE [--wavelength W] [--threshold SIGMA] [--background-width DEG] [--json]` */
+export function registerPeaks(program: Command): void {
+  program
+    .command('peaks')
+    .description('Find and fit the peaks of one pattern (Kα1 positions; the Kα2 partner is part of each peak).')
+    .argument('<file>', 'pattern file (xy text, CSV or pdCIF)')
+    .option('--wavelength <w>', 'Cu, Co, Fe, Cr, Mo, Ag or a number in Å (default: from the file, else Cu)')
+    .option('--threshold <sigma>', 'a peak must stand this many σ above the background (default 3)')
+    .option('--background <deg>', 'background clipping half-width, degrees 2θ (default 1.0)')
+    .option('--json', 'print one JSON document')
+    .action(async (file: string, options: PeaksCommandOptions) => {
+      await runCommand(options.json === true, () => peaksReport(file, options), peaksText);
+    });
+}
+
+export function peaksReport(file: string, options: PeaksCommandOptions): PeaksReport {
+  const thresholdSigma = numberOption('--threshold', options.threshold, (v) => v > 0 && v <= 100, 'give a positive number of σ, such as 3') ?? 3;
+  const backgroundHalfWidthDeg = numberOption('--background', options.background, (v) => v > 0 && v <= 20, 'give a half-width in degrees 2θ between 0 and 20, such as 1');
+  const pattern = readPatternFile(file);
+  let wavelength: Wavelength;
+  let source: PeaksReport['wavelength']['source'];
+  if (options.wavelength !== undefined) {
+    wavelength = parseWavelength(options.wavelength);
+    source = 'option';
+  } else if (pattern.wavelength) {
+    wavelength = pattern.wavelength;
+    source = 'file';
+  } else {
+    wavelength = anodeWavelength('Cu');
+    source = 'default';
+  }
+  const result = findPeaks(pattern, { wavelength, thresholdSigma, backgroundHalfWidthDeg });
+  const notes = [...pattern.readerNotes];
+  if (source === 'default') notes.push('no wavelength in the file or on the command line: Cu Kα1/Kα2 assumed');
+  if (result.peaks.length === 0) notes.push('no peak stands clear of the noise: a featureless pattern supports no phase claim');
+  return {
+    file,
+    points: result.points,
+    wavelength: { lambda1: wavelength.lambda1, lambda2: wavelength.lambda2, ratio: wavelength.ratio, label: wavelength.label, source },
+    thresholdSigma,
+    peaks: result.peaks.map(peakFields),
+    notes,
+  };
+}
+
+function peakFields(p: FittedPeak): PeaksReport['peaks'][number] {
+  return {
+    twoTheta: round(p.twoTheta, 5),
+    twoThetaSigma: round(p.twoThetaSigma, 5),
+    d: round(p.d, 5),
+    height: round(p.height, 1),
+    heightSigma: round(p.heightSigma, 1),
+    area: round(p.area, 3),
+    areaSigma: round(p.areaSigma, 3),
+    fwhm: round(p.fwhm, 5),
+    fwhmSigma: round(p.fwhmSigma, 5),
+    integralBreadth: round(p.integralBreadth, 5),
+    integralBreadthSigma: round(p.integralBreadthSigma, 5),
+    eta: round(p.eta, 3),
+    etaSigma: round(p.etaSigma, 3),
+    group: p.group,
+    groupChi2: round(p.groupChi2, 3),
+    overlapped: p.overlapped,
+  };
+}
+
+/** Round to `digits` decimals, keeping at least 2 significant figures for tiny values (uncertainties). */
+function round(value: number, digits: number): number {
+  if (!Number.isFinite(value)) return value;
+  const magnitude = value === 0 ? 0 : Math.floor(Math.log10(Math.abs(value)));
+  const places = Math.max(digits, 1 - magnitude);
+  return Number(value.toFixed(Math.min(places, 12)));
+}
+
+function peaksText(report: PeaksReport): string {
+  const lines = [
+    `${report.file}: ${report.points} points, ${report.wavelength.label} (λ1 ${report.wavelength.lambda1} Å${report.wavelength.lambda2 === null ? '' : `, λ2 ${report.wavelength.lambda2} Å, ratio ${report.wavelength.ratio}`})`,
+    `${report.peaks.length} peak${report.peaks.length === 1 ? '' : 's'} at least ${report.thresholdSigma}σ above the background (Kα1 positions)`,
+  ];
+  if (report.peaks.length > 0) {
+    const headers = ['2θ (°)', '± (°)', 'd (Å)', 'height', 'area', 'FWHM (°)', 'breadth (°)', 'η'];
+    const width = 11;
+    lines.push('');
+    lines.push(headers.map((h) => h.padStart(width)).join(' '));
+    for (const p of report.peaks) {
+      const cells = [p.twoTheta.toFixed(4), p.twoThetaSigma.toFixed(4), p.d.toFixed(4), p.height.toFixed(1), p.area.toFixed(2), p.fwhm.toFixed(4), p.integralBreadth.toFixed(4), p.eta.toFixed(2)];
+      lines.push(cells.map((c) => c.padStart(width)).join(' ') + (p.overlapped ? '  overlapped' : ''));
+    }
+    lines.push('breadth = integral breadth (area / height)');
+  }
+  for (const note of report.notes) lines.push(`note: ${note}`);
+  return lines.join('\n') + '\n';
+}

@@ -1,0 +1,111 @@
+/**
+ * Which fitted peak belongs to which line of one reference phase, and whether that peak is clean
+ * enough to give a breadth (not blended with a neighbouring line or peak).
+ */
+import type { Hkl } from '../crystal/cell.js';
+import type { ReferenceLine } from '../library/reference.js';
+import type { FittedPeak } from '../process/types.js';
+import { twoThetaFromD } from '../pattern/units.js';
+
+export interface LineAssignment {
+  peakIndex: number;
+  line: ReferenceLine;
+  /** Reference position at the Kα1 wavelength, degrees 2θ (without zero shift). */
+  lineTwoThetaDeg: number;
+  hkl: Hkl | null;
+  /** True when the peak is not resolved from a neighbour (another line, another peak, or flagged by the fit). */
+  overlap: boolean;
+}
+
+export interface AssignOptions {
+  toleranceDeg: number;
+  /** Estimate a constant zero offset from the nearest peaks before assigning (default true). */
+  estimateZeroShift?: boolean;
+  /** Search window for the zero-offset estimate, degrees (default 0.5). */
+  shiftWindowDeg?: number;
+  /** Positions (degrees 2θ) of lines of other phases known to be present; a peak on one of them is an overlap. */
+  otherLineTwoThetasDeg?: readonly number[];
+}
+
+export interface AssignResult {
+  assignments: LineAssignment[];
+  zeroShiftDeg: number;
+}
+
+/** Lines closer than this (degrees 2θ) count as one position (exactly coincident reflections such as cubic 333/511). */
+const COINCIDENT_DEG = 0.01;
+
+function nearestIndex(sorted: readonly number[], value: number): number {
+  let lo = 0;
+  let hi = sorted.length - 1;
+  if (hi < 0) return -1;
+  while (hi - lo > 1) {
+    const mid = (lo + hi) >>> 1;
+    if (sorted[mid] < value) lo = mid;
+    else hi = mid;
+  }
+  return Math.abs(sorted[lo] - value) <= Math.abs(sorted[hi] - value) ? lo : hi;
+}
+
+function median(values: number[]): number {
+  const s = [...values].sort((a, b) => a - b);
+  const m = s.length >>> 1;
+  return s.length % 2 ? s[m] : 0.5 * (s[m - 1] + s[m]);
+}
+
+/** Assign each reference line to its nearest fitted peak within the tolerance (one peak per line, nearest wins). */
+export function assignReferenceLines(
+  peaks: readonly FittedPeak[],
+  lines: readonly ReferenceLine[],
+  lambda1Angstrom: number,
+  options: AssignOptions,
+): AssignResult {
+  const peakPositions = peaks.map((p) => p.twoTheta);
+  const lineEntries = lines
+    .map((line) => ({ line, tt: twoThetaFromD(line.d, lambda1Angstrom) }))
+    .filter((e) => Number.isFinite(e.tt))
+    .sort((a, b) => a.tt - b.tt);
+  if (peaks.length === 0 || lineEntries.length === 0) return { assignments: [], zeroShiftDeg: 0 };
+
+  let zeroShiftDeg = 0;
+  if (options.estimateZeroShift ?? true) {
+    const window = options.shiftWindowDeg ?? 0.5;
+    const offsets: number[] = [];
+    for (const e of lineEntries) {
+      const j = nearestIndex(peakPositions, e.tt);
+      const off = peakPositions[j] - e.tt;
+      if (Math.abs(off) <= window) offsets.push(off);
+    }
+    if (offsets.length >= 2) zeroShiftDeg = median(offsets);
+  }
+
+  const linePositions = lineEntries.map((e) => e.tt);
+  const best = new Map<number, { peakIndex: number; distance: number }>();
+  peaks.forEach((peak, peakIndex) => {
+    const target = peak.twoTheta - zeroShiftDeg;
+    const li = nearestIndex(linePositions, target);
+    const distance = Math.abs(linePositions[li] - target);
+    if (distance > options.toleranceDeg) return;
+    const previous = best.get(li);
+    if (!previous || distance < previous.distance) best.set(li, { peakIndex, distance });
+  });
+
+  const others = options.otherLineTwoThetasDeg ?? [];
+  const assignments: LineAssignment[] = [];
+  for (const [li, { peakIndex }] of best) {
+    const peak = peaks[peakIndex];
+    const tt = linePositions[li];
+    const reach = Math.max(peak.fwhm, options.toleranceDeg);
+    let overlap = peak.overlapped;
+    for (let j = li - 1; j >= 0 && tt - linePositions[j] < reach; j--) if (tt - linePositions[j] > COINCIDENT_DEG) overlap = true;
+    for (let j = li + 1; j < linePositions.length && linePositions[j] - tt < reach; j++) if (linePositions[j] - tt > COINCIDENT_DEG) overlap = true;
+    for (const neighbour of [peakIndex - 1, peakIndex + 1]) {
+      if (neighbour >= 0 && neighbour < peaks.length && Math.abs(peaks[neighbour].twoTheta - peak.twoTheta) < peak.fwhm) overlap = true;
+    }
+    for (const other of others) if (Math.abs(other + zeroShiftDeg - peak.twoTheta) < reach) overlap = true;
+    const line = lineEntries[li].line;
+    assignments.push({ peakIndex, line, lineTwoThetaDeg: tt, hkl: line.hkl ?? null, overlap });
+  }
+  assignments.sort((a, b) => a.peakIndex - b.peakIndex);
+  return { assignments, zeroShiftDeg };
+}

@@ -1,0 +1,77 @@
+/** Synthetic fitted peaks for the size tests: widths made from known instrument and sample parts. */
+import type { ReferenceLine } from '../../src/library/reference.js';
+import type { FittedPeak } from '../../src/process/types.js';
+import { DEG_TO_RAD, dFromTwoTheta, twoThetaFromD } from '../../src/pattern/units.js';
+import { thompsonCoxHastings, pseudoVoigtIntegralBreadth } from '../../src/process/profiles.js';
+import { TYPICAL_LAB_INSTRUMENT, type InstrumentBroadening } from '../../src/crystal/simulate.js';
+import type { Reference } from '../../src/library/reference.js';
+
+export const CU_KA1 = 1.5405929;
+
+export function fittedPeak(twoTheta: number, fwhm: number, eta: number, relSigma = 0.01): FittedPeak {
+  const beta = pseudoVoigtIntegralBreadth(fwhm, eta);
+  return {
+    twoTheta,
+    twoThetaSigma: 0.001,
+    d: dFromTwoTheta(twoTheta, CU_KA1),
+    height: 1000,
+    heightSigma: 10,
+    area: 1000 * beta,
+    areaSigma: 10,
+    fwhm,
+    fwhmSigma: relSigma * fwhm,
+    integralBreadth: beta,
+    integralBreadthSigma: relSigma * beta,
+    eta,
+    etaSigma: 0.02,
+    group: 0,
+    groupChi2: 1,
+    overlapped: false,
+  };
+}
+
+/** The pseudo-Voigt (FWHM, η) of instrument ⊗ sample, as the simulator builds it (Thompson, Cox & Hastings 1987). */
+export function broadenedProfile(
+  twoTheta: number,
+  sizeNm: number | null,
+  microstrain = 0,
+  instrument: InstrumentBroadening = TYPICAL_LAB_INSTRUMENT,
+  k = 0.9,
+): { fwhm: number; eta: number } {
+  const theta = (twoTheta / 2) * DEG_TO_RAD;
+  const tan = Math.tan(theta);
+  const cos = Math.cos(theta);
+  const g2 = instrument.u * tan * tan + instrument.v * tan + instrument.w;
+  const lInst = instrument.x * tan + instrument.y / cos;
+  const lSize = sizeNm ? (k * CU_KA1) / (sizeNm * 10 * cos) / DEG_TO_RAD : 0;
+  const gStrain = (4 * microstrain * tan) / DEG_TO_RAD;
+  return thompsonCoxHastings(Math.sqrt(g2 + gStrain * gStrain), lInst + lSize);
+}
+
+/** Silicon lines (a = 5.431 Å, common practice) as a line-profile standard. */
+export function siliconStandard(): Reference {
+  const a = 5.431;
+  const hkls: Array<[number, number, number]> = [
+    [1, 1, 1], [2, 2, 0], [3, 1, 1], [4, 0, 0], [3, 3, 1], [4, 2, 2], [5, 1, 1], [4, 4, 0], [5, 3, 1],
+  ];
+  const lines: ReferenceLine[] = hkls.map((hkl) => ({ d: a / Math.hypot(...hkl), intensity: 50, hkl }));
+  return { name: 'silicon', formula: 'Si', tags: ['standard'], source: 'cubic cell a = 5.431 Å (common practice)', lines };
+}
+
+/** A simple cubic test phase (primitive, a = 4.2 Å) with hkl on every line up to 2θ = 120°. */
+export function cubicPhase(a = 4.2): Reference {
+  const lines: ReferenceLine[] = [];
+  const seen = new Set<number>();
+  for (let h = 0; h <= 5; h++)
+    for (let k = 0; k <= h; k++)
+      for (let l = 0; l <= k; l++) {
+        const s = h * h + k * k + l * l;
+        if (s === 0 || seen.has(s)) continue;
+        const d = a / Math.sqrt(s);
+        if (!(twoThetaFromD(d, CU_KA1) < 120)) continue;
+        seen.add(s);
+        lines.push({ d, intensity: 40, hkl: [h, k, l] });
+      }
+  lines.sort((x, y) => y.d - x.d);
+  return { name: 'test cubic', formula: 'X', tags: ['target'], source: 'test phase', lines };
+}

@@ -1,0 +1,50 @@
+import { describe, expect, it } from 'vitest';
+import { scherrerBreadthDeg } from '../../src/size/scherrer.js';
+import { hklFamily, williamsonHall, type BreadthPoint } from '../../src/size/williamson-hall.js';
+import { DEG_TO_RAD } from '../../src/pattern/units.js';
+import { CU_KA1 } from './fixtures.js';
+
+/** Breadths that follow β cosθ = Kλ/D + 4ε sinθ exactly (Williamson & Hall 1953). */
+function linePoints(sizeNm: number, strain: number, angles: number[]): BreadthPoint[] {
+  return angles.map((tt) => {
+    const theta = (tt / 2) * DEG_TO_RAD;
+    const breadthDeg = scherrerBreadthDeg(sizeNm, tt, CU_KA1, 0.9) + (4 * strain * Math.tan(theta)) / DEG_TO_RAD;
+    return { twoThetaDeg: tt, breadthDeg, breadthSigmaDeg: 0.01 * breadthDeg, hkl: null };
+  });
+}
+
+describe('Williamson–Hall uniform deformation', () => {
+  it('recovers size and strain from breadths on the W–H line', () => {
+    const r = williamsonHall(linePoints(35, 0.0015, [25, 35, 45, 60, 75, 90]), { wavelengthAngstrom: CU_KA1, k: 0.9 })!;
+    expect(r.sizeNm!).toBeCloseTo(35, 6);
+    expect(r.strain).toBeCloseTo(0.0015, 9);
+    expect(r.r2).toBeCloseTo(1, 9);
+    expect(r.sizeSigmaNm!).toBeGreaterThan(0);
+    expect(r.warnings).toEqual([]);
+  });
+
+  it('warns when fewer than 4 peaks remain', () => {
+    const r = williamsonHall(linePoints(35, 0.001, [30, 50, 70]), { wavelengthAngstrom: CU_KA1, k: 0.9 })!;
+    expect(r.warnings.some((w) => w.startsWith('only 3 usable peaks'))).toBe(true);
+    expect(williamsonHall(linePoints(35, 0.001, [30]), { wavelengthAngstrom: CU_KA1, k: 0.9 })).toBeNull();
+  });
+
+  it('warns when the slope is clearly negative', () => {
+    const points = linePoints(20, 0, [25, 35, 45, 60, 75, 90]).map((p, i) => ({ ...p, breadthDeg: p.breadthDeg * (1.3 - 0.06 * i) }));
+    const r = williamsonHall(points, { wavelengthAngstrom: CU_KA1, k: 0.9 })!;
+    expect(r.strain).toBeLessThan(0);
+    expect(r.warnings.some((w) => w.startsWith('negative Williamson–Hall slope'))).toBe(true);
+  });
+
+  it('gives a lower bound when the intercept is not above zero', () => {
+    const r = williamsonHall(linePoints(1e6, 0.002, [25, 35, 45, 60, 75, 90]), { wavelengthAngstrom: CU_KA1, k: 0.9 })!;
+    expect(r.limit).toBe('instrument');
+    expect(r.statement).toMatch(/^larger than|beyond/);
+  });
+
+  it('groups reflections into direction families', () => {
+    expect(hklFamily([2, 0, 0])).toEqual([1, 0, 0]);
+    expect(hklFamily([-2, 2, 0])).toEqual([1, 1, 0]);
+    expect(hklFamily([3, 1, 1])).toEqual([3, 1, 1]);
+  });
+});
