@@ -1,0 +1,195 @@
+/**
+ * A series of samples (workup variants or exposure times) analysed with one instrument profile and
+ * one set of settings: a row per sample, pairwise size comparisons, and the growth of other phases'
+ * shares over exposure time.
+ */
+import { InputError } from '../errors.js';
+import type { SizeResult, SizeSettings } from '../size/sizes.js';
+import { SIZE_CAUTIONS } from '../size/sizes.js';
+import { compareSizes, DEFAULT_ALPHA, type SizeComparisonResult } from './compare.js';
+import { fitGrowth, type GrowthAnalysis } from './kinetics.js';
+
+export interface SeriesPhaseShare {
+  name: string;
+  /** Share of the sample, 0–1. */
+  share: number;
+  /** What the share measures: "weight fraction" (Chung) or "peak area share". */
+  basis: 'weight fraction' | 'peak area share';
+}
+
+export interface SeriesSample {
+  label: string;
+  file: string;
+  sha256?: string;
+  /** Exposure time in hours, for exposure series. */
+  exposureHours?: number | null;
+  /** The target phase's verdict, or null without a target. */
+  verdict: string | null;
+  /** Unexplained peaks below the target's first line. */
+  lowAnglePeaks: Array<{ twoTheta: number; d: number; height: number }>;
+  /** Shares of the phases other than the target that were found present (impurities, products). */
+  otherPhases: SeriesPhaseShare[];
+  /** Share of the measured peak area that no present phase explains, 0–1. */
+  unexplainedShare?: number | null;
+  size: SizeResult;
+  /** Reference names and versions the sample's analysis used. */
+  references?: Array<{ name: string; version: number }>;
+}
+
+export interface SeriesOptions {
+  /** Significance level of the size comparisons (default 0.05). */
+  alpha?: number;
+}
+
+export interface SeriesRow {
+  label: string;
+  file: string;
+  /** The phase whose lines gave the sizes (null: every fitted peak). */
+  sizePhase: string | null;
+  exposureHours: number | null;
+  verdict: string | null;
+  lowAnglePeaks: SeriesSample['lowAnglePeaks'];
+  otherPhases: SeriesPhaseShare[];
+  scherrer: { sizeNm: number | null; sizeSigmaNm: number | null; limit: 'instrument' | null; statement: string };
+  williamsonHall: { sizeNm: number | null; sizeSigmaNm: number | null; strain: number | null; strainSigma: number | null; r2: number | null; limit: 'instrument' | null } | null;
+  warnings: string[];
+}
+
+export interface SeriesGrowth {
+  phase: string;
+  basis: SeriesPhaseShare['basis'] | 'unexplained peak area share';
+  points: Array<{ label: string; timeHours: number; share: number }>;
+  analysis: GrowthAnalysis;
+}
+
+export interface SeriesResult {
+  kind: 'workup' | 'exposure';
+  rows: SeriesRow[];
+  comparison: SizeComparisonResult;
+  growth: SeriesGrowth[];
+  /** The settings every sample was analysed with (checked to be one and the same). */
+  settings: SizeSettings;
+  references: Array<{ name: string; version: number }>;
+  warnings: string[];
+  cautions: string[];
+}
+
+function settingsKey(s: SizeSettings): string {
+  return JSON.stringify({
+    k: s.k,
+    breadth: s.breadth,
+    correction: s.correction,
+    lambda: s.wavelength.lambda1,
+    instrument: s.instrument,
+    toleranceDeg: s.toleranceDeg,
+    resolvableExcess: s.resolvableExcess,
+  });
+}
+
+/**
+ * Compare the samples of a series. Throws InputError when they were not analysed alike (one
+ * instrument profile, one K, breadth, correction, wavelength and tolerance for all).
+ */
+export function analyzeSeries(samples: readonly SeriesSample[], options: SeriesOptions = {}): SeriesResult {
+  if (samples.length === 0) throw new InputError('a series needs at least one sample');
+  const labels = new Set<string>();
+  for (const s of samples) {
+    if (labels.has(s.label)) throw new InputError(`the label "${s.label}" is used twice in the series; give every sample its own label`);
+    labels.add(s.label);
+  }
+  const reference = samples[0].size.settings;
+  const key = settingsKey(reference);
+  for (const s of samples) {
+    if (settingsKey(s.size.settings) !== key) {
+      throw new InputError(
+        `sample "${s.label}" (${s.file}) was analysed with other settings or another instrument profile than "${samples[0].label}"; a series needs one set for all`,
+      );
+    }
+  }
+
+  const rows: SeriesRow[] = samples.map((s) => {
+    const wh = s.size.williamsonHall;
+    return {
+      label: s.label,
+      file: s.file,
+      sizePhase: s.size.settings.phase?.name ?? null,
+      exposureHours: s.exposureHours ?? null,
+      verdict: s.verdict,
+      lowAnglePeaks: s.lowAnglePeaks,
+      otherPhases: s.otherPhases,
+      scherrer: {
+        sizeNm: s.size.scherrer.sizeNm,
+        sizeSigmaNm: s.size.scherrer.sizeSigmaNm,
+        limit: s.size.scherrer.limit,
+        statement: s.size.scherrer.statement,
+      },
+      williamsonHall: wh
+        ? { sizeNm: wh.sizeNm, sizeSigmaNm: wh.sizeSigmaNm, strain: wh.strain, strainSigma: wh.strainSigma, r2: wh.r2, limit: wh.limit }
+        : null,
+      warnings: s.size.warnings,
+    };
+  });
+
+  const comparison = compareSizes(
+    samples.map((s) => ({
+      label: s.label,
+      sizeNm: s.size.scherrer.sizeNm,
+      sizeSigmaNm: s.size.scherrer.sizeSigmaFitNm ?? s.size.scherrer.sizeSigmaNm,
+      lowerBound: s.size.scherrer.limit === 'instrument',
+      phase: s.size.settings.phase?.name ?? null,
+    })),
+    options.alpha ?? DEFAULT_ALPHA,
+  );
+
+  const timed = samples.filter((s) => typeof s.exposureHours === 'number' && Number.isFinite(s.exposureHours));
+  const kind: SeriesResult['kind'] = timed.length === samples.length && samples.length > 1 ? 'exposure' : 'workup';
+  const growth = kind === 'exposure' ? growthOfOtherPhases(timed) : [];
+
+  const warnings: string[] = [];
+  if (timed.length > 0 && timed.length < samples.length) warnings.push('only some samples have an exposure time: the series is treated as workup variants');
+  const references = mergeReferences(samples);
+  return { kind, rows, comparison, growth, settings: reference, references, warnings, cautions: [...SIZE_CAUTIONS] };
+}
+
+function growthOfOtherPhases(samples: readonly SeriesSample[]): SeriesGrowth[] {
+  const names = new Map<string, SeriesPhaseShare['basis']>();
+  for (const s of samples) for (const p of s.otherPhases) if (!names.has(p.name)) names.set(p.name, p.basis);
+  const out: SeriesGrowth[] = [];
+  for (const [phase, basis] of names) {
+    // A phase not found in a sample counts as a share of 0 there.
+    const points = samples.map((s) => ({
+      label: s.label,
+      timeHours: s.exposureHours as number,
+      share: s.otherPhases.find((p) => p.name === phase)?.share ?? 0,
+    }));
+    out.push({ phase, basis, points, analysis: fitGrowth(points) });
+  }
+  if (samples.every((s) => typeof s.unexplainedShare === 'number')) {
+    const points = samples.map((s) => ({ label: s.label, timeHours: s.exposureHours as number, share: s.unexplainedShare as number }));
+    if (points.some((p) => p.share > 0)) {
+      out.push({ phase: 'unexplained peaks', basis: 'unexplained peak area share', points, analysis: fitGrowth(points) });
+    }
+  }
+  return out;
+}
+
+function mergeReferences(samples: readonly SeriesSample[]): Array<{ name: string; version: number }> {
+  const seen = new Map<string, { name: string; version: number }>();
+  for (const s of samples) for (const r of s.references ?? []) seen.set(`${r.name}\u0000${r.version}`, r);
+  return [...seen.values()].sort((a, b) => a.name.localeCompare(b.name) || a.version - b.version);
+}
+
+/**
+ * Exposure time in hours from a label such as "0 h", "30 min", "2h", "1.5 d", "45 s"; null when the
+ * label names no time.
+ */
+export function exposureHoursFromLabel(label: string): number | null {
+  const m = /^\s*(\d+(?:[.,]\d+)?)\s*(s|sec|min|m|h|hr|hrs|hours?|d|days?)\s*$/i.exec(label);
+  if (!m) return null;
+  const value = Number(m[1].replace(',', '.'));
+  const unit = m[2].toLowerCase();
+  if (unit.startsWith('s')) return value / 3600;
+  if (unit === 'min' || unit === 'm') return value / 60;
+  if (unit.startsWith('d')) return value * 24;
+  return value;
+}

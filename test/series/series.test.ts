@@ -1,0 +1,99 @@
+import { describe, expect, it } from 'vitest';
+import { normalDeviate, seededUniform } from '../../src/crystal/random.js';
+import { InputError } from '../../src/errors.js';
+import { twoThetaFromD } from '../../src/pattern/units.js';
+import { anodeWavelength } from '../../src/pattern/wavelengths.js';
+import { analyzeSeries, exposureHoursFromLabel, type SeriesSample } from '../../src/series/series.js';
+import { fitInstrumentProfile } from '../../src/size/instrument.js';
+import { crystalliteSizes, type SizeOptions } from '../../src/size/sizes.js';
+import { broadenedProfile, CU_KA1, cubicPhase, fittedPeak, siliconStandard } from '../size/fixtures.js';
+
+const CU = anodeWavelength('Cu');
+const phase = cubicPhase();
+const instrument = fitInstrumentProfile(
+  siliconStandard()
+    .lines.map((l) => twoThetaFromD(l.d, CU_KA1))
+    .filter((tt) => tt < 130)
+    .map((tt) => {
+      const p = broadenedProfile(tt, null);
+      return fittedPeak(tt, p.fwhm, p.eta);
+    }),
+  siliconStandard(),
+  { wavelength: CU, name: 'typical lab instrument (simulated)', date: '2025-01-01' },
+);
+
+/** A sample whose fitted widths scatter by their stated 1 % uncertainty (seeded). */
+function sample(label: string, sizeNm: number, seed: number, extra: Partial<SeriesSample> = {}, options: Partial<SizeOptions> = {}): SeriesSample {
+  const uniform = seededUniform(seed);
+  const peaks = phase.lines.map((l) => {
+    const tt = twoThetaFromD(l.d, CU_KA1);
+    const p = broadenedProfile(tt, sizeNm);
+    return fittedPeak(tt, p.fwhm * (1 + 0.01 * normalDeviate(uniform)), Math.min(1, Math.max(0, p.eta + 0.02 * normalDeviate(uniform))));
+  });
+  return {
+    label,
+    file: `${label}.xy`,
+    verdict: 'confirmed',
+    lowAnglePeaks: [],
+    otherPhases: [],
+    size: crystalliteSizes(peaks, { wavelength: CU, instrument, phase, ...options }),
+    references: [{ name: phase.name, version: 1 }],
+    ...extra,
+  };
+}
+
+describe('series of workup variants', () => {
+  it('reports three variants of the same size as not differing, and says which test', () => {
+    const r = analyzeSeries([sample('as made', 30, 1), sample('ground', 30, 2), sample('washed', 30, 3)]);
+    expect(r.kind).toBe('workup');
+    expect(r.rows.map((row) => row.label)).toEqual(['as made', 'ground', 'washed']);
+    expect(r.comparison.pairs).toHaveLength(3);
+    expect(r.comparison.pairs.every((p) => p.testable && p.differs === false)).toBe(true);
+    expect(r.comparison.test).toMatch(/z-test/);
+    expect(r.cautions.join(' ')).toMatch(/microscopy/);
+  });
+
+  it('reports 20 nm and 40 nm as differing', () => {
+    const r = analyzeSeries([sample('small', 20, 4), sample('large', 40, 5)]);
+    expect(r.comparison.pairs[0].differs).toBe(true);
+  });
+
+  it('records the one set of settings and the reference versions used', () => {
+    const r = analyzeSeries([sample('a', 30, 1), sample('b', 30, 2)]);
+    expect(r.settings.instrument?.name).toBe(instrument.name);
+    expect(r.settings.k).toBe(0.9);
+    expect(r.references).toEqual([{ name: phase.name, version: 1 }]);
+  });
+
+  it('refuses samples analysed with different settings', () => {
+    expect(() => analyzeSeries([sample('a', 30, 1), sample('b', 30, 2, {}, { k: 0.94 })])).toThrow(InputError);
+    expect(() => analyzeSeries([sample('a', 30, 1), sample('a', 30, 2)])).toThrow(/twice/);
+  });
+});
+
+describe('series over exposure time', () => {
+  it('fits the growth of an impurity share and gives its half-time', () => {
+    const hours = [0, 0.5, 1, 2, 4, 8, 24];
+    const uniform = seededUniform(99);
+    const samples = hours.map((t, i) => {
+      const share = 0.3 * (1 - Math.exp(-(Math.LN2 / 2) * t)) + 0.004 * normalDeviate(uniform);
+      return sample(`${t} h`, 30, 10 + i, {
+        exposureHours: exposureHoursFromLabel(`${t} h`),
+        otherPhases: t === 0 ? [] : [{ name: 'hydrate', share, basis: 'weight fraction' as const }],
+      });
+    });
+    const r = analyzeSeries(samples);
+    expect(r.kind).toBe('exposure');
+    const growth = r.growth.find((g) => g.phase === 'hydrate')!;
+    expect(growth.analysis.supported).toBe(true);
+    const fit = growth.analysis.fit!;
+    expect(Math.abs(fit.halfTimeHours - 2)).toBeLessThan(Math.max(3 * fit.halfTimeSigmaHours, 0.3));
+  });
+
+  it('reads exposure times from labels', () => {
+    expect(exposureHoursFromLabel('30 min')).toBe(0.5);
+    expect(exposureHoursFromLabel('2h')).toBe(2);
+    expect(exposureHoursFromLabel('1,5 d')).toBe(36);
+    expect(exposureHoursFromLabel('washed')).toBeNull();
+  });
+});
