@@ -1,0 +1,207 @@
+import type { Command } from 'commander';
+import { existsSync, readFileSync } from 'node:fs';
+import { analyzeFiles, defaultWorkerCount, type BatchFileOutcome } from '../../app/batch.js';
+import type { AnalysisResult, AnalysisSettings } from '../../app/pipeline.js';
+import { InputError } from '../../errors.js';
+import type { StoredReference } from '../../library/reference.js';
+import { ReferenceLibrary } from '../../library/store.js';
+import { parseWavelength } from '../../pattern/wavelengths.js';
+import { parseInstrumentProfile, type InstrumentProfile } from '../../size/instrument.js';
+import { resolveScherrerK } from '../../size/scherrer.js';
+import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../../size/voigt.js';
+import { numberOption, runCommand } from '../run-command.js';
+
+export interface AnalyzeCommandOptions {
+  library: string;
+  target?: string;
+  instrument?: string;
+  wavelength?: string;
+  tolerance?: string;
+  k?: string;
+  breadth?: string;
+  correction?: string;
+  workers?: string;
+  filesFrom?: string;
+  jsonl?: boolean;
+  json?: boolean;
+}
+
+/** Where the command writes; the CLI passes the process streams, tests pass collectors. */
+export interface AnalyzeIo {
+  stdout: (text: string) => void;
+  stderr: (text: string) => void;
+  /** Draw a progress bar on stderr (only when stderr is a terminal). */
+  progress: boolean;
+  /** Override of the worker module (tests run from sources). */
+  workerScript?: URL;
+  /** Reads the --files-from list when it is "-" (standard input). */
+  readStdin?: () => string;
+}
+
+/**
+ * `crystallog analyze FILE... --library DB [--target NAME] [--instrument P] [--workers N] [--jsonl] [--json]`
+ * Peaks, match and sizes for many files on a pool of worker threads.
+ */
+export function registerAnalyze(program: Command): void {
+  program
+    .command('analyze')
+    .description('Peaks, phase verdicts and crystallite sizes for many patterns at once (worker threads; results in input order).')
+    .argument('[files...]', 'pattern files (xy text, CSV or pdCIF)')
+    .requiredOption('--library <db>', 'reference library file')
+    .option('--target <name>', 'the phase you expect')
+    .option('--instrument <profile>', 'instrument profile JSON from "crystallog instrument" (corrects the peak breadths)')
+    .option('--wavelength <w>', 'Cu, Co, Fe, Cr, Mo, Ag or a number in Å (default: from each file, else Cu)')
+    .option('--tolerance <deg>', 'matching tolerance, degrees 2θ (default 0.1)')
+    .option('--k <k>', 'Scherrer K, a number or preset (default 0.9)')
+    .option('--breadth <kind>', 'fwhm or integral (default fwhm)')
+    .option('--correction <kind>', 'voigt, lorentzian or gaussian (default voigt)')
+    .option('--workers <n>', `worker threads (default: the number of cores, here ${defaultWorkerCount()})`)
+    .option('--files-from <list>', 'read more file paths from this list, one per line ("-" for standard input)')
+    .option('--jsonl', 'print one JSON line per file as each finishes (with its input index)')
+    .option('--json', 'print one JSON document {files: [...]} in input order')
+    .action(async (files: string[], o: AnalyzeCommandOptions) => {
+      const io: AnalyzeIo = {
+        stdout: (text) => process.stdout.write(text),
+        stderr: (text) => process.stderr.write(text),
+        progress: Boolean(process.stderr.isTTY),
+        readStdin: () => readFileSync(0, 'utf8'),
+      };
+      await runCommand(
+        false,
+        async () => {
+          const exitCode = await analyzeCommand(files, o, io);
+          if (exitCode !== 0) process.exitCode = exitCode;
+        },
+        () => '',
+      );
+    });
+}
+
+/** Run the batch and write its output; returns the exit code: 0 all well, 2 a file was bad input, 1 an internal fault. */
+export async function analyzeCommand(files: string[], o: AnalyzeCommandOptions, io: AnalyzeIo): Promise<number> {
+  const allFiles = [...files, ...(o.filesFrom ? readFileList(o.filesFrom, io) : [])];
+  if (allFiles.length === 0) throw new InputError('no pattern files given; name them after "analyze" or list them with --files-from');
+  const settings = settingsFromOptions(o);
+  const workers = numberOption('--workers', o.workers, (v) => Number.isInteger(v) && v >= 1 && v <= 256, 'give a whole number of worker threads, 1 or more');
+  const references = loadReferences(o.library);
+  const instrument = o.instrument ? loadInstrument(o.instrument) : null;
+
+  const progress = io.progress ? progressBar(allFiles.length, io.stderr) : null;
+  const streaming = Boolean(o.jsonl);
+  const outcomes = await analyzeFiles(allFiles, { references, instrument, settings }, {
+    ...(workers !== undefined ? { workers } : {}),
+    ...(io.workerScript ? { workerScript: io.workerScript } : {}),
+    keepJson: !streaming,
+    onOutcome: (outcome) => {
+      if (outcome.error !== null) io.stderr(`${progress ? '\r\x1b[K' : ''}crystallog: ${oneLine(outcome.error)}\n`);
+      if (streaming) io.stdout(jsonLine(outcome));
+      progress?.step(outcome.error !== null);
+    },
+  });
+  progress?.finish();
+
+  if (!streaming) io.stdout(o.json ? jsonDocument(outcomes) : textSummary(outcomes));
+  return outcomes.some((r) => r.errorKind === 'internal') ? 1 : outcomes.some((r) => r.errorKind === 'input') ? 2 : 0;
+}
+
+function readFileList(list: string, io: AnalyzeIo): string[] {
+  let text: string;
+  if (list === '-') text = io.readStdin ? io.readStdin() : '';
+  else if (!existsSync(list)) throw new InputError(`the file list ${list} does not exist`);
+  else text = readFileSync(list, 'utf8');
+  return text
+    .split(/\r?\n/)
+    .map((line) => line.trim())
+    .filter((line) => line !== '' && !line.startsWith('#'));
+}
+
+function settingsFromOptions(o: AnalyzeCommandOptions): Partial<AnalysisSettings> {
+  const settings: Partial<AnalysisSettings> = {};
+  if (o.wavelength) settings.wavelength = parseWavelength(o.wavelength);
+  const toleranceDeg = numberOption('--tolerance', o.tolerance, (v) => v > 0 && v <= 2, 'give the tolerance in degrees 2θ, above 0 and at most 2 (typical 0.05–0.2)');
+  if (toleranceDeg !== undefined) settings.toleranceDeg = toleranceDeg;
+  if (o.k !== undefined) settings.k = resolveScherrerK(o.k).k;
+  if (o.breadth !== undefined) settings.breadth = oneOf('--breadth', o.breadth, BREADTH_KINDS);
+  if (o.correction !== undefined) settings.correction = oneOf('--correction', o.correction, CORRECTION_KINDS);
+  if (o.target !== undefined) settings.target = o.target;
+  return settings;
+}
+
+function oneOf<T extends BreadthKind | CorrectionKind>(option: string, value: string, allowed: readonly T[]): T {
+  const found = allowed.find((a) => a === value.trim().toLowerCase());
+  if (!found) throw new InputError(`option ${option} ${value}: give one of ${allowed.join(', ')}`);
+  return found;
+}
+
+function loadReferences(path: string): StoredReference[] {
+  if (!existsSync(path)) throw new InputError(`library file ${path} does not exist; create it with: crystallog library import FILE --library ${path}`);
+  const library = ReferenceLibrary.open(path);
+  try {
+    const references = library.all();
+    if (references.length === 0) throw new InputError(`the library ${path} holds no references; add some with: crystallog library import FILE --library ${path}`);
+    return references;
+  } finally {
+    library.close();
+  }
+}
+
+function loadInstrument(path: string): InstrumentProfile {
+  if (!existsSync(path)) throw new InputError(`instrument profile ${path} does not exist; make one with "crystallog instrument"`);
+  return parseInstrumentProfile(readFileSync(path, 'utf8'), path);
+}
+
+/** One line of --jsonl: the input index first, then the result's fields (or the error). */
+function jsonLine(outcome: BatchFileOutcome): string {
+  if (outcome.json !== null) return `{"index":${outcome.index},${outcome.json.slice(1)}\n`;
+  return JSON.stringify({ index: outcome.index, file: outcome.file, error: outcome.error }) + '\n';
+}
+
+/** The --json document, one file's result per line, in input order. */
+function jsonDocument(outcomes: BatchFileOutcome[]): string {
+  const items = outcomes.map((o) => o.json ?? JSON.stringify({ file: o.file, error: o.error }));
+  return `{"files": [\n${items.join(',\n')}\n]}\n`;
+}
+
+function textSummary(outcomes: BatchFileOutcome[]): string {
+  const lines = outcomes.map((o) => {
+    if (o.json === null) return `${o.file}: ERROR ${oneLine(o.error ?? '')}`;
+    const r = JSON.parse(o.json) as AnalysisResult;
+    const best = r.match.phases.find((p) => p.name.toLowerCase() === r.settings.target?.toLowerCase()) ?? r.match.phases[0];
+    const phase = best ? `${best.name} ${best.verdict} (score ${best.score.toFixed(2)})` : 'no phase';
+    const lowAngle = r.match.unexplained.filter((u) => u.lowAngle).length;
+    const size = r.size.scherrer.sizeNm === null ? 'no size' : `Scherrer ${r.size.scherrer.sizeNm.toFixed(1)}${r.size.scherrer.sizeSigmaNm !== null ? ` ± ${r.size.scherrer.sizeSigmaNm.toFixed(1)}` : ''} nm`;
+    return `${r.file}: ${r.peaks.length} peaks; ${phase}; ${r.match.unexplained.length} unexplained (${lowAngle} low-angle); ${size}`;
+  });
+  const failed = outcomes.filter((o) => o.error !== null).length;
+  lines.push(`${outcomes.length} files analysed, ${failed} failed`);
+  return lines.join('\n') + '\n';
+}
+
+function progressBar(total: number, write: (text: string) => void): { step: (failed: boolean) => void; finish: () => void } {
+  const width = 30;
+  const started = Date.now();
+  let done = 0;
+  let failed = 0;
+  let drawnAt = 0;
+  const draw = (): void => {
+    const filled = Math.round((width * done) / total);
+    const seconds = ((Date.now() - started) / 1000).toFixed(1);
+    write(`\r\x1b[K[${'#'.repeat(filled)}${'.'.repeat(width - filled)}] ${done}/${total} files${failed ? `, ${failed} failed` : ''}, ${seconds} s`);
+  };
+  return {
+    step: (isFailure) => {
+      done++;
+      if (isFailure) failed++;
+      const now = Date.now();
+      if (now - drawnAt > 100 || done === total) {
+        drawnAt = now;
+        draw();
+      }
+    },
+    finish: () => write('\r\x1b[K'),
+  };
+}
+
+function oneLine(text: string): string {
+  return text.replace(/\s*\n\s*/g, ' ');
+}

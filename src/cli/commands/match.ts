@@ -1,0 +1,85 @@
+import type { Command } from 'commander';
+import { existsSync } from 'node:fs';
+import { InputError } from '../../errors.js';
+import { ReferenceLibrary } from '../../library/store.js';
+import { matchPhases } from '../../match/match.js';
+import type { MatchResult } from '../../match/types.js';
+import { readPatternFile } from '../../pattern/read.js';
+import { anodeWavelength, parseWavelength, type Wavelength } from '../../pattern/wavelengths.js';
+import { findPeaks } from '../../process/peaks.js';
+import { numberOption, runCommand } from '../run-command.js';
+
+interface MatchCommandOptions {
+  library: string;
+  target?: string;
+  tolerance?: string;
+  wavelength?: string;
+  json?: boolean;
+}
+
+export interface MatchCommandResult extends MatchResult {
+  file: string;
+  wavelength: { label: string; lambda1: number; lambda2: number | null; ratio: number };
+  library: string;
+  references: number;
+}
+
+/** `crystallog match FILE --library DB [--target NAME] [--tolerance DEG] [--wavelength W] [--json]` */
+export function registerMatch(program: Command): void {
+  program
+    .command('match')
+    .description('Which reference phases explain a pattern: verdicts with reasons, shift, unexplained peaks, weight fractions.')
+    .argument('<file>', 'pattern file (xy text, CSV or pdCIF)')
+    .requiredOption('--library <db>', 'reference library file')
+    .option('--target <name>', 'the phase you expect (explains the pattern first)')
+    .option('--tolerance <deg>', 'matching tolerance, degrees 2θ (default 0.1)')
+    .option('--wavelength <w>', 'Cu, Co, Fe, Cr, Mo, Ag or a number in Å (default: from the file, else Cu)')
+    .option('--json', 'print the result as JSON')
+    .action((file: string, o: MatchCommandOptions) => runCommand(Boolean(o.json), () => matchCommand(file, o), matchText));
+}
+
+export function matchCommand(file: string, o: MatchCommandOptions): MatchCommandResult {
+  const toleranceDeg = numberOption('--tolerance', o.tolerance, (v) => v > 0 && v <= 2, 'give the tolerance in degrees 2θ, above 0 and at most 2 (typical 0.05–0.2)');
+  if (!existsSync(o.library)) throw new InputError(`library file ${o.library} does not exist; create it with: crystallog library import FILE --library ${o.library}`);
+  const pattern = readPatternFile(file);
+  const wavelength: Wavelength = o.wavelength ? parseWavelength(o.wavelength) : (pattern.wavelength ?? anodeWavelength('Cu'));
+  const library = ReferenceLibrary.open(o.library);
+  let references;
+  try {
+    references = library.all();
+  } finally {
+    library.close();
+  }
+  if (references.length === 0) throw new InputError(`the library ${o.library} holds no references; add some with: crystallog library import FILE --library ${o.library}`);
+  const search = findPeaks(pattern, { wavelength });
+  const result = matchPhases(search.peaks, references, {
+    wavelength,
+    ...(toleranceDeg !== undefined ? { toleranceDeg } : {}),
+    ...(o.target !== undefined ? { target: o.target } : {}),
+    background: { x: pattern.x, y: search.background, sigma: search.noiseSigma },
+    twoThetaRangeDeg: { min: pattern.x[0], max: pattern.x[pattern.x.length - 1] },
+  });
+  return {
+    file,
+    wavelength: { label: wavelength.label, lambda1: wavelength.lambda1, lambda2: wavelength.lambda2, ratio: wavelength.ratio },
+    library: o.library,
+    references: references.length,
+    ...result,
+  };
+}
+
+function matchText(r: MatchCommandResult): string {
+  const out: string[] = [`${r.file}: matched against ${r.references} references (tolerance ${r.toleranceDeg}° 2θ, ${r.wavelength.label})`];
+  out.push(`shift: zero ${r.shift.zeroDeg.toFixed(4)}°, displacement ${r.shift.displacementCosDeg.toFixed(4)}°·cosθ`);
+  for (const p of r.phases) {
+    const fraction = p.weightFraction === null ? 'not quantified' : `${(100 * p.weightFraction).toFixed(1)} wt %`;
+    out.push(`  ${p.verdict.padEnd(9)} ${p.name}  score ${p.score.toFixed(2)}, ${p.matchedLines} lines, ${fraction}`);
+    for (const reason of p.reasons) out.push(`      - ${reason}`);
+  }
+  if (r.unexplained.length > 0) {
+    out.push('unexplained peaks:');
+    for (const u of r.unexplained) out.push(`  2θ ${u.twoTheta.toFixed(3)}°  d ${u.d.toFixed(4)} Å  height ${u.height.toFixed(1)}${u.lowAngle ? '  low-angle' : ''}${u.possibleSources.length ? `  (fits ${u.possibleSources.join(', ')})` : ''}`);
+  }
+  for (const reason of r.reasons) out.push(reason);
+  return out.join('\n') + '\n';
+}

@@ -1,0 +1,106 @@
+import type { Command } from 'commander';
+import { existsSync } from 'node:fs';
+import { analyzePattern, createAnalysisContext } from '../../app/pipeline.js';
+import { InputError } from '../../errors.js';
+import { ReferenceLibrary } from '../../library/store.js';
+import { readPatternFile } from '../../pattern/read.js';
+import { parseWavelength } from '../../pattern/wavelengths.js';
+import { seriesSamplesFromAnalyses } from '../../series/from-analysis.js';
+import { analyzeSeries, type SeriesResult } from '../../series/series.js';
+import { numberOption, runCommand } from '../run-command.js';
+import { loadInstrumentProfile } from './instrument.js';
+import { parseBreadth, parseCorrection } from './size.js';
+
+interface SeriesCommandOptions {
+  labels?: string;
+  hours?: string;
+  library: string;
+  target: string;
+  instrument?: string;
+  k?: string;
+  breadth?: string;
+  correction?: string;
+  wavelength?: string;
+  tolerance?: string;
+  alpha?: string;
+  json?: boolean;
+}
+
+export interface SeriesCommandResult extends SeriesResult {
+  files: string[];
+  target: string;
+}
+
+/** `crystallog series FILE... [--labels L1,L2,...] --library DB --target NAME [--instrument P] --json` */
+export function registerSeries(program: Command): void {
+  program
+    .command('series')
+    .description('Compare samples of one product (workup variants or exposure times): verdicts, low-angle extra peaks, sizes, and whether the sizes differ.')
+    .argument('<files...>', 'pattern files, one per sample')
+    .option('--labels <list>', 'comma-separated labels, one per file (e.g. "as made,ground,washed" or "0 h,1 h,4 h")')
+    .option('--hours <list>', 'comma-separated exposure times in hours, one per file (default: read from time labels)')
+    .requiredOption('--library <db>', 'reference library file')
+    .requiredOption('--target <name>', 'the expected phase')
+    .option('--instrument <profile>', 'instrument profile JSON from "crystallog instrument" (or its name in the library)')
+    .option('--k <k>', 'Scherrer K: a number or a preset name (default 0.9)')
+    .option('--breadth <kind>', 'fwhm or integral (default fwhm)')
+    .option('--correction <kind>', 'voigt, lorentzian or gaussian (default voigt)')
+    .option('--wavelength <w>', 'Cu, Co, Fe, Cr, Mo, Ag or a number in Å (default: from each file, else Cu)')
+    .option('--tolerance <deg>', 'line matching tolerance, degrees 2θ (default 0.1)')
+    .option('--alpha <p>', 'significance level of the size comparisons (default 0.05)')
+    .option('--json', 'print the result as JSON')
+    .action((files: string[], o: SeriesCommandOptions) => runCommand(Boolean(o.json), () => seriesCommand(files, o), seriesText));
+}
+
+function splitList(text: string | undefined): string[] | undefined {
+  return text === undefined ? undefined : text.split(',').map((s) => s.trim());
+}
+
+export function seriesCommand(files: string[], o: SeriesCommandOptions): SeriesCommandResult {
+  const toleranceDeg = numberOption('--tolerance', o.tolerance, (v) => v > 0 && v <= 1, 'give the tolerance in degrees 2θ, above 0 and at most 1');
+  const alpha = numberOption('--alpha', o.alpha, (v) => v > 0 && v < 0.5, 'give a significance level between 0 and 0.5, such as 0.05');
+  const breadth = parseBreadth(o.breadth);
+  const correction = parseCorrection(o.correction);
+  const labels = splitList(o.labels);
+  const hours = splitList(o.hours)?.map((h, i) => {
+    const value = Number(h.replace(',', '.'));
+    if (h === '' || !Number.isFinite(value) || value < 0) throw new InputError(`option --hours: entry ${i + 1} "${h}" is not a time in hours`);
+    return value;
+  });
+  if (!existsSync(o.library)) throw new InputError(`library file ${o.library} does not exist; create it with: crystallog library import FILE --library ${o.library}`);
+  const instrument = o.instrument !== undefined ? loadInstrumentProfile(o.instrument, o.library) : null;
+  const library = ReferenceLibrary.open(o.library);
+  let references;
+  try {
+    references = library.all();
+  } finally {
+    library.close();
+  }
+  const context = createAnalysisContext(references, instrument, {
+    target: o.target,
+    ...(o.wavelength ? { wavelength: parseWavelength(o.wavelength) } : {}),
+    ...(toleranceDeg !== undefined ? { toleranceDeg } : {}),
+    ...(o.k !== undefined ? { k: o.k } : {}),
+    ...(breadth ? { breadth } : {}),
+    ...(correction ? { correction } : {}),
+  });
+  const analyses = files.map((file) => analyzePattern(readPatternFile(file), context));
+  const samples = seriesSamplesFromAnalyses(analyses, { ...(labels ? { labels } : {}), ...(hours ? { exposureHours: hours } : {}), target: o.target });
+  const result = analyzeSeries(samples, alpha !== undefined ? { alpha } : {});
+  for (const w of result.warnings) process.stderr.write(`crystallog: warning: ${w}\n`);
+  return { files, target: o.target, ...result };
+}
+
+function seriesText(r: SeriesCommandResult): string {
+  const out = [`series of ${r.rows.length} samples (${r.kind}), target ${r.target}; K = ${r.settings.k}, ${r.settings.breadth}, correction ${r.settings.correction}`];
+  for (const row of r.rows) {
+    const wh = row.williamsonHall ? `W–H ${row.williamsonHall.sizeNm?.toPrecision(3) ?? '—'} nm, ε ${row.williamsonHall.strain?.toExponential(1) ?? '—'}` : 'W–H —';
+    out.push(`  ${row.label}: ${row.verdict ?? '—'}; ${row.lowAnglePeaks.length} low-angle extra peak(s); Scherrer ${row.scherrer.statement}; ${wh}`);
+  }
+  out.push(`size comparisons (${r.comparison.test}):`);
+  for (const p of r.comparison.pairs) out.push(`  ${p.a} vs ${p.b}: ${p.statement}`);
+  for (const g of r.growth) out.push(`growth of ${g.phase} (${g.basis}): ${g.analysis.statement}`);
+  for (const w of r.warnings) out.push(`warning: ${w}`);
+  for (const c of r.cautions) out.push(`note: ${c}`);
+  return out.join('\n') + '\n';
+}

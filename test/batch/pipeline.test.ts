@@ -1,0 +1,57 @@
+import { describe, expect, it } from 'vitest';
+import { analyzePattern, createAnalysisContext } from '../../src/app/pipeline.js';
+import { simulatePattern } from '../../src/crystal/simulate.js';
+import { InputError } from '../../src/errors.js';
+import type { StoredReference } from '../../src/library/reference.js';
+import { dFromTwoTheta } from '../../src/pattern/units.js';
+import { anodeWavelength } from '../../src/pattern/wavelengths.js';
+
+const cu = anodeWavelength('Cu');
+
+function stored(name: string, id: number, lines: Array<[number, number]>): StoredReference {
+  return {
+    name, formula: 'X', tags: [], source: 'simulated for this test', id, version: 3, createdAt: '2000-01-01T00:00:00.000Z',
+    lines: lines.map(([tt, intensity]) => ({ d: dFromTwoTheta(tt, cu.lambda1), intensity })),
+  };
+}
+
+const product = stored('product', 1, [[18.2, 100], [27.5, 45], [33.1, 70], [41.6, 30], [49.3, 55], [55.0, 40]]);
+const hydrate = stored('hydrate', 2, [[9.1, 100], [21.7, 50], [38.4, 60], [52.1, 45]]);
+const unrelated = stored('unrelated', 3, [[15.4, 100], [30.3, 60], [37.8, 40], [45.1, 35]]);
+const references = [product, hydrate, unrelated];
+
+const pattern = simulatePattern({
+  phases: [{ lines: product.lines, scale: 1, sizeNm: 40 }, { lines: hydrate.lines, scale: 0.4, sizeNm: 40 }],
+  wavelength: cu,
+  twoThetaMinDeg: 5,
+  twoThetaMaxDeg: 60,
+  stepDeg: 0.02,
+  peakCounts: 5000,
+  noiseSeed: 42,
+});
+
+describe('analyzePattern', () => {
+  it('finds the target and the extra phase, sizes the target, and records the settings and reference versions', () => {
+    const result = analyzePattern(pattern, createAnalysisContext(references, null, { target: 'product' }));
+    const verdict = (name: string) => result.match.phases.find((p) => p.name === name)?.verdict ?? 'absent';
+    expect(verdict('product')).toBe('confirmed');
+    expect(verdict('hydrate')).not.toBe('absent');
+    expect(verdict('unrelated')).toBe('absent');
+    expect(result.points).toBe(pattern.x.length);
+    expect(result.settings).toMatchObject({ target: 'product', sizePhase: 'product', toleranceDeg: 0.1, k: 0.9, breadth: 'fwhm', instrument: null });
+    expect(result.size.settings.phase).toEqual({ name: 'product', version: 3 });
+    expect(result.references.used).toContainEqual({ name: 'product', version: 3 });
+    expect(result.references.count).toBe(3);
+    // Without an instrument profile the breadths are not corrected: the size module says so.
+    expect(result.warnings.some((w) => /instrument profile/.test(w))).toBe(true);
+  });
+
+  it('gives the same JSON twice for the same pattern and context', () => {
+    const context = createAnalysisContext(references, null, {});
+    expect(JSON.stringify(analyzePattern(pattern, context))).toBe(JSON.stringify(analyzePattern(pattern, context)));
+  });
+
+  it('refuses a target missing from the library', () => {
+    expect(() => createAnalysisContext(references, null, { target: 'nothing-like-it' })).toThrow(InputError);
+  });
+});
