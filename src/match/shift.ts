@@ -12,6 +12,26 @@ export interface ShiftBounds {
 /** Ridge on the displacement term (relative to the summed weights): zero and cosθ are nearly collinear. */
 const DISPLACEMENT_RIDGE = 0.001;
 
+/**
+ * Zero offset and cosθ displacement are nearly collinear over a lab scan, so a split between them is
+ * only reported when the displacement term explains the positions significantly better than a
+ * constant offset alone: extra-sum-of-squares F-test (1 and n−2 degrees of freedom) against this
+ * critical value, about the 99.5 % point for a dozen lines (common practice for nested fits).
+ */
+const DISPLACEMENT_F_CRITICAL = 12;
+
+function displacementIsSignificant(
+  count: number, sw: number, sd: number, sdd: number, sc: number, scc: number, scd: number, z: number, dd: number,
+): boolean {
+  if (count < 4) return false;
+  const rssOffsetOnly = Math.max(sdd - (sd * sd) / sw, 0);
+  const rssBoth = Math.max(sdd - 2 * z * sd - 2 * dd * scd + z * z * sw + 2 * z * dd * sc + dd * dd * scc, 0);
+  const gain = rssOffsetOnly - rssBoth;
+  if (!(gain > 0)) return false;
+  if (rssBoth === 0) return true;
+  return gain / (rssBoth / (count - 2)) > DISPLACEMENT_F_CRITICAL;
+}
+
 /** Lines used in the coarse search for the offset (the strongest ones carry the decision). */
 const SEARCH_LINES = 24;
 
@@ -53,7 +73,7 @@ export function refineShift(lines: PhaseLines, peaks: PeakTable, bounds: ShiftBo
   let displacement = Math.max(-bounds.maxDisplacementDeg, Math.min(bounds.maxDisplacementDeg, bestOffset - zero));
   for (let iteration = 0; iteration < 3; iteration++) {
     // Normal equations of Σ w (Δ − Z − D c)² + ridge·Σw·D².
-    let sw = 0, sc = 0, scc = 0, sd = 0, scd = 0, count = 0;
+    let sw = 0, sc = 0, scc = 0, sd = 0, scd = 0, sdd = 0, count = 0;
     for (let j = 0; j < lines.count; j++) {
       const c = lines.cosTheta[j];
       const tt = lines.twoTheta[j] + zero + displacement * c;
@@ -66,14 +86,19 @@ export function refineShift(lines: PhaseLines, peaks: PeakTable, bounds: ShiftBo
       scc += w * c * c;
       sd += w * delta;
       scd += w * c * delta;
+      sdd += w * delta * delta;
       count++;
     }
     if (count < 3 || !(sw > 0)) break;
     const a11 = sw, a12 = sc, a22 = scc + DISPLACEMENT_RIDGE * sw;
     const det = a11 * a22 - a12 * a12;
     if (!(Math.abs(det) > 1e-12 * a11 * a22)) break;
-    const z = (sd * a22 - a12 * scd) / det;
-    const dd = (a11 * scd - a12 * sd) / det;
+    let z = (sd * a22 - a12 * scd) / det;
+    let dd = (a11 * scd - a12 * sd) / det;
+    if (!displacementIsSignificant(count, sw, sd, sdd, sc, scc, scd, z, dd)) {
+      z = sd / sw;
+      dd = 0;
+    }
     const nextDisplacement = Math.max(-bounds.maxDisplacementDeg, Math.min(bounds.maxDisplacementDeg, dd));
     // With D clamped, Z is the weighted mean of what D leaves.
     const nextZero = Math.max(-bounds.maxZeroDeg, Math.min(bounds.maxZeroDeg, nextDisplacement === dd ? z : (sd - nextDisplacement * sc) / sw));

@@ -46,6 +46,14 @@ describe('a single phase', () => {
     expect(result.phases[0].meanResidualDeg).toBeLessThan(0.01);
   });
 
+  it('reports a pure zero offset as an offset, not split into offset and displacement', () => {
+    const peaks = peaksOf([{ lines: target.lines, scale: 10 }], L, { zeroDeg: 0.06 });
+    const result = matchPhases(peaks, library, { wavelength: cu, background });
+    // Zero and cosθ terms are nearly collinear; without evidence for a displacement, none is reported.
+    expect(result.shift.displacementCosDeg).toBe(0);
+    expect(result.shift.zeroDeg).toBeCloseTo(0.06, 3);
+  });
+
   it('refines a sample-displacement shift of the cosθ form beyond the tolerance', () => {
     const peaks = peaksOf([{ lines: target.lines, scale: 10 }], L, { displacementCosDeg: -0.14 });
     const result = matchPhases(peaks, library, { wavelength: cu, background, toleranceDeg: 0.05 });
