@@ -1,0 +1,411 @@
+/**
+ * `npm run bench [-- --quick] [--files N] [--step-files N] [--repeats N] [--whole-job-repeats N]
+ *   [--large-library N] [--python-files N] [--no-python] [--no-modules]`
+ *
+ * Generates simulated inputs (fixed seeds, cached), times each step of the job on the same files as
+ * a committed numpy/scipy script (bench/python/whole_job_scipy.py), runs `crystallog analyze` over
+ * all files as a child process (wall time and peak RSS), runs every area's bench module, prints a
+ * table with the ratio ours/theirs per step and for the whole job, and writes bench/results.json.
+ * Nothing is installed: without scipy the Python column is skipped with the command to install it.
+ */
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
+import { availableParallelism, cpus, totalmem } from 'node:os';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { setFlagsFromString } from 'node:v8';
+import { runInNewContext } from 'node:vm';
+import { analyzePattern, createAnalysisContext } from '../src/app/pipeline.js';
+import type { StoredReference } from '../src/library/reference.js';
+import { ReferenceLibrary } from '../src/library/store.js';
+import { buildReferenceIndex, matchPhases, type ReferenceIndex } from '../src/match/index.js';
+import type { Pattern } from '../src/pattern/pattern.js';
+import { readPatternFile } from '../src/pattern/read.js';
+import { findPeaks } from '../src/process/peaks.js';
+import type { PeakSearchResult } from '../src/process/types.js';
+import { seriesSamplesFromAnalyses } from '../src/series/from-analysis.js';
+import { analyzeSeries } from '../src/series/series.js';
+import { crystalliteSizes } from '../src/size/sizes.js';
+import { asStored, BENCH_WAVELENGTH, prepareInputs, prepareLargeLibraryJson, syntheticLibrary, type BenchInputs } from './inputs.js';
+import type { BenchRow } from './types.js';
+
+interface BenchConfig {
+  quick: boolean;
+  patterns: number;
+  /** Files each per-step timing runs over (per-file time = total / files). */
+  stepFiles: number;
+  repeats: number;
+  largeLibrary: number;
+  wholeJobRepeats: number;
+  seriesRepeats: number;
+  /** Files the Python whole job runs over (the first N of the same list). */
+  pythonFiles: number;
+  python: boolean;
+  modules: boolean;
+}
+
+interface Comparison {
+  step: string;
+  oursMs: number;
+  theirsMs: number | null;
+  /** ours / theirs (below 1: ours is faster). */
+  ratio: number | null;
+  note: string;
+}
+
+const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..', '..');
+const PYTHON = '/usr/bin/python3';
+const PYTHON_SCRIPT = join(ROOT, 'bench', 'python', 'whole_job_scipy.py');
+const RESULTS_FILE = join(ROOT, 'bench', 'results.json');
+const CLI = join(ROOT, 'bin', 'crystallog.js');
+const AREA_MODULES = ['read', 'process', 'crystal', 'library', 'match', 'size', 'app'];
+
+function parseArgs(argv: string[]): BenchConfig {
+  const quick = argv.includes('--quick');
+  const valueOf = (name: string): number | undefined => {
+    const i = argv.indexOf(name);
+    return i >= 0 && argv[i + 1] !== undefined ? Number(argv[i + 1]) : undefined;
+  };
+  const patterns = valueOf('--files') ?? (quick ? 20 : 1000);
+  return {
+    quick,
+    patterns,
+    stepFiles: Math.min(patterns, valueOf('--step-files') ?? (quick ? 5 : 20)),
+    repeats: valueOf('--repeats') ?? (quick ? 3 : 5),
+    largeLibrary: valueOf('--large-library') ?? (quick ? 20_000 : 100_000),
+    wholeJobRepeats: valueOf('--whole-job-repeats') ?? (quick ? 1 : 3),
+    seriesRepeats: quick ? 1 : 3,
+    pythonFiles: Math.min(patterns, valueOf('--python-files') ?? (quick ? 10 : patterns)),
+    python: !argv.includes('--no-python'),
+    modules: !argv.includes('--no-modules') && !quick,
+  };
+}
+
+const log = (line: string): void => void process.stderr.write(`${line}\n`);
+
+function stats(values: number[]): { medianMs: number; minMs: number; maxMs: number } {
+  const sorted = [...values].sort((a, b) => a - b);
+  const mid = sorted.length >> 1;
+  const medianMs = sorted.length % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
+  return { medianMs, minMs: sorted[0], maxMs: sorted[sorted.length - 1] };
+}
+
+/** Time `work` over all items, `repeats` times; one per-item time per repeat. */
+function perItemMs<T>(items: T[], repeats: number, work: (item: T) => unknown): number[] {
+  const runs: number[] = [];
+  for (let r = 0; r < repeats; r++) {
+    const start = performance.now();
+    for (const item of items) work(item);
+    runs.push((performance.now() - start) / items.length);
+  }
+  return runs;
+}
+
+function row(name: string, runs: number[], extra: Partial<BenchRow> = {}): BenchRow {
+  return { name, ...stats(runs), ...extra };
+}
+
+/** A full garbage collection, so memory figures count what is kept, not what is waiting to be collected. */
+function collectGarbage(): void {
+  setFlagsFromString('--expose-gc');
+  (runInNewContext('gc') as () => void)();
+}
+
+function rssMb(): number {
+  return process.memoryUsage().rss / 2 ** 20;
+}
+
+interface StepData {
+  pattern: Pattern;
+  search: PeakSearchResult;
+}
+
+/** Each step alone, single thread, on the first `stepFiles` files. */
+function measureSteps(inputs: BenchInputs, config: BenchConfig): { rows: BenchRow[]; perFile: Record<string, number[]> } {
+  const files = inputs.patternFiles.slice(0, config.stepFiles);
+  const wavelength = BENCH_WAVELENGTH;
+  const rows: BenchRow[] = [];
+  const perFile: Record<string, number[]> = {};
+  const small = asStored(inputs.smallLibrary);
+  const smallIndex = buildReferenceIndex(small);
+
+  log(`steps: read, peaks, match, size on ${files.length} files, ${config.repeats} repeats`);
+  perFile.read = perItemMs(files, config.repeats, (f) => readPatternFile(f));
+  rows.push(row('read 10 001-point text pattern (per file)', perFile.read));
+
+  const patterns = files.map((f) => readPatternFile(f));
+  const data: StepData[] = patterns.map((pattern) => ({ pattern, search: findPeaks(pattern, { wavelength }) }));
+  const peakCounts = data.map((d) => d.search.peaks.length);
+  perFile.peaks = perItemMs(patterns, config.repeats, (p) => findPeaks(p, { wavelength }));
+  rows.push(row('peaks: search + profile fit (per file)', perFile.peaks, { note: `${Math.min(...peakCounts)}–${Math.max(...peakCounts)} peaks per pattern` }));
+
+  const matchWith = (index: ReferenceIndex) => (d: StepData) =>
+    matchPhases(d.search.peaks, index.references, {
+      wavelength,
+      index,
+      background: { x: d.pattern.x, y: d.search.background, sigma: d.search.noiseSigma },
+      twoThetaRangeDeg: { min: d.pattern.x[0], max: d.pattern.x[d.pattern.x.length - 1] },
+    });
+  perFile.match1k = perItemMs(data, config.repeats, matchWith(smallIndex));
+  const found1k = data.filter((d, i) => matchWith(smallIndex)(d).phases[0]?.name === inputs.truths[i].mainPhase).length;
+  rows.push(row('match against 1 000 references (per file)', perFile.match1k, { note: `main phase ranked first in ${found1k}/${data.length}` }));
+
+  const sizeRefs = new Map(small.map((r) => [r.name, r]));
+  perFile.size = perItemMs(data, config.repeats, (d) => {
+    const phase = sizeRefs.get(inputs.truths[patterns.indexOf(d.pattern)].mainPhase)!;
+    return crystalliteSizes(d.search.peaks, { wavelength, phase: { name: phase.name, version: 1, lines: phase.lines } });
+  });
+  rows.push(row('size: Scherrer + Williamson–Hall (per file)', perFile.size));
+
+  // The large library: index build time, its memory, and matching against it.
+  collectGarbage();
+  const rssBefore = rssMb();
+  const heapBefore = process.memoryUsage().heapUsed;
+  let large: StoredReference[] | null = asStored(syntheticLibrary(config.largeLibrary));
+  const lineCount = large.reduce((s, r) => s + r.lines.length, 0);
+  const builds: number[] = [];
+  let largeIndex: ReferenceIndex | null = null;
+  for (let r = 0; r < Math.min(3, config.repeats); r++) {
+    largeIndex = null;
+    const start = performance.now();
+    largeIndex = buildReferenceIndex(large);
+    builds.push(performance.now() - start);
+  }
+  const indexBytes = largeIndex!.d.byteLength + largeIndex!.referenceOf.byteLength + largeIndex!.intensity.byteLength;
+  collectGarbage();
+  const rssGrowth = rssMb() - rssBefore;
+  const retainedMb = (process.memoryUsage().heapUsed - heapBefore + indexBytes) / 2 ** 20;
+  rows.push(
+    row(`index build, ${config.largeLibrary.toLocaleString('en')} references (${lineCount.toLocaleString('en')} lines)`, builds, {
+      target: config.largeLibrary === 100_000 ? '< 10 s' : '(100 000 in full run)',
+      note: `index arrays ${(indexBytes / 2 ** 20).toFixed(0)} MB; library objects + index retained ${retainedMb.toFixed(0)} MB, RSS growth ${rssGrowth.toFixed(0)} MB (target < 500 MB)`,
+    }),
+  );
+  perFile.match100k = perItemMs(data, config.repeats, matchWith(largeIndex!));
+  const foundLarge = data.filter((d, i) => matchWith(largeIndex!)(d).phases[0]?.name === inputs.truths[i].mainPhase).length;
+  rows.push(
+    row(`match against ${config.largeLibrary.toLocaleString('en')} references (per file)`, perFile.match100k, {
+      target: '< 250 ms',
+      note: `main phase ranked first in ${foundLarge}/${data.length}`,
+    }),
+  );
+  large = null;
+  largeIndex = null;
+
+  // A series: 50 patterns analysed end to end in one thread (the screens' path).
+  const seriesFiles = inputs.patternFiles.slice(0, Math.min(50, inputs.patternFiles.length));
+  const context = createAnalysisContext(small, null, {});
+  const seriesRuns: number[] = [];
+  const comparisonRuns: number[] = [];
+  for (let r = 0; r < config.seriesRepeats; r++) {
+    const start = performance.now();
+    const analyses = seriesFiles.map((f) => analyzePattern(readPatternFile(f), context));
+    const compared = performance.now();
+    analyzeSeries(seriesSamplesFromAnalyses(analyses, { target: null }));
+    const end = performance.now();
+    seriesRuns.push(end - start);
+    comparisonRuns.push(end - compared);
+  }
+  rows.push(
+    row(`series of ${seriesFiles.length}: analyse each (one thread) + series comparison (whole series)`, seriesRuns, {
+      note: `series comparison alone ${formatMs(stats(comparisonRuns).medianMs)}`,
+    }),
+  );
+  perFile.analyze = seriesRuns.map((ms) => ms / seriesFiles.length);
+  return { rows, perFile };
+}
+
+/** `crystallog analyze` over all files as a child process: wall time and peak RSS (GNU time). */
+function measureWholeJob(inputs: BenchInputs, config: BenchConfig): { row: BenchRow; runs: number[]; peakRssMb: number | null } {
+  // A fresh library file each run, made by the current code (cheap for 1 000 references).
+  const db = join(inputs.dir, 'library-1k.db');
+  for (const file of [db, `${db}-wal`, `${db}-shm`]) rmSync(file, { force: true });
+  const store = ReferenceLibrary.open(db);
+  store.importReferences(inputs.smallLibrary);
+  store.close();
+  const list = join(inputs.dir, `files-${config.patterns}.txt`);
+  writeFileSync(list, inputs.patternFiles.join('\n') + '\n');
+  const out = join(inputs.dir, 'analyze-output.json');
+  const hasGnuTime = existsSync('/usr/bin/time');
+  const runs: number[] = [];
+  let peakRssMb: number | null = null;
+  log(`whole job: crystallog analyze over ${config.patterns} files, ${config.wholeJobRepeats} run(s), ${availableParallelism()} workers`);
+  for (let r = 0; r < config.wholeJobRepeats; r++) {
+    const args = [CLI, 'analyze', '--files-from', list, '--library', db, '--json'];
+    const command = hasGnuTime ? '/usr/bin/time' : process.execPath;
+    const start = performance.now();
+    const child = spawnSync(command, hasGnuTime ? ['-f', 'maxrss_kb=%M', process.execPath, ...args] : args, {
+      stdio: ['ignore', 'pipe', 'pipe'],
+      maxBuffer: 2 ** 31 - 1,
+    });
+    runs.push(performance.now() - start);
+    if (child.status !== 0) throw new Error(`crystallog analyze failed (exit ${child.status}): ${child.stderr.toString().slice(-500)}`);
+    writeFileSync(out, child.stdout);
+    const rss = /maxrss_kb=(\d+)/.exec(child.stderr.toString());
+    if (rss) peakRssMb = Math.max(peakRssMb ?? 0, Number(rss[1]) / 1024);
+  }
+  const s = stats(runs);
+  return {
+    runs,
+    peakRssMb,
+    row: {
+      name: `analyze ${config.patterns} files end to end (CLI, ${availableParallelism()} workers, match 1k)`,
+      ...s,
+      target: config.patterns === 1000 ? '< 30 s on 2 cores, < 1 GB' : '(1 000 files in full run)',
+      note: peakRssMb === null ? 'peak RSS not measured (no /usr/bin/time)' : `peak RSS ${peakRssMb.toFixed(0)} MB`,
+    },
+  };
+}
+
+interface PythonResult {
+  versions: Record<string, string>;
+  steps: Record<string, number[]>;
+  wholeJob?: { files: number; runsMs: number[]; peaksPerFile: number };
+  index100kBuildMs?: number;
+  peaksFound: number[];
+}
+
+function pythonAvailable(): string | null {
+  const check = spawnSync(PYTHON, ['-c', 'import numpy, scipy'], { encoding: 'utf8' });
+  if (check.error) return `${PYTHON} not found; install it with: apt-get install python3 python3-numpy python3-scipy`;
+  if (check.status !== 0) return `numpy/scipy missing for ${PYTHON}; install them with: apt-get install python3-numpy python3-scipy`;
+  return null;
+}
+
+function runPython(inputs: BenchInputs, config: BenchConfig): PythonResult {
+  const list = join(inputs.dir, `files-${config.patterns}.txt`);
+  writeFileSync(list, inputs.patternFiles.join('\n') + '\n');
+  const largeJson = prepareLargeLibraryJson(syntheticLibrary(config.largeLibrary));
+  log(`python: same steps on ${config.stepFiles} files, whole job on ${config.pythonFiles} files (this is the slow part)`);
+  const child = spawnSync(
+    PYTHON,
+    [
+      PYTHON_SCRIPT,
+      '--files', list,
+      '--library', inputs.smallLibraryFlatJson,
+      '--large-library', largeJson,
+      '--step-files', String(config.stepFiles),
+      '--repeats', String(config.repeats),
+      '--whole-job-files', String(config.pythonFiles),
+      '--whole-job-repeats', '1',
+    ],
+    { encoding: 'utf8', maxBuffer: 2 ** 28, stdio: ['ignore', 'pipe', 'inherit'] },
+  );
+  if (child.status !== 0) throw new Error(`the Python script failed (exit ${child.status})`);
+  return JSON.parse(child.stdout) as PythonResult;
+}
+
+function compare(step: string, ours: number, theirs: number | null, note = ''): Comparison {
+  return { step, oursMs: ours, theirsMs: theirs, ratio: theirs ? ours / theirs : null, note };
+}
+
+function formatMs(ms: number | null): string {
+  if (ms === null) return '—';
+  if (ms >= 10_000) return `${(ms / 1000).toFixed(1)} s`;
+  if (ms >= 100) return `${ms.toFixed(0)} ms`;
+  if (ms >= 1) return `${ms.toFixed(2)} ms`;
+  return `${(ms * 1000).toFixed(1)} µs`;
+}
+
+function printRows(title: string, rows: BenchRow[]): void {
+  const out = [`\n${title}`, `${'step'.padEnd(72)} ${'median'.padStart(10)} ${'min'.padStart(10)} ${'max'.padStart(10)}  target / note`];
+  for (const r of rows) {
+    const tail = [r.target, r.note].filter(Boolean).join('; ');
+    out.push(`${r.name.padEnd(72)} ${formatMs(r.medianMs).padStart(10)} ${formatMs(r.minMs).padStart(10)} ${formatMs(r.maxMs).padStart(10)}  ${tail}`);
+  }
+  process.stdout.write(out.join('\n') + '\n');
+}
+
+function printComparisons(comparisons: Comparison[], pythonNote: string): void {
+  const out = [`\nSide by side with numpy/scipy (${pythonNote}); ratio = ours / theirs, below 1 means ours is faster`];
+  out.push(`${'step'.padEnd(44)} ${'ours'.padStart(10)} ${'scipy'.padStart(10)} ${'ratio'.padStart(8)} ${'faster'.padStart(8)}  note`);
+  for (const c of comparisons) {
+    const ratio = c.ratio === null ? '—' : c.ratio.toFixed(3);
+    const faster = c.ratio === null ? '—' : `${(1 / c.ratio).toFixed(1)}×`;
+    out.push(`${c.step.padEnd(44)} ${formatMs(c.oursMs).padStart(10)} ${formatMs(c.theirsMs).padStart(10)} ${ratio.padStart(8)} ${faster.padStart(8)}  ${c.note}`);
+  }
+  process.stdout.write(out.join('\n') + '\n');
+}
+
+/** Every area's bench module (bench/<area>.js) that exists, each run in turn. */
+async function runAreaModules(): Promise<Record<string, BenchRow[] | { error: string }>> {
+  const results: Record<string, BenchRow[] | { error: string }> = {};
+  for (const area of AREA_MODULES) {
+    const file = join(dirname(fileURLToPath(import.meta.url)), `${area}.js`);
+    if (!existsSync(file)) continue;
+    log(`area bench: ${area}`);
+    try {
+      const module = (await import(`./${area}.js`)) as { run?: () => Promise<BenchRow[]> };
+      if (typeof module.run !== 'function') continue;
+      const rows = await module.run();
+      results[area] = rows;
+      printRows(`bench/${area}.ts`, rows);
+    } catch (err) {
+      results[area] = { error: err instanceof Error ? err.message : String(err) };
+      log(`  ${area}: failed: ${results[area] && 'error' in results[area] ? (results[area] as { error: string }).error : ''}`);
+    }
+  }
+  return results;
+}
+
+async function main(): Promise<void> {
+  const config = parseArgs(process.argv.slice(2));
+  const machine = { cpus: cpus().length, cpuModel: cpus()[0]?.model ?? 'unknown', memoryGb: totalmem() / 2 ** 30, node: process.version };
+  log(`Crystallog benchmark (${config.quick ? 'quick' : 'full'}): ${machine.cpus} cores (${machine.cpuModel}), Node ${machine.node}`);
+  log(`inputs: ${config.patterns} simulated patterns (cached in the temp folder; first run simulates them)`);
+  const inputs = prepareInputs(config.patterns, log);
+
+  const steps = measureSteps(inputs, config);
+  printRows('Our steps (single thread, per file unless said)', steps.rows);
+  const whole = measureWholeJob(inputs, config);
+  printRows('Whole job', [whole.row]);
+
+  const missing = config.python ? pythonAvailable() : 'not requested (--no-python)';
+  let python: PythonResult | null = null;
+  if (missing) log(`scipy column skipped: ${missing}`);
+  else python = runPython(inputs, config);
+
+  const theirs = (key: string): number | null => (python?.steps[key] ? stats(python.steps[key]).medianMs : null);
+  const ours = (key: string): number => stats(steps.perFile[key]).medianMs;
+  const oursWholePerFile = stats(whole.runs).medianMs / config.patterns;
+  const theirsWholePerFile = python?.wholeJob ? stats(python.wholeJob.runsMs).medianMs / python.wholeJob.files : null;
+  const comparisons: Comparison[] = [
+    compare('read (per file)', ours('read'), theirs('read')),
+    compare('peaks (per file)', ours('peaks'), theirs('peaks'), 'scipy: savgol + SNIP + find_peaks + curve_fit per peak'),
+    compare('match 1k (per file)', ours('match1k'), theirs('match1k'), 'scipy: nearest-line only, no shift refinement or scoring'),
+    compare(`match ${config.largeLibrary / 1000}k (per file)`, ours('match100k'), theirs('match100k')),
+    compare('size (per file)', ours('size'), theirs('size'), 'scipy: Scherrer only'),
+    compare('one file end to end, one thread', ours('analyze'), theirs('read') !== null ? ['read', 'peaks', 'match1k', 'size'].reduce((s, k) => s + (theirs(k) ?? 0), 0) : null),
+    compare(
+      'whole job (per file, ours with all cores)',
+      oursWholePerFile,
+      theirsWholePerFile,
+      python?.wholeJob ? `ours ${config.patterns} files via CLI; scipy ${python.wholeJob.files} files, one process (as written by hand)` : '',
+    ),
+  ];
+  const pythonNote = python ? `Python ${python.versions.python}, numpy ${python.versions.numpy}, scipy ${python.versions.scipy}` : `not run: ${missing}`;
+  printComparisons(comparisons, pythonNote);
+
+  const areas = config.modules ? await runAreaModules() : {};
+  const summary = {
+    kind: 'crystallog benchmark',
+    date: new Date().toISOString(),
+    mode: config.quick ? 'quick' : 'full',
+    machine,
+    config,
+    inputs: { dir: inputs.dir, patterns: config.patterns, points: 10_001, simulated: true },
+    steps: steps.rows,
+    wholeJob: { ...whole.row, runsMs: whole.runs, peakRssMb: whole.peakRssMb, files: config.patterns },
+    python: python ? { versions: python.versions, steps: python.steps, wholeJob: python.wholeJob ?? null, peaksFound: python.peaksFound } : { skipped: missing },
+    comparisons,
+    areas,
+  };
+  mkdirSync(dirname(RESULTS_FILE), { recursive: true });
+  writeFileSync(RESULTS_FILE, JSON.stringify(summary, null, 2) + '\n');
+  log(`\nwrote ${RESULTS_FILE}`);
+}
+
+main().catch((err: unknown) => {
+  process.stderr.write(`bench: ${err instanceof Error ? (err.stack ?? err.message) : String(err)}\n`);
+  process.exitCode = 1;
+});

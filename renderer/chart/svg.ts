@@ -1,0 +1,102 @@
+import type { Chart, ScatterDataPoint } from 'chart.js';
+import { COLORS, type PatternViewModel } from './pattern-chart.js';
+import { convertX } from './units.js';
+
+const esc = (text: string): string => text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
+
+/**
+ * The chart as it is now (zoom included) as a standalone SVG: each curve reduced to the minimum and
+ * maximum per pixel column (what a screen shows), axes with the chart's own ticks, peak marks and
+ * the reference strip.
+ */
+export function chartToSvg(chart: Chart<'line', ScatterDataPoint[]>, view: PatternViewModel): string {
+  const width = chart.width;
+  const height = chart.height;
+  const area = chart.chartArea;
+  const xs = chart.scales.x!;
+  const ys = chart.scales.y!;
+  const out: string[] = [
+    `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}" viewBox="0 0 ${width} ${height}" font-family="system-ui, sans-serif" font-size="11">`,
+    `<rect width="100%" height="100%" fill="#ffffff"/>`,
+    `<defs><clipPath id="plot"><rect x="${area.left}" y="${area.top}" width="${area.right - area.left}" height="${area.bottom - area.top}"/></clipPath></defs>`,
+  ];
+  for (const tick of xs.ticks) {
+    const px = xs.getPixelForValue(tick.value);
+    out.push(`<line x1="${px.toFixed(1)}" y1="${area.top}" x2="${px.toFixed(1)}" y2="${area.bottom}" stroke="${COLORS.grid}"/>`);
+    out.push(`<text x="${px.toFixed(1)}" y="${area.bottom + 14}" text-anchor="middle" fill="${COLORS.ink}">${esc(String(tick.label ?? tick.value))}</text>`);
+  }
+  for (const tick of ys.ticks) {
+    const py = ys.getPixelForValue(tick.value);
+    if (!(py >= area.top && py <= area.bottom)) continue;
+    out.push(`<line x1="${area.left}" y1="${py.toFixed(1)}" x2="${area.right}" y2="${py.toFixed(1)}" stroke="${COLORS.grid}"/>`);
+    out.push(`<text x="${area.left - 6}" y="${(py + 4).toFixed(1)}" text-anchor="end" fill="${COLORS.ink}">${esc(String(tick.label ?? tick.value))}</text>`);
+  }
+  out.push(`<rect x="${area.left}" y="${area.top}" width="${area.right - area.left}" height="${area.bottom - area.top}" fill="none" stroke="${COLORS.ink}"/>`);
+  const xTitle = (xs.options as { title?: { text?: string } }).title?.text ?? '';
+  const yTitle = (ys.options as { title?: { text?: string } }).title?.text ?? '';
+  out.push(`<text x="${(area.left + area.right) / 2}" y="${area.bottom + 30}" text-anchor="middle" fill="${COLORS.ink}">${esc(String(xTitle))}</text>`);
+  out.push(`<text transform="translate(14 ${(area.top + area.bottom) / 2}) rotate(-90)" text-anchor="middle" fill="${COLORS.ink}">${esc(String(yTitle))}</text>`);
+
+  chart.data.datasets.forEach((dataset, index) => {
+    if (!chart.isDatasetVisible(index)) return;
+    const color = String(dataset.borderColor ?? COLORS.ink);
+    const data = dataset.data as ScatterDataPoint[];
+    if ((dataset as { type?: string }).type === 'scatter') {
+      for (const p of data) {
+        if (p.x === null || p.y === null) continue;
+        const px = xs.getPixelForValue(p.x);
+        const py = ys.getPixelForValue(p.y);
+        if (px < area.left || px > area.right) continue;
+        out.push(`<circle cx="${px.toFixed(1)}" cy="${py.toFixed(1)}" r="4" fill="${String(dataset.backgroundColor ?? color)}" stroke="${color}"/>`);
+      }
+      return;
+    }
+    const columns = new Map<number, { min: number; max: number; first: number; last: number }>();
+    const order: number[] = [];
+    for (const p of data) {
+      if (p.x === null || p.y === null) continue;
+      const px = Math.round(xs.getPixelForValue(p.x));
+      if (px < area.left - 1 || px > area.right + 1) continue;
+      const py = ys.getPixelForValue(p.y);
+      const column = columns.get(px);
+      if (column) {
+        column.min = Math.min(column.min, py);
+        column.max = Math.max(column.max, py);
+        column.last = py;
+      } else {
+        columns.set(px, { min: py, max: py, first: py, last: py });
+        order.push(px);
+      }
+    }
+    const path: string[] = [];
+    for (const px of order) {
+      const c = columns.get(px)!;
+      path.push(`${px},${c.first.toFixed(1)}`, `${px},${c.min.toFixed(1)}`, `${px},${c.max.toFixed(1)}`, `${px},${c.last.toFixed(1)}`);
+    }
+    const dash = (dataset as { borderDash?: number[] }).borderDash;
+    out.push(`<polyline clip-path="url(#plot)" fill="none" stroke="${color}" stroke-width="1.2"${dash ? ` stroke-dasharray="${dash.join(' ')}"` : ''} points="${path.join(' ')}"><title>${esc(String(dataset.label ?? ''))}</title></polyline>`);
+  });
+
+  // Legend: one short line and the label per visible curve, along the top.
+  let legendX = area.left;
+  chart.data.datasets.forEach((dataset, index) => {
+    if (!chart.isDatasetVisible(index) || (dataset as { type?: string }).type === 'scatter') return;
+    const color = String(dataset.borderColor ?? COLORS.ink);
+    const label = String(dataset.label ?? '');
+    out.push(`<line x1="${legendX}" y1="${area.top - 10}" x2="${legendX + 14}" y2="${area.top - 10}" stroke="${color}" stroke-width="2"/><text x="${legendX + 18}" y="${area.top - 6}" fill="${COLORS.ink}">${esc(label)}</text>`);
+    legendX += 30 + label.length * 6;
+  });
+  let top = xs.bottom + 4;
+  for (const ref of view.references) {
+    out.push(`<text x="${area.left + 5}" y="${top + 12}" fill="${ref.color}">${esc(ref.name)}</text>`);
+    for (const line of ref.lines) {
+      const px = xs.getPixelForValue(convertX(line.twoTheta, view.axis, view.lambda));
+      if (px < area.left || px > area.right) continue;
+      const h = 3 + ((line.intensity ?? 30) / 100) * 12;
+      out.push(`<line x1="${px.toFixed(1)}" y1="${top + 16}" x2="${px.toFixed(1)}" y2="${(top + 16 - h).toFixed(1)}" stroke="${ref.color}" stroke-width="1.5"/>`);
+    }
+    top += 18;
+  }
+  out.push('</svg>');
+  return out.join('\n');
+}

@@ -1,0 +1,360 @@
+import type { SampleDetail, SampleSummary } from '../../src/app/contract.js';
+import type { PhaseMatch } from '../../src/match/types.js';
+import { call, decodeFloats, saveFile } from '../api.js';
+import { timings } from '../actions.js';
+import { COLORS, PatternChart, type PatternSeries, type PeakMark, type PatternViewModel } from '../chart/pattern-chart.js';
+import { chartToSvg } from '../chart/svg.js';
+import { append, field, fmt, h, hklText, sizeText } from '../dom.js';
+import { app, changed, verdictClass } from '../state.js';
+import { notify, showError } from '../ui.js';
+
+let chart: PatternChart | null = null;
+
+(window as unknown as { crystallogTimings: typeof timings }).crystallogTimings = timings;
+
+export async function renderSamples(root: HTMLElement): Promise<void> {
+  chart?.destroy();
+  chart = null;
+  const project = app.project!;
+  const layout = h('div', { class: 'samples-layout' });
+  root.append(layout);
+  layout.append(sampleList(project.samples));
+  const main = h('section', { class: 'sample-main', 'aria-label': 'Selected sample' });
+  layout.append(main);
+  if (project.truth) {
+    main.append(h('details', { class: 'truth', 'data-testid': 'demo-truth' }, h('summary', {}, h('strong', {}, 'Simulated demo data'), ' — every pattern here was simulated by Crystallog; open to read the truth it was simulated from.'), h('p', {}, project.truth)));
+  }
+  const id = app.selected;
+  if (id === null || !project.samples.some((s) => s.id === id)) {
+    main.append(h('div', { class: 'panel empty' }, project.samples.length ? 'Pick a sample on the left.' : 'No samples yet: drop pattern files anywhere in this window, or use “Add patterns…” (Ctrl+O).'));
+    return;
+  }
+  const started = performance.now();
+  const detail = await sampleDetail(id);
+  const overlays: SampleDetail[] = [];
+  for (const other of app.overlays) if (other !== id && project.samples.some((s) => s.id === other)) overlays.push(await sampleDetail(other));
+  const presentPhases = (detail.match?.phases ?? []).filter((p) => p.verdict !== 'absent').map((p) => p.name);
+  const checked = app.checked ?? new Set(presentPhases);
+  const refLines = checked.size ? await call('library.lines', { names: [...checked] }) : [];
+
+  const canvas = h('canvas', { 'aria-label': `Pattern of ${detail.name}`, role: 'img', 'data-testid': 'pattern-chart' });
+  const box = h('div', { class: 'chart-box', tabindex: 0, 'aria-label': 'Pattern view: arrow keys pan, + and − zoom, R resets' }, canvas);
+  main.append(toolbar(detail), box, details(detail, checked));
+  const view: PatternViewModel = {
+    main: series(detail),
+    overlays: overlays.map(series),
+    marks: marks(detail),
+    references: refLines.map((r, i) => ({ name: r.name, color: COLORS.phases[i % COLORS.phases.length]!, lines: r.lines.map((l) => ({ twoTheta: l.twoTheta, intensity: l.intensity, label: hklText(l.hkl) })) })),
+    lambda: detail.lambda1,
+    axis: app.view.axis,
+    scale: app.view.scale,
+    offsetFraction: app.view.offsetFraction,
+    showFit: app.view.showFit,
+  };
+  chart = new PatternChart(canvas);
+  chart.render(view);
+  timings.lastDrawMs = performance.now() - started;
+  box.addEventListener('keydown', (event) => {
+    if (!chart) return;
+    if (event.key === 'ArrowLeft') chart.pan(0.1);
+    else if (event.key === 'ArrowRight') chart.pan(-0.1);
+    else if (event.key === '+' || event.key === '=') chart.zoom(1.25);
+    else if (event.key === '-') chart.zoom(0.8);
+    else if (event.key.toLowerCase() === 'r') chart.resetZoom();
+    else return;
+    event.preventDefault();
+  });
+}
+
+async function sampleDetail(id: number): Promise<SampleDetail> {
+  let detail = app.details.get(id);
+  if (!detail) {
+    detail = await call('sample.get', { id });
+    app.details.set(id, detail);
+  }
+  return detail;
+}
+
+function series(detail: SampleDetail): PatternSeries {
+  return {
+    label: detail.name,
+    x: decodeFloats(detail.x),
+    y: decodeFloats(detail.y),
+    background: detail.background ? decodeFloats(detail.background) : null,
+    model: detail.model ? decodeFloats(detail.model) : null,
+  };
+}
+
+function nearestIndex(x: Float32Array, value: number): number {
+  let lo = 0;
+  let hi = x.length - 1;
+  while (hi - lo > 1) {
+    const mid = (lo + hi) >> 1;
+    if (x[mid]! < value) lo = mid;
+    else hi = mid;
+  }
+  return Math.abs(x[lo]! - value) < Math.abs(x[hi]! - value) ? lo : hi;
+}
+
+function marks(detail: SampleDetail): PeakMark[] {
+  if (!detail.match) return [];
+  const x = decodeFloats(detail.x);
+  const y = decodeFloats(detail.y);
+  const bg = detail.background ? decodeFloats(detail.background) : y;
+  const out: PeakMark[] = [];
+  const lowAngleOfPhase = new Map(detail.lowAnglePeaks.filter((p) => p.phase !== null).map((p) => [p.twoTheta, p.phase!]));
+  for (const phase of detail.match.phases.filter((p) => p.verdict !== 'absent')) {
+    for (const line of phase.lines) {
+      const low = lowAngleOfPhase.get(line.twoThetaMeasured) === phase.name;
+      out.push({ twoTheta: line.twoThetaMeasured, y: y[nearestIndex(x, line.twoThetaMeasured)]!, kind: low ? 'low-angle' : 'matched', label: `${low ? 'Low-angle peak of ' : ''}${phase.name} ${hklText(line.hkl)} at ${line.twoThetaMeasured.toFixed(3)}°` });
+    }
+    for (const line of phase.missingStrongLines) out.push({ twoTheta: line.twoTheta, y: bg[nearestIndex(x, line.twoTheta)]!, kind: 'missing', label: `${phase.name}: strong line at ${line.twoTheta.toFixed(2)}° (I ${line.intensity.toFixed(0)}) not seen` });
+  }
+  for (const peak of detail.match.unexplained) {
+    out.push({
+      twoTheta: peak.twoTheta,
+      y: y[nearestIndex(x, peak.twoTheta)]!,
+      kind: peak.lowAngle ? 'low-angle' : 'unexplained',
+      label: `${peak.lowAngle ? 'Low-angle extra peak' : 'Unexplained peak'} at ${peak.twoTheta.toFixed(3)}° (d ${peak.d.toFixed(3)} Å)${peak.possibleSources.length ? `; could be ${peak.possibleSources.join(', ')}` : ''}`,
+    });
+  }
+  return out;
+}
+
+function sampleList(samples: SampleSummary[]): HTMLElement {
+  const list = h('ul', { role: 'listbox', 'aria-label': 'Samples', tabindex: 0, 'data-testid': 'sample-list' });
+  for (const s of samples) {
+    const overlay = h('input', { type: 'checkbox', 'aria-label': `Overlay ${s.name}`, title: 'Stack this pattern with the selected one' });
+    overlay.checked = app.overlays.has(s.id);
+    overlay.addEventListener('click', (event) => event.stopPropagation());
+    overlay.addEventListener('change', () => {
+      if (overlay.checked) app.overlays.add(s.id);
+      else app.overlays.delete(s.id);
+      changed();
+    });
+    const sub = [s.variant, s.hours !== null ? `${s.hours} h` : null, s.sizeNm !== null ? sizeText(s.sizeNm, s.sizeSigmaNm) : null].filter(Boolean).join(' · ');
+    list.append(
+      h(
+        'li',
+        { role: 'option', 'aria-selected': String(app.selected === s.id), 'data-sample-id': s.id, onclick: () => select(s.id) },
+        overlay,
+        h('span', { class: 'name', title: s.fileName }, s.name),
+        h(
+          'span',
+          { class: 'sub' },
+          h('span', { class: `badge ${verdictClass(s.verdict)}`, 'data-testid': 'verdict-badge' }, s.problem ? 'not read' : s.verdict),
+          s.simulated ? h('span', { class: 'badge sim' }, 'simulated') : null,
+          s.lowAngleCount ? h('span', { class: 'badge extra', title: 'Peaks below the target’s first line' }, `${s.lowAngleCount} low-angle`) : null,
+          h('span', {}, sub || (s.problem ?? '')),
+        ),
+      ),
+    );
+  }
+  list.addEventListener('keydown', (event) => {
+    const index = samples.findIndex((s) => s.id === app.selected);
+    if (event.key === 'ArrowDown' && index < samples.length - 1) select(samples[index + 1]!.id);
+    else if (event.key === 'ArrowUp' && index > 0) select(samples[index - 1]!.id);
+    else return;
+    event.preventDefault();
+  });
+  return h(
+    'aside',
+    { class: 'panel sample-list' },
+    h('h2', {}, `Samples (${samples.length})`),
+    list,
+    h('div', { class: 'drop-hint' }, 'Drop pattern files here or anywhere in the window (.xy, .txt, .csv, .cif).'),
+  );
+}
+
+function select(id: number): void {
+  app.selected = id;
+  app.checked = null;
+  changed();
+  requestAnimationFrame(() => (document.querySelector(`[data-sample-id="${id}"]`) as HTMLElement | null)?.closest('ul')?.focus());
+}
+
+function segmented<T extends string>(label: string, options: Array<[T, string]>, current: T, onPick: (value: T) => void): HTMLElement {
+  const group = h('span', { class: 'segmented', role: 'group', 'aria-label': label });
+  for (const [value, text] of options) group.append(h('button', { 'aria-pressed': String(value === current), onclick: () => onPick(value) }, text));
+  return group;
+}
+
+function toolbar(detail: SampleDetail): HTMLElement {
+  const showFit = h('input', { type: 'checkbox' });
+  showFit.checked = app.view.showFit;
+  showFit.addEventListener('change', () => {
+    app.view.showFit = showFit.checked;
+    changed();
+  });
+  const offset = h('input', { type: 'range', min: 0, max: 1, step: 0.05, value: app.view.offsetFraction, 'aria-label': 'Offset between stacked patterns' });
+  offset.addEventListener('change', () => {
+    app.view.offsetFraction = Number(offset.value);
+    changed();
+  });
+  const base = detail.fileName.replace(/\.[^.]+$/, '');
+  return h(
+    'div',
+    { class: 'toolbar' },
+    h('strong', {}, detail.name),
+    detail.simulated ? h('span', { class: 'badge sim' }, 'simulated') : null,
+    h('span', { class: 'small' }, `${detail.points} points · ${detail.wavelengthLabel}`),
+    h('span', { class: 'spacer' }),
+    segmented('Axis', [['2theta', '2θ'], ['d', 'd'], ['q', 'Q']], app.view.axis, (v) => ((app.view.axis = v), changed())),
+    segmented('Intensity', [['linear', 'linear'], ['sqrt', '√'], ['log', 'log']], app.view.scale, (v) => ((app.view.scale = v), changed())),
+    h('label', { class: 'row small' }, showFit, 'fit'),
+    app.overlays.size ? h('label', { class: 'row small' }, 'offset', offset) : null,
+    h('button', { class: 'secondary', onclick: () => chart?.resetZoom(), title: 'R' }, 'Reset zoom'),
+    h('button', { class: 'secondary', onclick: () => chart && void saveFile({ suggestedName: `${base}.png`, bytesBase64: chart.toPng().split(',')[1]! }, 'image/png') }, 'PNG'),
+    h('button', { class: 'secondary', onclick: () => chart && chart.currentView() && void saveFile({ suggestedName: `${base}.svg`, text: chartToSvg(chart.chart, chart.currentView()!) }, 'image/svg+xml') }, 'SVG'),
+  );
+}
+
+function verdictCard(detail: SampleDetail): HTMLElement {
+  const card = h('div', { class: 'panel stack', 'data-testid': 'verdict-card' });
+  if (detail.problem) {
+    card.append(h('div', { class: 'verdict-title not' }, 'Not analysed'), h('p', {}, detail.problem));
+    return card;
+  }
+  const match = detail.match;
+  const phase: PhaseMatch | undefined = detail.phase ? match?.phases.find((p) => p.name === detail.phase!.name) : undefined;
+  card.append(h('div', { class: `verdict-title ${verdictClass(detail.verdict)}`, 'data-testid': 'verdict' }, sentenceCase(detail.verdict)));
+  if (detail.phase) card.append(h('div', {}, `${detail.phase.name}: ${detail.phase.verdict}, score ${detail.phase.score.toFixed(2)}`));
+  const lowAngle = detail.lowAnglePeaks;
+  if (lowAngle.length) {
+    const sources = new Map((match?.unexplained ?? []).map((u) => [u.twoTheta, u.possibleSources]));
+    const describe = (u: (typeof lowAngle)[number]): string => {
+      const could = sources.get(u.twoTheta) ?? [];
+      return `${u.twoTheta.toFixed(2)}° 2θ (d ${u.d.toFixed(2)} Å) ${u.phase ? `from ${u.phase}` : could.length ? `unexplained, could be ${could.join(' or ')}` : 'unexplained'}`;
+    };
+    card.append(
+      h('div', { class: 'caution', 'data-testid': 'low-angle' }, h('strong', {}, `Low-angle extra peak${lowAngle.length > 1 ? 's' : ''} below the target’s first line: `), lowAngle.map(describe).join('; ')),
+    );
+  }
+  const reasons = [...(match?.reasons ?? []), ...(phase?.reasons ?? [])];
+  if (reasons.length) card.append(h('ul', { class: 'reasons' }, ...reasons.map((r) => h('li', {}, r))));
+  const size = detail.size;
+  card.append(h('h3', {}, 'Crystallite size'));
+  if (size?.scherrer) {
+    append(card, [
+      h('div', { class: 'size-line', 'data-testid': 'size' }, `Scherrer: ${sizeText(size.scherrer.sizeNm, Number.isFinite(size.scherrer.sizeSigmaNm) ? size.scherrer.sizeSigmaNm : null)}`),
+      size.williamsonHall ? h('div', {}, `Williamson–Hall: ${size.williamsonHall.sizeNm === null ? '—' : `${size.williamsonHall.sizeNm.toFixed(1)} nm`}, strain ${size.williamsonHall.strain.toExponential(1)}, R² ${fmt(size.williamsonHall.r2, 2)}`) : null,
+      h('div', { class: 'small' }, `K = ${size.k}, ${size.breadth === 'fwhm' ? 'FWHM' : 'integral breadth'}, ${size.instrumentCorrected ? `instrument-corrected (${size.correction})` : 'not corrected for the instrument (lower bound)'}${size.phase ? `, lines of ${size.phase}` : ''}.`),
+    ]);
+  } else {
+    card.append(h('div', { class: 'small', 'data-testid': 'size' }, 'No size: no resolved peak gave one.'));
+  }
+  for (const note of size?.notes ?? []) card.append(h('div', { class: 'small' }, note));
+  card.append(labelsForm(detail));
+  for (const note of detail.readerNotes) card.append(h('div', { class: 'small' }, `Reader: ${note}`));
+  return card;
+}
+
+function labelsForm(detail: SampleDetail): HTMLElement {
+  const variant = h('input', { type: 'text', value: detail.variant ?? '', placeholder: 'as made, washed…', 'aria-label': 'Workup variant' });
+  const hours = h('input', { type: 'number', min: 0, step: 'any', value: detail.hours ?? '', 'aria-label': 'Exposure hours' });
+  const form = h(
+    'form',
+    { class: 'row' },
+    field('Variant', variant),
+    field('Exposure (h)', hours),
+    h('button', { type: 'submit', class: 'secondary' }, 'Save labels'),
+    h('button', { type: 'button', class: 'secondary', onclick: () => void reanalyze(detail.id) }, 'Re-analyse'),
+    h('button', { type: 'button', class: 'danger', onclick: () => void remove(detail) }, 'Remove'),
+  );
+  form.addEventListener('submit', async (event) => {
+    event.preventDefault();
+    try {
+      await call('sample.label', { id: detail.id, variant: variant.value.trim() || null, hours: hours.value === '' ? null : Number(hours.value) });
+      app.project = await call('project.state', {});
+      app.details.delete(detail.id);
+      changed();
+      notify('Labels saved.', 'done');
+    } catch (err) {
+      showError(err);
+    }
+  });
+  return form;
+}
+
+async function reanalyze(id: number): Promise<void> {
+  try {
+    await call('sample.reanalyze', { id });
+    app.project = await call('project.state', {});
+    app.details.delete(id);
+    changed();
+  } catch (err) {
+    showError(err);
+  }
+}
+
+async function remove(detail: SampleDetail): Promise<void> {
+  if (!window.confirm(`Remove ${detail.name} from the project? Its file and results are deleted from the project.`)) return;
+  try {
+    app.project = await call('sample.remove', { id: detail.id });
+    app.selected = null;
+    app.details.delete(detail.id);
+    changed();
+  } catch (err) {
+    showError(err);
+  }
+}
+
+function details(detail: SampleDetail, checked: Set<string>): HTMLElement {
+  const phases = h('div', { class: 'phases' });
+  for (const p of detail.match?.phases ?? []) {
+    const box = h('input', { type: 'checkbox' });
+    box.checked = checked.has(p.name);
+    box.addEventListener('change', () => {
+      const next = new Set(checked);
+      if (box.checked) next.add(p.name);
+      else next.delete(p.name);
+      app.checked = next;
+      changed();
+    });
+    phases.append(h('label', { class: 'row small' }, box, `${p.name} (${p.verdict}, ${p.score.toFixed(2)})`));
+  }
+  return h(
+    'div',
+    { class: 'details' },
+    verdictCard(detail),
+    h('div', { class: 'panel stack' }, h('h3', {}, 'Reference lines drawn under the pattern'), phases, h('h3', {}, `Peaks (${detail.peaks.length})`), peakTable(detail)),
+  );
+}
+
+function peakTable(detail: SampleDetail): HTMLElement {
+  const unexplained = detail.match?.unexplained.map((u) => u.twoTheta) ?? [];
+  const body = h('tbody');
+  for (const p of detail.peaks) {
+    const kind = p.lowAngle ? 'low-angle' : unexplained.some((u) => Math.abs(u - p.twoTheta) < 6e-4) ? 'unexplained' : '';
+    const row = h(
+      'tr',
+      { class: kind, title: 'Click to zoom to this peak' },
+      h('td', {}, p.twoTheta.toFixed(3)),
+      h('td', {}, fmt(p.twoThetaSigma, 4)),
+      h('td', {}, p.d.toFixed(4)),
+      h('td', {}, p.height.toFixed(0)),
+      h('td', {}, fmt(p.fwhm, 3)),
+      h('td', {}, fmt(p.integralBreadth, 3)),
+      h('td', {}, fmt(p.eta, 2)),
+      h('td', { class: 'left' }, `${p.phase ?? 'unexplained'}${p.lowAngle ? ' (low angle)' : ''}`),
+    );
+    row.addEventListener('click', () => {
+      if (app.view.axis === '2theta') chart?.chart.zoomScale('x', { min: p.twoTheta - 1.5, max: p.twoTheta + 1.5 }, 'none');
+    });
+    body.append(row);
+  }
+  return h(
+    'div',
+    { class: 'table-scroll' },
+    h(
+      'table',
+      { class: 'grid', 'data-testid': 'peak-table' },
+      h('thead', {}, h('tr', {}, ...['2θ (°)', 'σ', 'd (Å)', 'height', 'FWHM', 'β', 'η', 'phase'].map((t, i) => h('th', { class: i === 7 ? 'left' : '' }, t)))),
+      body,
+    ),
+  );
+}
+
+function sentenceCase(text: string): string {
+  return text.charAt(0).toUpperCase() + text.slice(1);
+}

@@ -1,0 +1,112 @@
+import type { SeriesView } from '../../src/app/contract.js';
+import { call } from '../api.js';
+import { Chart, COLORS, errorBarPlugin } from '../chart/pattern-chart.js';
+import { fmt, h, sizeText } from '../dom.js';
+import { app, changed, verdictClass } from '../state.js';
+
+let by: 'variant' | 'time' = 'variant';
+const charts: Chart[] = [];
+
+/** Samples by workup variant or exposure time: verdicts, sizes ± σ, differences, impurity growth. */
+export async function renderSeries(root: HTMLElement): Promise<void> {
+  while (charts.length) charts.pop()!.destroy();
+  const view = await call('series.get', { by });
+  const pick = (value: 'variant' | 'time', text: string): HTMLElement => h('button', { 'aria-pressed': String(by === value), onclick: () => ((by = value), changed()) }, text);
+  const sizeCanvas = h('canvas', { role: 'img', 'aria-label': 'Crystallite size by sample' });
+  const screen = h(
+    'div',
+    { class: 'screen stack', 'data-testid': 'series' },
+    h('div', { class: 'row' }, h('h2', {}, 'Series'), h('span', { class: 'segmented' }, pick('variant', 'by workup variant'), pick('time', 'by exposure time'))),
+    ...view.notes.map((n) => h('p', { class: 'caution' }, n)),
+    h('div', { class: 'two-col' }, h('div', { class: 'panel' }, h('h3', {}, 'Scherrer size ± σ'), h('div', { class: 'series-chart' }, sizeCanvas)), growthPanel(view)),
+    h('div', { class: 'panel' }, rowsTable(view)),
+    comparisonsPanel(view),
+  );
+  root.append(screen);
+  const points = view.rows.filter((r) => r.sizeNm !== null);
+  charts.push(
+    new Chart(sizeCanvas, {
+      type: 'line',
+      data: {
+        labels: points.map((r) => r.label),
+        datasets: [{ label: 'size (nm)', data: points.map((r) => r.sizeNm!), showLine: false, backgroundColor: COLORS.phases[0], borderColor: COLORS.phases[0], pointRadius: 5, errors: points.map((r) => r.sizeSigmaNm) } as never],
+      },
+      plugins: [errorBarPlugin as never],
+      options: {
+        animation: false,
+        responsive: true,
+        maintainAspectRatio: false,
+        plugins: { legend: { display: false } },
+        scales: { x: { type: 'category', offset: true, title: { display: true, text: by === 'time' ? 'exposure' : 'workup variant' } }, y: { title: { display: true, text: 'crystallite size (nm)' } } },
+      },
+    }),
+  );
+  const growthCanvas = screen.querySelector<HTMLCanvasElement>('canvas[data-growth]');
+  if (growthCanvas && view.growth.length) {
+    const datasets = view.growth.flatMap((g, i) => {
+      const color = i === 0 ? COLORS.lowAngle : COLORS.phases[i % COLORS.phases.length]!;
+      return [
+        { type: 'scatter' as const, label: `${g.phase} (${g.basis})`, data: g.points.map((p) => ({ x: p.hours, y: 100 * p.share })), backgroundColor: color, borderColor: color, pointRadius: 5 },
+        ...(g.curve.length ? [{ type: 'line' as const, label: `${g.phase}: fitted curve`, data: g.curve.map((p) => ({ x: p.hours, y: 100 * p.share })), borderColor: color, pointRadius: 0, borderWidth: 1.5 }] : []),
+      ];
+    });
+    charts.push(
+      new Chart(growthCanvas, {
+        type: 'scatter',
+        data: { datasets },
+        options: { animation: false, responsive: true, maintainAspectRatio: false, plugins: { legend: { position: 'bottom', labels: { boxWidth: 12, font: { size: 11 } } } }, scales: { x: { type: 'linear', title: { display: true, text: 'exposure (h)' } }, y: { title: { display: true, text: 'share (%)' }, beginAtZero: true } } },
+      }),
+    );
+  }
+}
+
+function growthPanel(view: SeriesView): HTMLElement {
+  if (view.by !== 'time') return h('div', { class: 'panel small' }, h('h3', {}, 'Impurity growth'), 'Switch to “by exposure time” to follow an impurity growing over time.');
+  if (!view.growth.length) return h('div', { class: 'panel small' }, h('h3', {}, 'Impurity growth'), 'No other phase was found in the exposure series.');
+  return h(
+    'div',
+    { class: 'panel' },
+    h('h3', {}, 'Impurity growth'),
+    h('div', { class: 'series-chart' }, h('canvas', { 'data-growth': 'true', role: 'img', 'aria-label': 'Impurity growth over exposure time' })),
+    ...view.growth.map((g) => h('p', { class: 'small' }, `${g.phase}: ${g.statement}`)),
+  );
+}
+
+function rowsTable(view: SeriesView): HTMLElement {
+  return h(
+    'table',
+    { class: 'grid' },
+    h('thead', {}, h('tr', {}, ...['sample', view.by === 'time' ? 'exposure' : 'variant', 'verdict', 'other phases', 'low-angle peaks', 'not from target', 'Scherrer size'].map((t, i) => h('th', { class: i < 4 ? 'left' : '' }, t)))),
+    h(
+      'tbody',
+      {},
+      ...view.rows.map((r) =>
+        h(
+          'tr',
+          { onclick: () => ((app.selected = r.sampleId), (app.screen = 'samples'), changed()), title: 'Open in Samples' },
+          h('td', { class: 'left' }, r.name),
+          h('td', { class: 'left' }, r.label),
+          h('td', { class: 'left verdict-cell' }, h('span', { class: `badge ${verdictClass(r.verdict)}` }, r.verdict)),
+          h('td', { class: 'left small' }, r.otherPhases || '—'),
+          h('td', {}, r.lowAngleCount),
+          h('td', {}, r.impurityShare === null ? '—' : `${fmt(100 * r.impurityShare, 1)} %`),
+          h('td', {}, sizeText(r.sizeNm, r.sizeSigmaNm)),
+        ),
+      ),
+    ),
+  );
+}
+
+function comparisonsPanel(view: SeriesView): HTMLElement {
+  if (!view.comparisons.length) return h('div', { class: 'panel small' }, 'No pairwise size comparison yet (needs two or more samples with sizes).');
+  return h(
+    'div',
+    { class: 'panel' },
+    h('h3', {}, 'Do the sizes differ?'),
+    h(
+      'table',
+      { class: 'grid', 'data-testid': 'comparisons' },
+      h('tbody', {}, ...view.comparisons.map((c) => h('tr', {}, h('td', { class: 'left' }, `${c.a} vs ${c.b}`), h('td', { class: 'left' }, h('strong', {}, c.differs ? 'differs' : 'no significant difference')), h('td', { class: 'left small' }, `${c.test}: ${c.detail}`)))),
+    ),
+  );
+}

@@ -1,0 +1,66 @@
+import type { ProjectSettings } from '../../src/app/contract.js';
+import { call } from '../api.js';
+import { field, h } from '../dom.js';
+import { app, changed } from '../state.js';
+import { notify, showError, withProgress } from '../ui.js';
+
+/** The project's analysis settings; saving re-analyses every sample with them. */
+export async function renderSettings(root: HTMLElement): Promise<void> {
+  const s = app.project!.settings;
+  const references = await call('library.list', {});
+  const wavelength = h('input', { type: 'text', value: s.wavelength, 'aria-label': 'Wavelength', list: 'anodes' });
+  const anodes = h('datalist', { id: 'anodes' }, ...['Cu', 'Co', 'Fe', 'Cr', 'Mo', 'Ag'].map((a) => h('option', { value: a })));
+  const tolerance = h('input', { type: 'number', min: 0.005, max: 1, step: 0.005, value: s.toleranceDeg, 'aria-label': 'Tolerance' });
+  const k = h('input', { type: 'number', min: 0.5, max: 1.5, step: 0.01, value: s.scherrerK, 'aria-label': 'Scherrer K' });
+  const background = h('input', { type: 'number', min: 0.1, max: 20, step: 0.1, value: s.backgroundHalfWidthDeg, 'aria-label': 'Background width' });
+  const breadth = h('select', { 'aria-label': 'Breadth' }, h('option', { value: 'fwhm' }, 'FWHM'), h('option', { value: 'integral' }, 'integral breadth'));
+  breadth.value = s.breadth;
+  const correction = h('select', { 'aria-label': 'Instrument correction' }, ...['voigt', 'lorentzian', 'gaussian'].map((c) => h('option', { value: c }, c)));
+  correction.value = s.correction;
+  const target = h('select', { 'aria-label': 'Target phase', 'data-testid': 'target-select' }, h('option', { value: '' }, '(none)'), ...references.map((r) => h('option', { value: r.name }, `${r.name} — ${r.formula}`)));
+  target.value = s.target ?? '';
+  const form = h(
+    'form',
+    { class: 'panel stack' },
+    h('h2', {}, 'Analysis settings of this project'),
+    h(
+      'div',
+      { class: 'form' },
+      field('Wavelength', wavelength, 'Anode (Cu, Co, Fe, Cr, Mo, Ag: Kα1/Kα2) or a number in Å.'),
+      field('Matching tolerance (° 2θ)', tolerance, '0.05–0.2° is usual; a zero shift is refined separately.'),
+      field('Target phase', target, 'The phase you expect; verdicts are about it.'),
+      field('Scherrer K', k, '0.9 is common; 0.89 spheres (FWHM), 0.94 cubes, 1.0 with integral breadth.'),
+      field('Breadth', breadth),
+      field('Instrument correction', correction, 'Voigt splits Lorentzian and Gaussian parts.'),
+      field('Background width (° 2θ)', background, 'SNIP half-width: wider follows less of the peaks.'),
+    ),
+    h('div', { class: 'row' }, h('button', { type: 'submit' }, 'Save and re-analyse'), h('span', { class: 'small' }, 'Settings are kept in the project file.')),
+    anodes,
+  );
+  form.addEventListener('submit', async (event) => {
+    event.preventDefault();
+    const settings: Partial<ProjectSettings> = {
+      wavelength: wavelength.value,
+      toleranceDeg: Number(tolerance.value),
+      scherrerK: Number(k.value),
+      backgroundHalfWidthDeg: Number(background.value),
+      breadth: breadth.value as ProjectSettings['breadth'],
+      correction: correction.value as ProjectSettings['correction'],
+      target: target.value || null,
+    };
+    try {
+      const state = await call('project.settings', { settings });
+      app.project = state;
+      const { done, cancelled } = await withProgress('Re-analysing with the new settings', state.samples, async (sample) => {
+        await call('sample.reanalyze', { id: sample.id });
+      });
+      app.project = await call('project.state', {});
+      app.details.clear();
+      changed();
+      notify(`Settings saved; ${done} sample${done === 1 ? '' : 's'} re-analysed${cancelled ? ' (cancelled before the rest)' : ''}.`, 'done');
+    } catch (err) {
+      showError(err);
+    }
+  });
+  root.append(h('div', { class: 'screen' }, form));
+}

@@ -1,0 +1,51 @@
+#!/usr/bin/env node
+// Bundles the screens (renderer/ → dist/renderer/) and the desktop shell (electron/ → dist/electron/:
+// main as an ES module, preload as CommonJS, which a sandboxed preload requires) with esbuild.
+import { build } from 'esbuild';
+import { copyFile, mkdir } from 'node:fs/promises';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+const root = join(dirname(fileURLToPath(import.meta.url)), '..');
+const out = join(root, 'dist');
+const started = Date.now();
+
+await mkdir(join(out, 'renderer'), { recursive: true });
+await Promise.all([
+  build({
+    entryPoints: [join(root, 'renderer', 'main.ts')],
+    outfile: join(out, 'renderer', 'app.js'),
+    bundle: true,
+    format: 'iife',
+    platform: 'browser',
+    target: 'chrome120',
+    minify: true,
+    sourcemap: 'linked',
+    legalComments: 'linked',
+    logLevel: 'warning',
+  }),
+  build({
+    entryPoints: [join(root, 'electron', 'main.ts')],
+    outfile: join(out, 'electron', 'main.js'),
+    bundle: true,
+    format: 'esm',
+    platform: 'node',
+    target: 'node20',
+    packages: 'external',
+    sourcemap: 'linked',
+    logLevel: 'warning',
+  }),
+  build({
+    entryPoints: [join(root, 'electron', 'preload.ts')],
+    outfile: join(out, 'electron', 'preload.cjs'),
+    bundle: true,
+    format: 'cjs',
+    platform: 'node',
+    target: 'node20',
+    external: ['electron'],
+    logLevel: 'warning',
+  }),
+  copyFile(join(root, 'renderer', 'index.html'), join(out, 'renderer', 'index.html')),
+  copyFile(join(root, 'renderer', 'styles.css'), join(out, 'renderer', 'styles.css')),
+]);
+process.stderr.write(`screens and shell built into dist/ in ${Date.now() - started} ms\n`);

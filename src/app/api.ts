@@ -1,0 +1,151 @@
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import type { z } from 'zod';
+import { isInputError } from '../errors.js';
+import { packageRoot } from '../library/seed.js';
+import { findChromium } from '../host/browser.js';
+import { buildCsvReport, buildHtmlReport } from './report-input.js';
+import { htmlToPdf } from '../report/pdf.js';
+import { appDataPaths, defaultAppDataRoot } from './app-data.js';
+import { apiSchemas, type ApiMethod, type ApiParsed, type ApiResults, type ReferenceSummary } from './contract.js';
+import { addDemoSample, startDemoProject } from './demo.js';
+import type { ApiDispatcher, ApiReply } from './reply.js';
+import { buildSeriesView } from './series-view.js';
+import { Workspace } from './workspace.js';
+
+export interface AppApiOptions {
+  mode: 'electron' | 'browser';
+  /** App-data folder (default: the platform's usual place, or CRYSTALLOG_DATA_DIR). */
+  dataDir?: string;
+}
+
+type Handlers = { [M in ApiMethod]: (input: ApiParsed<M>) => ApiResults[M] | Promise<ApiResults[M]> };
+
+export function appVersion(): string {
+  return (JSON.parse(readFileSync(join(packageRoot(), 'package.json'), 'utf8')) as { version: string }).version;
+}
+
+/**
+ * The one API: every method's input is checked against its schema before anything runs; the user's
+ * mistakes come back as sentences (kind "input"), faults as a short sentence (kind "internal").
+ */
+export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspace: Workspace } {
+  const paths = appDataPaths(options.dataDir ?? defaultAppDataRoot());
+  const workspace = new Workspace(paths);
+  const version = appVersion();
+  let firstRun = workspace.listProjects().length === 0;
+  if (!firstRun) workspace.openLastProject();
+
+  const libraryChange = <T>(work: () => T): T => {
+    const result = work();
+    workspace.libraryChanged();
+    return result;
+  };
+
+  const handlers: Handlers = {
+    'app.info': () => ({
+      version,
+      mode: options.mode,
+      dataDir: paths.root,
+      firstRun,
+      libraryCount: workspace.library().count(),
+      projects: workspace.listProjects(),
+      current: workspace.hasProject() ? workspace.state() : null,
+      pdfAvailable: options.mode === 'electron' || findChromium() !== null,
+    }),
+    'project.list': () => workspace.listProjects(),
+    'project.create': ({ name }) => {
+      firstRun = false;
+      return workspace.createProject(name);
+    },
+    'project.open': ({ id }) => workspace.openProject(id),
+    'project.demo': () => {
+      firstRun = false;
+      return startDemoProject(workspace);
+    },
+    'project.demoSample': ({ index }) => addDemoSample(workspace, index),
+    'project.state': () => workspace.state(),
+    'project.settings': ({ settings }) => workspace.updateSettings(settings),
+    'sample.add': ({ fileName, bytesBase64, variant, hours }) => workspace.addSample(fileName, Buffer.from(bytesBase64, 'base64'), { variant, hours }),
+    'sample.get': ({ id }) => workspace.sampleDetail(id),
+    'sample.label': ({ id, variant, hours }) => workspace.labelSample(id, variant, hours),
+    'sample.remove': ({ id }) => workspace.removeSample(id),
+    'sample.reanalyze': ({ id }) => workspace.reanalyze(id),
+    'library.list': ({ search, tag }) => workspace.library().list({ search, tag }).map(referenceSummary),
+    'library.get': ({ name, version: v }) => {
+      const ref = workspace.library().get(name, v);
+      if (!ref) throw new UserMistake(`there is no reference "${name}"${v ? ` version ${v}` : ''} in the library`);
+      return ref;
+    },
+    'library.history': ({ name }) =>
+      workspace
+        .library()
+        .history(name)
+        .map((h) => ({ version: h.version, createdAt: h.createdAt, lines: h.lineCount, source: h.change })),
+    'library.save': ({ reference }) => workspace.saveReference(reference),
+    'library.import': ({ fileName, text }) => workspace.importReferences(fileName, text),
+    'library.fromCell': (input) => workspace.referenceFromCell(input),
+    'library.remove': ({ name }) =>
+      libraryChange(() => {
+        workspace.library().remove(name);
+        return { removed: name };
+      }),
+    'library.restore': ({ name, version: v }) => libraryChange(() => workspace.library().restore(name, v)),
+    'library.lines': ({ names }) => workspace.referenceLines(names),
+    'instrument.fit': ({ sampleId, standard }) => workspace.fitInstrument(sampleId, standard).view,
+    'instrument.save': ({ sampleId, standard }) => workspace.saveInstrument(sampleId, standard),
+    'instrument.clear': () => workspace.clearInstrument(),
+    'series.get': ({ by }) => buildSeriesView(workspace, by),
+    'report.build': ({ format }) => (format === 'html' ? buildHtmlReport(workspace, version) : buildCsvReport(workspace, version)),
+    'report.pdf': async () => {
+      const html = buildHtmlReport(workspace, version);
+      const pdf = await htmlToPdf(html.text!, paths.root);
+      return { fileName: html.fileName.replace(/\.html$/, '.pdf'), bytesBase64: pdf.toString('base64') };
+    },
+  };
+
+  return {
+    workspace,
+    async call(method: string, params: unknown): Promise<ApiReply> {
+      if (!Object.prototype.hasOwnProperty.call(apiSchemas, method)) {
+        return { ok: false, error: { kind: 'input', message: `Crystallog has no request called "${String(method).slice(0, 60)}".` } };
+      }
+      const key = method as ApiMethod;
+      const parsed = (apiSchemas[key] as z.ZodType).safeParse(params ?? {});
+      if (!parsed.success) return { ok: false, error: { kind: 'input', message: describeIssues(parsed.error) } };
+      try {
+        const run = handlers[key] as (input: unknown) => unknown;
+        return { ok: true, result: await run(parsed.data) };
+      } catch (err) {
+        if (isInputError(err) || err instanceof UserMistake) return { ok: false, error: { kind: 'input', message: sentence(err.message) } };
+        if (process.env.CRYSTALLOG_DEBUG && err instanceof Error) process.stderr.write(`${err.stack}\n`);
+        const detail = err instanceof Error ? err.message.split('\n')[0] : String(err);
+        return { ok: false, error: { kind: 'internal', message: `Crystallog could not finish this (${detail}). Your data is saved; please report this if it happens again.` } };
+      }
+    },
+    close: () => workspace.close(),
+  };
+}
+
+/** A mistake of the user's found by the API itself (not by the engine). */
+class UserMistake extends Error {}
+
+function referenceSummary(ref: import('../library/reference.js').StoredReference): ReferenceSummary {
+  return { name: ref.name, formula: ref.formula, tags: ref.tags, version: ref.version, lines: ref.lines.length, source: ref.source, createdAt: ref.createdAt };
+}
+
+/** A message as a sentence: capital first letter, full stop at the end. */
+export function sentence(text: string): string {
+  const trimmed = text.trim().replace(/\s*\n\s*/g, ' ');
+  // A leading file name or symbol keeps its case ("broken.xy, line 3: ...", "d-spacing ...").
+  const firstWord = trimmed.split(/[\s,:]/, 1)[0] ?? '';
+  const capital = /[./\\_-]/.test(firstWord) ? trimmed : trimmed.charAt(0).toUpperCase() + trimmed.slice(1);
+  return /[.!?]$/.test(capital) ? capital : `${capital}.`;
+}
+
+function describeIssues(error: z.ZodError): string {
+  const issue = error.issues[0];
+  if (!issue) return 'The request was not understood.';
+  const where = issue.path.length ? `${issue.path.join(' → ')}: ` : '';
+  return sentence(`${where}${issue.message}`);
+}

@@ -1,0 +1,85 @@
+import { SIZE_CAUTIONS } from '../size/sizes.js';
+import { REPORT_CAUTIONS, renderCsvReport, renderHtmlReport, reportFileBase, type ReportInput, type ReportSample } from '../report/report.js';
+import type { ExportedFile } from './contract.js';
+import { lowAnglePeaks } from './verdict.js';
+import { buildSeriesView } from './series-view.js';
+import type { Workspace } from './workspace.js';
+
+/** Everything a report needs, gathered from the open project. */
+export function reportInput(workspace: Workspace, appVersion: string): ReportInput {
+  const info = workspace.documentInfo();
+  const s = info.settings;
+  const references = new Map<string, number>();
+  const samples: ReportSample[] = workspace.analyses().map(({ record, summary, result, referencesUsed }) => {
+    for (const r of referencesUsed) references.set(r.name, r.version);
+    const wh = result?.size.williamsonHall as { sizeNm?: number | null; strain?: number } | null | undefined;
+    const phase = summary.phase ? result?.match.phases.find((p) => p.name === summary.phase!.name) : undefined;
+    return {
+      name: summary.name,
+      fileName: record.fileName,
+      sha256: record.sha256,
+      variant: record.variant,
+      hours: record.exposureHours,
+      simulated: summary.simulated,
+      verdict: summary.problem ? `not analysed: ${summary.problem}` : summary.verdict,
+      phase: summary.phase?.name ?? null,
+      phaseVerdict: summary.phase?.verdict ?? null,
+      score: summary.phase?.score ?? null,
+      lowAngle: result ? lowAnglePeaks(result.match, s.target) : [],
+      unexplainedCount: summary.unexplainedCount,
+      sizeNm: summary.sizeNm,
+      sizeSigmaNm: summary.sizeSigmaNm,
+      sizeLimit: result?.size.scherrer.limit ?? null,
+      whSizeNm: wh?.sizeNm ?? null,
+      whStrain: typeof wh?.strain === 'number' ? wh.strain : null,
+      wavelength: result?.settings.wavelength ?? s.wavelength,
+      reasons: [...(result?.match.reasons ?? []), ...(phase?.reasons ?? [])],
+      warnings: result?.warnings ?? [],
+    };
+  });
+  const variants = buildSeriesView(workspace, 'variant');
+  const exposure = buildSeriesView(workspace, 'time');
+  const instrument = info.instrument;
+  return {
+    appVersion,
+    createdAt: new Date().toISOString(),
+    projectName: info.name,
+    demo: info.demo,
+    truth: info.truth,
+    settings: [
+      ['wavelength', s.wavelength],
+      ['matching tolerance (° 2θ)', String(s.toleranceDeg)],
+      ['target phase', s.target ?? 'none'],
+      ['Scherrer K', String(s.scherrerK)],
+      ['breadth', s.breadth === 'fwhm' ? 'FWHM' : 'integral breadth'],
+      ['instrument correction', s.correction],
+      ['background (SNIP half-width, ° 2θ)', String(s.backgroundHalfWidthDeg)],
+    ],
+    instrument: instrument
+      ? [
+          ['name', instrument.name],
+          ['standard', `${instrument.standard.name}${instrument.standard.version ? ` v${instrument.standard.version}` : ''}`],
+          ['Caglioti U, V, W (deg²)', `${instrument.caglioti.u.toExponential(3)}, ${instrument.caglioti.v.toExponential(3)}, ${instrument.caglioti.w.toExponential(3)}`],
+          ['FWHM rms residual (° 2θ)', instrument.rms.toFixed(4)],
+          ['made', instrument.date],
+        ]
+      : null,
+    references: [...references].map(([name, version]) => ({ name, version })).sort((a, b) => a.name.localeCompare(b.name)),
+    samples,
+    variants: variants.rows.map((r) => ({ label: r.label, hours: r.hours, sizeNm: r.sizeNm, sizeSigmaNm: r.sizeSigmaNm, impurityShare: r.impurityShare })),
+    exposure: exposure.rows.map((r) => ({ label: r.label, hours: r.hours, sizeNm: r.sizeNm, sizeSigmaNm: r.sizeSigmaNm, impurityShare: r.impurityShare })),
+    comparisons: [...variants.comparisons, ...exposure.comparisons],
+    growth: exposure.growth.map((g) => `${g.phase}: ${g.statement}`),
+    cautions: [...REPORT_CAUTIONS, ...SIZE_CAUTIONS],
+  };
+}
+
+export function buildHtmlReport(workspace: Workspace, appVersion: string): ExportedFile {
+  const input = reportInput(workspace, appVersion);
+  return { fileName: `${reportFileBase(input)}.html`, text: renderHtmlReport(input) };
+}
+
+export function buildCsvReport(workspace: Workspace, appVersion: string): ExportedFile {
+  const input = reportInput(workspace, appVersion);
+  return { fileName: `${reportFileBase(input)}.csv`, text: renderCsvReport(input) };
+}

@@ -1,0 +1,79 @@
+import { isInputError } from '../errors.js';
+import { seriesSamplesFromAnalyses } from '../series/from-analysis.js';
+import { analyzeSeries, type SeriesResult } from '../series/series.js';
+import type { GrowthView, SeriesRowView, SeriesView } from './contract.js';
+import type { AnalysisResult } from './pipeline.js';
+import type { Workspace } from './workspace.js';
+
+/**
+ * Samples of the open project as a series: by workup variant (in the order first seen) or by
+ * exposure time (ascending), with verdicts, sizes ± σ, the pairwise size comparisons and the
+ * growth of other phases over time, from the series module.
+ */
+export function buildSeriesView(workspace: Workspace, by: 'variant' | 'time'): SeriesView {
+  const target = workspace.documentInfo().settings.target;
+  const members = workspace
+    .analyses()
+    .filter(({ record, result }) => result !== null && (by === 'variant' ? record.variant !== null : record.exposureHours !== null))
+    .sort((a, b) => (by === 'time' ? (a.record.exposureHours ?? 0) - (b.record.exposureHours ?? 0) : 0));
+  const notes: string[] = [];
+  if (members.length === 0) {
+    notes.push(by === 'variant' ? 'No analysed sample has a workup variant yet: set one in Samples.' : 'No analysed sample has an exposure time yet: set one in Samples.');
+    return { by, rows: [], comparisons: [], growth: [], notes };
+  }
+  if (!target) notes.push('No target phase is set, so verdicts and impurity shares are not given; set the target in Settings.');
+  const labels = uniqueLabels(members.map(({ record }) => (by === 'variant' ? record.variant! : `${record.exposureHours} h`)));
+  const results = members.map((m) => m.result as AnalysisResult);
+  let series: SeriesResult | null = null;
+  try {
+    const samples = seriesSamplesFromAnalyses(results, { labels, target, ...(by === 'time' ? { exposureHours: members.map((m) => m.record.exposureHours!) } : {}) });
+    series = analyzeSeries(samples);
+    notes.push(...series.warnings);
+  } catch (err) {
+    if (!isInputError(err)) throw err;
+    notes.push(`${err.message}. Re-analyse the samples (Settings → Save and re-analyse) to compare them.`);
+  }
+  const rows: SeriesRowView[] = members.map(({ record, summary, result }, i) => {
+    const targetPhase = target ? result!.match.phases.find((p) => p.name.toLowerCase() === target.toLowerCase() && p.verdict !== 'absent') : undefined;
+    const others = series?.rows[i]?.otherPhases ?? [];
+    return {
+      sampleId: record.id,
+      name: summary.name,
+      label: labels[i]!,
+      hours: record.exposureHours,
+      verdict: summary.verdict,
+      lowAngleCount: summary.lowAngleCount,
+      impurityShare: targetPhase ? Math.max(0, 1 - targetPhase.explainedAreaShare) : null,
+      otherPhases: others.map((o) => `${o.name} ${(100 * o.share).toFixed(0)} %${o.basis === 'peak area share' ? ' of peak area' : ''}`).join(', '),
+      sizeNm: summary.sizeNm,
+      sizeSigmaNm: summary.sizeSigmaNm,
+    };
+  });
+  const comparisons = (series?.comparison.pairs ?? []).filter((p) => p.testable).map((p) => ({ a: p.a, b: p.b, differs: p.differs, test: 'z-test, Holm-adjusted', detail: p.statement }));
+  if (series && comparisons.length) notes.push(`Size comparison: ${series.comparison.test}.`);
+  return { by, rows, comparisons, growth: by === 'time' && series ? series.growth.map(growthView) : [], notes };
+}
+
+function growthView(g: SeriesResult['growth'][number]): GrowthView {
+  const fit = g.analysis.fit;
+  const maxHours = Math.max(...g.points.map((p) => p.timeHours), 1);
+  const curve: GrowthView['curve'] = [];
+  if (fit && g.analysis.supported) {
+    for (let i = 0; i <= 60; i++) {
+      const t = (maxHours * i) / 60;
+      // f(t) = f∞ (1 − exp(−(k t)^n)), the fitted growth law (first order: n = 1).
+      curve.push({ hours: t, share: t <= 0 ? 0 : fit.plateau * (1 - Math.exp(-Math.pow(fit.rateConstantPerHour * t, fit.exponent))) });
+    }
+  }
+  return { phase: g.phase, basis: g.basis, points: g.points.map((p) => ({ hours: p.timeHours, share: p.share })), curve, statement: g.analysis.statement };
+}
+
+/** Labels must be unique in a series: a repeated one gets " (2)", " (3)"... */
+function uniqueLabels(labels: string[]): string[] {
+  const seen = new Map<string, number>();
+  return labels.map((label) => {
+    const n = (seen.get(label) ?? 0) + 1;
+    seen.set(label, n);
+    return n === 1 ? label : `${label} (${n})`;
+  });
+}

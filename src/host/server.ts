@@ -1,0 +1,207 @@
+import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
+import { randomBytes, timingSafeEqual } from 'node:crypto';
+import { readFile } from 'node:fs/promises';
+import { extname, join, normalize, sep } from 'node:path';
+import type { AddressInfo } from 'node:net';
+import type { ApiDispatcher } from '../app/reply.js';
+
+/**
+ * The local host of browser mode: the same screens and the same API as the desktop shell, served on
+ * the loopback interface only, to the one browser that was given this launch's token.
+ * Defences: bound to 127.0.0.1; a per-launch random token (URL once, then an HttpOnly SameSite=Strict
+ * cookie); Host header must name this host and port (DNS rebinding); Origin, when sent, must be this
+ * host (cross-site requests); API calls only as POST with a JSON body; a strict Content-Security-Policy.
+ */
+export interface HostOptions {
+  api: ApiDispatcher;
+  /** Folder of the built screens (index.html, app.js, app.css). */
+  staticDir: string;
+  /** Port to listen on; 0 (default) picks a free one. */
+  port?: number;
+  /** Token for this launch; random when omitted. */
+  token?: string;
+  /** Largest API request body accepted, bytes (default 64 MB: a drop of many pattern files comes in chunks). */
+  maxBodyBytes?: number;
+}
+
+export interface RunningHost {
+  /** Address to open once: carries the token, which the host swaps for a cookie. */
+  launchUrl: string;
+  origin: string;
+  port: number;
+  token: string;
+  close(): Promise<void>;
+}
+
+const COOKIE = 'crystallog_token';
+
+/** Content-Security-Policy of every page the host serves: our own scripts and styles only, no inline code. */
+export const CONTENT_SECURITY_POLICY = [
+  "default-src 'none'",
+  "script-src 'self'",
+  "style-src 'self'",
+  "img-src 'self' data: blob:",
+  "connect-src 'self'",
+  "font-src 'self'",
+  "base-uri 'none'",
+  "form-action 'none'",
+  "frame-ancestors 'none'",
+].join('; ');
+
+const SECURITY_HEADERS: Record<string, string> = {
+  'Content-Security-Policy': CONTENT_SECURITY_POLICY,
+  'X-Content-Type-Options': 'nosniff',
+  'Referrer-Policy': 'no-referrer',
+  'Cross-Origin-Opener-Policy': 'same-origin',
+  'Cross-Origin-Resource-Policy': 'same-origin',
+  'X-Frame-Options': 'DENY',
+  'Cache-Control': 'no-store',
+};
+
+const CONTENT_TYPES: Record<string, string> = {
+  '.html': 'text/html; charset=utf-8',
+  '.js': 'text/javascript; charset=utf-8',
+  '.css': 'text/css; charset=utf-8',
+  '.svg': 'image/svg+xml',
+  '.png': 'image/png',
+  '.map': 'application/json',
+};
+
+export async function startHost(options: HostOptions): Promise<RunningHost> {
+  const token = options.token ?? randomBytes(32).toString('base64url');
+  const maxBody = options.maxBodyBytes ?? 64 * 1024 * 1024;
+  let port = options.port ?? 0;
+  const server = createServer((req, res) => {
+    handle(req, res).catch(() => send(res, 500, 'text/plain; charset=utf-8', 'The local host could not answer this request.'));
+  });
+
+  async function handle(req: IncomingMessage, res: ServerResponse): Promise<void> {
+    const allowedHosts = [`127.0.0.1:${port}`, `localhost:${port}`];
+    if (!allowedHosts.includes(req.headers.host ?? '')) {
+      return send(res, 421, 'text/plain; charset=utf-8', 'This host answers only requests addressed to 127.0.0.1 on its own port.');
+    }
+    const origin = req.headers.origin;
+    if (origin !== undefined && !allowedHosts.some((h) => origin === `http://${h}`)) {
+      return send(res, 403, 'text/plain; charset=utf-8', 'Requests from other web sites are refused.');
+    }
+    const url = new URL(req.url ?? '/', `http://127.0.0.1:${port}`);
+    const given = url.searchParams.get('token');
+    if (given !== null) {
+      if (!sameSecret(given, token)) return send(res, 403, 'text/plain; charset=utf-8', 'This launch link is not valid; start Crystallog again to get a new one.');
+      res.writeHead(303, {
+        ...SECURITY_HEADERS,
+        'Set-Cookie': `${COOKIE}=${token}; HttpOnly; SameSite=Strict; Path=/`,
+        Location: '/',
+      });
+      res.end();
+      return;
+    }
+    if (!sameSecret(readCookie(req.headers.cookie, COOKIE) ?? '', token)) {
+      return send(res, 403, 'text/plain; charset=utf-8', 'Open Crystallog through the link printed when it started; this browser has not been given its token.');
+    }
+    if (url.pathname.startsWith('/api/')) return handleApi(req, res, url.pathname.slice('/api/'.length));
+    if (req.method !== 'GET' && req.method !== 'HEAD') return send(res, 405, 'text/plain; charset=utf-8', 'Only GET for pages.');
+    return serveStatic(res, url.pathname);
+  }
+
+  async function handleApi(req: IncomingMessage, res: ServerResponse, method: string): Promise<void> {
+    if (req.method !== 'POST') return send(res, 405, 'text/plain; charset=utf-8', 'API calls are POST requests.');
+    if (!(req.headers['content-type'] ?? '').startsWith('application/json')) {
+      return send(res, 415, 'text/plain; charset=utf-8', 'API calls carry a JSON body.');
+    }
+    if (req.headers.origin === undefined) {
+      return send(res, 403, 'text/plain; charset=utf-8', 'API calls must come from the Crystallog page itself.');
+    }
+    let params: unknown;
+    try {
+      const body = await readBody(req, maxBody);
+      params = body.length === 0 ? {} : JSON.parse(body);
+    } catch (err) {
+      const message = err instanceof BodyTooLarge ? err.message : 'The request body is not valid JSON.';
+      return sendJson(res, 400, { ok: false, error: { kind: 'input', message } });
+    }
+    const reply = await options.api.call(decodeURIComponent(method), params);
+    const status = reply.ok ? 200 : reply.error.kind === 'input' ? 400 : 500;
+    return sendJson(res, status, reply);
+  }
+
+  async function serveStatic(res: ServerResponse, pathname: string): Promise<void> {
+    const relative = pathname === '/' ? 'index.html' : decodeURIComponent(pathname).replace(/^\/+/, '');
+    const root = normalize(options.staticDir + sep);
+    const file = normalize(join(root, relative));
+    if (!file.startsWith(root) || relative.includes('\0')) return send(res, 404, 'text/plain; charset=utf-8', 'Not found.');
+    const type = CONTENT_TYPES[extname(file)];
+    if (!type) return send(res, 404, 'text/plain; charset=utf-8', 'Not found.');
+    try {
+      const body = await readFile(file);
+      res.writeHead(200, { ...SECURITY_HEADERS, 'Content-Type': type, 'Content-Length': body.length });
+      res.end(body);
+    } catch {
+      send(res, 404, 'text/plain; charset=utf-8', 'Not found.');
+    }
+  }
+
+  await new Promise<void>((resolve, reject) => {
+    server.once('error', reject);
+    server.listen(port, '127.0.0.1', () => resolve());
+  });
+  port = (server.address() as AddressInfo).port;
+  const originUrl = `http://127.0.0.1:${port}`;
+  return {
+    launchUrl: `${originUrl}/?token=${token}`,
+    origin: originUrl,
+    port,
+    token,
+    close: () =>
+      new Promise<void>((resolve) => {
+        server.closeAllConnections();
+        server.close(() => resolve());
+      }),
+  };
+}
+
+function sameSecret(given: string, token: string): boolean {
+  const a = Buffer.from(given);
+  const b = Buffer.from(token);
+  return a.length === b.length && timingSafeEqual(a, b);
+}
+
+function readCookie(header: string | undefined, name: string): string | undefined {
+  if (!header) return undefined;
+  for (const part of header.split(';')) {
+    const eq = part.indexOf('=');
+    if (eq > 0 && part.slice(0, eq).trim() === name) return part.slice(eq + 1).trim();
+  }
+  return undefined;
+}
+
+class BodyTooLarge extends Error {}
+
+function readBody(req: IncomingMessage, maxBytes: number): Promise<string> {
+  return new Promise((resolve, reject) => {
+    const chunks: Buffer[] = [];
+    let size = 0;
+    req.on('data', (chunk: Buffer) => {
+      size += chunk.length;
+      if (size > maxBytes) {
+        reject(new BodyTooLarge(`The request is larger than ${Math.round(maxBytes / 1048576)} MB; send fewer files at once.`));
+        req.destroy();
+        return;
+      }
+      chunks.push(chunk);
+    });
+    req.on('end', () => resolve(Buffer.concat(chunks).toString('utf8')));
+    req.on('error', reject);
+  });
+}
+
+function send(res: ServerResponse, status: number, type: string, body: string): void {
+  res.writeHead(status, { ...SECURITY_HEADERS, 'Content-Type': type });
+  res.end(body);
+}
+
+function sendJson(res: ServerResponse, status: number, value: unknown): void {
+  const body = JSON.stringify(value);
+  res.writeHead(status, { ...SECURITY_HEADERS, 'Content-Type': 'application/json; charset=utf-8', 'Content-Length': Buffer.byteLength(body) });
+  res.end(body);
+}

@@ -1,0 +1,188 @@
+/**
+ * Reports for the lab notebook: a self-contained HTML page (no scripts, no outside files; prints to
+ * PDF) and a CSV table. Both carry every setting, the reference versions, the app version and the
+ * cautions, so a result can be judged and reproduced later.
+ */
+export interface ReportSample {
+  name: string;
+  fileName: string;
+  sha256: string;
+  variant: string | null;
+  hours: number | null;
+  simulated: boolean;
+  verdict: string;
+  phase: string | null;
+  phaseVerdict: string | null;
+  score: number | null;
+  /** Peaks below the target's first line, with the phase that explains each (null: unexplained). */
+  lowAngle: Array<{ twoTheta: number; d: number; phase: string | null }>;
+  unexplainedCount: number;
+  sizeNm: number | null;
+  sizeSigmaNm: number | null;
+  sizeLimit: string | null;
+  whSizeNm: number | null;
+  whStrain: number | null;
+  wavelength: string;
+  reasons: string[];
+  warnings: string[];
+}
+
+export interface ReportSeriesRow {
+  label: string;
+  hours: number | null;
+  sizeNm: number | null;
+  sizeSigmaNm: number | null;
+  impurityShare: number | null;
+}
+
+export interface ReportInput {
+  appVersion: string;
+  createdAt: string;
+  projectName: string;
+  demo: boolean;
+  truth: string | null;
+  settings: Array<[string, string]>;
+  instrument: Array<[string, string]> | null;
+  references: Array<{ name: string; version: number }>;
+  samples: ReportSample[];
+  variants: ReportSeriesRow[];
+  exposure: ReportSeriesRow[];
+  comparisons: Array<{ a: string; b: string; differs: boolean; test: string; detail: string }>;
+  /** One sentence per phase growing with exposure time. */
+  growth: string[];
+  cautions: string[];
+}
+
+/** The cautions every report carries (DESIGN.md, "Cautions shown to users"). */
+export const REPORT_CAUTIONS: readonly string[] = [
+  'Phase identification from peak positions cannot prove the absence of amorphous matter, nor of a crystalline phase below the detection limit (often 1–5 % by weight in lab PXRD).',
+  'Scherrer sizes are volume-weighted apparent sizes of the coherently diffracting domains and lower bounds where strain also broadens the peaks; they are not the particle or aggregate sizes seen in microscopy.',
+  'Samples and instruments are handled under the lab’s own radiation-safety and chemical-hygiene rules, including for moisture-sensitive, toxic or lead-containing materials.',
+];
+
+const esc = (text: string): string => text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
+const num = (v: number | null | undefined, digits: number): string => (v === null || v === undefined || !Number.isFinite(v) ? '' : v.toFixed(digits));
+const size = (v: number | null, s: number | null): string => (v === null ? '—' : s === null || !Number.isFinite(s) ? `${v.toFixed(1)} nm` : `${v.toFixed(1)} ± ${s.toFixed(1)} nm`);
+
+export function reportFileBase(input: ReportInput): string {
+  const day = input.createdAt.slice(0, 10);
+  return `crystallog-report-${input.projectName.toLowerCase().replace(/[^a-z0-9]+/g, '-').replace(/^-|-$/g, '') || 'project'}-${day}`;
+}
+
+export function renderHtmlReport(input: ReportInput): string {
+  const rows = input.samples
+    .map(
+      (s) => `<tr class="${s.lowAngle.length ? 'extra' : ''}"><td>${esc(s.name)}${s.simulated ? ' <span class="sim">simulated</span>' : ''}</td><td>${esc(s.variant ?? '')}</td><td>${s.hours ?? ''}</td>
+<td><strong>${esc(s.verdict)}</strong></td><td>${esc(s.phase ?? '—')}${s.phaseVerdict ? ` (${esc(s.phaseVerdict)}, ${num(s.score, 2)})` : ''}</td>
+<td>${s.lowAngle.length ? s.lowAngle.map((p) => `${p.twoTheta.toFixed(2)}° (d ${p.d.toFixed(2)} Å, ${esc(p.phase ?? 'unexplained')})`).join('; ') : 'none'}</td>
+<td>${size(s.sizeNm, s.sizeSigmaNm)}${s.sizeLimit ? ` (${esc(s.sizeLimit)})` : ''}</td><td>${s.whSizeNm === null ? '—' : `${s.whSizeNm.toFixed(1)} nm`}${s.whStrain === null ? '' : `, ε ${s.whStrain.toExponential(1)}`}</td></tr>`,
+    )
+    .join('\n');
+  const details = input.samples
+    .map(
+      (s) => `<section class="sample"><h3>${esc(s.name)}</h3><p class="small">File ${esc(s.fileName)}, SHA-256 <code>${esc(s.sha256)}</code>, ${esc(s.wavelength)}${s.simulated ? ', <strong>simulated pattern</strong>' : ''}.</p>
+<ul>${s.reasons.map((r) => `<li>${esc(r)}</li>`).join('')}</ul>${s.warnings.length ? `<p class="small">Notes: ${s.warnings.map(esc).join('; ')}</p>` : ''}</section>`,
+    )
+    .join('\n');
+  const pairs = (list: Array<[string, string]>): string => list.map(([k, v]) => `<tr><th>${esc(k)}</th><td>${esc(v)}</td></tr>`).join('');
+  const comparisons = input.comparisons.length
+    ? `<table><tr><th>Samples</th><th>Size difference</th><th>Test</th></tr>${input.comparisons
+        .map((c) => `<tr><td>${esc(c.a)} vs ${esc(c.b)}</td><td>${c.differs ? '<strong>differs</strong>' : 'no significant difference'}</td><td>${esc(c.test)}: ${esc(c.detail)}</td></tr>`)
+        .join('')}</table>`
+    : '<p class="small">No pairwise comparison of sizes was made.</p>';
+  return `<!doctype html>
+<html lang="en"><head><meta charset="utf-8"><title>${esc(input.projectName)} — Crystallog report</title>
+<meta http-equiv="Content-Security-Policy" content="default-src 'none'; style-src 'unsafe-inline'; img-src data:">
+<style>
+body{font:14px/1.45 system-ui,-apple-system,"Segoe UI",sans-serif;color:#24313a;margin:2rem auto;max-width:60rem;padding:0 1rem}
+h1{font-size:1.5rem;margin-bottom:.2rem}h2{font-size:1.15rem;margin-top:2rem;border-bottom:1px solid #d9d6cf}h3{font-size:1rem;margin-bottom:.2rem}
+table{border-collapse:collapse;width:100%;margin:.5rem 0}th,td{border-bottom:1px solid #e4e2dc;padding:.3rem .45rem;text-align:left;vertical-align:top}
+th{background:#f3f1ec;font-weight:600}tr.extra td{background:#fbefe9}.small{font-size:12px;color:#56636b}.sim{font-size:11px;background:#eef3f6;border:1px solid #b9cbd6;border-radius:3px;padding:0 .3rem}
+.truth,.caution{border-left:4px solid #2a8c82;background:#f1f7f6;padding:.5rem .8rem;margin:.8rem 0}.caution{border-color:#c08a2e;background:#fbf5ea}
+code{font-size:11px;word-break:break-all}svg{max-width:100%}
+</style></head><body>
+<h1>${esc(input.projectName)}</h1>
+<p class="small">Crystallog ${esc(input.appVersion)} · report made ${esc(input.createdAt)}</p>
+${input.demo ? `<div class="truth"><strong>Demo project: every pattern in it is simulated, not measured.</strong>${input.truth ? `<br>${esc(input.truth)}` : ''}</div>` : ''}
+<h2>Samples</h2>
+<table><tr><th>Sample</th><th>Variant</th><th>Hours</th><th>Verdict</th><th>Phase (verdict, score)</th><th>Low-angle extra peaks</th><th>Scherrer size</th><th>Williamson–Hall</th></tr>
+${rows}</table>
+<h2>Crystallite size across the series</h2>
+${seriesSvg(input.variants, 'variant')}
+${seriesSvg(input.exposure, 'time')}
+${comparisons}
+${input.growth.length ? `<h2>Growth with exposure time</h2><ul>${input.growth.map((g) => `<li>${esc(g)}</li>`).join('')}</ul>` : ''}
+<h2>Why each verdict</h2>
+${details}
+<h2>Settings</h2><table>${pairs(input.settings)}</table>
+<h2>Instrument profile</h2>${input.instrument ? `<table>${pairs(input.instrument)}</table>` : '<p>None: peak breadths were not corrected for the instrument, so sizes are lower bounds.</p>'}
+<h2>References used</h2><table><tr><th>Name</th><th>Version</th></tr>${input.references.map((r) => `<tr><td>${esc(r.name)}</td><td>${r.version}</td></tr>`).join('')}</table>
+<h2>Cautions</h2>${input.cautions.map((c) => `<p class="caution">${esc(c)}</p>`).join('\n')}
+</body></html>
+`;
+}
+
+/** A small inline SVG chart: sizes ± σ by variant, or impurity share and size by exposure time. */
+function seriesSvg(rows: ReportSeriesRow[], by: 'variant' | 'time'): string {
+  const points = rows.filter((r) => r.sizeNm !== null);
+  if (points.length < 2) return '';
+  const width = 640;
+  const height = 220;
+  const left = 56;
+  const bottom = 34;
+  const top = 16;
+  const maxSize = Math.max(...points.map((p) => p.sizeNm! + (Number.isFinite(p.sizeSigmaNm ?? NaN) ? p.sizeSigmaNm! : 0))) * 1.15;
+  const xAt = (i: number): number => left + ((i + 0.5) * (width - left - 10)) / points.length;
+  const yAt = (v: number): number => top + (1 - v / maxSize) * (height - top - bottom);
+  const parts: string[] = [`<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}" font-size="11" font-family="system-ui,sans-serif">`];
+  parts.push(`<line x1="${left}" y1="${height - bottom}" x2="${width - 10}" y2="${height - bottom}" stroke="#24313a"/><line x1="${left}" y1="${top}" x2="${left}" y2="${height - bottom}" stroke="#24313a"/>`);
+  for (let t = 0; t <= 4; t++) {
+    const v = (maxSize * t) / 4;
+    parts.push(`<text x="${left - 6}" y="${yAt(v) + 4}" text-anchor="end">${v.toFixed(0)}</text>`);
+  }
+  parts.push(`<text transform="translate(14 ${(height - bottom) / 2}) rotate(-90)" text-anchor="middle">size (nm)</text>`);
+  points.forEach((p, i) => {
+    const x = xAt(i);
+    const s = Number.isFinite(p.sizeSigmaNm ?? NaN) ? p.sizeSigmaNm! : 0;
+    parts.push(`<line x1="${x}" y1="${yAt(p.sizeNm! - s)}" x2="${x}" y2="${yAt(p.sizeNm! + s)}" stroke="#3f6fa0"/><circle cx="${x}" cy="${yAt(p.sizeNm!)}" r="4" fill="#3f6fa0"/>`);
+    parts.push(`<text x="${x}" y="${height - bottom + 16}" text-anchor="middle">${esc(by === 'time' ? `${p.hours} h` : p.label)}</text>`);
+  });
+  parts.push('</svg>');
+  return `<p class="small">${by === 'variant' ? 'By workup variant' : 'By exposure time'} (error bars: ± one standard uncertainty)</p>${parts.join('')}`;
+}
+
+const CSV_COLUMNS = [
+  'sample', 'file', 'sha256', 'simulated', 'variant', 'exposure_hours', 'verdict', 'phase', 'phase_verdict', 'score',
+  'low_angle_peaks_2theta', 'unexplained_peaks', 'scherrer_size_nm', 'scherrer_size_sigma_nm', 'size_limit', 'wh_size_nm', 'wh_strain', 'wavelength',
+] as const;
+
+function csvCell(value: string | number | boolean | null): string {
+  const text = value === null ? '' : String(value);
+  return /[",\n\r]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
+}
+
+/** CSV: "#" lines with the app version, settings, references and cautions, then one row per sample. */
+export function renderCsvReport(input: ReportInput): string {
+  const lines: string[] = [
+    `# Crystallog ${input.appVersion} report of project "${input.projectName}", made ${input.createdAt}`,
+    ...(input.demo ? ['# Demo project: every pattern is simulated, not measured.', ...(input.truth ? [`# ${input.truth}`] : [])] : []),
+    ...input.settings.map(([k, v]) => `# setting ${k}: ${v}`),
+    ...(input.instrument ?? []).map(([k, v]) => `# instrument ${k}: ${v}`),
+    `# references: ${input.references.map((r) => `${r.name} v${r.version}`).join('; ')}`,
+    ...input.cautions.map((c) => `# caution: ${c}`),
+    CSV_COLUMNS.join(','),
+  ];
+  for (const s of input.samples) {
+    lines.push(
+      [
+        s.name, s.fileName, s.sha256, s.simulated, s.variant, s.hours, s.verdict, s.phase, s.phaseVerdict, s.score === null ? null : s.score.toFixed(3),
+        s.lowAngle.map((p) => p.twoTheta.toFixed(3)).join(' '), s.unexplainedCount, s.sizeNm === null ? null : s.sizeNm.toFixed(2),
+        s.sizeSigmaNm === null || !Number.isFinite(s.sizeSigmaNm) ? null : s.sizeSigmaNm.toFixed(2), s.sizeLimit, s.whSizeNm === null ? null : s.whSizeNm.toFixed(2),
+        s.whStrain === null ? null : s.whStrain.toExponential(3), s.wavelength,
+      ]
+        .map(csvCell)
+        .join(','),
+    );
+  }
+  return lines.join('\n') + '\n';
+}

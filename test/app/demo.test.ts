@@ -1,0 +1,73 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createAppApi } from '../../src/app/api.js';
+import type { ProjectState, SeriesView } from '../../src/app/contract.js';
+import { DEMO_EXPOSURE_HOURS, DEMO_VARIANT_SIZES_NM, demoImpurityScales, demoTruth } from '../../src/app/demo.js';
+import { freshDataDir } from './fixtures.js';
+
+const api = createAppApi({ mode: 'browser', dataDir: freshDataDir('crystallog-demo-') });
+const ok = async <T>(method: string, params: unknown): Promise<T> => {
+  const reply = await api.call(method, params);
+  if (!reply.ok) throw new Error(`${method}: ${reply.error.message}`);
+  return reply.result as T;
+};
+let state: ProjectState;
+
+beforeAll(async () => {
+  const { steps } = await ok<{ steps: number }>('project.demo', {});
+  for (let index = 0; index < steps; index++) await ok('project.demoSample', { index });
+  state = await ok<ProjectState>('project.state', {});
+}, 300_000);
+afterAll(() => api.close());
+
+const sample = (name: string) => state.samples.find((s) => s.name === name)!;
+
+describe('the demo project lets the user see the tool recover the truth it was simulated from', () => {
+  it('labels every pattern as simulated and states the truth', () => {
+    expect(state.project.demo).toBe(true);
+    expect(state.samples.every((s) => s.simulated)).toBe(true);
+    expect(state.truth).toBe(demoTruth());
+    expect(state.truth).toContain('lead');
+  });
+
+  it('fits the LaB6 standard as the instrument profile', () => {
+    expect(state.instrument?.points.length).toBeGreaterThanOrEqual(5);
+    expect(sample('LaB6 standard').verdict).toBe('instrument standard');
+  });
+
+  it('calls every workup variant the target phase, with nothing extra', () => {
+    for (const { variant } of DEMO_VARIANT_SIZES_NM) expect(sample(`MAPbI3 ${variant}`).verdict).toBe('target');
+  });
+
+  it('recovers the simulated crystallite sizes within 20 %', () => {
+    // Truth: DEMO_VARIANT_SIZES_NM, the sizes the patterns were simulated with (Scherrer K 0.9 both ways).
+    for (const { variant, sizeNm } of DEMO_VARIANT_SIZES_NM) {
+      const found = sample(`MAPbI3 ${variant}`).sizeNm!;
+      expect(Math.abs(found - sizeNm) / sizeNm).toBeLessThan(0.2);
+    }
+  });
+
+  it('finds only the annealed sample’s size to differ among the variants', async () => {
+    const series = await ok<SeriesView>('series.get', { by: 'variant' });
+    const differing = series.comparisons.filter((c) => c.differs);
+    expect(differing.length).toBeGreaterThan(0);
+    for (const c of differing) expect([c.a, c.b]).toContain('annealed 100 °C');
+    expect(series.comparisons.find((c) => c.a === 'as made' && c.b === 'washed')?.differs).toBe(false);
+  });
+
+  it('sees no low-angle peak before humid air, and low-angle peaks once the monohydrate has grown', () => {
+    expect(sample('humid air 0 h').lowAngleCount).toBe(0);
+    expect(sample('humid air 0 h').verdict).toBe('target');
+    for (const hours of DEMO_EXPOSURE_HOURS.filter((h) => demoImpurityScales(h).hydrate > 0.1)) {
+      expect(sample(`humid air ${hours} h`).lowAngleCount).toBeGreaterThan(0);
+      expect(sample(`humid air ${hours} h`).verdict).toBe('target with extra peaks');
+    }
+  });
+
+  it('shows the share not explained by the target growing with exposure time', async () => {
+    const series = await ok<SeriesView>('series.get', { by: 'time' });
+    const shares = series.rows.map((r) => r.impurityShare ?? 0);
+    expect(series.rows.map((r) => r.hours)).toEqual([...DEMO_EXPOSURE_HOURS]);
+    expect(shares[shares.length - 1]).toBeGreaterThan(shares[0]! + 0.2);
+    expect(series.growth.some((g) => g.phase.includes('monohydrate'))).toBe(true);
+  });
+});
