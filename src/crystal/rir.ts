@@ -1,5 +1,4 @@
 import { InputError } from '../errors.js';
-import type { Wavelength } from '../pattern/wavelengths.js';
 import { ATOMIC_WEIGHTS, AVOGADRO_PER_MOL } from './atomic-weights.js';
 import type { Hkl } from './cell.js';
 import { cellMetric } from './metric.js';

@@ -5,6 +5,7 @@ import type { Wavelength } from '../pattern/wavelengths.js';
 import { pseudoVoigt, thompsonCoxHastings } from '../process/profiles.js';
 import type { ReferenceLine } from '../library/reference.js';
 import { poissonDeviate, seededUniform } from './random.js';
+import { lowerBound } from '../pattern/sorted.js';
 
 /**
  * Instrument line broadening in the Thompson–Cox–Hastings form: Gaussian FWHM² = U tan²θ + V tanθ + W
@@ -95,8 +96,8 @@ export function simulatePattern(options: SimulationOptions): Pattern {
         const gStrain = phase.microstrain ? (4 * phase.microstrain * tan) / DEG_TO_RAD : 0;
         const { fwhm, eta } = thompsonCoxHastings(Math.sqrt(gInst2 + gStrain * gStrain), lInst + lSize);
         const half = 60 * fwhm;
-        const lo = lowerIndex(x, tt - half);
-        const hi = lowerIndex(x, tt + half);
+        const lo = lowerBound(x, tt - half);
+        const hi = lowerBound(x, tt + half);
         const area = intensity * component.weight;
         for (let i = lo; i < hi; i++) signal[i] += area * pseudoVoigt(x[i] - tt, fwhm, eta);
       }
@@ -137,17 +138,6 @@ export function simulatePattern(options: SimulationOptions): Pattern {
   };
 }
 
-/** First index i with x[i] >= value (x increasing). */
-function lowerIndex(x: Float64Array, value: number): number {
-  let lo = 0;
-  let hi = x.length;
-  while (lo < hi) {
-    const mid = (lo + hi) >>> 1;
-    if (x[mid] < value) lo = mid + 1;
-    else hi = mid;
-  }
-  return lo;
-}
 
 /** Write a pattern as a plain two-column text file (used for demo data and tests). */
 export function patternToXyText(pattern: Pattern, header: string[] = []): string {

@@ -1,6 +1,6 @@
 import type { FittedPeak } from '../process/types.js';
 import { DEG_TO_RAD } from '../pattern/units.js';
-import { lowerBound } from './reference-index.js';
+import { lowerBound } from '../pattern/sorted.js';
 import type { MatchOptions } from './types.js';
 
 type MatchBackground = NonNullable<MatchOptions['background']>;

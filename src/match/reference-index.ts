@@ -1,5 +1,6 @@
 import type { StoredReference } from '../library/reference.js';
 import { dFromTwoTheta } from '../pattern/units.js';
+import { lowerBound } from '../pattern/sorted.js';
 
 /** Intensity given to a line whose intensity is unknown (positions computed from a cell alone). */
 export const UNKNOWN_LINE_INTENSITY = 10;
@@ -94,17 +95,6 @@ function sortedOrder(values: Float64Array): Uint32Array {
   return order;
 }
 
-/** First index i with d[i] >= value. */
-export function lowerBound(values: Float64Array, value: number): number {
-  let lo = 0;
-  let hi = values.length;
-  while (lo < hi) {
-    const mid = (lo + hi) >>> 1;
-    if (values[mid] < value) lo = mid + 1;
-    else hi = mid;
-  }
-  return lo;
-}
 
 export interface ScreenQuery {
   /** Measured peak positions (2θ, degrees, ascending) to screen with. */

@@ -1,9 +1,9 @@
 import { InputError } from '../errors.js';
 import type { Pattern } from '../pattern/pattern.js';
 import { DEG_TO_RAD, dFromTwoTheta } from '../pattern/units.js';
-import type { Wavelength } from '../pattern/wavelengths.js';
 import { thompsonCoxHastingsWithDerivatives } from './profiles.js';
 import type { FittedPeak, PeakFitOptions, PeakGuess, ProfileModel } from './types.js';
+import { lowerBound } from '../pattern/sorted.js';
 
 /**
  * Profile fitting of diffraction peaks: overlapping peaks are fitted together in groups, each peak a
@@ -12,6 +12,10 @@ import type { FittedPeak, PeakFitOptions, PeakGuess, ProfileModel } from './type
  * on the given background plus a straight-line correction per group. Weighted least squares by
  * Levenberg–Marquardt (Marquardt, J. SIAM 11, 431 (1963)) with analytic derivatives; standard
  * uncertainties from the inverse normal matrix scaled by the reduced χ² (as scipy's curve_fit does).
+ * Groups are small (peaks within a few FWHM of each other, long chains cut at their deepest valleys),
+ * each fitted on its peaks' cores with all other peaks' full profiles held fixed under it, strongest
+ * groups first, then refitted where those neighbours changed (block Gauss–Seidel): the work grows with
+ * the number of peaks, not with the square of the longest chain of overlapping peaks.
  */
 
 const LN2 = Math.LN2;
@@ -25,10 +29,23 @@ const NORM_DIFF = LORENTZ_NORM - GAUSS_NORM;
 const MIN_REACH_FWHM = 5;
 const MAX_REACH_FWHM = 25;
 const TAIL_NOISE_FRACTION = 0.5;
-/** Peaks whose cores (this many FWHM either side of the Kα1 line and of its Kα2 partner) overlap are fitted together. */
+/** A group is fitted on this many FWHM either side of its peaks' Kα1 lines and Kα2 partners. */
 const CORE_FWHM = 4;
-/** Largest group fitted at once; a longer chain of overlapping windows is cut (keeps the normal matrix small). */
-const MAX_GROUP_PEAKS = 24;
+/** …and at least this many points either side (enough for a fair χ² where peaks span few points). */
+const MIN_CORE_POINTS = 60;
+/**
+ * Peaks closer than twice this many FWHM (Kα1 or Kα2 line to Kα1 or Kα2 line) are fitted together;
+ * further apart they couple only through their tails, which the other groups' fits hold fixed.
+ */
+const COUPLING_FWHM = 1.5;
+/** Largest group fitted at once; a longer chain of overlapping cores is cut at its weakest links. */
+const MAX_GROUP_PEAKS = 6;
+/** Passes over all groups, each with the other groups' latest peaks held fixed. */
+const SWEEPS = 2;
+/** In the second sweep a group is refitted only if the peaks held fixed under it changed by this many σ (rms). */
+const REFIT_SIGMA = 1;
+/** Widest Kα1–Kα2 separation to look past when flagging overlaps, degrees 2θ (Cu at 150°: about 2.4°). */
+const MAX_PARTNER_GAP_DEG = 5;
 /** A fitted peak that moved further than this many FWHM from where it was found is not the peak that was found. */
 const MAX_MOVE_FWHM = 1;
 /** Nor one whose width changed by more than this factor. */
@@ -52,7 +69,7 @@ const WIDTH_B = 3; // η (pseudo-Voigt) or Lorentzian FWHM (TCH)
 const ASYM = 4;
 
 // Per-peak values prepared once per evaluation.
-const PREP = 10;
+const PREP = 13;
 const P_FWHM = 0;
 const P_ETA = 1;
 const P_DW_DA = 2;
@@ -63,6 +80,9 @@ const P_POS2 = 6;
 const P_DPOS2 = 7;
 const P_MIX = 8; // Lorentzian share of the peak height, from η (which mixes unit-area profiles)
 const P_DMIX = 9; // its derivative by η
+const P_INV_LOW = 10; // 1 / FWHM of the low-angle half
+const P_INV_HIGH = 11; // 1 / FWHM of the high-angle half
+const P_INV_FWHM = 12;
 
 export interface PeakFitResult {
   peaks: FittedPeak[];
@@ -73,15 +93,20 @@ export interface PeakFitResult {
 }
 
 interface Group {
-  /** Starting parameters, per peak [pos, height, widthA, widthB, (asym)], then [offset, slope]. */
-  params: Float64Array;
-  peakCount: number;
-  /** Where each peak was found and how broad it looked there. */
-  foundAt: Float64Array;
-  foundFwhm: Float64Array;
-  /** Points [regionStart, regionEnd) the group is fitted on: its peaks' windows, cut halfway to the next groups. */
+  /** Indices (into the sorted starting peaks) of the group's peaks. */
+  members: number[];
+  /** Points [regionStart, regionEnd) the group is fitted on: its peaks' cores (may overlap other groups'). */
   regionStart: number;
   regionEnd: number;
+  /** Points [ownStart, ownEnd) where its background correction applies: cut where the next group's begins. */
+  ownStart: number;
+  ownEnd: number;
+  /** The other peaks under the region when it was last fitted (to tell whether a refit is needed). */
+  othersAtFit: Float64Array | null;
+  /** The group's straight-line background correction from its latest fit: value at `middle` and slope. */
+  offset: number;
+  slope: number;
+  middle: number;
 }
 
 /**
@@ -99,6 +124,11 @@ export interface PeakAcceptance {
    * counts: weights from the raw counts favour upward fluctuations where counts are low).
    */
   weightSigma?: Float64Array;
+  /**
+   * Also stop a fit once a step lowers χ² by less than this (absolute): Δχ² = 0.01 means the parameters
+   * are within about a tenth of their standard uncertainties of the minimum, enough for a search.
+   */
+  convergedChi2Change?: number;
 }
 
 /** Fit peaks starting at the given 2θ positions (or fuller guesses); returns the fitted Kα1 peaks sorted by 2θ. */
@@ -128,17 +158,7 @@ export function fitPeakGroups(
     .map((g) => fitter.startingPeak(typeof g === 'number' ? { twoTheta: g } : g))
     .filter((g): g is Float64Array => g !== null)
     .sort((a, b) => a[POS] - b[POS]);
-  const groups = fitter.groupPeaks(starts);
-  const peaks: FittedPeak[] = [];
-  const refinedBackground = background.slice();
-  const model = background.slice();
-  for (let g = 0; g < groups.length; g++) {
-    const fitted = fitter.fitGroup(groups[g], g);
-    fitter.addToModel(refinedBackground, model);
-    for (const peak of fitted) peaks.push(peak);
-  }
-  peaks.sort((a, b) => a.twoTheta - b.twoTheta);
-  return { peaks, background: refinedBackground, model };
+  return fitter.fitAll(starts);
 }
 
 /** Fits one group at a time in a workspace sized for the largest group (nothing allocated per point). */
@@ -158,6 +178,7 @@ class GroupFitter {
   private readonly maxFwhm: number;
   private readonly pruneBelowSigma: number | undefined;
   private readonly acceptance: PeakAcceptance | undefined;
+  private readonly convergedChi2Change: number;
 
   // Current group.
   private peakCount = 0;
@@ -174,16 +195,26 @@ class GroupFitter {
   private spareGradient = new Float64Array(0);
   private work = new Float64Array(0);
   private step = new Float64Array(0);
-  private jacIndex = new Int32Array(0);
-  private jacValue = new Float64Array(0);
+  private activeBase = new Int32Array(0);
+  private jac = new Float64Array(0);
   private params = new Float64Array(0);
   private lower = new Float64Array(0);
   private upper = new Float64Array(0);
   private foundAt: Float64Array = new Float64Array(0);
   private foundFwhm: Float64Array = new Float64Array(0);
 
+  // All peaks: latest parameters, still kept, latest description, where found and how broad.
+  private current: Float64Array[] = [];
+  private alive = new Uint8Array(0);
+  private described: Array<FittedPeak | null> = [];
+  private allFoundAt = new Float64Array(0);
+  private allFoundFwhm = new Float64Array(0);
+  /** The peaks outside the group being fitted, summed over its region (held fixed in its fit). */
+  private readonly others: Float64Array;
+
   constructor(pattern: Pattern, background: Float64Array, options: PeakFitOptions, acceptance?: PeakAcceptance) {
     this.acceptance = acceptance;
+    this.convergedChi2Change = acceptance?.convergedChi2Change ?? 0;
     this.x = pattern.x;
     this.y = pattern.y;
     this.background = background;
@@ -201,6 +232,7 @@ class GroupFitter {
     this.minFwhm = options.minFwhmDeg ?? meanStep;
     this.maxFwhm = options.maxFwhmDeg ?? 5;
     this.weight = new Float64Array(n);
+    this.others = new Float64Array(n);
     const sigma = acceptance?.weightSigma ?? pattern.sigma;
     for (let i = 0; i < n; i++) {
       const s = sigma[i];
@@ -256,7 +288,7 @@ class GroupFitter {
 
   /** Points from `reach`·FWHM below the Kα1 line to `reach`·FWHM above its Kα2 partner. */
   private windowOf(pos: number, fwhm: number, reach: number): [number, number] {
-    return [lowerIndex(this.x, pos - reach * fwhm), lowerIndex(this.x, this.partnerPosition(pos) + reach * fwhm)];
+    return [lowerBound(this.x, pos - reach * fwhm), lowerBound(this.x, this.partnerPosition(pos) + reach * fwhm)];
   }
 
   /**
@@ -272,78 +304,238 @@ class GroupFitter {
     return Math.min(Math.max(reach, MIN_REACH_FWHM), MAX_REACH_FWHM);
   }
 
-  /** Peaks whose cores overlap go into one group; each group's region reaches halfway to its neighbours. */
-  groupPeaks(starts: Float64Array[]): Group[] {
-    const groups: Group[] = [];
-    const coreStarts: number[] = [];
-    const coreEnds: number[] = [];
-    let current: Float64Array[] = [];
-    let coreStart = 0;
-    let coreEnd = -1;
-    let windowStart = 0;
-    let windowEnd = 0;
-    const flush = (): void => {
-      if (current.length === 0) return;
-      const params = new Float64Array(current.length * this.perPeak + 2);
-      current.forEach((p, k) => params.set(p, k * this.perPeak));
-      const foundAt = Float64Array.from(current, (p) => p[POS]);
-      const foundFwhm = Float64Array.from(current, (p) => this.fwhmOf(p, 0));
-      groups.push({ params, peakCount: current.length, foundAt, foundFwhm, regionStart: windowStart, regionEnd: windowEnd });
-      coreStarts.push(coreStart);
-      coreEnds.push(coreEnd);
-      current = [];
-    };
-    for (const start of starts) {
-      const fwhm = this.fwhmOf(start, 0);
-      const [lo, hi] = this.windowOf(start[POS], fwhm, CORE_FWHM);
-      const [wLo, wHi] = this.windowOf(start[POS], fwhm, this.reachOf(start, 0));
-      if (lo >= coreEnd || current.length >= MAX_GROUP_PEAKS) {
-        flush();
-        coreStart = lo;
-        windowStart = wLo;
-        windowEnd = wHi;
-      }
-      current.push(start);
-      coreEnd = Math.max(coreEnd, hi);
-      windowStart = Math.min(windowStart, wLo);
-      windowEnd = Math.max(windowEnd, wHi);
+  /**
+   * Fit all peaks: groups of overlapping peaks one after another, each with the other peaks' profiles
+   * (their latest values) held fixed under it, in SWEEPS passes over the pattern (block Gauss–Seidel:
+   * peaks further apart couple only through their tails, which the second pass brings up to date).
+   */
+  fitAll(starts: Float64Array[]): PeakFitResult {
+    const count = starts.length;
+    this.current = starts.map((s) => s.slice());
+    this.alive = new Uint8Array(count).fill(1);
+    this.described = new Array<FittedPeak | null>(count).fill(null);
+    this.allFoundAt = Float64Array.from(starts, (p) => p[POS]);
+    this.allFoundFwhm = Float64Array.from(starts, (p) => this.fwhmOf(p, 0));
+    const groups = this.groupPeaks(starts);
+    // Strongest groups first: weaker peaks then sit on their fitted tails from the start, and the second
+    // sweep has little left to change.
+    const tallest = groups.map((group) => Math.max(...group.members.map((k) => starts[k][HEIGHT])));
+    const order = groups.map((_, g) => g).sort((a, b) => tallest[b] - tallest[a] || a - b);
+    for (let sweep = 0; sweep < SWEEPS; sweep++) {
+      for (const g of order) this.fitGroup(groups[g], g, sweep > 0);
     }
-    flush();
-    for (let g = 0; g < groups.length; g++) {
-      if (g > 0) groups[g].regionStart = Math.max(groups[g].regionStart, (coreEnds[g - 1] + coreStarts[g]) >> 1);
-      if (g + 1 < groups.length) groups[g].regionEnd = Math.min(groups[g].regionEnd, (coreEnds[g] + coreStarts[g + 1]) >> 1);
-      groups[g].regionEnd = Math.max(groups[g].regionEnd, groups[g].regionStart + 1);
+    const background = this.background.slice();
+    for (const group of groups) {
+      for (let i = group.ownStart; i < group.ownEnd; i++) background[i] += group.offset + group.slope * (this.x[i] - group.middle);
+    }
+    const model = background.slice();
+    const peaks: FittedPeak[] = [];
+    for (let k = 0; k < count; k++) {
+      const peak = this.described[k];
+      if (!this.alive[k] || peak === null) continue;
+      const [lo, hi] = this.modelWindow(this.current[k]);
+      this.addPeak(model, this.current[k], lo, hi);
+      peaks.push(peak);
+    }
+    peaks.sort((a, b) => a.twoTheta - b.twoTheta);
+    this.flagOverlaps(peaks);
+    return { peaks, background, model };
+  }
+
+  /** Points a peak is modelled on: its reach below the Kα1 line to its reach above the Kα2 partner. */
+  private modelWindow(p: Float64Array): [number, number] {
+    return this.windowOf(p[POS], this.fwhmOf(p, 0), this.reachOf(p, 0));
+  }
+
+  /**
+   * Chains of peaks closer than 2·COUPLING_FWHM, each chain longer than MAX_GROUP_PEAKS cut at its
+   * weakest links (the lowest valley relative to the smaller of the two peaks beside it). Each group is
+   * fitted on its peaks' cores; its background correction holds up to the valley before the next group.
+   */
+  groupPeaks(starts: Float64Array[]): Group[] {
+    const count = starts.length;
+    const pieces: Array<[number, number]> = [];
+    let chainStart = 0;
+    let chainEnd = Number.NEGATIVE_INFINITY;
+    for (let k = 0; k <= count; k++) {
+      const fwhm = k < count ? COUPLING_FWHM * this.fwhmOf(starts[k], 0) : 0;
+      if (k === count || starts[k][POS] - fwhm >= chainEnd) {
+        if (k > 0) this.splitChain(starts, chainStart, k, pieces);
+        chainStart = k;
+        chainEnd = Number.NEGATIVE_INFINITY;
+      }
+      if (k < count) chainEnd = Math.max(chainEnd, this.partnerPosition(starts[k][POS]) + fwhm);
+    }
+    const groups: Group[] = pieces.map(([a, b]) => {
+      let lo = this.x.length;
+      let hi = 0;
+      const members: number[] = [];
+      for (let k = a; k < b; k++) {
+        const [kLo, kHi] = this.windowOf(starts[k][POS], this.fwhmOf(starts[k], 0), this.fitReach());
+        lo = Math.min(lo, kLo, nearestIndex(this.x, starts[k][POS]) - MIN_CORE_POINTS);
+        hi = Math.max(hi, kHi, nearestIndex(this.x, this.partnerPosition(starts[k][POS])) + MIN_CORE_POINTS);
+        members.push(k);
+      }
+      lo = Math.max(lo, 0);
+      hi = Math.min(Math.max(hi, lo + 1), this.x.length);
+      return { members, regionStart: lo, regionEnd: hi, ownStart: lo, ownEnd: hi, othersAtFit: null, offset: 0, slope: 0, middle: 0 };
+    });
+    for (let g = 1; g < groups.length; g++) {
+      const left = groups[g - 1];
+      const right = groups[g];
+      const cut = this.valleyIndex(starts[left.members[left.members.length - 1]][POS], starts[right.members[0]][POS]);
+      left.ownEnd = Math.max(Math.min(left.ownEnd, cut), left.ownStart);
+      right.ownStart = Math.min(Math.max(right.ownStart, cut, left.ownEnd), right.ownEnd);
     }
     return groups;
   }
 
-  /** Fit one group (dropping insignificant peaks and refitting when pruning is on). */
-  fitGroup(group: Group, groupIndex: number): FittedPeak[] {
-    let params = group.params;
-    let peakCount = group.peakCount;
-    this.foundAt = group.foundAt;
-    this.foundFwhm = group.foundFwhm;
+  /** Cut peaks [a, b) into pieces of at most MAX_GROUP_PEAKS at the weakest links. */
+  private splitChain(starts: Float64Array[], a: number, b: number, pieces: Array<[number, number]>): void {
+    if (b - a <= MAX_GROUP_PEAKS) {
+      pieces.push([a, b]);
+      return;
+    }
+    let weakest = a + 1;
+    let lowest = Number.POSITIVE_INFINITY;
+    for (let k = a + 1; k < b; k++) {
+      const i = this.valleyIndex(starts[k - 1][POS], starts[k][POS]);
+      const depth = (this.y[i] - this.background[i]) / Math.max(Math.min(starts[k - 1][HEIGHT], starts[k][HEIGHT]), 1e-300);
+      if (depth < lowest) {
+        lowest = depth;
+        weakest = k;
+      }
+    }
+    this.splitChain(starts, a, weakest, pieces);
+    this.splitChain(starts, weakest, b, pieces);
+  }
+
+  /** Index of the lowest net intensity between two positions. */
+  private valleyIndex(from: number, to: number): number {
+    const { x, y, background } = this;
+    let lo = nearestIndex(x, from);
+    const hi = Math.max(nearestIndex(x, to), lo);
+    let best = lo;
+    for (let i = lo; i <= hi; i++) if (y[i] - background[i] < y[best] - background[best]) best = i;
+    lo = best;
+    return lo;
+  }
+
+  /** How many FWHM either side of a peak (and of its Kα2 partner) the fit looks: windowFwhm, or the core. */
+  private fitReach(): number {
+    return this.windowFwhm ?? CORE_FWHM;
+  }
+
+  /** Sum of all living peaks outside the group, at the group's region points, into this.others. */
+  private fillOthers(group: Group, members: number[]): void {
+    const { others } = this;
+    const start = group.regionStart;
+    const end = group.regionEnd;
+    others.fill(0, start, end);
+    for (let j = 0; j < this.current.length; j++) {
+      if (!this.alive[j] || members.includes(j)) continue;
+      const [lo, hi] = this.modelWindow(this.current[j]);
+      if (hi <= start || lo >= end) continue;
+      this.addPeak(others, this.current[j], Math.max(lo, start), Math.min(hi, end));
+    }
+  }
+
+  /** Whether the other peaks under the group moved by more than REFIT_SIGMA·σ (root mean square) since its last fit. */
+  private othersChanged(group: Group): boolean {
+    const before = group.othersAtFit;
+    if (before === null) return true;
+    let sum = 0;
+    for (let i = group.regionStart; i < group.regionEnd; i++) {
+      const change = this.others[i] - before[i - group.regionStart];
+      sum += change * change * this.weight[i];
+    }
+    return sum > REFIT_SIGMA * REFIT_SIGMA * (group.regionEnd - group.regionStart);
+  }
+
+  /** Add one peak (Kα1 and its Kα2 partner) with parameters p to target[from … to). */
+  private addPeak(target: Float64Array, p: Float64Array, from: number, to: number): void {
+    const { x } = this;
+    const fwhm = this.fwhmOf(p, 0);
+    const eta = this.profile === 'tch' ? thompsonCoxHastingsWithDerivatives(p[WIDTH_A], p[WIDTH_B]).eta : p[WIDTH_B];
+    const mix = (eta * LORENTZ_NORM) / (eta * LORENTZ_NORM + (1 - eta) * GAUSS_NORM);
+    const asym = this.perPeak === 5 ? p[ASYM] : 0;
+    const height = p[HEIGHT];
+    const pos = p[POS];
+    const pos2 = this.partnerPosition(pos);
+    const h2 = this.ratio * height;
+    for (let i = from; i < to; i++) {
+      let v = height * splitPseudoVoigt(x[i] - pos, fwhm, mix, asym);
+      if (h2 > 0) v += h2 * splitPseudoVoigt(x[i] - pos2, fwhm, mix, asym);
+      target[i] += v;
+    }
+  }
+
+  /** Peaks closer than OVERLAP_FWHM mean FWHMs to a neighbour or to its Kα2 partner are flagged. */
+  private flagOverlaps(peaks: FittedPeak[]): void {
+    for (let k = 0; k < peaks.length; k++) {
+      for (let j = k + 1; j < peaks.length; j++) {
+        const limit = (OVERLAP_FWHM * (peaks[k].fwhm + peaks[j].fwhm)) / 2;
+        const gap = peaks[j].twoTheta - peaks[k].twoTheta;
+        const partnerGap = this.lambda2 === null ? Number.POSITIVE_INFINITY : Math.abs(peaks[j].twoTheta - this.partnerPosition(peaks[k].twoTheta));
+        if (gap < limit || partnerGap < limit) {
+          peaks[k].overlapped = true;
+          peaks[j].overlapped = true;
+        }
+        if (gap > limit + MAX_PARTNER_GAP_DEG) break;
+      }
+    }
+  }
+
+  /** Fit one group with everything else held fixed (dropping insignificant peaks and refitting when pruning is on). */
+  private fitGroup(group: Group, groupIndex: number, onlyIfChanged: boolean): void {
+    let members = group.members.filter((k) => this.alive[k] === 1);
+    this.peakCount = 0;
+    if (members.length === 0) {
+      group.offset = 0;
+      group.slope = 0;
+      return;
+    }
+    this.fillOthers(group, members);
+    if (onlyIfChanged && !this.othersChanged(group)) return;
+    group.othersAtFit = this.others.slice(group.regionStart, group.regionEnd);
+    const perPeak = this.perPeak;
+    let params = new Float64Array(members.length * perPeak + 2);
+    members.forEach((k, j) => params.set(this.current[k], j * perPeak));
+    params[members.length * perPeak] = group.offset;
+    params[members.length * perPeak + 1] = group.slope;
     for (let round = 0; ; round++) {
-      this.setUp(params, peakCount, group.regionStart, group.regionEnd);
+      this.foundAt = Float64Array.from(members, (k) => this.allFoundAt[k]);
+      this.foundFwhm = Float64Array.from(members, (k) => this.allFoundFwhm[k]);
+      this.setUp(params, members.length, group.regionStart, group.regionEnd);
       const chi2 = this.levenbergMarquardt();
       const covariance = this.covariance(chi2);
       const peaks = this.describe(covariance, chi2, groupIndex);
       const keep = this.pruneBelowSigma === undefined || round >= 4 ? null : this.survivors(peaks);
-      if (keep === null || keep.length === peakCount || keep.length === 0) {
+      if (keep === null || keep.length === members.length || keep.length === 0) {
+        const bgBase = members.length * perPeak;
         if (keep !== null && keep.length === 0) {
+          for (const k of members) this.alive[k] = 0;
+          group.offset = 0;
+          group.slope = 0;
           this.peakCount = 0;
-          return [];
+          return;
         }
-        return peaks;
+        members.forEach((k, j) => {
+          this.current[k].set(this.params.subarray(j * perPeak, (j + 1) * perPeak));
+          this.described[k] = peaks[j];
+        });
+        group.offset = this.params[bgBase];
+        group.slope = this.params[bgBase + 1];
+        group.middle = this.middle;
+        return;
       }
       // Refit the survivors from their fitted values.
-      const next = new Float64Array(keep.length * this.perPeak + 2);
-      keep.forEach((k, j) => next.set(this.params.subarray(k * this.perPeak, (k + 1) * this.perPeak), j * this.perPeak));
-      next.set(this.params.subarray(peakCount * this.perPeak, peakCount * this.perPeak + 2), keep.length * this.perPeak);
-      this.foundAt = Float64Array.from(keep, (k) => this.foundAt[k]);
-      this.foundFwhm = Float64Array.from(keep, (k) => this.foundFwhm[k]);
+      const next = new Float64Array(keep.length * perPeak + 2);
+      keep.forEach((k, j) => next.set(this.params.subarray(k * perPeak, (k + 1) * perPeak), j * perPeak));
+      next.set(this.params.subarray(members.length * perPeak, members.length * perPeak + 2), keep.length * perPeak);
+      for (let j = 0; j < members.length; j++) if (!keep.includes(j)) this.alive[members[j]] = 0;
+      members = keep.map((j) => members[j]);
       params = next;
-      peakCount = keep.length;
     }
   }
 
@@ -379,7 +571,7 @@ class GroupFitter {
     if (peak.fwhm > MAX_WIDTH_CHANGE * found || peak.fwhm * MAX_WIDTH_CHANGE < found) return false;
     const i = nearestIndex(this.x, peak.twoTheta);
     const background = this.background[i];
-    const level = background + this.othersAt(k, peak.twoTheta);
+    const level = background + this.others[i] + this.othersAt(k, peak.twoTheta);
     const sigma = acceptance.noiseSigma[i] * (background > 0 && level > background ? Math.sqrt(level / background) : 1);
     return peak.height >= acceptance.thresholdSigma * sigma;
   }
@@ -414,8 +606,8 @@ class GroupFitter {
       this.gradient = new Float64Array(size);
       this.spareGradient = new Float64Array(size);
       this.step = new Float64Array(size);
-      this.jacIndex = new Int32Array(size);
-      this.jacValue = new Float64Array(size);
+      this.activeBase = new Int32Array(size);
+      this.jac = new Float64Array(size);
       this.lower = new Float64Array(size);
       this.upper = new Float64Array(size);
     }
@@ -470,6 +662,11 @@ class GroupFitter {
       const norm = eta * LORENTZ_NORM + (1 - eta) * GAUSS_NORM;
       prep[out + P_MIX] = (eta * LORENTZ_NORM) / norm;
       prep[out + P_DMIX] = (LORENTZ_NORM * GAUSS_NORM) / (norm * norm);
+      const fwhm = prep[out + P_FWHM];
+      const asym = perPeak === 5 ? params[base + ASYM] : 0;
+      prep[out + P_INV_LOW] = 1 / (fwhm * (1 + asym));
+      prep[out + P_INV_HIGH] = 1 / (fwhm * (1 - asym));
+      prep[out + P_INV_FWHM] = 1 / fwhm;
       const pos = params[base + POS];
       if (this.lambda2 !== null) {
         // Same d at λ2: sin(θ2) = (λ2/λ1)·sin(θ1); dθ2/dθ1 = (λ2/λ1)·cos θ1 / cos θ2.
@@ -483,12 +680,12 @@ class GroupFitter {
   }
 
   /**
-   * χ² of the group at `params`; with `withNormal`, also fills the normal matrix JᵀWJ and gradient JᵀW(y − model).
+   * χ² of the group at `params`, filling the normal matrix JᵀWJ and gradient JᵀW(y − model).
    * Each point touches only the peaks whose windows hold it, so the matrix is filled block by block.
    */
-  private evaluate(params: Float64Array, withNormal: boolean): number {
+  private evaluate(params: Float64Array): number {
     this.prepare(params);
-    const { x, y, weight, background, perPeak, prep, lo, hi, jacIndex, jacValue, normal, gradient } = this;
+    const { x, y, weight, background, others, perPeak, prep, lo, hi, activeBase, jac, normal, gradient } = this;
     const paramCount = this.paramCount;
     const asymmetric = perPeak === 5;
     const doublet = this.lambda2 !== null;
@@ -496,112 +693,87 @@ class GroupFitter {
     const bgBase = this.peakCount * perPeak;
     const offset = params[bgBase];
     const slope = params[bgBase + 1];
-    if (withNormal) {
-      normal.fill(0, 0, paramCount * paramCount);
-      gradient.fill(0, 0, paramCount);
-    }
+    normal.fill(0, 0, paramCount * paramCount);
+    gradient.fill(0, 0, paramCount);
     let chi2 = 0;
     for (let i = this.first; i < this.last; i++) {
       const xi = x[i];
       const t = xi - this.middle;
-      let model = background[i] + offset + slope * t;
-      let active = 0;
-      if (withNormal) {
-        jacIndex[0] = bgBase;
-        jacValue[0] = 1;
-        jacIndex[1] = bgBase + 1;
-        jacValue[1] = t;
-        active = 2;
-      }
+      let model = background[i] + others[i] + offset + slope * t;
+      let active = 0; // peaks whose windows hold this point; their derivatives in jac, perPeak each
       for (let k = 0; k < this.peakCount; k++) {
         if (i < lo[k] || i >= hi[k]) continue;
         const base = k * perPeak;
         const pr = k * PREP;
         const height = params[base + HEIGHT];
-        const fwhm = prep[pr + P_FWHM];
         const mix = prep[pr + P_MIX];
-        const dMix = prep[pr + P_DMIX];
-        const asym = asymmetric ? params[base + ASYM] : 0;
-        // Kα1 component.
+        // Kα1 component, then its Kα2 partner: shape, and d(shape)/du by the chain rule to each parameter.
         let dx = xi - params[base + POS];
-        let side = dx < 0 ? 1 : -1; // low-angle half is wider for positive asymmetry
-        let sideWidth = fwhm * (1 + side * asym);
-        let u = dx / sideWidth;
-        let u2 = u * u;
-        let lor = 1 / (1 + 4 * u2);
-        let gau = gaussianTail(u2);
-        let shape = mix * lor + (1 - mix) * gau;
-        model += height * shape;
-        if (!withNormal) {
-          if (doublet) {
-            dx = xi - prep[pr + P_POS2];
-            side = dx < 0 ? 1 : -1;
-            sideWidth = fwhm * (1 + side * asym);
-            u = dx / sideWidth;
-            u2 = u * u;
-            model += ratio * height * (mix / (1 + 4 * u2) + (1 - mix) * gaussianTail(u2));
-          }
-          continue;
-        }
-        // d(shape)/du, then the chain rule to each parameter.
-        let dShape = -8 * u * (mix * lor * lor + (1 - mix) * LN2 * gau);
-        let dPos = (-height * dShape) / sideWidth;
-        let dWidth = (-height * dShape * u) / fwhm;
-        let dEta = height * (lor - gau) * dMix;
-        let dAsym = (-height * dShape * u * side * fwhm) / sideWidth;
-        let dHeight = shape;
+        let inv = dx < 0 ? prep[pr + P_INV_LOW] : prep[pr + P_INV_HIGH];
+        let u = dx * inv;
+        profileAt(u, mix);
+        let h = height;
+        model += h * component[SHAPE];
+        let slopeTerm = -h * component[D_SHAPE];
+        let dPos = slopeTerm * inv;
+        let dWidth = slopeTerm * u;
+        let dAsym = slopeTerm * u * (dx < 0 ? 1 : -1) * inv;
+        let dEta = h * (component[LOR] - component[GAU]);
+        let dHeight = component[SHAPE];
         if (doublet) {
-          const h2 = ratio * height;
+          h = ratio * height;
           dx = xi - prep[pr + P_POS2];
-          side = dx < 0 ? 1 : -1;
-          sideWidth = fwhm * (1 + side * asym);
-          u = dx / sideWidth;
-          u2 = u * u;
-          lor = 1 / (1 + 4 * u2);
-          gau = gaussianTail(u2);
-          shape = mix * lor + (1 - mix) * gau;
-          model += h2 * shape;
-          dShape = -8 * u * (mix * lor * lor + (1 - mix) * LN2 * gau);
-          dPos += ((-h2 * dShape) / sideWidth) * prep[pr + P_DPOS2];
-          dWidth += (-h2 * dShape * u) / fwhm;
-          dEta += h2 * (lor - gau) * dMix;
-          dAsym += (-h2 * dShape * u * side * fwhm) / sideWidth;
-          dHeight += ratio * shape;
+          inv = dx < 0 ? prep[pr + P_INV_LOW] : prep[pr + P_INV_HIGH];
+          u = dx * inv;
+          profileAt(u, mix);
+          model += h * component[SHAPE];
+          slopeTerm = -h * component[D_SHAPE];
+          dPos += slopeTerm * inv * prep[pr + P_DPOS2];
+          dWidth += slopeTerm * u;
+          dAsym += slopeTerm * u * (dx < 0 ? 1 : -1) * inv;
+          dEta += h * (component[LOR] - component[GAU]);
+          dHeight += ratio * component[SHAPE];
         }
-        jacIndex[active] = base + POS;
-        jacValue[active++] = dPos;
-        jacIndex[active] = base + HEIGHT;
-        jacValue[active++] = dHeight;
-        jacIndex[active] = base + WIDTH_A;
-        jacValue[active++] = dWidth * prep[pr + P_DW_DA] + dEta * prep[pr + P_DETA_DA];
-        jacIndex[active] = base + WIDTH_B;
-        jacValue[active++] = dWidth * prep[pr + P_DW_DB] + dEta * prep[pr + P_DETA_DB];
-        if (asymmetric) {
-          jacIndex[active] = base + ASYM;
-          jacValue[active++] = dAsym;
-        }
+        dWidth *= prep[pr + P_INV_FWHM];
+        dEta *= prep[pr + P_DMIX];
+        const j = active * perPeak;
+        activeBase[active++] = base;
+        jac[j + POS] = dPos;
+        jac[j + HEIGHT] = dHeight;
+        jac[j + WIDTH_A] = dWidth * prep[pr + P_DW_DA] + dEta * prep[pr + P_DETA_DA];
+        jac[j + WIDTH_B] = dWidth * prep[pr + P_DW_DB] + dEta * prep[pr + P_DETA_DB];
+        if (asymmetric) jac[j + ASYM] = dAsym * prep[pr + P_FWHM];
       }
       const residual = y[i] - model;
       const w = weight[i];
       chi2 += w * residual * residual;
-      if (withNormal) {
-        // Active indices increase along the list except the two background slots first: fill the
-        // lower triangle by (row = larger index), mirrored below.
-        for (let a = 0; a < active; a++) {
-          const wa = w * jacValue[a];
-          const ia = jacIndex[a];
-          gradient[ia] += wa * residual;
-          for (let b = 0; b <= a; b++) {
-            const ib = jacIndex[b];
-            if (ia >= ib) normal[ia * paramCount + ib] += wa * jacValue[b];
-            else normal[ib * paramCount + ia] += wa * jacValue[b];
+      // Lower triangle (row ≥ column) block by block: peaks in increasing order, the background slots last.
+      const bgRow = bgBase * paramCount;
+      const slopeRow = bgRow + paramCount;
+      for (let a = 0; a < active; a++) {
+        const ja = a * perPeak;
+        const baseA = activeBase[a];
+        for (let r = 0; r < perPeak; r++) {
+          const wr = w * jac[ja + r];
+          const row = (baseA + r) * paramCount;
+          gradient[baseA + r] += wr * residual;
+          for (let b = 0; b < a; b++) {
+            const jb = b * perPeak;
+            const cell = row + activeBase[b];
+            for (let c = 0; c < perPeak; c++) normal[cell + c] += wr * jac[jb + c];
           }
+          for (let c = 0; c <= r; c++) normal[row + baseA + c] += wr * jac[ja + c];
+          normal[bgRow + baseA + r] += wr;
+          normal[slopeRow + baseA + r] += wr * t;
         }
       }
+      normal[bgRow + bgBase] += w;
+      normal[slopeRow + bgBase] += w * t;
+      normal[slopeRow + bgBase + 1] += w * t * t;
+      gradient[bgBase] += w * residual;
+      gradient[bgBase + 1] += w * t * residual;
     }
-    if (withNormal) {
-      for (let r = 0; r < paramCount; r++) for (let c = r + 1; c < paramCount; c++) normal[r * paramCount + c] = normal[c * paramCount + r];
-    }
+    for (let r = 0; r < paramCount; r++) for (let c = r + 1; c < paramCount; c++) normal[r * paramCount + c] = normal[c * paramCount + r];
     return chi2;
   }
 
@@ -633,17 +805,12 @@ class GroupFitter {
     }
   }
 
-  private constrain(params: Float64Array): void {
-    const { lower, upper } = this;
-    for (let a = 0; a < this.paramCount; a++) params[a] = Math.min(Math.max(params[a], lower[a]), upper[a]);
-  }
-
   /** Marquardt's damped Gauss–Newton iteration; leaves the best parameters in this.params, returns χ². */
   private levenbergMarquardt(): number {
     const { paramCount, work, step } = this;
     const params = this.params;
     const trial = new Float64Array(paramCount);
-    let chi2 = this.evaluate(params, true);
+    let chi2 = this.evaluate(params);
     let damping = 1e-3;
     let growth = 2;
     for (let iteration = 0; iteration < this.maxIterations && damping < MAX_DAMPING; iteration++) {
@@ -669,27 +836,30 @@ class GroupFitter {
         continue;
       }
       choleskySolve(work, paramCount, step);
-      // A step that would cross a limit is shortened to 90 % of the way there (clipping it instead can
-      // drive a height to zero, where its peak has no derivatives left to come back with).
-      let fraction = 1;
+      // A parameter whose step would cross a limit stops on it, except a height, which stops 90 % of the
+      // way to zero (at zero its peak has no derivatives left to come back with); the others keep their
+      // full step (shortening the whole step instead stalls the fit while η creeps towards 1).
       for (let a = 0; a < paramCount; a++) {
-        const to = params[a] + step[a];
-        if (to < this.lower[a] && params[a] > this.lower[a]) fraction = Math.min(fraction, (0.9 * (this.lower[a] - params[a])) / step[a]);
-        if (to > this.upper[a] && params[a] < this.upper[a]) fraction = Math.min(fraction, (0.9 * (this.upper[a] - params[a])) / step[a]);
+        let to = params[a] + step[a];
+        const isHeight = a < this.peakCount * this.perPeak && a % this.perPeak === HEIGHT;
+        if (to < this.lower[a]) to = isHeight ? params[a] + 0.9 * (this.lower[a] - params[a]) : this.lower[a];
+        if (to > this.upper[a]) to = this.upper[a];
+        trial[a] = to;
+        step[a] = to - params[a];
       }
-      // Reduction of χ² the linearised model promises: δᵀ(g + λ·diag·δ), scaled for a shortened step.
+      // Reduction of χ² the linearised model promises for this step: 2δᵀg − δᵀNδ.
       let predicted = 0;
       for (let a = 0; a < paramCount; a++) {
-        const d = normal[a * paramCount + a];
-        predicted += step[a] * (gradient[a] + damping * (d > 0 ? d : 1e-12) * step[a]);
-        trial[a] = params[a] + fraction * step[a];
+        if (step[a] === 0) continue;
+        let row = 0;
+        for (let b = 0; b < paramCount; b++) row += normal[a * paramCount + b] * step[b];
+        predicted += step[a] * (2 * gradient[a] - row);
       }
-      predicted *= fraction;
-      this.constrain(trial);
       // Evaluate the trial with its normal matrix into the spare buffers; keep them only if accepted.
       this.swapNormalBuffers();
-      const trialChi2 = this.evaluate(trial, true);
+      const trialChi2 = this.evaluate(trial);
       if (trialChi2 < chi2) {
+        const chi2Before = chi2;
         const gain = (chi2 - trialChi2) / Math.max(chi2, 1e-300);
         const rho = (chi2 - trialChi2) / Math.max(predicted, 1e-300);
         params.set(trial);
@@ -699,7 +869,7 @@ class GroupFitter {
         damping = Math.max(damping, 1e-12);
         growth = 2;
         // A tiny gain means convergence only for a near Gauss–Newton step, not a heavily damped one.
-        if (gain < CHI2_TOLERANCE && damping < 1) break;
+        if ((gain < CHI2_TOLERANCE || chi2Before - trialChi2 < this.convergedChi2Change) && damping < 1) break;
       } else {
         this.swapNormalBuffers();
         damping *= growth;
@@ -822,41 +992,7 @@ class GroupFitter {
       }
       peaks.push(peak);
     }
-    for (let k = 0; k < peaks.length; k++) {
-      for (let j = 0; j < peaks.length; j++) {
-        if (j === k) continue;
-        const limit = (OVERLAP_FWHM * (peaks[k].fwhm + peaks[j].fwhm)) / 2;
-        const partner = this.lambda2 === null ? Number.NaN : prep[j * PREP + P_POS2];
-        if (Math.abs(peaks[k].twoTheta - peaks[j].twoTheta) < limit || Math.abs(peaks[k].twoTheta - partner) < limit) {
-          peaks[k].overlapped = true;
-        }
-      }
-    }
     return peaks;
-  }
-
-  /** Add the current group's background correction and peaks to the full-length arrays. */
-  addToModel(background: Float64Array, model: Float64Array): void {
-    if (this.peakCount === 0) return;
-    const { params, perPeak, prep, x } = this;
-    this.prepare(params);
-    const bgBase = this.peakCount * perPeak;
-    for (let i = this.first; i < this.last; i++) {
-      const correction = params[bgBase] + params[bgBase + 1] * (x[i] - this.middle);
-      background[i] += correction;
-      model[i] += correction;
-    }
-    for (let k = 0; k < this.peakCount; k++) {
-      const base = k * perPeak;
-      const pr = k * PREP;
-      const asym = perPeak === 5 ? params[base + ASYM] : 0;
-      for (let i = this.lo[k]; i < this.hi[k]; i++) {
-        model[i] += params[base + HEIGHT] * splitPseudoVoigt(x[i] - params[base + POS], prep[pr + P_FWHM], prep[pr + P_MIX], asym);
-        if (this.lambda2 !== null) {
-          model[i] += this.ratio * params[base + HEIGHT] * splitPseudoVoigt(x[i] - prep[pr + P_POS2], prep[pr + P_FWHM], prep[pr + P_MIX], asym);
-        }
-      }
-    }
   }
 }
 
@@ -869,6 +1005,22 @@ function splitPseudoVoigt(dx: number, fwhm: number, mix: number, asym: number): 
   const u = dx / (fwhm * (1 + (dx < 0 ? asym : -asym)));
   const u2 = u * u;
   return mix / (1 + 4 * u2) + (1 - mix) * gaussianTail(u2);
+}
+
+/** Unit-height pseudo-Voigt at u (offset in FWHM of its side) into `component`: shape, its parts, d(shape)/du. */
+const component = new Float64Array(4);
+const SHAPE = 0;
+const LOR = 1;
+const GAU = 2;
+const D_SHAPE = 3;
+function profileAt(u: number, mix: number): void {
+  const u2 = u * u;
+  const lor = 1 / (1 + 4 * u2);
+  const gau = gaussianTail(u2);
+  component[SHAPE] = mix * lor + (1 - mix) * gau;
+  component[LOR] = lor;
+  component[GAU] = gau;
+  component[D_SHAPE] = -8 * u * (mix * lor * lor + (1 - mix) * LN2 * gau);
 }
 
 /** exp(−4 ln2 u²), taken as 0 beyond 6 half-widths (below 1e-43): most points of a window lie there. */
@@ -907,19 +1059,9 @@ function choleskySolve(l: Float64Array, n: number, b: Float64Array): void {
   }
 }
 
-function lowerIndex(x: Float64Array, value: number): number {
-  let lo = 0;
-  let hi = x.length;
-  while (lo < hi) {
-    const mid = (lo + hi) >>> 1;
-    if (x[mid] < value) lo = mid + 1;
-    else hi = mid;
-  }
-  return lo;
-}
 
 function nearestIndex(x: Float64Array, value: number): number {
-  const i = lowerIndex(x, value);
+  const i = lowerBound(x, value);
   if (i <= 0) return 0;
   if (i >= x.length) return x.length - 1;
   return value - x[i - 1] < x[i] - value ? i - 1 : i;

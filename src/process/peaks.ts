@@ -27,10 +27,27 @@ const MIN_FWHM_STEPS = 1.5;
 const CHI2_1_MEDIAN = 0.454936;
 /** Measured scatter below this fraction of counting noise means the data carry no noise to measure. */
 const NOISE_FREE_SCALE = 0.05;
-/** With no width given, the SNIP clipping half-width is at least this many FWHM of the widest peak (measured on simulated 5–120 nm patterns). */
-const CLIPPING_WIDTHS_PER_FWHM = 2;
-/** Upper bound of the automatic clipping half-width, degrees 2θ. */
-const MAX_AUTO_HALF_WIDTH_DEG = 8;
+/**
+ * With no width given, the SNIP clipping half-width is at least this many FWHM of the broad peaks: the
+ * 1° default is about this many FWHM of sharp laboratory peaks, and Lorentzian tails of broad peaks
+ * (crystallites of a few nm) need as many to reach the background (measured on simulated 5–120 nm patterns).
+ */
+const CLIPPING_WIDTHS_PER_FWHM = 10;
+/** Upper bound of the automatic clipping half-width, degrees 2θ (and at most a quarter of the pattern). */
+const MAX_AUTO_HALF_WIDTH_DEG = 30;
+/** Widen the window only when the peaks ask for this factor more (and at most this many times before fitting). */
+const WIDEN_MARGIN = 1.2;
+const MAX_WIDENINGS = 3;
+/** …and search for peaks again only when it grows by more than this factor. */
+const SEARCH_AGAIN_FACTOR = 2;
+/** After the fit, search and fit again only when the fitted widths ask for this factor more. */
+const REFIT_MARGIN = 1.5;
+/** Height-weighted quantile of the peak widths that the window is sized for. */
+const BROAD_WIDTH_QUANTILE = 0.75;
+/** SNIP is clipped on block means when its window would span more points than this (speed; measured). */
+const SNIP_MAX_WINDOW_POINTS = 48;
+/** A search fit has converged when a step lowers χ² by less than this (parameters within about σ/10). */
+const CONVERGED_CHI2_CHANGE = 0.01;
 
 export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSearchResult {
   const { x, y } = pattern;
@@ -48,14 +65,69 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
 
   const windowPoints = options.smoothWindowPoints ?? defaultSmoothWindow(meanStep, n);
   const smoothed = savitzkyGolay(y, { windowPoints, polyOrder: options.smoothPolyOrder ?? Math.min(3, windowPoints - 1) });
-  const halfWidthDeg = options.backgroundHalfWidthDeg ?? DEFAULT_CLIPPING_HALF_WIDTH_DEG;
   // The background is clipped from a more strongly smoothed copy, so that it follows the noise less: a
   // moving average (order 0), whose weights are all positive, so no ringing beside sharp peaks drags it down.
   const forBackground = savitzkyGolay(y, { windowPoints: oddAtMost(BACKGROUND_SMOOTHING * windowPoints, n), polyOrder: 0 });
-  const clipped = snipBackground(x, forBackground, { clippingHalfWidthDeg: halfWidthDeg });
   const noise = options.noise ?? 'auto';
+  const automatic = options.backgroundHalfWidthDeg === undefined;
+  const widestAuto = Math.min(MAX_AUTO_HALF_WIDTH_DEG, (x[n - 1] - x[0]) / 4);
+  let halfWidthDeg = options.backgroundHalfWidthDeg ?? DEFAULT_CLIPPING_HALF_WIDTH_DEG;
+  let level = backgroundAt(pattern, smoothed, forBackground, halfWidthDeg, noise);
+  let guesses = candidates(pattern, options, smoothed, level, thresholdSigma);
+  // Broad peaks (crystallites of a few nm) would be partly clipped into a background narrower than their
+  // tails: with no width given, widen the clipping window to the peaks found (and search them again when
+  // the window grows much: shoulders the narrow one clipped away may hold more peaks).
+  for (let round = 0; automatic && round < MAX_WIDENINGS; round++) {
+    const wanted = Math.min(CLIPPING_WIDTHS_PER_FWHM * typicalBroadWidth(guesses), widestAuto);
+    if (!(wanted > WIDEN_MARGIN * halfWidthDeg)) break;
+    const searchAgain = wanted > SEARCH_AGAIN_FACTOR * halfWidthDeg;
+    halfWidthDeg = wanted;
+    level = backgroundAt(pattern, smoothed, forBackground, halfWidthDeg, noise);
+    if (!searchAgain) break;
+    guesses = candidates(pattern, options, smoothed, level, thresholdSigma);
+  }
+  const { snip, noiseSigma } = level;
+  const fit = fitPeakGroups(
+    pattern,
+    snip,
+    guesses,
+    { ...options, pruneBelowSigma: options.pruneBelowSigma ?? thresholdSigma, minFwhmDeg: options.minFwhmDeg ?? MIN_FWHM_STEPS * meanStep },
+    { thresholdSigma, noiseSigma, weightSigma: noise === 'pattern' ? undefined : smoothedSigma(smoothed, snip, noiseSigma), convergedChi2Change: CONVERGED_CHI2_CHANGE },
+  );
+  // The fitted widths are better than the search's: if they ask for a much wider window, search and fit again.
+  if (automatic) {
+    const wanted = Math.min(CLIPPING_WIDTHS_PER_FWHM * typicalBroadWidth(fit.peaks.filter((p) => !p.overlapped)), widestAuto);
+    if (wanted > REFIT_MARGIN * halfWidthDeg) return findPeaks(pattern, { ...options, backgroundHalfWidthDeg: wanted });
+  }
+  return {
+    peaks: fit.peaks,
+    background: fit.background,
+    model: fit.model,
+    wavelength: options.wavelength,
+    points: n,
+    smoothed,
+    noiseSigma,
+  };
+}
+
+interface BackgroundLevel {
+  snip: Float64Array;
+  noiseSigma: Float64Array;
+}
+
+/** Background by SNIP with the given clipping half-width (lifted to the middle of the noise), and its σ. */
+function backgroundAt(pattern: Pattern, smoothed: Float64Array, forBackground: Float64Array, halfWidthDeg: number, noise: NoiseModel): BackgroundLevel {
+  const { x } = pattern;
+  const clipped = snipBackground(x, forBackground, { clippingHalfWidthDeg: halfWidthDeg, maxWindowPoints: SNIP_MAX_WINDOW_POINTS });
   const snip = liftToNoiseMedian(x, smoothed, clipped, backgroundSigma(pattern, clipped, noise), 2 * halfWidthDeg);
-  const noiseSigma = backgroundSigma(pattern, snip, noise);
+  return { snip, noiseSigma: backgroundSigma(pattern, snip, noise) };
+}
+
+/** The local maxima of the Kα2-stripped net signal that stand clear of the background and of their surroundings. */
+function candidates(pattern: Pattern, options: PeakSearchOptions, smoothed: Float64Array, level: BackgroundLevel, thresholdSigma: number): PeakGuess[] {
+  const { x } = pattern;
+  const { snip, noiseSigma } = level;
+  const n = x.length;
   const net = new Float64Array(n);
   for (let i = 0; i < n; i++) net[i] = smoothed[i] - snip[i];
   const kAlpha1 = stripKAlpha2(x, net, options.wavelength);
@@ -80,32 +152,23 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
     if (net[maxima.indices[m]] < minHeight[maxima.indices[m]]) continue;
     guesses.push(guessAt(x, kAlpha1, maxima.indices[m], maxima.leftBases[m], maxima.rightBases[m]));
   }
+  return guesses;
+}
 
-  const fit = fitPeakGroups(
-    pattern,
-    snip,
-    guesses,
-    { ...options, pruneBelowSigma: options.pruneBelowSigma ?? thresholdSigma, minFwhmDeg: options.minFwhmDeg ?? MIN_FWHM_STEPS * meanStep },
-    { thresholdSigma, noiseSigma, weightSigma: noise === 'pattern' ? undefined : smoothedSigma(smoothed, snip, noiseSigma) },
-  );
-  // Broad peaks (crystallites of a few nm) would be partly clipped into a background narrower than
-  // they are: with no width given, search again with the clipping window widened to the widest peak.
-  if (options.backgroundHalfWidthDeg === undefined) {
-    let widest = 0;
-    for (const peak of fit.peaks) if (!peak.overlapped && peak.fwhm > widest) widest = peak.fwhm;
-    if (widest * CLIPPING_WIDTHS_PER_FWHM > halfWidthDeg) {
-      return findPeaks(pattern, { ...options, backgroundHalfWidthDeg: Math.min(widest * CLIPPING_WIDTHS_PER_FWHM, MAX_AUTO_HALF_WIDTH_DEG) });
-    }
+/**
+ * The width the background window must clear: the height-weighted upper quartile of the peaks' FWHMs
+ * (weighted, so that a few small noise bumps do not decide; an upper quantile, as widths grow with 2θ).
+ */
+function typicalBroadWidth(peaks: ReadonlyArray<{ height?: number; fwhm?: number }>): number {
+  const items = peaks.filter((p) => (p.fwhm ?? 0) > 0 && (p.height ?? 0) > 0).sort((p, q) => (p.fwhm as number) - (q.fwhm as number));
+  let total = 0;
+  for (const p of items) total += p.height as number;
+  let sum = 0;
+  for (const p of items) {
+    sum += p.height as number;
+    if (sum >= BROAD_WIDTH_QUANTILE * total) return p.fwhm as number;
   }
-  return {
-    peaks: fit.peaks,
-    background: fit.background,
-    model: fit.model,
-    wavelength: options.wavelength,
-    points: n,
-    smoothed,
-    noiseSigma,
-  };
+  return 0;
 }
 
 function oddAtMost(points: number, n: number): number {

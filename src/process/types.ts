@@ -79,7 +79,7 @@ export interface PeakSearchOptions extends PeakFitOptions {
   smoothWindowPoints?: number;
   /** Savitzky–Golay polynomial degree (default 3). */
   smoothPolyOrder?: number;
-  /** SNIP largest clipping half-width, degrees 2θ (default 1.0, widened to 2 FWHM of the widest fitted peak when peaks are broader). */
+  /** SNIP largest clipping half-width, degrees 2θ (default 1.0, widened automatically to 10 FWHM of the broad peaks found, at most 30° or a quarter of the pattern). */
   backgroundHalfWidthDeg?: number;
   /** A peak must stand this many σ above the background (default 3). */
   thresholdSigma?: number;

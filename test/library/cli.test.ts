@@ -83,7 +83,7 @@ describe('crystallog library (command functions)', () => {
     expect(restoreCommand('silicon', { library, version: '1' })).toMatchObject({ version: 3, restoredFrom: 1 });
     expect(listCommand({ library }).references.find((r) => r.name === 'silicon')!.rir).toBeNull();
     expect(() => restoreCommand('silicon', { library, version: 'two' })).toThrow(/give a version number/);
-    expect(() => listCommand({ library: join(dir, 'nowhere.sqlite') })).toThrow(/there is no library here/);
+    expect(() => listCommand({ library: join(dir, 'nowhere.sqlite') })).toThrow(/nowhere.sqlite does not exist/);
   });
 });
 

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { fitPeaksAt } from '../../src/process/fit.js';
+import { fitPeakGroups, fitPeaksAt } from '../../src/process/fit.js';
+import { pseudoVoigtIntegralBreadth } from '../../src/process/profiles.js';
 import { anodeWavelength, singleWavelength } from '../../src/pattern/wavelengths.js';
 import { simulatePattern } from '../../src/crystal/simulate.js';
 import { golden } from './golden.js';
@@ -85,5 +86,41 @@ describe('profile fitting', () => {
     expect(peaks[1].twoTheta).toBeCloseTo(31.48, 4);
     expect(peaks[1].height).toBeCloseTo(1500, 0);
     expect(peaks.every((p) => p.overlapped)).toBe(true);
+  });
+
+  it('reports area and integral breadth that match the fitted model integrated numerically', () => {
+    const wavelength = singleWavelength(1.5405929);
+    const tt = 2 * Math.asin(wavelength.lambda1 / 4) * (180 / Math.PI);
+    // A narrow peak on a wide, fine grid: the fitted model's tails are inside the pattern to 0.2 % of the area.
+    const pattern = simulatePattern({
+      phases: [{ lines: [{ d: 2.0, intensity: 100 }], scale: 1, sizeNm: 60 }],
+      wavelength,
+      twoThetaMinDeg: tt - 25,
+      twoThetaMaxDeg: tt + 25,
+      stepDeg: 0.002,
+      peakCounts: 10000,
+      background: () => 50,
+    });
+    const background = new Float64Array(pattern.x.length).fill(50);
+    for (const profile of ['pseudo-voigt', 'tch'] as const) {
+      for (const asymmetry of [false, true]) {
+        const fit = fitPeakGroups(pattern, background, [tt + 0.01], { wavelength, profile, asymmetry, windowFwhm: 1000 });
+        const [peak] = fit.peaks;
+        // The model above the refined background (the given one plus the fit's straight-line correction).
+        const net = fit.model.map((m, i) => m - fit.background[i]);
+        let area = 0;
+        let top = 0;
+        for (let i = 0; i < net.length; i++) {
+          top = Math.max(top, net[i]);
+          if (i > 0) area += 0.5 * (net[i] + net[i - 1]) * (pattern.x[i] - pattern.x[i - 1]);
+        }
+        expect(Math.abs(peak.area / area - 1)).toBeLessThan(3e-3);
+        expect(Math.abs(top / peak.height - 1)).toBeLessThan(1e-3);
+        expect(Math.abs(peak.integralBreadth / (area / top) - 1)).toBeLessThan(3e-3);
+        // Unit-area pseudo-Voigt mix: β = 1 / (η·2/(πΓ) + (1 − η)·2√(ln2/π)/Γ) (common practice).
+        expect(peak.integralBreadth).toBeCloseTo(pseudoVoigtIntegralBreadth(peak.fwhm, peak.eta), 12);
+        expect(peak.area).toBeCloseTo(peak.height * peak.integralBreadth, 9);
+      }
+    }
   });
 });

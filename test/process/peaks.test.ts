@@ -124,6 +124,45 @@ describe('noise and weak peaks (3σ above background, σ = √background counts)
   });
 });
 
+describe('noise-free patterns', () => {
+  it('reports exactly one peak per line, none beside the strong lines', () => {
+    const positions = [18.3, 24.1, 29.7, 31.2, 35.9, 43.5, 47.0, 52.8, 57.4, 63.0, 66.1, 74.7];
+    const intensities = [100, 35, 80, 20, 60, 15, 45, 30, 12, 25, 8, 18];
+    const lines = positions.map((tt, i) => ({ d: dFromTwoTheta(tt, CU.lambda1), intensity: intensities[i] }));
+    for (const [peakCounts, sizeNm, stepDeg, flat] of [
+      [1e6, 20, 0.005, false],
+      [1e5, 60, 0.02, true],
+      [2e4, 80, 0.01, false],
+    ] as const) {
+      const pattern = simulatePattern({
+        phases: [{ lines, scale: 1, sizeNm }],
+        wavelength: CU,
+        twoThetaMinDeg: 10,
+        twoThetaMaxDeg: 80,
+        stepDeg,
+        peakCounts,
+        background: flat ? () => 0 : undefined,
+      });
+      const peaks = findPeaks(pattern, { wavelength: CU }).peaks;
+      expect(peaks).toHaveLength(positions.length);
+      for (const tt of positions) expect(Math.abs(nearest(peaks, tt).twoTheta - tt)).toBeLessThan(0.01);
+    }
+  });
+
+  it('fits broad, overlapping Lorentzian peaks (5 nm crystallites) with their widths, not a background that ate their tails', () => {
+    const positions = [21.1, 30.1, 37.0, 43.0, 48.4, 53.4, 62.5];
+    const lines = positions.map((tt, i) => ({ d: dFromTwoTheta(tt, CU.lambda1), intensity: [100, 60, 30, 45, 20, 25, 15][i] }));
+    const pattern = simulatePattern({ phases: [{ lines, scale: 1, sizeNm: 5 }], wavelength: CU, twoThetaMinDeg: 10, twoThetaMaxDeg: 80, stepDeg: 0.02, peakCounts: 10000 });
+    const peaks = findPeaks(pattern, { wavelength: CU }).peaks;
+    expect(peaks).toHaveLength(positions.length);
+    for (const tt of positions.slice(0, 4)) {
+      // Scherrer width 0.9λ/(L cosθ) (Scherrer 1918) dominates the simulated instrument's 0.05°.
+      const sizeWidth = (0.9 * CU.lambda1) / (50 * Math.cos((tt / 2) * (Math.PI / 180))) / (Math.PI / 180);
+      expect(Math.abs(nearest(peaks, tt).fwhm / sizeWidth - 1)).toBeLessThan(0.05);
+    }
+  });
+});
+
 describe('bad input', () => {
   it('names the file when 2θ does not increase', () => {
     const p = patternOf([10, 10.01, 10.02, 10.02, 10.04, 10.05, 10.06, 10.07, 10.08, 10.09, 10.1], new Array(11).fill(5));

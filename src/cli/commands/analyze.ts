@@ -3,12 +3,11 @@ import { existsSync, readFileSync } from 'node:fs';
 import { analyzeFiles, defaultWorkerCount, type BatchFileOutcome } from '../../app/batch.js';
 import type { AnalysisResult, AnalysisSettings } from '../../app/pipeline.js';
 import { InputError } from '../../errors.js';
-import type { StoredReference } from '../../library/reference.js';
-import { ReferenceLibrary } from '../../library/store.js';
 import { parseWavelength } from '../../pattern/wavelengths.js';
 import { parseInstrumentProfile, type InstrumentProfile } from '../../size/instrument.js';
 import { resolveScherrerK } from '../../size/scherrer.js';
 import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../../size/voigt.js';
+import { loadAllReferences } from '../io.js';
 import { numberOption, runCommand } from '../run-command.js';
 
 export interface AnalyzeCommandOptions {
@@ -83,7 +82,7 @@ export async function analyzeCommand(files: string[], o: AnalyzeCommandOptions, 
   if (allFiles.length === 0) throw new InputError('no pattern files given; name them after "analyze" or list them with --files-from');
   const settings = settingsFromOptions(o);
   const workers = numberOption('--workers', o.workers, (v) => Number.isInteger(v) && v >= 1 && v <= 256, 'give a whole number of worker threads, 1 or more');
-  const references = loadReferences(o.library);
+  const references = loadAllReferences(o.library);
   const instrument = o.instrument ? loadInstrument(o.instrument) : null;
 
   const progress = io.progress ? progressBar(allFiles.length, io.stderr) : null;
@@ -131,18 +130,6 @@ function oneOf<T extends BreadthKind | CorrectionKind>(option: string, value: st
   const found = allowed.find((a) => a === value.trim().toLowerCase());
   if (!found) throw new InputError(`option ${option} ${value}: give one of ${allowed.join(', ')}`);
   return found;
-}
-
-function loadReferences(path: string): StoredReference[] {
-  if (!existsSync(path)) throw new InputError(`library file ${path} does not exist; create it with: crystallog library import FILE --library ${path}`);
-  const library = ReferenceLibrary.open(path);
-  try {
-    const references = library.all();
-    if (references.length === 0) throw new InputError(`the library ${path} holds no references; add some with: crystallog library import FILE --library ${path}`);
-    return references;
-  } finally {
-    library.close();
-  }
 }
 
 function loadInstrument(path: string): InstrumentProfile {

@@ -1,11 +1,11 @@
 import type { Command } from 'commander';
-import { existsSync, readFileSync, writeFileSync } from 'node:fs';
+import { existsSync, readFileSync } from 'node:fs';
 import { InputError } from '../../errors.js';
 import { ReferenceLibrary } from '../../library/store.js';
 import { readPatternFile } from '../../pattern/read.js';
-import { anodeWavelength, parseWavelength } from '../../pattern/wavelengths.js';
 import { findPeaks } from '../../process/peaks.js';
 import { fitInstrumentProfile, instrumentProfileToJson, parseInstrumentProfile, type InstrumentProfile } from '../../size/instrument.js';
+import { chooseWavelength, withLibrary, writeFileAtomically } from '../io.js';
 import { numberOption, runCommand } from '../run-command.js';
 
 interface InstrumentCommandOptions {
@@ -48,11 +48,9 @@ export function registerInstrument(program: Command): void {
 export function instrumentCommand(file: string, o: InstrumentCommandOptions): InstrumentCommandResult {
   const toleranceDeg = numberOption('--tolerance', o.tolerance, (v) => v > 0 && v <= 1, 'give the tolerance in degrees 2θ, above 0 and at most 1');
   if (o.date !== undefined && Number.isNaN(Date.parse(o.date))) throw new InputError(`option --date ${o.date}: give a date such as 2025-03-14`);
-  if (!existsSync(o.library)) throw new InputError(`library file ${o.library} does not exist; create it with: crystallog library import FILE --library ${o.library}`);
   const pattern = readPatternFile(file);
-  const wavelength = o.wavelength ? parseWavelength(o.wavelength) : (pattern.wavelength ?? anodeWavelength('Cu'));
-  const library = ReferenceLibrary.open(o.library);
-  try {
+  const wavelength = chooseWavelength(o.wavelength, pattern);
+  return withLibrary(o.library, (library) => {
     const standard = library.get(o.standard);
     if (!standard) throw new InputError(`the standard "${o.standard}" is not in the library ${o.library}; import it first`);
     const search = findPeaks(pattern, { wavelength });
@@ -65,14 +63,12 @@ export function instrumentCommand(file: string, o: InstrumentCommandOptions): In
       standardFile: { file, sha256: pattern.source.sha256 },
       standardVersion: standard.version,
     });
-    writeFileSync(o.out, instrumentProfileToJson(profile));
+    writeFileAtomically(o.out, instrumentProfileToJson(profile));
     const libraryKey = LIBRARY_KEY_PREFIX + profile.name;
     library.setMeta(libraryKey, JSON.stringify(profile));
     for (const w of profile.warnings) process.stderr.write(`crystallog: warning: ${w}\n`);
     return { ...profile, file, out: o.out, libraryKey };
-  } finally {
-    library.close();
-  }
+  });
 }
 
 /**

@@ -1,12 +1,12 @@
 import type { Command } from 'commander';
-import { existsSync, renameSync, rmSync, writeFileSync } from 'node:fs';
 import { InputError } from '../../errors.js';
 import { readReferenceFile } from '../../library/import-files.js';
 import { formatReferenceJson } from '../../library/json-format.js';
 import type { Reference } from '../../library/reference.js';
 import { ensureSeeded } from '../../library/seed.js';
-import { ReferenceLibrary, type ImportSummary, type ReferenceVersionInfo } from '../../library/store.js';
+import { type ImportSummary, type ReferenceVersionInfo } from '../../library/store.js';
 import { parseWavelength } from '../../pattern/wavelengths.js';
+import { withLibrary, writeFileAtomically } from '../io.js';
 import { runCommand } from '../run-command.js';
 
 /** `crystallog library ...`: import, list, export, remove, history, restore, seed. */
@@ -135,10 +135,14 @@ export function importCommand(files: string[], o: ImportOptions): ImportResult {
       from.set(ref.name.toLowerCase(), file);
     }
   }
-  return withLibrary(o.library, true, (lib) => {
-    const summary = lib.importReferences(all, { change: `import from ${files.length === 1 ? files[0] : `${files.length} files`}` });
-    return { library: o.library, files: read.map(({ file, refs }) => ({ file, references: refs.map((r) => r.name) })), ...summary };
-  });
+  return withLibrary(
+    o.library,
+    (lib) => {
+      const summary = lib.importReferences(all, { change: `import from ${files.length === 1 ? files[0] : `${files.length} files`}` });
+      return { library: o.library, files: read.map(({ file, refs }) => ({ file, references: refs.map((r) => r.name) })), ...summary };
+    },
+    true,
+  );
 }
 
 function importText(r: ImportResult): string {
@@ -160,7 +164,7 @@ export interface ListedReference {
 }
 
 export function listCommand(o: ListOptions): { library: string; count: number; references: ListedReference[] } {
-  return withLibrary(o.library, false, (lib) => {
+  return withLibrary(o.library, (lib) => {
     const filter = { ...(o.search !== undefined ? { search: o.search } : {}), ...(o.tag !== undefined ? { tag: o.tag } : {}) };
     const references = lib.list(filter).map((r) => ({
       id: r.id,
@@ -186,7 +190,7 @@ function listText(r: { count: number; references: ListedReference[] }): string {
 
 /** The export text; with --out it is written to a temporary file beside the target and renamed over it. */
 export function exportCommand(o: ExportOptions): { out: string | null; count: number; text: string } {
-  const { text, count } = withLibrary(o.library, false, (lib) => {
+  const { text, count } = withLibrary(o.library, (lib) => {
     const refs = lib.exportReferences();
     return { text: formatReferenceJson(refs), count: refs.length };
   });
@@ -195,19 +199,8 @@ export function exportCommand(o: ExportOptions): { out: string | null; count: nu
   return { out: o.out, count, text: '' };
 }
 
-export function writeFileAtomically(path: string, text: string): void {
-  const temporary = `${path}.${process.pid}.tmp`;
-  try {
-    writeFileSync(temporary, text, { flush: true });
-    renameSync(temporary, path);
-  } catch (err) {
-    rmSync(temporary, { force: true });
-    throw new InputError(`cannot write the export (${(err as { code?: string }).code ?? String(err)})`, { file: path });
-  }
-}
-
 export function removeCommand(name: string, o: LibraryOption): { library: string; removed: string; version: number } {
-  return withLibrary(o.library, false, (lib) => {
+  return withLibrary(o.library, (lib) => {
     const current = lib.get(name);
     if (!current) throw new InputError(`there is no reference named "${name}" in the library`, { file: o.library });
     lib.remove(name);
@@ -216,7 +209,7 @@ export function removeCommand(name: string, o: LibraryOption): { library: string
 }
 
 export function historyCommand(name: string, o: LibraryOption): { library: string; name: string; versions: ReferenceVersionInfo[] } {
-  return withLibrary(o.library, false, (lib) => {
+  return withLibrary(o.library, (lib) => {
     const versions = lib.history(name);
     return { library: o.library, name: versions[versions.length - 1]!.name, versions };
   });
@@ -232,24 +225,13 @@ function historyText(r: { name: string; versions: ReferenceVersionInfo[] }): str
 export function restoreCommand(name: string, o: LibraryOption & { version: string }): { library: string; name: string; version: number; restoredFrom: number } {
   const version = Number(o.version);
   if (!Number.isInteger(version) || version < 1) throw new InputError(`option --version ${o.version}: give a version number (1, 2, ...)`);
-  return withLibrary(o.library, false, (lib) => {
+  return withLibrary(o.library, (lib) => {
     const restored = lib.restore(name, version);
     return { library: o.library, name: restored.name, version: restored.version, restoredFrom: version };
   });
 }
 
 export function seedCommand(o: LibraryOption): { library: string; added: string[]; alreadySeeded: boolean } {
-  return withLibrary(o.library, true, (lib) => ({ library: o.library, ...ensureSeeded(lib) }));
+  return withLibrary(o.library, (lib) => ({ library: o.library, ...ensureSeeded(lib) }), true);
 }
 
-function withLibrary<T>(path: string, create: boolean, work: (lib: ReferenceLibrary) => T): T {
-  if (!create && !existsSync(path)) {
-    throw new InputError('there is no library here; create it with "crystallog library import FILE --library DB"', { file: path });
-  }
-  const lib = ReferenceLibrary.open(path);
-  try {
-    return work(lib);
-  } finally {
-    lib.close();
-  }
-}

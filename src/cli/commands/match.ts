@@ -1,12 +1,9 @@
 import type { Command } from 'commander';
-import { existsSync } from 'node:fs';
-import { InputError } from '../../errors.js';
-import { ReferenceLibrary } from '../../library/store.js';
 import { matchPhases } from '../../match/match.js';
 import type { MatchResult } from '../../match/types.js';
 import { readPatternFile } from '../../pattern/read.js';
-import { anodeWavelength, parseWavelength, type Wavelength } from '../../pattern/wavelengths.js';
 import { findPeaks } from '../../process/peaks.js';
+import { chooseWavelength, loadAllReferences } from '../io.js';
 import { numberOption, runCommand } from '../run-command.js';
 
 interface MatchCommandOptions {
@@ -40,17 +37,9 @@ export function registerMatch(program: Command): void {
 
 export function matchCommand(file: string, o: MatchCommandOptions): MatchCommandResult {
   const toleranceDeg = numberOption('--tolerance', o.tolerance, (v) => v > 0 && v <= 2, 'give the tolerance in degrees 2θ, above 0 and at most 2 (typical 0.05–0.2)');
-  if (!existsSync(o.library)) throw new InputError(`library file ${o.library} does not exist; create it with: crystallog library import FILE --library ${o.library}`);
+  const references = loadAllReferences(o.library);
   const pattern = readPatternFile(file);
-  const wavelength: Wavelength = o.wavelength ? parseWavelength(o.wavelength) : (pattern.wavelength ?? anodeWavelength('Cu'));
-  const library = ReferenceLibrary.open(o.library);
-  let references;
-  try {
-    references = library.all();
-  } finally {
-    library.close();
-  }
-  if (references.length === 0) throw new InputError(`the library ${o.library} holds no references; add some with: crystallog library import FILE --library ${o.library}`);
+  const wavelength = chooseWavelength(o.wavelength, pattern);
   const search = findPeaks(pattern, { wavelength });
   const result = matchPhases(search.peaks, references, {
     wavelength,

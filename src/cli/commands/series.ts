@@ -1,12 +1,11 @@
 import type { Command } from 'commander';
-import { existsSync } from 'node:fs';
 import { analyzePattern, createAnalysisContext } from '../../app/pipeline.js';
 import { InputError } from '../../errors.js';
-import { ReferenceLibrary } from '../../library/store.js';
 import { readPatternFile } from '../../pattern/read.js';
 import { parseWavelength } from '../../pattern/wavelengths.js';
 import { seriesSamplesFromAnalyses } from '../../series/from-analysis.js';
 import { analyzeSeries, type SeriesResult } from '../../series/series.js';
+import { loadAllReferences } from '../io.js';
 import { numberOption, runCommand } from '../run-command.js';
 import { loadInstrumentProfile } from './instrument.js';
 import { parseBreadth, parseCorrection } from './size.js';
@@ -67,15 +66,8 @@ export function seriesCommand(files: string[], o: SeriesCommandOptions): SeriesC
     if (h === '' || !Number.isFinite(value) || value < 0) throw new InputError(`option --hours: entry ${i + 1} "${h}" is not a time in hours`);
     return value;
   });
-  if (!existsSync(o.library)) throw new InputError(`library file ${o.library} does not exist; create it with: crystallog library import FILE --library ${o.library}`);
+  const references = loadAllReferences(o.library);
   const instrument = o.instrument !== undefined ? loadInstrumentProfile(o.instrument, o.library) : null;
-  const library = ReferenceLibrary.open(o.library);
-  let references;
-  try {
-    references = library.all();
-  } finally {
-    library.close();
-  }
   const context = createAnalysisContext(references, instrument, {
     target: o.target,
     ...(o.wavelength ? { wavelength: parseWavelength(o.wavelength) } : {}),

@@ -1,12 +1,10 @@
 import type { Command } from 'commander';
-import { existsSync } from 'node:fs';
 import { InputError } from '../../errors.js';
-import { ReferenceLibrary } from '../../library/store.js';
 import { readPatternFile } from '../../pattern/read.js';
-import { anodeWavelength, parseWavelength } from '../../pattern/wavelengths.js';
 import { findPeaks } from '../../process/peaks.js';
 import { crystalliteSizes, type SizeResult } from '../../size/sizes.js';
 import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../../size/voigt.js';
+import { chooseWavelength, withLibrary } from '../io.js';
 import { numberOption, runCommand } from '../run-command.js';
 import { loadInstrumentProfile } from './instrument.js';
 
@@ -66,17 +64,11 @@ export function sizeCommand(file: string, o: SizeCommandOptions): SizeCommandRes
   const instrument = o.instrument !== undefined ? loadInstrumentProfile(o.instrument, o.library) : null;
   let phase = null;
   if (o.phase !== undefined && o.library !== undefined) {
-    if (!existsSync(o.library)) throw new InputError(`library file ${o.library} does not exist`);
-    const library = ReferenceLibrary.open(o.library);
-    try {
-      phase = library.get(o.phase);
-    } finally {
-      library.close();
-    }
+    phase = withLibrary(o.library, (library) => library.get(o.phase!));
     if (!phase) throw new InputError(`the phase "${o.phase}" is not in the library ${o.library}; check the name with "crystallog library list"`);
   }
   const pattern = readPatternFile(file);
-  const wavelength = o.wavelength ? parseWavelength(o.wavelength) : (pattern.wavelength ?? anodeWavelength('Cu'));
+  const wavelength = chooseWavelength(o.wavelength, pattern);
   const search = findPeaks(pattern, { wavelength });
   const result = crystalliteSizes(search.peaks, {
     wavelength,
