@@ -2,8 +2,8 @@ import { InputError } from '../errors.js';
 import type { StoredReference } from '../library/reference.js';
 import type { FittedPeak } from '../process/types.js';
 import { dFromTwoTheta } from '../pattern/units.js';
-import { buildPeakTable, type PeakTable } from './peak-table.js';
-import { chungWeightFractions } from './quantify.js';
+import { buildPeakTable, nearestPeak, type PeakTable } from './peak-table.js';
+import { chungWeightFractions, fitPhaseScales, type GroupIntensities } from './quantify.js';
 import { buildReferenceIndex, rangeTotals, screenReferences } from './reference-index.js';
 import { evaluatePhase, phaseLines, type Claims, type PhaseEvaluation, type PhaseLines } from './score.js';
 import { refineShift, type ShiftBounds } from './shift.js';
@@ -124,17 +124,22 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   others.sort((a, b) => b.evaluation.score - a.evaluation.score);
   const listed = others.filter((o, i) => i < listAbsent || o.ref === targetIndex);
 
-  const scales = exclusiveScales(accepted.map((a) => a.evaluation), table);
+  // Scales fitted jointly to the peak areas (shared peaks split between the phases); a phase the fit gives nothing keeps its own peaks' scale.
+  const gi = groupIntensities(accepted.map((a) => a.evaluation), table);
+  const joint = fitPhaseScales(gi);
+  if (process.env.QDEBUG) { console.log('names', accepted.map((a) => refs[a.ref].name).join(','), 'scales', Array.from(joint).map((v) => v.toFixed(3)).join(',')); gi.areas.forEach((a, g) => { let m = 0; gi.matched.forEach((c, i) => (m += joint[i] * c[g])); let h = 0; gi.unmatched.forEach((c, i) => (h += joint[i] * c[g])); console.log('G', g, 'area', a.toFixed(0), 'model', m.toFixed(0), 'hidden', h.toFixed(0), gi.matched.map((c) => c[g].toFixed(0)).join(','), ''); }); }
+  const scales = accepted.map((a, i) => (joint[i] > 0 ? joint[i] : a.evaluation.scale));
+  const exclusive = exclusiveAreaShares(linesOnPeaks(accepted.map((a) => a.evaluation), table), table);
   const fractions = chungWeightFractions(accepted.map((a, i) => ({ scale: scales[i], rir: refs[a.ref].rir })));
   const unquantified = accepted.filter((_, i) => fractions[i] === null).map((a) => refs[a.ref].name);
   const phases: PhaseMatch[] = [];
   accepted.forEach((a, i) => {
     const verdict = acceptedVerdict(a.evaluation);
-    phases.push({ ...describePhase(a.evaluation, verdict, claims, accepted, table, fractions[i], unquantified, null), scale: scales[i] });
+    phases.push({ ...describePhase(a.evaluation, verdict, claims, accepted, table, fractions[i], unquantified, null, exclusive[i]), scale: scales[i] });
   });
   for (const o of listed) {
     const { verdict, rival } = notNeededVerdict(o.evaluation, firstEvaluation.get(o.ref), claims, accepted);
-    phases.push(describePhase(o.evaluation, verdict, claims, accepted, table, null, unquantified, rival));
+    phases.push(describePhase(o.evaluation, verdict, claims, accepted, table, null, unquantified, rival, 0));
   }
   phases.sort((a, b) => b.score - a.score);
 
@@ -222,32 +227,100 @@ function choosePhase(
   return eligible[0];
 }
 
+/** Shifted Kα1 position of line j under the evaluation's shift, degrees 2θ. */
+function shiftedTwoTheta(evaluation: PhaseEvaluation, j: number): number {
+  const { lines, shift } = evaluation;
+  return lines.twoTheta[j] + shift.zeroDeg + shift.displacementCosDeg * lines.cosTheta[j];
+}
+
 /**
- * Each present phase's scale from the peaks no other present phase has a line on (overlaps carry
- * the other phases' intensity); the scale of its own evaluation where it has no such peak.
+ * Per present phase and measured peak, the summed reference intensity of the phase's lines on the
+ * peak: its matched lines, and lines within the peak's breadth that were not resolved from it
+ * (hidden under it), since their intensity is part of the measured area too.
  */
-function exclusiveScales(evaluations: PhaseEvaluation[], table: PeakTable): number[] {
-  const owners = new Int32Array(table.count);
-  for (const evaluation of evaluations) {
-    const seen = new Set<number>();
-    for (const k of evaluation.peakOf) if (k >= 0 && !seen.has(k)) {
-      seen.add(k);
-      owners[k]++;
-    }
-  }
+function linesOnPeaks(evaluations: readonly PhaseEvaluation[], table: PeakTable): Float64Array[] {
   return evaluations.map((evaluation) => {
-    const groups = new Map<number, number>();
+    const g = new Float64Array(table.count);
     for (let j = 0; j < evaluation.lines.count; j++) {
+      let k = evaluation.peakOf[j];
+      if (k < 0) {
+        const tt = shiftedTwoTheta(evaluation, j);
+        k = nearestPeak(table, tt);
+        if (k < 0 || Math.abs(tt - table.twoTheta[k]) > Math.max(table.window[k], table.breadth[k])) continue;
+      }
+      g[k] += evaluation.lines.intensity[j];
+    }
+    return g;
+  });
+}
+
+/** Unmatched lines within this many integral breadths of a fitted group's peaks are part of its area. */
+const INSIDE_BREADTHS = 1;
+/** Unmatched lines a little further out (up to this many breadths) may or may not be part of it. */
+const NEAR_BREADTHS = 2.5;
+
+/**
+ * The measured areas and each phase's reference intensity per group of peaks fitted together (the
+ * fit's split of an overlapped group between its peaks is arbitrary; their sum is not). A phase's
+ * intensity in a group is that of its matched lines plus its unmatched lines within a breadth of the
+ * group's peaks (not resolved from them, so in the measured area); unmatched lines a little further
+ * out are listed apart (their share of the area is unknown). Peaks no present phase matches are
+ * left out of the areas.
+ */
+function groupIntensities(evaluations: readonly PhaseEvaluation[], table: PeakTable): GroupIntensities {
+  // Neighbouring peaks of one fitted group, split where they lie clearly apart (a peak list from elsewhere may put all in one group).
+  const groupOf = new Int32Array(table.count);
+  let groups = 0;
+  for (let k = 0; k < table.count; k++) {
+    const apart =
+      k === 0 ||
+      table.peaks[k].group !== table.peaks[k - 1].group ||
+      table.twoTheta[k] - table.twoTheta[k - 1] > NEAR_BREADTHS * Math.max(table.breadth[k], table.breadth[k - 1]);
+    if (apart) groups++;
+    groupOf[k] = groups - 1;
+  }
+  const areas = new Float64Array(groups);
+  const matchedPeak = new Uint8Array(table.count);
+  const reach = (tt: number, breadths: number, g: number): boolean => {
+    const k = nearestPeak(table, tt);
+    for (let q = Math.max(0, k - 2); q <= Math.min(table.count - 1, k + 2); q++) {
+      if (groupOf[q] === g && Math.abs(tt - table.twoTheta[q]) <= breadths * table.breadth[q]) return true;
+    }
+    return false;
+  };
+  const matched: Float64Array[] = [];
+  const uncertain: Float64Array[] = [];
+  for (const evaluation of evaluations) {
+    const m = new Float64Array(groups);
+    const u = new Float64Array(groups);
+    for (let j = 0; j < evaluation.lines.count; j++) {
+      const intensity = evaluation.lines.intensity[j];
       const k = evaluation.peakOf[j];
-      if (k >= 0 && owners[k] === 1) groups.set(k, (groups.get(k) ?? 0) + evaluation.lines.intensity[j]);
+      if (k >= 0) {
+        m[groupOf[k]] += intensity;
+        matchedPeak[k] = 1;
+        continue;
+      }
+      const tt = shiftedTwoTheta(evaluation, j);
+      const nearest = nearestPeak(table, tt);
+      if (nearest < 0) continue;
+      const g = groupOf[nearest];
+      if (reach(tt, INSIDE_BREADTHS, g)) m[g] += intensity;
+      else if (reach(tt, NEAR_BREADTHS, g)) u[g] += intensity;
     }
-    let logSum = 0;
-    let weight = 0;
-    for (const [k, g] of groups) {
-      logSum += g * Math.log(table.area[k] / g);
-      weight += g;
-    }
-    return weight > 0 ? Math.exp(logSum / weight) : evaluation.scale;
+    matched.push(m);
+    uncertain.push(u);
+  }
+  for (let k = 0; k < table.count; k++) if (matchedPeak[k]) areas[groupOf[k]] += table.area[k];
+  return { areas, matched, unmatched: uncertain };
+}
+
+/** Share of the measured peak area on peaks only this phase (of the present ones) has lines on. */
+function exclusiveAreaShares(contributions: readonly Float64Array[], table: PeakTable): number[] {
+  return contributions.map((mine) => {
+    let area = 0;
+    for (let k = 0; k < table.count; k++) if (mine[k] > 0 && contributions.every((other) => other === mine || other[k] === 0)) area += table.area[k];
+    return table.totalArea > 0 ? area / table.totalArea : 0;
   });
 }
 
@@ -345,6 +418,7 @@ function describePhase(
   weightFraction: number | null,
   unquantified: string[],
   rival: PhaseEvaluation | null,
+  exclusiveAreaShare: number,
 ): PhaseMatch {
   const { lines, parts } = evaluation;
   const reference = lines.reference;
@@ -389,7 +463,11 @@ function describePhase(
   if (lines.intensitiesKnown && evaluation.matchedCount > 0) {
     reasons.push(`measured relative intensities differ from the reference by a factor ${fmt(evaluation.meanIntensityFactor, 2)} on average (up to about 3 is tolerated as preferred orientation)`);
   } else if (!lines.intensitiesKnown) reasons.push('the reference gives no intensities: judged on positions only');
-  reasons.push(`explains ${pct(table.totalArea > 0 ? explainedArea / table.totalArea : 0)} of the measured peak area` + (evaluation.sharedPeaks > 0 ? `; ${evaluation.sharedPeaks} peak(s) shared with a phase accepted before it, counted once` : ''));
+  reasons.push(
+    `its lines fall on ${pct(table.totalArea > 0 ? explainedArea / table.totalArea : 0)} of the measured peak area` +
+      (evaluation.sharedPeaks > 0 ? `; ${evaluation.sharedPeaks} peak(s) shared with a phase accepted before it, counted once` : '') +
+      (number >= 0 ? `; ${pct(exclusiveAreaShare)} is on peaks no other present phase has lines on` : ''),
+  );
 
   const required = requiredLines(evaluation);
   if (verdict === 'confirmed') reasons.push(`confirmed: score ${fmt(evaluation.score, 2)} ≥ ${CONFIRMED_SCORE} with ${evaluation.clearMatchedCount} lines on clear peaks`);
@@ -439,6 +517,8 @@ function describePhase(
     },
     scale: evaluation.scale,
     explainedAreaShare: round(table.totalArea > 0 ? explainedArea / table.totalArea : 0, 4),
+    exclusiveAreaShare: round(exclusiveAreaShare, 4),
+    inExplanation: number >= 0,
     shift: { zeroDeg: round(evaluation.shift.zeroDeg, 5), displacementCosDeg: round(evaluation.shift.displacementCosDeg, 5) },
     meanResidualDeg: round(evaluation.meanResidualDeg, 5),
     lines: matched,

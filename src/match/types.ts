@@ -84,8 +84,15 @@ export interface PhaseMatch {
   parts: ScoreParts;
   /** Measured integrated intensity per unit of reference intensity (counts·degrees per 1 % line). */
   scale: number;
-  /** Share of the measured peak area this phase explains on its own, 0–1. */
+  /** Share of the measured peak area on the peaks this phase's lines match, 0–1 (peaks shared with other phases included). */
   explainedAreaShare: number;
+  /**
+   * Share of the measured peak area on peaks that only this phase, of the phases taken into the
+   * explanation, has lines on (matched or hidden under the peak), 0–1; 0 for a phase not taken in.
+   */
+  exclusiveAreaShare?: number;
+  /** True when the phase was taken into the explanation of the pattern (a phase only listed is not needed to explain it). */
+  inExplanation?: boolean;
   /** The shift this phase was judged with (each phase refines its own within the bounds; the pattern's is the first phase's). */
   shift: MatchShift;
   /** Mean |Δ2θ| of the matched lines after the shift, degrees. */

@@ -2,6 +2,7 @@
  * Turn whole-pattern analyses (peaks → match → sizes) into the samples of a series.
  */
 import type { AnalysisResult } from '../app/pipeline.js';
+import type { PhaseMatch } from '../match/types.js';
 import { InputError } from '../errors.js';
 import { exposureHoursFromLabel, type SeriesPhaseShare, type SeriesSample } from './series.js';
 
@@ -27,23 +28,25 @@ export function seriesSamplesFromAnalyses(results: readonly AnalysisResult[], la
   const hours = labelling.exposureHours ?? (fromLabels.every((h) => h !== null) ? (fromLabels as number[]) : null);
   const target = labelling.target?.toLowerCase() ?? null;
 
-  // A phase's share is its weight fraction where every sample quantifies it, else its share of the peak area.
-  const quantifiedEverywhere = new Map<string, boolean>();
+  // A phase is measured by Chung weight fractions when it is quantified wherever it explains peaks;
+  // else by the peak area only it explains. A sample where the phase is not needed for the explanation
+  // gives it no share (not detected), whatever the basis.
+  const weighedEverywhere = new Map<string, boolean>();
   for (const r of results) {
     for (const p of r.match.phases) {
-      if (p.verdict === 'absent' || p.name.toLowerCase() === target) continue;
-      quantifiedEverywhere.set(p.name, (quantifiedEverywhere.get(p.name) ?? true) && p.weightFraction !== null);
+      if (!explains(p) || p.name.toLowerCase() === target) continue;
+      weighedEverywhere.set(p.name, (weighedEverywhere.get(p.name) ?? true) && p.weightFraction !== null);
     }
   }
 
   return results.map((r, i) => {
     const targetMatch = target === null ? null : r.match.phases.find((p) => p.name.toLowerCase() === target);
     const otherPhases: SeriesPhaseShare[] = r.match.phases
-      .filter((p) => p.verdict !== 'absent' && p.name.toLowerCase() !== target)
+      .filter((p) => explains(p) && p.name.toLowerCase() !== target)
       .map((p) =>
-        quantifiedEverywhere.get(p.name) && p.weightFraction !== null
+        weighedEverywhere.get(p.name) && p.weightFraction !== null
           ? { name: p.name, share: p.weightFraction, basis: 'weight fraction' as const }
-          : { name: p.name, share: p.explainedAreaShare, basis: 'peak area share' as const },
+          : { name: p.name, share: p.exclusiveAreaShare ?? 0, basis: 'peak area share' as const },
       );
     return {
       label: labels[i],
@@ -58,4 +61,10 @@ export function seriesSamplesFromAnalyses(results: readonly AnalysisResult[], la
       references: r.references.used,
     };
   });
+}
+
+/** Was the phase taken into the sample's explanation? (Results saved before the flag existed: quantified or confirmed.) */
+function explains(p: PhaseMatch): boolean {
+  if (p.verdict === 'absent') return false;
+  return p.inExplanation ?? (p.weightFraction !== null || p.verdict === 'confirmed');
 }

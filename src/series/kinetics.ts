@@ -42,6 +42,11 @@ export interface GrowthAnalysis {
 export const MIN_POINTS: Readonly<Record<GrowthModel, number>> = { 'first-order': 4, jmak: 5 };
 /** JMAK is preferred over first order only when its extra exponent lowers the residuals significantly (F-test p below this). */
 const F_TEST_P = 0.05;
+/**
+ * Avrami exponents a nucleation-and-growth process can have (about 0.5 to 4; Christian, The Theory of
+ * Transformations in Metals and Alloys, 2002); a JMAK fit outside them is a step fitted, not a mechanism.
+ */
+const AVRAMI_EXPONENT_RANGE: readonly [number, number] = [0.5, 4];
 
 function model(t: number, plateau: number, k: number, n: number): number {
   return t <= 0 ? 0 : plateau * (1 - Math.exp(-Math.pow(k * t, n)));
@@ -181,6 +186,7 @@ export function fitGrowth(points: readonly GrowthPoint[]): GrowthAnalysis {
   }
   let chosen = firstOrder;
   let alternative = jmak;
+  if (jmak && !(jmak.exponent >= AVRAMI_EXPONENT_RANGE[0] && jmak.exponent <= AVRAMI_EXPONENT_RANGE[1])) jmak = null;
   if (firstOrder && jmak) {
     const n = usable.length;
     const ssr1 = firstOrder.residualSd ** 2 * Math.max(1, n - 2);

@@ -13,7 +13,11 @@ export interface SeriesPhaseShare {
   name: string;
   /** Share of the sample, 0–1. */
   share: number;
-  /** What the share measures: "weight fraction" (Chung) or "peak area share". */
+  /**
+   * What the share measures: "weight fraction" (Chung's matrix flushing, needs every reference's RIR)
+   * or "peak area share": the share of the measured peak area on peaks only this phase explains
+   * (peaks it shares with the target or another phase are not counted, so it is a lower bound).
+   */
   basis: 'weight fraction' | 'peak area share';
 }
 
@@ -147,6 +151,12 @@ export function analyzeSeries(samples: readonly SeriesSample[], options: SeriesO
 
   const warnings: string[] = [];
   if (timed.length > 0 && timed.length < samples.length) warnings.push('only some samples have an exposure time: the series is treated as workup variants');
+  const byArea = new Set(samples.flatMap((s) => s.otherPhases.filter((p) => p.basis === 'peak area share').map((p) => p.name)));
+  for (const name of byArea) {
+    warnings.push(
+      `${name} is given as a share of the measured peak area on the peaks only it explains (lines shared with other phases not counted): a lower bound, not a weight fraction; references with a reference intensity ratio (RIR) give weight fractions`,
+    );
+  }
   const references = mergeReferences(samples);
   return { kind, rows, comparison, growth, settings: reference, references, warnings, cautions: [...SIZE_CAUTIONS] };
 }

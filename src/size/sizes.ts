@@ -8,7 +8,7 @@ import type { FittedPeak } from '../process/types.js';
 import { DEG_TO_RAD } from '../pattern/units.js';
 import type { Wavelength } from '../pattern/wavelengths.js';
 import { assignReferenceLines } from './assign.js';
-import { instrumentWidthAt, type InstrumentProfile } from './instrument.js';
+import { instrumentWidthAt, isStandardReference, type InstrumentProfile } from './instrument.js';
 import { weightedMean } from './numeric.js';
 import { resolveScherrerK, scherrerSizeNm } from './scherrer.js';
 import {
@@ -28,6 +28,8 @@ export interface SizePhase {
   name: string;
   version?: number | null;
   lines: readonly ReferenceLine[];
+  /** The reference's tags; a line-profile standard ("standard", or LaB6 / silicon by name) has no size of its own to report. */
+  tags?: readonly string[];
 }
 
 export interface SizeOptions {
@@ -270,7 +272,19 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
   if (extrapolated) warnings.push(`${extrapolated} peak(s) lie more than 5° 2θ outside the standard's peaks; the instrument width there is extrapolated`);
 
   const sizes = work.map((w) => w.size);
-  const scherrer = scherrerSummary(work, instrument !== null);
+  let scherrer = scherrerSummary(work, instrument !== null);
+  if (!instrument && options.phase && scherrer.sizeNm !== null && isStandardReference({ name: options.phase.name, formula: '', tags: [...(options.phase.tags ?? [])], source: '', lines: [] })) {
+    // A line-profile standard's peaks are the instrument's own breadth: the uncorrected size is only a floor.
+    const floorNm = Math.floor(scherrer.sizeNm);
+    scherrer = {
+      sizeNm: floorNm,
+      sizeSigmaNm: null,
+      sizeSigmaFitNm: null,
+      limit: 'instrument',
+      peaksUsed: 0,
+      statement: `larger than ${floorNm} nm: ${options.phase.name} is a line-profile standard, its breadths are the instrument's own`,
+    };
+  }
   const atLimit = sizes.filter((s) => s.limit === 'instrument').length;
   if (scherrer.peaksUsed > 0 && atLimit > 0) warnings.push(`${atLimit} peak(s) at the instrument limit were left out of the mean size`);
   const wh = sizes
@@ -327,34 +341,46 @@ export function resolvableSizeNm(
 
 function scherrerSummary(work: readonly PeakWork[], corrected: boolean): ScherrerSummary {
   const resolved = work.filter((w) => w.size.limit === null && w.size.sizeNm !== null && (w.size.sizeSigmaNm ?? 0) > 0);
-  const mean = resolved.length
-    ? weightedMean(
-        resolved.map((w) => w.size.sizeNm as number),
-        resolved.map((w) => w.size.sizeSigmaNm as number),
-      )
-    : null;
-  if (mean) {
-    // The instrument profile's uncertainty is shared by all peaks: it enters once, not averaged down.
+  // The mean is taken over u = 1/D (proportional to the breadth, whose errors are about symmetric): averaging
+  // D itself with 1/σ_D² weights (σ_D ∝ D²·σ_β) favours the peaks that came out small and biases the mean low.
+  const u = resolved.map((w) => 1 / (w.size.sizeNm as number));
+  const relative = (w: PeakWork, sigmaDeg: number): number => sigmaDeg / w.size.sampleBreadthDeg;
+  const sigmaU = resolved.map((w, i) => (u[i] * (w.size.sizeSigmaNm as number)) / (w.size.sizeNm as number));
+  const plain = resolved.length ? weightedMean(u, sigmaU) : null;
+  if (plain) {
+    // Peaks that disagree beyond their own errors (a fit's σ is often optimistic) share an extra variance τ²,
+    // so one peak with a small σ does not decide the mean (DerSimonian & Laird, Control. Clin. Trials 7, 177 (1986)).
     let sw = 0;
+    let sw2 = 0;
+    for (const s of sigmaU) {
+      sw += 1 / s ** 2;
+      sw2 += 1 / s ** 4;
+    }
+    const tau2 = plain.dof > 0 ? Math.max(0, (plain.chi2 - plain.dof) / (sw - sw2 / sw)) : 0;
+    let total = 0;
+    let weighted = 0;
     let fitVariance = 0;
     let instrumentShare = 0;
-    for (const w of resolved) {
-      const size = w.size.sizeNm as number;
-      const weight = 1 / (w.size.sizeSigmaNm as number) ** 2;
-      sw += weight;
-      fitVariance += ((weight * size * w.fitSigmaDeg) / w.size.sampleBreadthDeg) ** 2;
-      instrumentShare += (weight * size * w.instrumentSigmaDeg) / w.size.sampleBreadthDeg;
-    }
-    const birge = mean.dof > 0 ? Math.max(1, Math.sqrt(mean.chi2 / mean.dof)) : 1;
-    const sigmaFit = (birge * Math.sqrt(fitVariance)) / sw;
-    const sigma = Math.hypot(sigmaFit, instrumentShare / sw);
+    resolved.forEach((w, i) => {
+      const weight = 1 / (sigmaU[i] ** 2 + tau2);
+      total += weight;
+      weighted += weight * u[i];
+      fitVariance += weight ** 2 * ((u[i] * relative(w, w.fitSigmaDeg)) ** 2 + tau2);
+      // The instrument profile's uncertainty is shared by all peaks: it enters once, not averaged down.
+      instrumentShare += weight * u[i] * relative(w, w.instrumentSigmaDeg);
+    });
+    const meanU = weighted / total;
+    const size = 1 / meanU;
+    // σ_D = D·σ_u/u for D = 1/u.
+    const sigmaFit = (size * Math.sqrt(fitVariance)) / total / meanU;
+    const sigma = Math.hypot(sigmaFit, (size * instrumentShare) / total / meanU);
     return {
-      sizeNm: mean.mean,
+      sizeNm: size,
       sizeSigmaNm: sigma,
       sizeSigmaFitNm: sigmaFit,
       limit: null,
       peaksUsed: resolved.length,
-      statement: `${mean.mean.toPrecision(3)} ± ${sigma.toPrecision(2)} nm from ${resolved.length} peak(s)${corrected ? '' : ' (uncorrected: a lower bound)'}`,
+      statement: `${size.toPrecision(3)} ± ${sigma.toPrecision(2)} nm from ${resolved.length} peak(s)${corrected ? '' : ' (uncorrected: a lower bound)'}`,
     };
   }
   const bounds = work.filter((w) => w.size.limit === 'instrument' && w.size.sizeNm !== null).map((w) => w.size.sizeNm as number);
