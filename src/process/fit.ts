@@ -1,6 +1,7 @@
 import { InputError } from '../errors.js';
 import type { Pattern } from '../pattern/pattern.js';
 import { DEG_TO_RAD, dFromTwoTheta } from '../pattern/units.js';
+import { partnerTwoThetaDeg } from './kalpha2.js';
 import { thompsonCoxHastingsWithDerivatives } from './profiles.js';
 import type { FittedPeak, PeakFitOptions, PeakGuess, ProfileModel } from './types.js';
 import { lowerBound } from '../pattern/sorted.js';
@@ -111,7 +112,8 @@ interface Group {
 
 /**
  * Rules for keeping a fitted peak, used by the peak search: besides standing `pruneBelowSigma` standard
- * uncertainties clear of zero, its fitted height must be at least thresholdSigma·σ, with σ the counting
+ * uncertainties clear of zero, its fitted height (with its own Kα2 partner's share at its top, which at low
+ * angle lies under the peak) must be at least thresholdSigma·σ, with σ the counting
  * noise at the level it sits on (background plus its neighbours' tails), and it must stay near where it
  * was found, about as broad as it looked.
  */
@@ -281,9 +283,7 @@ class GroupFitter {
   }
 
   private partnerPosition(pos: number): number {
-    if (this.lambda2 === null) return pos;
-    const s = (this.lambda2 / this.lambda1) * Math.sin((pos * DEG_TO_RAD) / 2);
-    return s < 1 ? (2 * Math.asin(s)) / DEG_TO_RAD : 180;
+    return this.lambda2 === null ? pos : partnerTwoThetaDeg(pos, this.lambda1, this.lambda2);
   }
 
   /** Points from `reach`·FWHM below the Kα1 line to `reach`·FWHM above its Kα2 partner. */
@@ -573,7 +573,19 @@ class GroupFitter {
     const background = this.background[i];
     const level = background + this.others[i] + this.othersAt(k, peak.twoTheta);
     const sigma = acceptance.noiseSigma[i] * (background > 0 && level > background ? Math.sqrt(level / background) : 1);
-    return peak.height >= acceptance.thresholdSigma * sigma;
+    return this.ownTop(k, peak.height) >= acceptance.thresholdSigma * sigma;
+  }
+
+  /**
+   * Height of peak k with its own Kα2 partner at the Kα1 line: at low angle, where the partner lies within
+   * the width, the data show this sum, not the Kα1 height alone. prepare() must be current.
+   */
+  private ownTop(k: number, height: number): number {
+    if (this.lambda2 === null) return height;
+    const { params, prep } = this;
+    const pr = k * PREP;
+    const asym = this.perPeak === 5 ? params[k * this.perPeak + ASYM] : 0;
+    return height * (1 + this.ratio * splitPseudoVoigt(params[k * this.perPeak + POS] - prep[pr + P_POS2], prep[pr + P_FWHM], prep[pr + P_MIX], asym));
   }
 
   /** Sum of the other peaks of the group (with Kα2 partners) at 2θ; prepare() must be current. */

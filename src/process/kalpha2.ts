@@ -17,6 +17,12 @@ export function stripKAlpha2(x: Float64Array, y: Float64Array, wavelength: Wavel
   return out;
 }
 
+/** 2θ of the Kα2 partner (same d at λ2) of a Kα1 line at twoThetaDeg; 180 where λ2 cannot diffract from that d. */
+export function partnerTwoThetaDeg(twoThetaDeg: number, lambda1: number, lambda2: number): number {
+  const s = (lambda2 / lambda1) * Math.sin((twoThetaDeg * DEG_TO_RAD) / 2);
+  return s < 1 ? (2 * Math.asin(s)) / DEG_TO_RAD : 180;
+}
+
 /**
  * Variance of the stripped intensities, given the variance of the input at each point: the recursion
  * adds ratio² times the (interpolated) variance of the stripped value that was subtracted.

@@ -1,7 +1,8 @@
 import { InputError } from '../errors.js';
 import type { Pattern } from '../pattern/pattern.js';
+import type { Wavelength } from '../pattern/wavelengths.js';
 import { fitPeakGroups } from './fit.js';
-import { strippedVariance, stripKAlpha2 } from './kalpha2.js';
+import { partnerTwoThetaDeg, strippedVariance, stripKAlpha2 } from './kalpha2.js';
 import { findLocalMaxima } from './local-maxima.js';
 import { savitzkyGolay } from './savitzky-golay.js';
 import { DEFAULT_CLIPPING_HALF_WIDTH_DEG, liftToNoiseMedian, snipBackground } from './snip.js';
@@ -11,7 +12,8 @@ import type { NoiseModel, PeakGuess, PeakSearchOptions, PeakSearchResult } from 
  * Peak search and fit. The pattern is smoothed (Savitzky–Golay), its background taken by SNIP, the
  * Kα2 part of the net signal stripped (Rachinger); every local maximum that stands at least
  * thresholdSigma·σ above the background (σ from counting statistics) and as many σ of its own level above
- * its surroundings becomes a candidate. The candidates are then fitted in groups on the raw data
+ * its surroundings becomes a candidate (at low angle, where the Kα2 partner lies within a peak's width, the
+ * unstripped net signal is searched too). The candidates are then fitted in groups on the raw data
  * (Kα2 modelled), and a fitted peak is kept only if its height is at least thresholdSigma standard
  * uncertainties and it is broader than a spike.
  */
@@ -152,7 +154,44 @@ function candidates(pattern: Pattern, options: PeakSearchOptions, smoothed: Floa
     if (net[maxima.indices[m]] < minHeight[maxima.indices[m]]) continue;
     guesses.push(guessAt(x, kAlpha1, maxima.indices[m], maxima.leftBases[m], maxima.rightBases[m]));
   }
-  return guesses;
+  return withUnresolvedDoublets(x, net, levelVariance, minHeight, thresholdSigma, options.wavelength, guesses);
+}
+
+/**
+ * At low angle the Kα2 partner lies well within the peak's width: stripping then leaves only 1/(1 + ratio)
+ * of the peak while adding noise, so a weak peak that clears 3σ in the data may not in the stripped signal,
+ * or shows there only as a narrow noise wiggle on its top. Such peaks are searched in the unstripped net
+ * signal too (against the noise at their level), where the partner lies within the peak's half width at
+ * half maximum; one replaces the stripped-signal candidates on its top that look less than half as broad.
+ */
+function withUnresolvedDoublets(
+  x: Float64Array,
+  net: Float64Array,
+  levelVariance: Float64Array,
+  minHeight: Float64Array,
+  thresholdSigma: number,
+  wavelength: Wavelength,
+  guesses: PeakGuess[],
+): PeakGuess[] {
+  if (wavelength.lambda2 === null || !(wavelength.ratio > 0)) return guesses;
+  const n = x.length;
+  const minProminence = new Float64Array(n);
+  for (let i = 0; i < n; i++) minProminence[i] = thresholdSigma * Math.sqrt(levelVariance[i]);
+  const maxima = findLocalMaxima(net, { minHeight, minProminence });
+  const share = wavelength.ratio / (1 + wavelength.ratio);
+  let out = guesses;
+  for (let m = 0; m < maxima.indices.length; m++) {
+    const doublet = guessAt(x, net, maxima.indices[m], maxima.leftBases[m], maxima.rightBases[m]);
+    const fwhm = doublet.fwhm as number;
+    const separation = partnerTwoThetaDeg(doublet.twoTheta, wavelength.lambda1, wavelength.lambda2) - doublet.twoTheta;
+    if (!(separation < fwhm / 2)) continue;
+    const onTop = (g: PeakGuess) => Math.abs(g.twoTheta - doublet.twoTheta) < fwhm / 2;
+    if (out.some((g) => onTop(g) && (g.fwhm as number) >= fwhm / 2)) continue;
+    // The doublet's top lies about ratio/(1 + ratio) of the separation above the Kα1 line.
+    out = out.filter((g) => !onTop(g));
+    out.push({ twoTheta: doublet.twoTheta - share * separation, height: (doublet.height as number) / (1 + wavelength.ratio), fwhm });
+  }
+  return out === guesses ? guesses : out.sort((p, q) => p.twoTheta - q.twoTheta);
 }
 
 /**
