@@ -103,7 +103,8 @@ describe('a project from drop to report', () => {
     expect(file.text).not.toMatch(/<script/i);
   });
 
-  it.skipIf(!existsSync('/usr/bin/chromium'))('prints the HTML report to PDF with the system’s Chromium', async () => {
+  it('prints the HTML report to PDF with the system’s Chromium', async () => {
+    expect(existsSync('/usr/bin/chromium'), 'Chromium is missing at /usr/bin/chromium: apt-get install -y chromium').toBe(true);
     const file = await ok<{ fileName: string; bytesBase64: string }>('report.pdf', {});
     expect(file.fileName).toMatch(/\.pdf$/);
     expect(Buffer.from(file.bytesBase64, 'base64').subarray(0, 5).toString('latin1')).toBe('%PDF-');

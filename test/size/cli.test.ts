@@ -61,13 +61,31 @@ describe('crystallog instrument / size / series commands', () => {
     expect(() => sizeCommand(sampleA, { instrument: join(dir, 'missing.json') })).toThrow(InputError);
   });
 
-  it('series gives a row per file and the pairwise comparison with its test', () => {
-    const r = seriesCommand([sampleA, sampleB], { labels: 'as made,ground', library: libraryPath, target: phase.name, instrument: profilePath });
+  it('series gives a row per file and the pairwise comparison with its test', async () => {
+    const r = await seriesCommand([sampleA, sampleB], { labels: 'as made,ground', library: libraryPath, target: phase.name, instrument: profilePath });
     expect(r.rows.map((row) => row.label)).toEqual(['as made', 'ground']);
     expect(r.rows[0].verdict).toBe('confirmed');
     expect(r.comparison.pairs).toHaveLength(1);
     expect(typeof r.comparison.pairs[0].differs).toBe('boolean');
     expect(r.comparison.test).toMatch(/z-test/);
     expect(r.settings.instrument?.name).toBe('lab');
+  });
+
+  it('series of many files runs on the worker pool and gives the same rows as one at a time', async () => {
+    const files = [2, 3, 4, 5, 6, 7].map((seed) => writePattern(`variant-${seed}`, phase.lines, 30, seed));
+    const labels = files.map((_, i) => `variant ${i + 1}`).join(',');
+    const pooled = await seriesCommand(files, { labels, library: libraryPath, target: phase.name, instrument: profilePath });
+    const inTurn = await seriesCommand(files.slice(0, 2), { labels: 'variant 1,variant 2', library: libraryPath, target: phase.name, instrument: profilePath });
+    expect(pooled.rows).toHaveLength(6);
+    expect(pooled.rows.slice(0, 2).map((r) => r.scherrer.sizeNm)).toEqual(inTurn.rows.map((r) => r.scherrer.sizeNm));
+    // All six were simulated at 30 nm: no pair may be called different (simulated truth).
+    expect(pooled.comparison.pairs.every((p) => !p.differs)).toBe(true);
+  });
+
+  it('series stops with the reason of a file that cannot be read, naming it', async () => {
+    const files = [2, 3, 4, 5, 6].map((seed) => writePattern(`ok-${seed}`, phase.lines, 30, seed));
+    const broken = join(dir, 'broken.xy');
+    writeFileSync(broken, '10.0 100\n10.1 lots\n');
+    await expect(seriesCommand([...files, broken], { library: libraryPath, target: phase.name })).rejects.toThrow(/broken\.xy/);
   });
 });

@@ -1,5 +1,6 @@
 import type { Command } from 'commander';
-import { analyzePattern, createAnalysisContext } from '../../app/pipeline.js';
+import { analyzeFiles } from '../../app/batch.js';
+import { analyzePattern, createAnalysisContext, type AnalysisResult, type AnalysisSettings } from '../../app/pipeline.js';
 import { InputError } from '../../errors.js';
 import { readPatternFile } from '../../pattern/read.js';
 import { parseWavelength } from '../../pattern/wavelengths.js';
@@ -55,7 +56,10 @@ function splitList(text: string | undefined): string[] | undefined {
   return text === undefined ? undefined : text.split(',').map((s) => s.trim());
 }
 
-export function seriesCommand(files: string[], o: SeriesCommandOptions): SeriesCommandResult {
+/** From this many files on, the patterns are analysed on the worker-thread pool (below it, start-up costs more than it saves). */
+const POOL_FROM_FILES = 6;
+
+export async function seriesCommand(files: string[], o: SeriesCommandOptions): Promise<SeriesCommandResult> {
   const toleranceDeg = numberOption('--tolerance', o.tolerance, (v) => v > 0 && v <= 1, 'give the tolerance in degrees 2θ, above 0 and at most 1');
   const alpha = numberOption('--alpha', o.alpha, (v) => v > 0 && v < 0.5, 'give a significance level between 0 and 0.5, such as 0.05');
   const breadth = parseBreadth(o.breadth);
@@ -68,19 +72,34 @@ export function seriesCommand(files: string[], o: SeriesCommandOptions): SeriesC
   });
   const references = loadAllReferences(o.library);
   const instrument = o.instrument !== undefined ? loadInstrumentProfile(o.instrument, o.library) : null;
-  const context = createAnalysisContext(references, instrument, {
+  const settings: Partial<AnalysisSettings> = {
     target: o.target,
     ...(o.wavelength ? { wavelength: parseWavelength(o.wavelength) } : {}),
     ...(toleranceDeg !== undefined ? { toleranceDeg } : {}),
     ...(o.k !== undefined ? { k: o.k } : {}),
     ...(breadth ? { breadth } : {}),
     ...(correction ? { correction } : {}),
-  });
-  const analyses = files.map((file) => analyzePattern(readPatternFile(file), context));
+  };
+  const analyses = files.length >= POOL_FROM_FILES ? await analyzeOnPool(files, { references, instrument, settings }) : analyzeInTurn(files, createAnalysisContext(references, instrument, settings));
   const samples = seriesSamplesFromAnalyses(analyses, { ...(labels ? { labels } : {}), ...(hours ? { exposureHours: hours } : {}), target: o.target });
   const result = analyzeSeries(samples, alpha !== undefined ? { alpha } : {});
   for (const w of result.warnings) process.stderr.write(`crystallog: warning: ${w}\n`);
   return { files, target: o.target, ...result };
+}
+
+function analyzeInTurn(files: readonly string[], context: ReturnType<typeof createAnalysisContext>): AnalysisResult[] {
+  return files.map((file) => analyzePattern(readPatternFile(file), context));
+}
+
+/** One series is one set of settings: a file that cannot be read stops the series with its reason. */
+async function analyzeOnPool(files: readonly string[], setup: Parameters<typeof analyzeFiles>[1]): Promise<AnalysisResult[]> {
+  const outcomes = await analyzeFiles(files, setup);
+  const failed = outcomes.find((outcome) => outcome.error !== null);
+  if (failed) {
+    if (failed.errorKind === 'input') throw new InputError(failed.error ?? `${failed.file}: unreadable file`);
+    throw new Error(failed.error ?? `analysis of ${failed.file} failed`);
+  }
+  return outcomes.map((outcome) => JSON.parse(outcome.json as string) as AnalysisResult);
 }
 
 function seriesText(r: SeriesCommandResult): string {
