@@ -328,6 +328,14 @@ function printComparisons(comparisons: Comparison[], pythonNote: string): void {
 }
 
 /** Every area's bench module (bench/<area>.js) that exists, each run in turn. */
+function runAreaInItsOwnProcess(area: string): BenchRow[] {
+  const runner = join(dirname(fileURLToPath(import.meta.url)), 'area-runner.js');
+  const child = spawnSync(process.execPath, [runner, area], { encoding: 'utf8', stdio: ['ignore', 'pipe', 'inherit'], maxBuffer: 64 * 2 ** 20 });
+  if (child.status !== 0) throw new Error(`exit code ${child.status}`);
+  const lines = child.stdout.trim().split('\n');
+  return JSON.parse(lines[lines.length - 1]) as BenchRow[];
+}
+
 async function runAreaModules(): Promise<Record<string, BenchRow[] | { error: string }>> {
   const results: Record<string, BenchRow[] | { error: string }> = {};
   for (const area of AREA_MODULES) {
@@ -335,9 +343,7 @@ async function runAreaModules(): Promise<Record<string, BenchRow[] | { error: st
     if (!existsSync(file)) continue;
     log(`area bench: ${area}`);
     try {
-      const module = (await import(`./${area}.js`)) as { run?: () => Promise<BenchRow[]> };
-      if (typeof module.run !== 'function') continue;
-      const rows = await module.run();
+      const rows = runAreaInItsOwnProcess(area);
       results[area] = rows;
       printRows(`bench/${area}.ts`, rows);
     } catch (err) {
