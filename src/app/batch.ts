@@ -144,8 +144,10 @@ export function analyzeFiles(files: readonly string[], setup: BatchSetup, option
       const inFlight = new Set<number>();
       let ready = false;
       let lost = false;
+      // A second file waits in a worker's queue only while there are more files left than workers,
+      // so no worker sits idle at the end while another still has a file queued.
       const feed = (): void => {
-        while (inFlight.size < TASKS_PER_WORKER && next < files.length) {
+        while (next < files.length && (inFlight.size === 0 || (inFlight.size < TASKS_PER_WORKER && files.length - next > running.size))) {
           const task: WorkerTask = { index: next, file: files[next] };
           next++;
           inFlight.add(task.index);

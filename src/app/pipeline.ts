@@ -46,6 +46,8 @@ export interface AnalysisContext {
   settings: AnalysisSettings;
   /** SHA-256 over the names and versions of the references: which library state gave these results. */
   libraryDigest: string;
+  /** The references by name (built once, not per pattern). */
+  referenceByName: ReadonlyMap<string, StoredReference>;
 }
 
 export interface ReferenceVersion {
@@ -85,7 +87,14 @@ export function createAnalysisContext(
 ): AnalysisContext {
   const full: AnalysisSettings = { ...DEFAULT_ANALYSIS_SETTINGS, ...settings };
   checkTarget(references, full.target);
-  return { references, index: index ?? buildReferenceIndex(references), instrument, settings: full, libraryDigest: libraryDigest(references) };
+  return {
+    references,
+    index: index ?? buildReferenceIndex(references),
+    instrument,
+    settings: full,
+    libraryDigest: libraryDigest(references),
+    referenceByName: new Map(references.map((r) => [r.name, r])),
+  };
 }
 
 /** A named target must be in the library (names compare without regard to case). */
@@ -122,7 +131,7 @@ export function analyzePattern(pattern: Pattern, context: AnalysisContext): Anal
   const present = match.phases.filter((p) => p.verdict !== 'absent');
   const targetName = settings.target?.toLowerCase();
   const sizePhaseMatch = present.find((p) => p.name.toLowerCase() === targetName) ?? present[0] ?? null;
-  const byName = new Map(references.map((r) => [r.name, r]));
+  const byName = context.referenceByName;
   const sizeReference = sizePhaseMatch ? (byName.get(sizePhaseMatch.name) ?? null) : null;
   const otherLines = present
     .filter((p) => p !== sizePhaseMatch)

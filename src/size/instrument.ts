@@ -7,11 +7,13 @@ import { InputError } from '../errors.js';
 import type { Hkl } from '../crystal/cell.js';
 import type { Reference } from '../library/reference.js';
 import type { FittedPeak } from '../process/types.js';
-import { DEG_TO_RAD } from '../pattern/units.js';
 import type { Wavelength } from '../pattern/wavelengths.js';
 import { assignReferenceLines } from './assign.js';
-import { quadraticForm, weightedLinearFit } from './numeric.js';
-import { breadthsFromPseudoVoigt, etaFromBreadths, PHI_GAUSSIAN, PHI_LORENTZIAN, type ProfileBreadths } from './voigt.js';
+import { weightedLinearFit } from './numeric.js';
+import { cagliotiRow, instrumentWidthAt, isStandardReference, polynomialRow } from './instrument-width.js';
+import { etaFromBreadths, PHI_GAUSSIAN, PHI_LORENTZIAN } from './voigt.js';
+
+export { instrumentWidthAt, isStandardReference, type InstrumentWidth } from './instrument-width.js';
 
 export const INSTRUMENT_PROFILE_KIND = 'crystallog instrument profile';
 
@@ -77,23 +79,6 @@ const POOR_FIT_RELATIVE_RMS = 0.08;
 /** Floor on the relative FWHM uncertainty used for weights (fitted σ are often optimistic). */
 const MIN_RELATIVE_FWHM_SIGMA = 0.01;
 const MIN_ETA_SIGMA = 0.02;
-const STANDARD_NAMES = /^(lab6|si|silicon|lanthanum hexaboride)\b/i;
-
-/** Is this reference usable as a line-profile standard (tagged standard, or LaB6 / silicon)? */
-export function isStandardReference(ref: Reference): boolean {
-  return ref.tags.some((t) => t.toLowerCase() === 'standard') || STANDARD_NAMES.test(ref.name) || /^(LaB6|Si)$/.test(ref.formula.replace(/\s/g, ''));
-}
-
-function cagliotiRow(twoThetaDeg: number): [number, number, number] {
-  const t = Math.tan((twoThetaDeg / 2) * DEG_TO_RAD);
-  return [t * t, t, 1];
-}
-
-function polynomialRow(x: number, degree: number): number[] {
-  const row: number[] = [];
-  for (let i = 0; i <= degree; i++) row.push(x ** i);
-  return row;
-}
 
 /** Fit the instrument profile to the fitted peaks of a measured standard. */
 export function fitInstrumentProfile(peaks: readonly FittedPeak[], standard: Reference, options: InstrumentFitOptions): InstrumentProfile {
@@ -221,32 +206,6 @@ function scaleCovarianceByFit(covariance: number[], chi2: number, dof: number): 
   if (dof <= 0) return;
   const factor = Math.max(1, chi2 / dof);
   for (let i = 0; i < covariance.length; i++) covariance[i] *= factor;
-}
-
-export interface InstrumentWidth {
-  fwhm: number;
-  fwhmSigma: number;
-  eta: number;
-  etaSigma: number;
-  breadths: ProfileBreadths;
-  /** True when 2θ lies outside the standard's peaks by more than 5°. */
-  extrapolated: boolean;
-}
-
-type ProfileShape = Pick<InstrumentProfile, 'caglioti' | 'cagliotiCovariance' | 'eta' | 'etaCovariance' | 'twoThetaRangeDeg'>;
-
-/** The instrument's FWHM and η at a 2θ (degrees), with their standard uncertainties. */
-export function instrumentWidthAt(profile: ProfileShape, twoThetaDeg: number): InstrumentWidth {
-  const row = cagliotiRow(twoThetaDeg);
-  const { u, v, w } = profile.caglioti;
-  const square = Math.max(u * row[0] + v * row[1] + w * row[2], 1e-10);
-  const fwhm = Math.sqrt(square);
-  const fwhmSigma = Math.sqrt(Math.max(0, quadraticForm(row, Float64Array.from(profile.cagliotiCovariance)))) / (2 * fwhm);
-  const etaRow = polynomialRow(twoThetaDeg, profile.eta.length - 1);
-  const eta = Math.min(1, Math.max(0, etaRow.reduce((s, xi, i) => s + xi * profile.eta[i], 0)));
-  const etaSigma = Math.sqrt(Math.max(0, quadraticForm(etaRow, Float64Array.from(profile.etaCovariance))));
-  const [lo, hi] = profile.twoThetaRangeDeg;
-  return { fwhm, fwhmSigma, eta, etaSigma, breadths: breadthsFromPseudoVoigt(fwhm, eta), extrapolated: twoThetaDeg < lo - 5 || twoThetaDeg > hi + 5 };
 }
 
 const finite = z.number().refine(Number.isFinite, 'must be a finite number');

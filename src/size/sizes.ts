@@ -8,7 +8,8 @@ import type { FittedPeak } from '../process/types.js';
 import { DEG_TO_RAD } from '../pattern/units.js';
 import type { Wavelength } from '../pattern/wavelengths.js';
 import { assignReferenceLines } from './assign.js';
-import { instrumentWidthAt, isStandardReference, type InstrumentProfile } from './instrument.js';
+import type { InstrumentProfile } from './instrument.js';
+import { instrumentWidthAt, isStandardReference } from './instrument-width.js';
 import { weightedMean } from './numeric.js';
 import { resolveScherrerK, scherrerSizeNm } from './scherrer.js';
 import {

@@ -87,19 +87,23 @@ export async function analyzeCommand(files: string[], o: AnalyzeCommandOptions, 
 
   const progress = io.progress ? progressBar(allFiles.length, io.stderr) : null;
   const streaming = Boolean(o.jsonl);
+  // --json is written in input order as results arrive, so the results are never all held at once.
+  const document = o.json && !streaming ? jsonDocumentWriter(io.stdout) : null;
   const outcomes = await analyzeFiles(allFiles, { references, instrument, settings }, {
     ...(workers !== undefined ? { workers } : {}),
     ...(io.workerScript ? { workerScript: io.workerScript } : {}),
-    keepJson: !streaming,
+    keepJson: !streaming && !document,
     onOutcome: (outcome) => {
       if (outcome.error !== null) io.stderr(`${progress ? '\r\x1b[K' : ''}crystallog: ${oneLine(outcome.error)}\n`);
       if (streaming) io.stdout(jsonLine(outcome));
+      document?.add(outcome);
       progress?.step(outcome.error !== null);
     },
   });
   progress?.finish();
 
-  if (!streaming) io.stdout(o.json ? jsonDocument(outcomes) : textSummary(outcomes));
+  if (document) document.finish();
+  else if (!streaming) io.stdout(textSummary(outcomes));
   return outcomes.some((r) => r.errorKind === 'internal') ? 1 : outcomes.some((r) => r.errorKind === 'input') ? 2 : 0;
 }
 
@@ -143,10 +147,26 @@ function jsonLine(outcome: BatchFileOutcome): string {
   return JSON.stringify({ index: outcome.index, file: outcome.file, error: outcome.error }) + '\n';
 }
 
-/** The --json document, one file's result per line, in input order. */
-function jsonDocument(outcomes: BatchFileOutcome[]): string {
-  const items = outcomes.map((o) => o.json ?? JSON.stringify({ file: o.file, error: o.error }));
-  return `{"files": [\n${items.join(',\n')}\n]}\n`;
+/**
+ * The --json document, one file's result per line, in input order: each result is written as soon as
+ * every earlier file's is, and only the results waiting for an earlier one are held.
+ */
+function jsonDocumentWriter(write: (text: string) => void): { add: (outcome: BatchFileOutcome) => void; finish: () => void } {
+  const waiting = new Map<number, string>();
+  let nextIndex = 0;
+  return {
+    add: (outcome) => {
+      waiting.set(outcome.index, outcome.json ?? JSON.stringify({ file: outcome.file, error: outcome.error }));
+      let text = '';
+      for (let item = waiting.get(nextIndex); item !== undefined; item = waiting.get(nextIndex)) {
+        waiting.delete(nextIndex);
+        text += (nextIndex === 0 ? '{"files": [\n' : ',\n') + item;
+        nextIndex++;
+      }
+      if (text !== '') write(text);
+    },
+    finish: () => write('\n]}\n'),
+  };
 }
 
 function textSummary(outcomes: BatchFileOutcome[]): string {
