@@ -13,29 +13,20 @@ export interface PeaksCommandOptions {
 }
 
 /** The JSON of `crystallog peaks` (field names fixed by the command contract; extra fields welcome). */
+/** Every field of a fitted peak except the optional extras (Gaussian/Lorentzian parts, asymmetry). */
+type ReportedPeak = Pick<
+  FittedPeak,
+  | 'twoTheta' | 'twoThetaSigma' | 'd' | 'height' | 'heightSigma' | 'area' | 'areaSigma' | 'fwhm' | 'fwhmSigma'
+  | 'integralBreadth' | 'integralBreadthSigma' | 'eta' | 'etaSigma' | 'group' | 'groupChi2' | 'overlapped'
+>;
+
 export interface PeaksReport {
   file: string;
   points: number;
   wavelength: { lambda1: number; lambda2: number | null; ratio: number; label: string; source: 'option' | 'file' | 'default' };
   thresholdSigma: number;
-  peaks: Array<{
-    twoTheta: number;
-    twoThetaSigma: number;
-    d: number;
-    height: number;
-    heightSigma: number;
-    area: number;
-    areaSigma: number;
-    fwhm: number;
-    fwhmSigma: number;
-    integralBreadth: number;
-    integralBreadthSigma: number;
-    eta: number;
-    etaSigma: number;
-    group: number;
-    groupChi2: number;
-    overlapped: boolean;
-  }>;
+  /** The contract's fields of each fitted peak, rounded for print. */
+  peaks: ReportedPeak[];
   notes: string[];
 }
 
@@ -84,7 +75,7 @@ export function peaksReport(file: string, options: PeaksCommandOptions): PeaksRe
   };
 }
 
-function peakFields(p: FittedPeak): PeaksReport['peaks'][number] {
+function peakFields(p: FittedPeak): ReportedPeak {
   return {
     twoTheta: round(p.twoTheta, 5),
     twoThetaSigma: round(p.twoThetaSigma, 5),
