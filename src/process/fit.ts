@@ -25,6 +25,8 @@ const GAUSS_NORM = 2 * Math.sqrt(LN2 / Math.PI);
 const LORENTZ_NORM = 2 / Math.PI;
 /** Unit-height pseudo-Voigt integral breadth = fwhm / (η·2/π + (1−η)·2√(ln2/π)). */
 const NORM_DIFF = LORENTZ_NORM - GAUSS_NORM;
+/** The Gaussian part exp(−4 ln2 u²) is taken as 0 beyond u² = 16 (4 FWHM out, 2⁻⁶⁴ ≈ 5e-20 of the height: below double precision). */
+const GAUSS_CUT_U2 = 16;
 
 /** Adaptive model reach: until the Lorentzian tail is below half the noise σ, within these limits (FWHM). */
 const MIN_REACH_FWHM = 5;
@@ -211,6 +213,10 @@ class GroupFitter {
   private described: Array<FittedPeak | null> = [];
   private allFoundAt = new Float64Array(0);
   private allFoundFwhm = new Float64Array(0);
+  /** Each peak's model window for its latest parameters, valid where windowStale is 0. */
+  private windowLo = new Int32Array(0);
+  private windowHi = new Int32Array(0);
+  private windowStale = new Uint8Array(0);
   /** The peaks outside the group being fitted, summed over its region (held fixed in its fit). */
   private readonly others: Float64Array;
 
@@ -312,6 +318,9 @@ class GroupFitter {
   fitAll(starts: Float64Array[]): PeakFitResult {
     const count = starts.length;
     this.current = starts.map((s) => s.slice());
+    this.windowLo = new Int32Array(count);
+    this.windowHi = new Int32Array(count);
+    this.windowStale = new Uint8Array(count).fill(1);
     this.alive = new Uint8Array(count).fill(1);
     this.described = new Array<FittedPeak | null>(count).fill(null);
     this.allFoundAt = Float64Array.from(starts, (p) => p[POS]);
@@ -333,7 +342,7 @@ class GroupFitter {
     for (let k = 0; k < count; k++) {
       const peak = this.described[k];
       if (!this.alive[k] || peak === null) continue;
-      const [lo, hi] = this.modelWindow(this.current[k]);
+      const [lo, hi] = this.modelWindowOf(k);
       this.addPeak(model, this.current[k], lo, hi);
       peaks.push(peak);
     }
@@ -345,6 +354,17 @@ class GroupFitter {
   /** Points a peak is modelled on: its reach below the Kα1 line to its reach above the Kα2 partner. */
   private modelWindow(p: Float64Array): [number, number] {
     return this.windowOf(p[POS], this.fwhmOf(p, 0), this.reachOf(p, 0));
+  }
+
+  /** modelWindow of peak k's latest parameters, remembered until they change (see peakChanged). */
+  private modelWindowOf(k: number): [number, number] {
+    if (this.windowStale[k]) {
+      const [lo, hi] = this.modelWindow(this.current[k]);
+      this.windowLo[k] = lo;
+      this.windowHi[k] = hi;
+      this.windowStale[k] = 0;
+    }
+    return [this.windowLo[k], this.windowHi[k]];
   }
 
   /**
@@ -434,7 +454,7 @@ class GroupFitter {
     others.fill(0, start, end);
     for (let j = 0; j < this.current.length; j++) {
       if (!this.alive[j] || members.includes(j)) continue;
-      const [lo, hi] = this.modelWindow(this.current[j]);
+      const [lo, hi] = this.modelWindowOf(j);
       if (hi <= start || lo >= end) continue;
       this.addPeak(others, this.current[j], Math.max(lo, start), Math.min(hi, end));
     }
@@ -522,6 +542,7 @@ class GroupFitter {
         }
         members.forEach((k, j) => {
           this.current[k].set(this.params.subarray(j * perPeak, (j + 1) * perPeak));
+          this.windowStale[k] = 1;
           this.described[k] = peaks[j];
         });
         group.offset = this.params[bgBase];
@@ -719,32 +740,42 @@ class GroupFitter {
         const pr = k * PREP;
         const height = params[base + HEIGHT];
         const mix = prep[pr + P_MIX];
-        // Kα1 component, then its Kα2 partner: shape, and d(shape)/du by the chain rule to each parameter.
+        const gaussShare = 1 - mix;
+        const invLow = prep[pr + P_INV_LOW];
+        const invHigh = prep[pr + P_INV_HIGH];
+        // Kα1 component, then its Kα2 partner: shape, and d(shape)/du by the chain rule to each parameter
+        // (the unit-height split pseudo-Voigt, written out here: this loop is the fit's hot spot).
         let dx = xi - params[base + POS];
-        let inv = dx < 0 ? prep[pr + P_INV_LOW] : prep[pr + P_INV_HIGH];
+        let inv = dx < 0 ? invLow : invHigh;
         let u = dx * inv;
-        profileAt(u, mix);
+        let u2 = u * u;
+        let lor = 1 / (1 + 4 * u2);
+        let gau = u2 > GAUSS_CUT_U2 ? 0 : Math.exp(-FOUR_LN2 * u2);
+        let shape = mix * lor + gaussShare * gau;
         let h = height;
-        model += h * component[SHAPE];
-        let slopeTerm = -h * component[D_SHAPE];
+        model += h * shape;
+        let slopeTerm = -h * (-8 * u * (mix * lor * lor + gaussShare * LN2 * gau));
         let dPos = slopeTerm * inv;
         let dWidth = slopeTerm * u;
         let dAsym = slopeTerm * u * (dx < 0 ? 1 : -1) * inv;
-        let dEta = h * (component[LOR] - component[GAU]);
-        let dHeight = component[SHAPE];
+        let dEta = h * (lor - gau);
+        let dHeight = shape;
         if (doublet) {
           h = ratio * height;
           dx = xi - prep[pr + P_POS2];
-          inv = dx < 0 ? prep[pr + P_INV_LOW] : prep[pr + P_INV_HIGH];
+          inv = dx < 0 ? invLow : invHigh;
           u = dx * inv;
-          profileAt(u, mix);
-          model += h * component[SHAPE];
-          slopeTerm = -h * component[D_SHAPE];
+          u2 = u * u;
+          lor = 1 / (1 + 4 * u2);
+          gau = u2 > GAUSS_CUT_U2 ? 0 : Math.exp(-FOUR_LN2 * u2);
+          shape = mix * lor + gaussShare * gau;
+          model += h * shape;
+          slopeTerm = -h * (-8 * u * (mix * lor * lor + gaussShare * LN2 * gau));
           dPos += slopeTerm * inv * prep[pr + P_DPOS2];
           dWidth += slopeTerm * u;
           dAsym += slopeTerm * u * (dx < 0 ? 1 : -1) * inv;
-          dEta += h * (component[LOR] - component[GAU]);
-          dHeight += ratio * component[SHAPE];
+          dEta += h * (lor - gau);
+          dHeight += ratio * shape;
         }
         dWidth *= prep[pr + P_INV_FWHM];
         dEta *= prep[pr + P_DMIX];
@@ -772,7 +803,11 @@ class GroupFitter {
           for (let b = 0; b < a; b++) {
             const jb = b * perPeak;
             const cell = row + activeBase[b];
-            for (let c = 0; c < perPeak; c++) normal[cell + c] += wr * jac[jb + c];
+            normal[cell] += wr * jac[jb];
+            normal[cell + 1] += wr * jac[jb + 1];
+            normal[cell + 2] += wr * jac[jb + 2];
+            normal[cell + 3] += wr * jac[jb + 3];
+            if (asymmetric) normal[cell + 4] += wr * jac[jb + 4];
           }
           for (let c = 0; c <= r; c++) normal[row + baseA + c] += wr * jac[ja + c];
           normal[bgRow + baseA + r] += wr;
@@ -1019,25 +1054,9 @@ function splitPseudoVoigt(dx: number, fwhm: number, mix: number, asym: number): 
   return mix / (1 + 4 * u2) + (1 - mix) * gaussianTail(u2);
 }
 
-/** Unit-height pseudo-Voigt at u (offset in FWHM of its side) into `component`: shape, its parts, d(shape)/du. */
-const component = new Float64Array(4);
-const SHAPE = 0;
-const LOR = 1;
-const GAU = 2;
-const D_SHAPE = 3;
-function profileAt(u: number, mix: number): void {
-  const u2 = u * u;
-  const lor = 1 / (1 + 4 * u2);
-  const gau = gaussianTail(u2);
-  component[SHAPE] = mix * lor + (1 - mix) * gau;
-  component[LOR] = lor;
-  component[GAU] = gau;
-  component[D_SHAPE] = -8 * u * (mix * lor * lor + (1 - mix) * LN2 * gau);
-}
-
-/** exp(−4 ln2 u²), taken as 0 beyond 6 half-widths (below 1e-43): most points of a window lie there. */
+/** exp(−4 ln2 u²), taken as 0 beyond GAUSS_CUT_U2: most points of a window lie there. */
 function gaussianTail(u2: number): number {
-  return u2 > 36 ? 0 : Math.exp(-FOUR_LN2 * u2);
+  return u2 > GAUSS_CUT_U2 ? 0 : Math.exp(-FOUR_LN2 * u2);
 }
 
 /** In-place Cholesky factor (lower triangle) of a symmetric positive-definite n×n matrix; false if not PD. */

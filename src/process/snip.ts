@@ -55,11 +55,17 @@ export function snipBackground(x: Float64Array, y: Float64Array, options: SnipOp
   }
 
   for (let p = widest; p >= 1; p--) {
-    next.set(v);
+    // 2p ≤ n − 1 (p never exceeds a point's distance to either end), so the three ranges do not overlap.
+    for (let i = 0; i < p; i++) next[i] = v[i];
+    for (let i = n - p; i < n; i++) next[i] = v[i];
     for (let i = p; i < n - p; i++) {
-      if (windowPoints[i] < p) continue;
+      const here = v[i];
+      if (windowPoints[i] < p) {
+        next[i] = here;
+        continue;
+      }
       const mean = 0.5 * (v[i - p] + v[i + p]);
-      if (mean < v[i]) next[i] = mean;
+      next[i] = mean < here ? mean : here;
     }
     const swap = v;
     v = next;
@@ -140,9 +146,56 @@ export function liftToNoiseMedian(x: Float64Array, y: Float64Array, background: 
   return out;
 }
 
+/** Median by selection (Hoare, Commun. ACM 4, 321 (1961)): the same value a full sort gives, in linear time; reorders `values`. */
 function medianOf(values: Float64Array): number {
-  values.sort();
-  const m = values.length >> 1;
-  return values.length % 2 === 1 ? values[m] : 0.5 * (values[m - 1] + values[m]);
+  const n = values.length;
+  for (let i = 0; i < n; i++) {
+    if (values[i] !== values[i]) {
+      // NaN: keep the sort's ordering (NaN last).
+      values.sort();
+      const m = n >> 1;
+      return n % 2 === 1 ? values[m] : 0.5 * (values[m - 1] + values[m]);
+    }
+  }
+  const m = n >> 1;
+  const upper = selectKth(values, m);
+  if (n % 2 === 1) return upper;
+  let lower = values[0];
+  for (let i = 1; i < m; i++) if (values[i] > lower) lower = values[i];
+  return 0.5 * (lower + upper);
+}
+
+/** Reorder `a` so that a[k] is its k-th smallest value, nothing larger before it and nothing smaller after; returns a[k]. */
+function selectKth(a: Float64Array, k: number): number {
+  let lo = 0;
+  let hi = a.length - 1;
+  while (hi > lo) {
+    const mid = (lo + hi) >> 1;
+    if (a[mid] < a[lo]) swap(a, lo, mid);
+    if (a[hi] < a[lo]) swap(a, lo, hi);
+    if (a[hi] < a[mid]) swap(a, mid, hi);
+    const pivot = a[mid];
+    let i = lo;
+    let j = hi;
+    while (i <= j) {
+      while (a[i] < pivot) i++;
+      while (a[j] > pivot) j--;
+      if (i <= j) {
+        swap(a, i, j);
+        i++;
+        j--;
+      }
+    }
+    if (k <= j) hi = j;
+    else if (k >= i) lo = i;
+    else break;
+  }
+  return a[k];
+}
+
+function swap(a: Float64Array, i: number, j: number): void {
+  const t = a[i];
+  a[i] = a[j];
+  a[j] = t;
 }
 
