@@ -4,23 +4,12 @@ import { InputError } from '../../src/errors.js';
 import { twoThetaFromD } from '../../src/pattern/units.js';
 import { anodeWavelength } from '../../src/pattern/wavelengths.js';
 import { analyzeSeries, exposureHoursFromLabel, type SeriesSample } from '../../src/series/series.js';
-import { fitInstrumentProfile } from '../../src/size/instrument.js';
 import { crystalliteSizes, type SizeOptions } from '../../src/size/sizes.js';
-import { broadenedProfile, CU_KA1, cubicPhase, fittedPeak, siliconStandard } from '../size/fixtures.js';
+import { broadenedProfile, CU_KA1, cubicPhase, fittedPeak, typicalInstrumentProfile } from '../size/fixtures.js';
 
 const CU = anodeWavelength('Cu');
 const phase = cubicPhase();
-const instrument = fitInstrumentProfile(
-  siliconStandard()
-    .lines.map((l) => twoThetaFromD(l.d, CU_KA1))
-    .filter((tt) => tt < 130)
-    .map((tt) => {
-      const p = broadenedProfile(tt, null);
-      return fittedPeak(tt, p.fwhm, p.eta);
-    }),
-  siliconStandard(),
-  { wavelength: CU, name: 'typical lab instrument (simulated)', date: '2025-01-01' },
-);
+const instrument = typicalInstrumentProfile();
 
 /** A sample whose fitted widths scatter by their stated 1 % uncertainty (seeded). */
 function sample(label: string, sizeNm: number, seed: number, extra: Partial<SeriesSample> = {}, options: Partial<SizeOptions> = {}): SeriesSample {

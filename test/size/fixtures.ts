@@ -5,6 +5,8 @@ import { DEG_TO_RAD, dFromTwoTheta, twoThetaFromD } from '../../src/pattern/unit
 import { thompsonCoxHastings, pseudoVoigtIntegralBreadth } from '../../src/process/profiles.js';
 import { TYPICAL_LAB_INSTRUMENT, type InstrumentBroadening } from '../../src/crystal/simulate.js';
 import type { Reference } from '../../src/library/reference.js';
+import { anodeWavelength } from '../../src/pattern/wavelengths.js';
+import { fitInstrumentProfile, type InstrumentProfile } from '../../src/size/instrument.js';
 
 export const CU_KA1 = 1.5405929;
 
@@ -74,4 +76,16 @@ export function cubicPhase(a = 4.2): Reference {
       }
   lines.sort((x, y) => y.d - x.d);
   return { name: 'test cubic', formula: 'X', tags: ['target'], source: 'test phase', lines };
+}
+
+/** The instrument profile of the simulator's typical lab instrument, fitted from exact silicon peak widths below 130° 2θ. */
+export function typicalInstrumentProfile(): InstrumentProfile {
+  const peaks = siliconStandard()
+    .lines.map((l) => twoThetaFromD(l.d, CU_KA1))
+    .filter((tt) => tt < 130)
+    .map((tt) => {
+      const p = broadenedProfile(tt, null);
+      return fittedPeak(tt, p.fwhm, p.eta);
+    });
+  return fitInstrumentProfile(peaks, siliconStandard(), { wavelength: anodeWavelength('Cu'), name: 'typical lab instrument (simulated)', date: '2025-01-01' });
 }

@@ -1,23 +1,12 @@
 import { describe, expect, it } from 'vitest';
 import { twoThetaFromD } from '../../src/pattern/units.js';
 import { anodeWavelength } from '../../src/pattern/wavelengths.js';
-import { fitInstrumentProfile } from '../../src/size/instrument.js';
 import { crystalliteSizes } from '../../src/size/sizes.js';
-import { broadenedProfile, CU_KA1, cubicPhase, fittedPeak, siliconStandard } from './fixtures.js';
+import { broadenedProfile, CU_KA1, cubicPhase, fittedPeak, typicalInstrumentProfile } from './fixtures.js';
 
 const CU = anodeWavelength('Cu');
 const phase = cubicPhase();
-const instrument = fitInstrumentProfile(
-  siliconStandard()
-    .lines.map((l) => twoThetaFromD(l.d, CU_KA1))
-    .filter((tt) => tt < 130)
-    .map((tt) => {
-      const p = broadenedProfile(tt, null);
-      return fittedPeak(tt, p.fwhm, p.eta);
-    }),
-  siliconStandard(),
-  { wavelength: CU, name: 'typical lab instrument (simulated)', date: '2025-01-01' },
-);
+const instrument = typicalInstrumentProfile();
 
 /** Fitted peaks of the cubic test phase, broadened by the instrument, a size (Lorentzian) and a strain (Gaussian). */
 function phasePeaks(sizeNm: number | null, microstrain = 0, family?: (hkl: [number, number, number]) => number | null) {
