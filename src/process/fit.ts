@@ -886,11 +886,13 @@ class GroupFitter {
       // A parameter whose step would cross a limit stops on it, except a height, which stops 90 % of the
       // way to zero (at zero its peak has no derivatives left to come back with); the others keep their
       // full step (shortening the whole step instead stalls the fit while η creeps towards 1).
+      let clipped = false;
       for (let a = 0; a < paramCount; a++) {
         let to = params[a] + step[a];
         const isHeight = a < this.peakCount * this.perPeak && a % this.perPeak === HEIGHT;
         if (to < this.lower[a]) to = isHeight ? params[a] + 0.9 * (this.lower[a] - params[a]) : this.lower[a];
         if (to > this.upper[a]) to = this.upper[a];
+        if (to !== params[a] + step[a]) clipped = true;
         trial[a] = to;
         step[a] = to - params[a];
       }
@@ -902,6 +904,9 @@ class GroupFitter {
         for (let b = 0; b < paramCount; b++) row += normal[a * paramCount + b] * step[b];
         predicted += step[a] * (2 * gradient[a] - row);
       }
+      // A search fit has converged when a near Gauss–Newton step, unclipped, promises less than
+      // convergedChi2Change: it stops here, without evaluating that step.
+      if (!clipped && damping < 1 && predicted < this.convergedChi2Change) break;
       // Evaluate the trial with its normal matrix into the spare buffers; keep them only if accepted.
       this.swapNormalBuffers();
       const trialChi2 = this.evaluate(trial);
