@@ -1,13 +1,41 @@
 import { ApiCallError } from './api.js';
 import { h } from './dom.js';
 
-/** A message line at the top of the page: errors as sentences, never traces. */
+/**
+ * A message line at the top of the page: errors as sentences, never traces. The same message again
+ * (many files refused for one reason) counts up on its line instead of stacking more lines.
+ */
+const dismissTimers = new WeakMap<Element, ReturnType<typeof setTimeout>>();
+const INFO_SHOWN_MS = 6000;
+
 export function notify(message: string, tone: 'info' | 'error' | 'done' = 'info'): void {
   const area = document.getElementById('messages')!;
-  const item = h('div', { class: `message ${tone}`, role: tone === 'error' ? 'alert' : 'status' }, h('span', {}, message), h('button', { class: 'quiet', 'aria-label': 'Dismiss', onclick: () => item.remove() }, '×'));
+  const same = [...area.children].find((el): el is HTMLElement => el instanceof HTMLElement && el.dataset.message === message && el.dataset.tone === tone);
+  if (same) {
+    const times = Number(same.dataset.times ?? '1') + 1;
+    same.dataset.times = String(times);
+    same.querySelector('.times')!.textContent = ` (×${times})`;
+    area.append(same);
+    dismissLater(same, tone);
+    return;
+  }
+  const item = h(
+    'div',
+    { class: `message ${tone}`, role: tone === 'error' ? 'alert' : 'status', 'data-message': message, 'data-tone': tone },
+    h('span', {}, message),
+    h('span', { class: 'times' }),
+    h('button', { class: 'quiet', 'aria-label': 'Dismiss', onclick: () => item.remove() }, '×'),
+  );
   area.append(item);
-  if (tone !== 'error') setTimeout(() => item.remove(), 6000);
+  dismissLater(item, tone);
   while (area.children.length > 4) area.firstElementChild?.remove();
+}
+
+/** Information goes by itself after a while (counted again from its latest repeat); errors stay until dismissed. */
+function dismissLater(item: Element, tone: string): void {
+  if (tone === 'error') return;
+  clearTimeout(dismissTimers.get(item));
+  dismissTimers.set(item, setTimeout(() => item.remove(), INFO_SHOWN_MS));
 }
 
 export function errorText(err: unknown): string {

@@ -12,7 +12,7 @@ export async function renderSettings(root: HTMLElement): Promise<void> {
   const anodes = h('datalist', { id: 'anodes' }, ...['Cu', 'Co', 'Fe', 'Cr', 'Mo', 'Ag'].map((a) => h('option', { value: a })));
   const tolerance = h('input', { type: 'number', min: 0.005, max: 1, step: 0.005, value: s.toleranceDeg, 'aria-label': 'Tolerance' });
   const k = h('input', { type: 'number', min: 0.5, max: 1.5, step: 0.01, value: s.scherrerK, 'aria-label': 'Scherrer K' });
-  const background = h('input', { type: 'number', min: 0.1, max: 20, step: 0.1, value: s.backgroundHalfWidthDeg, 'aria-label': 'Background width' });
+  const background = h('input', { type: 'number', min: 0.1, max: 20, step: 0.1, value: s.backgroundHalfWidthDeg ?? '', placeholder: 'automatic', 'aria-label': 'Background width' });
   const breadth = h('select', { 'aria-label': 'Breadth' }, h('option', { value: 'fwhm' }, 'FWHM'), h('option', { value: 'integral' }, 'integral breadth'));
   breadth.value = s.breadth;
   const correction = h('select', { 'aria-label': 'Instrument correction' }, ...['voigt', 'lorentzian', 'gaussian'].map((c) => h('option', { value: c }, c)));
@@ -32,7 +32,7 @@ export async function renderSettings(root: HTMLElement): Promise<void> {
       field('Scherrer K', k, '0.9 is common; 0.89 spheres (FWHM), 0.94 cubes, 1.0 with integral breadth.'),
       field('Breadth', breadth),
       field('Instrument correction', correction, 'Voigt splits Lorentzian and Gaussian parts.'),
-      field('Background width (° 2θ)', background, 'SNIP half-width: wider follows less of the peaks.'),
+      field('Background width (° 2θ)', background, 'SNIP half-width: wider follows less of the peaks. Empty: automatic (1°, widened to broad peaks).'),
     ),
     h('div', { class: 'row' }, h('button', { type: 'submit' }, 'Save and re-analyse'), h('span', { class: 'small' }, 'Settings are kept in the project file.')),
     anodes,
@@ -43,7 +43,7 @@ export async function renderSettings(root: HTMLElement): Promise<void> {
       wavelength: wavelength.value,
       toleranceDeg: Number(tolerance.value),
       scherrerK: Number(k.value),
-      backgroundHalfWidthDeg: Number(background.value),
+      backgroundHalfWidthDeg: background.value.trim() === '' ? null : Number(background.value),
       breadth: breadth.value as ProjectSettings['breadth'],
       correction: correction.value as ProjectSettings['correction'],
       target: target.value || null,

@@ -19,8 +19,11 @@ export const settingsSchema = z
     scherrerK: finite.min(0.5).max(1.5),
     breadth: z.enum(['fwhm', 'integral']),
     correction: z.enum(['voigt', 'lorentzian', 'gaussian']),
-    /** Background: SNIP largest clipping half-width, degrees 2θ (wider follows less of the peaks). */
-    backgroundHalfWidthDeg: finite.min(0.1).max(20),
+    /**
+     * Background: SNIP clipping half-width, degrees 2θ (wider follows less of the peaks); null for
+     * automatic (1° widened to the broad peaks found).
+     */
+    backgroundHalfWidthDeg: finite.min(0.1).max(20).nullable(),
     /** Phase the chemist expects, by library name; null for none. */
     target: z.string().max(200).nullable(),
   })
@@ -34,7 +37,7 @@ export const DEFAULT_SETTINGS: ProjectSettings = {
   scherrerK: 0.9,
   breadth: 'fwhm',
   correction: 'voigt',
-  backgroundHalfWidthDeg: 1,
+  backgroundHalfWidthDeg: null,
   target: null,
 };
 

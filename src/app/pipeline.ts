@@ -26,6 +26,8 @@ export interface AnalysisSettings {
   correction: CorrectionKind;
   /** Name of the expected phase, or null. */
   target: string | null;
+  /** Background clipping half-width, degrees 2θ; null for automatic (see findPeaks). */
+  backgroundHalfWidthDeg: number | null;
 }
 
 export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
@@ -35,6 +37,7 @@ export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
   breadth: 'fwhm',
   correction: 'voigt',
   target: null,
+  backgroundHalfWidthDeg: null,
 };
 
 /** What every analysis of a batch shares, loaded once and only read. */
@@ -71,6 +74,8 @@ export interface AnalysisResult {
     breadth: BreadthKind;
     correction: CorrectionKind | 'none';
     target: string | null;
+    /** The background clipping half-width asked for, degrees 2θ; null when automatic. */
+    backgroundHalfWidthDeg: number | null;
     instrument: string | null;
     sizePhase: string | null;
   };
@@ -117,7 +122,7 @@ export function analyzePattern(pattern: Pattern, context: AnalysisContext): Anal
   const wavelength = settings.wavelength ?? pattern.wavelength ?? anodeWavelength('Cu');
   if (!settings.wavelength && !pattern.wavelength) warnings.push('the file names no wavelength; Cu Kα1/Kα2 assumed');
 
-  const search = findPeaks(pattern, { wavelength });
+  const search = findPeaks(pattern, { wavelength, backgroundHalfWidthDeg: settings.backgroundHalfWidthDeg ?? undefined });
   const peaks = search.peaks;
   const match = matchPhases(peaks, references, {
     wavelength,
@@ -166,6 +171,7 @@ export function analyzePattern(pattern: Pattern, context: AnalysisContext): Anal
       breadth: size.breadth,
       correction: size.correction,
       target: settings.target,
+      backgroundHalfWidthDeg: settings.backgroundHalfWidthDeg,
       instrument: context.instrument?.name ?? null,
       sizePhase: sizeReference?.name ?? null,
     },

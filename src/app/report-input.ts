@@ -53,7 +53,7 @@ export function reportInput(workspace: Workspace, appVersion: string): ReportInp
       ['Scherrer K', String(s.scherrerK)],
       ['breadth', s.breadth === 'fwhm' ? 'FWHM' : 'integral breadth'],
       ['instrument correction', s.correction],
-      ['background (SNIP half-width, ° 2θ)', String(s.backgroundHalfWidthDeg)],
+      ['background (SNIP half-width, ° 2θ)', s.backgroundHalfWidthDeg === null ? 'automatic (1, widened to broad peaks)' : String(s.backgroundHalfWidthDeg)],
     ],
     instrument: instrument
       ? [

@@ -331,7 +331,6 @@ export class Workspace {
     if (!this.context) {
       const { doc } = this.project();
       const s = doc.analysis;
-      // backgroundHalfWidthDeg rides along for the pipeline's peak search (a field it may take; extra fields are ignored).
       const settings = {
         wavelength: parseWavelength(s.wavelength),
         toleranceDeg: s.toleranceDeg,
@@ -381,7 +380,7 @@ export class Workspace {
     const cached = this.curves.get(id);
     if (cached) return cached;
     const kept = (result as { curves?: { background: Float64Array | number[]; model: Float64Array | number[] } }).curves;
-    const search = kept ? null : findPeaks(pattern, { wavelength: result.wavelength, backgroundHalfWidthDeg: this.project().doc.analysis.backgroundHalfWidthDeg });
+    const search = kept ? null : findPeaks(pattern, { wavelength: result.wavelength, backgroundHalfWidthDeg: this.project().doc.analysis.backgroundHalfWidthDeg ?? undefined });
     const curves = {
       x: pattern.x,
       y: pattern.y,

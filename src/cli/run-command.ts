@@ -38,3 +38,9 @@ export function numberOption(name: string, text: string | undefined, check: (v: 
   }
   return value;
 }
+
+/** The shared --background option: the SNIP clipping half-width in degrees 2θ, or undefined for automatic. */
+export const BACKGROUND_OPTION_HELP = 'background clipping half-width, degrees 2θ (default: automatic, 1.0 widened to broad peaks)';
+export function backgroundOption(text: string | undefined): number | undefined {
+  return numberOption('--background', text, (v) => v > 0 && v <= 20, 'give a half-width in degrees 2θ between 0 and 20, such as 1');
+}

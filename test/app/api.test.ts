@@ -116,5 +116,19 @@ describe('a project from drop to report', () => {
     expect(rows[0]).toMatch(/^sample,file,sha256/);
     expect(rows.length).toBe(3);
     expect(file.text).toMatch(/# setting target phase: silicon test/);
+    expect(file.text).toMatch(/# setting background \(SNIP half-width, ° 2θ\): automatic/);
+  });
+
+  it('analyses with the background width of the settings (automatic unless set) and reports it', async () => {
+    type Detail = { peaks: Array<{ area: number }> };
+    const before = await ok<Detail>('sample.get', { id: sampleId });
+    await ok('project.settings', { settings: { backgroundHalfWidthDeg: 0.25 } });
+    await ok('sample.reanalyze', { id: sampleId });
+    const after = await ok<Detail>('sample.get', { id: sampleId });
+    expect(after.peaks.map((p) => p.area)).not.toEqual(before.peaks.map((p) => p.area));
+    const csv = await ok<{ text: string }>('report.build', { format: 'csv' });
+    expect(csv.text).toMatch(/# setting background \(SNIP half-width, ° 2θ\): 0\.25/);
+    await ok('project.settings', { settings: { backgroundHalfWidthDeg: null } });
+    expect((await api.call('project.settings', { settings: { backgroundHalfWidthDeg: 0 } })).ok).toBe(false);
   });
 });

@@ -123,6 +123,18 @@ describe('crystallog analyze over many files', () => {
     expect((JSON.parse(stdout) as { files: Array<{ file: string }> }).files.map((f) => f.file)).toEqual([files[1], files[0]]);
   }, 60_000);
 
+  it('searches with the background width given by --background and records it; refuses an impossible one', async () => {
+    const given = await run({ workers: '1', background: '0.5' }, [files[0]]);
+    const automatic = await run({ workers: '1' }, [files[0]]);
+    type Settings = { files: Array<{ settings: { backgroundHalfWidthDeg: number | null }; peaks: Array<{ area: number }> }> };
+    const a = (JSON.parse(given.stdout) as Settings).files[0];
+    const b = (JSON.parse(automatic.stdout) as Settings).files[0];
+    expect(a.settings.backgroundHalfWidthDeg).toBe(0.5);
+    expect(b.settings.backgroundHalfWidthDeg).toBeNull();
+    expect(a.peaks.map((p) => p.area)).not.toEqual(b.peaks.map((p) => p.area));
+    await expect(run({ background: '-1' })).rejects.toThrow(/option --background -1: give a half-width/);
+  }, 60_000);
+
   it('refuses a target that is not in the library before starting any worker', async () => {
     await expect(run({ target: 'no-such-phase' })).rejects.toThrow(InputError);
     await expect(run({ target: 'no-such-phase' })).rejects.toThrow(/no-such-phase/);

@@ -4,6 +4,7 @@ import { simulatePattern } from '../../src/crystal/simulate.js';
 import { InputError } from '../../src/errors.js';
 import type { StoredReference } from '../../src/library/reference.js';
 import { dFromTwoTheta } from '../../src/pattern/units.js';
+import { findPeaks } from '../../src/process/peaks.js';
 import { anodeWavelength } from '../../src/pattern/wavelengths.js';
 
 const cu = anodeWavelength('Cu');
@@ -49,6 +50,20 @@ describe('analyzePattern', () => {
   it('gives the same JSON twice for the same pattern and context', () => {
     const context = createAnalysisContext(references, null, {});
     expect(JSON.stringify(analyzePattern(pattern, context))).toBe(JSON.stringify(analyzePattern(pattern, context)));
+  });
+
+  it('searches peaks with the background width asked for, automatic unless set, and records which', () => {
+    const automatic = analyzePattern(pattern, createAnalysisContext(references, null, {}));
+    const narrow = analyzePattern(pattern, createAnalysisContext(references, null, { backgroundHalfWidthDeg: 0.3 }));
+    expect(automatic.settings.backgroundHalfWidthDeg).toBeNull();
+    expect(narrow.settings.backgroundHalfWidthDeg).toBe(0.3);
+    // The same peaks as a search with that width: the setting reaches the search, not only a drawn curve.
+    const byHand = (width?: number) => findPeaks(pattern, { wavelength: cu, backgroundHalfWidthDeg: width }).peaks;
+    expect(narrow.peaks).toEqual(byHand(0.3));
+    expect(automatic.peaks).toEqual(byHand(undefined));
+    // A 0.3° window clips into the tails of 40 nm peaks (FWHM ≈ 0.2°): the areas come out smaller.
+    const area = (peaks: typeof narrow.peaks) => peaks.reduce((sum, p) => sum + p.area, 0);
+    expect(area(narrow.peaks)).toBeLessThan(0.95 * area(automatic.peaks));
   });
 
   it('refuses a target missing from the library', () => {

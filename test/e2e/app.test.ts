@@ -140,6 +140,12 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     const text = (await alert.textContent()) ?? '';
     expect(text).toMatch(/broken\.xy, line 3: .*not a number/);
     expect(text).not.toMatch(/at .*\.(ts|js):\d+/);
+    // The same file refused again counts up on the same line instead of stacking another.
+    const again = page.waitForEvent('filechooser');
+    await page.getByTestId('open-patterns').click();
+    await (await again).setFiles(file);
+    await page.getByRole('alert').filter({ hasText: '(×2)' }).waitFor();
+    expect(await page.getByRole('alert').count()).toBe(1);
     await shot('05-malformed-file');
     await alert.getByRole('button', { name: 'Dismiss' }).click();
   });

@@ -8,7 +8,7 @@ import { parseInstrumentProfile, type InstrumentProfile } from '../../size/instr
 import { resolveScherrerK } from '../../size/scherrer.js';
 import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../../size/voigt.js';
 import { loadAllReferences } from '../io.js';
-import { numberOption, runCommand } from '../run-command.js';
+import { BACKGROUND_OPTION_HELP, backgroundOption, numberOption, runCommand } from '../run-command.js';
 
 export interface AnalyzeCommandOptions {
   library: string;
@@ -19,6 +19,7 @@ export interface AnalyzeCommandOptions {
   k?: string;
   breadth?: string;
   correction?: string;
+  background?: string;
   workers?: string;
   filesFrom?: string;
   jsonl?: boolean;
@@ -54,6 +55,7 @@ export function registerAnalyze(program: Command): void {
     .option('--k <k>', 'Scherrer K, a number or preset (default 0.9)')
     .option('--breadth <kind>', 'fwhm or integral (default fwhm)')
     .option('--correction <kind>', 'voigt, lorentzian or gaussian (default voigt)')
+    .option('--background <deg>', BACKGROUND_OPTION_HELP)
     .option('--workers <n>', `worker threads (default: the number of cores, here ${defaultWorkerCount()})`)
     .option('--files-from <list>', 'read more file paths from this list, one per line ("-" for standard input)')
     .option('--jsonl', 'print one JSON line per file as each finishes (with its input index)')
@@ -127,6 +129,8 @@ function settingsFromOptions(o: AnalyzeCommandOptions): Partial<AnalysisSettings
   if (o.breadth !== undefined) settings.breadth = oneOf('--breadth', o.breadth, BREADTH_KINDS);
   if (o.correction !== undefined) settings.correction = oneOf('--correction', o.correction, CORRECTION_KINDS);
   if (o.target !== undefined) settings.target = o.target;
+  const backgroundHalfWidthDeg = backgroundOption(o.background);
+  if (backgroundHalfWidthDeg !== undefined) settings.backgroundHalfWidthDeg = backgroundHalfWidthDeg;
   return settings;
 }
 

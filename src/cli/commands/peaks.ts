@@ -3,7 +3,7 @@ import { readPatternFile } from '../../pattern/read.js';
 import { anodeWavelength, parseWavelength, type Wavelength } from '../../pattern/wavelengths.js';
 import { findPeaks } from '../../process/peaks.js';
 import type { FittedPeak } from '../../process/types.js';
-import { numberOption, runCommand } from '../run-command.js';
+import { BACKGROUND_OPTION_HELP, backgroundOption, numberOption, runCommand } from '../run-command.js';
 
 export interface PeaksCommandOptions {
   wavelength?: string;
@@ -38,7 +38,7 @@ export function registerPeaks(program: Command): void {
     .argument('<file>', 'pattern file (xy text, CSV or pdCIF)')
     .option('--wavelength <w>', 'Cu, Co, Fe, Cr, Mo, Ag or a number in Å (default: from the file, else Cu)')
     .option('--threshold <sigma>', 'a peak must stand this many σ above the background (default 3)')
-    .option('--background <deg>', 'background clipping half-width, degrees 2θ (default 1.0)')
+    .option('--background <deg>', BACKGROUND_OPTION_HELP)
     .option('--json', 'print one JSON document')
     .action(async (file: string, options: PeaksCommandOptions) => {
       await runCommand(options.json === true, () => peaksReport(file, options), peaksText);
@@ -47,7 +47,7 @@ export function registerPeaks(program: Command): void {
 
 export function peaksReport(file: string, options: PeaksCommandOptions): PeaksReport {
   const thresholdSigma = numberOption('--threshold', options.threshold, (v) => v > 0 && v <= 100, 'give a positive number of σ, such as 3') ?? 3;
-  const backgroundHalfWidthDeg = numberOption('--background', options.background, (v) => v > 0 && v <= 20, 'give a half-width in degrees 2θ between 0 and 20, such as 1');
+  const backgroundHalfWidthDeg = backgroundOption(options.background);
   const pattern = readPatternFile(file);
   let wavelength: Wavelength;
   let source: PeaksReport['wavelength']['source'];
