@@ -17,7 +17,7 @@ export {
   type ReflectionList,
 } from './reflections.js';
 export { readCifStructure, type AtomSite, type CrystalStructure } from './structure.js';
-export { expandToUnitCell, formFactor, structureFactorSquared } from './structure-factors.js';
+export { dispersionForWavelength, expandToUnitCell, formFactor, powderStructureFactorSquared, structureFactorSquared, type Dispersion } from './structure-factors.js';
 export {
   computePowderLines,
   lorentzPolarization,

@@ -5,7 +5,7 @@ import type { UnitCell } from './cell.js';
 import { enumerateReflections, generateReflections, spaceGroupOfCell } from './reflections.js';
 import { SCATTERING_FACTOR_SOURCE } from './scattering-factors.js';
 import type { CrystalStructure } from './structure.js';
-import { expandToUnitCell, structureFactorContext, structureFactorSquared } from './structure-factors.js';
+import { dispersionForWavelength, expandToUnitCell, powderStructureFactorSquared, structureFactorContext, type Dispersion } from './structure-factors.js';
 
 const DEG = Math.PI / 180;
 
@@ -30,6 +30,11 @@ export interface PowderOptions {
   dMinAngstrom?: number;
   /** Monochromator 2θ in degrees (omit for none). */
   monochromatorTwoThetaDeg?: number;
+  /**
+   * Add the anomalous-dispersion terms f′, f″ of the wavelength's Kα1 line when it is a tabulated
+   * anode line (default true); other wavelengths get none either way.
+   */
+  anomalousDispersion?: boolean;
 }
 
 /** One class of equivalent reflections with its computed intensity. */
@@ -38,7 +43,7 @@ export interface PowderLine {
   d: number;
   twoThetaDeg: number;
   multiplicity: number;
-  /** |F|² in electrons². */
+  /** ½(|F(hkl)|² + |F(−h−k−l)|²) in electrons² (the two differ only with f″ in a non-centrosymmetric structure). */
   fSquared: number;
   /** Multiplicity × |F|² × LP, scaled so the strongest line is 100. */
   relativeIntensity: number;
@@ -46,7 +51,7 @@ export interface PowderLine {
 
 const DEFAULT_TWO_THETA_MAX_DEG = 150;
 
-function checkOptions(options: PowderOptions): { lambda: number; dMin: number } {
+function checkOptions(options: PowderOptions): { lambda: number; dMin: number; dispersion: Dispersion } {
   const lambda = options.wavelength.lambda1;
   if (!(Number.isFinite(lambda) && lambda > 0)) throw new InputError(`wavelength ${lambda} Å is not usable`);
   const reach = lambda / 2;
@@ -56,15 +61,16 @@ function checkOptions(options: PowderOptions): { lambda: number; dMin: number } 
   if (m !== undefined && !(Number.isFinite(m) && m >= 0 && m < 180)) {
     throw new InputError(`monochromator angle ${m}° 2θ must lie between 0° and 180°`);
   }
-  return { lambda, dMin: Math.max(requested, reach * (1 + 1e-9)) };
+  return { lambda, dMin: Math.max(requested, reach * (1 + 1e-9)), dispersion: dispersionForWavelength(lambda, options.anomalousDispersion ?? true) };
 }
 
 /**
  * Powder lines of a structure, one per class of equivalent reflections (not merged with
- * accidental coincidences), intensities = multiplicity × |F|² × LP relative to the strongest = 100.
+ * accidental coincidences), intensities = multiplicity × |F|² × LP relative to the strongest = 100,
+ * |F|² with the anomalous dispersion of the wavelength (see PowderOptions.anomalousDispersion).
  */
 export function computePowderLines(structure: CrystalStructure, options: PowderOptions): PowderLine[] {
-  const { lambda, dMin } = checkOptions(options);
+  const { lambda, dMin, dispersion } = checkOptions(options);
   const list = enumerateReflections(structure.cell, structure.spaceGroup, dMin);
   const limits: [number, number, number] = [0, 0, 0];
   for (let i = 0; i < list.count; i++) {
@@ -72,13 +78,13 @@ export function computePowderLines(structure: CrystalStructure, options: PowderO
     limits[1] = Math.max(limits[1], Math.abs(list.k[i]));
     limits[2] = Math.max(limits[2], Math.abs(list.l[i]));
   }
-  const ctx = structureFactorContext(expandToUnitCell(structure), limits);
+  const ctx = structureFactorContext(expandToUnitCell(structure), limits, dispersion.terms);
   const lines: PowderLine[] = [];
   let strongest = 0;
   for (let i = 0; i < list.count; i++) {
     const d = list.d[i];
     const s2 = 1 / (4 * d * d);
-    const fSquared = structureFactorSquared(ctx, list.h[i], list.k[i], list.l[i], s2);
+    const fSquared = powderStructureFactorSquared(ctx, list.h[i], list.k[i], list.l[i], s2);
     const twoThetaDeg = (2 * Math.asin(lambda / (2 * d))) / DEG;
     const raw = list.multiplicity[i] * fSquared * lorentzPolarization(twoThetaDeg, options.monochromatorTwoThetaDeg);
     if (raw > strongest) strongest = raw;
@@ -126,7 +132,7 @@ export function referenceFromStructure(structure: CrystalStructure, options: Pow
   const kept = merged
     .map((l) => ({ ...l, intensity: roundTo((100 * (l.intensity ?? 0)) / strongest, 3) }))
     .filter((l) => l.intensity >= MIN_RELATIVE_INTENSITY);
-  const { lambda, dMin } = checkOptions(options);
+  const { lambda, dMin, dispersion } = checkOptions(options);
   const mono = options.monochromatorTwoThetaDeg === undefined ? 'no monochromator' : `monochromator at ${options.monochromatorTwoThetaDeg}° 2θ`;
   return {
     name: structure.name,
@@ -140,7 +146,7 @@ export function referenceFromStructure(structure: CrystalStructure, options: Pow
     cell: { ...structure.cell },
     intensityBasis:
       `computed from crystal structure for ${options.wavelength.label} (λ = ${lambda} Å, Kα1 only), Bragg–Brentano ` +
-      `Lorentz–polarization, ${mono}; X-ray scattering factors: ${SCATTERING_FACTOR_SOURCE}; isotropic displacement; no anomalous dispersion`,
+      `Lorentz–polarization, ${mono}; X-ray scattering factors: ${SCATTERING_FACTOR_SOURCE}; isotropic displacement; ${dispersion.description}`,
     lines: kept,
   };
 }

@@ -128,7 +128,8 @@ export interface RirOptions extends Omit<PowderOptions, 'dMinAngstrom'> {
 /**
  * Computed reference intensity ratio I/Ic: strongest-line intensity of the phase over that of
  * corundum in a 50:50 weight mixture, = [max(m|F|²LP)/(V²ρ)]phase / [same]corundum, with the same
- * wavelength, Lorentz–polarization and scattering factors (Chung, J. Appl. Cryst. 7, 519 (1974);
+ * wavelength, Lorentz–polarization and scattering factors, anomalous dispersion of that wavelength
+ * included for both (Chung, J. Appl. Cryst. 7, 519 (1974);
  * Hubbard & Snyder, Powder Diffraction 3, 74 (1988)).
  */
 export function referenceIntensityRatio(structure: CrystalStructure, options: RirOptions): number {

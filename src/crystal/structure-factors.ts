@@ -1,4 +1,6 @@
 import { InputError } from '../errors.js';
+import type { AnodeName } from '../pattern/wavelengths.js';
+import { ANOMALOUS_SCATTERING, ANOMALOUS_SCATTERING_SOURCE } from './anomalous-scattering.js';
 import { cellMetric } from './metric.js';
 import { SCATTERING_FACTORS } from './scattering-factors.js';
 import { TRANSLATION_DENOMINATOR } from './symop.js';
@@ -98,6 +100,37 @@ export function expandToUnitCell(structure: CrystalStructure): UnitCellAtoms {
   };
 }
 
+/** The anomalous-dispersion terms f′, f″ used at one wavelength, and a sentence saying which. */
+export interface Dispersion {
+  /** Element symbol → [f′, f″] in electrons, or null for none (f = f0 alone). */
+  terms: Readonly<Record<string, readonly [number, number]>> | null;
+  description: string;
+}
+
+/** A wavelength within this relative distance of a tabulated anode Kα1 line takes that line's f′, f″. */
+export const DISPERSION_WAVELENGTH_TOLERANCE = 1e-3;
+
+/**
+ * The f′, f″ of the anode Kα1 line that λ is (within DISPERSION_WAVELENGTH_TOLERANCE), from the
+ * table exported from xraylib; none for any other wavelength, or when switched off.
+ */
+export function dispersionForWavelength(lambdaAngstrom: number, enabled = true): Dispersion {
+  if (!enabled) return { terms: null, description: 'no anomalous dispersion (switched off)' };
+  for (const anode of Object.keys(ANOMALOUS_SCATTERING) as AnodeName[]) {
+    const line = ANOMALOUS_SCATTERING[anode];
+    if (Math.abs(lambdaAngstrom / line.wavelengthAngstrom - 1) <= DISPERSION_WAVELENGTH_TOLERANCE) {
+      return {
+        terms: line.terms,
+        description: `anomalous dispersion f′, f″ of ${anode} Kα1 (${line.wavelengthAngstrom} Å; ${ANOMALOUS_SCATTERING_SOURCE})`,
+      };
+    }
+  }
+  return {
+    terms: null,
+    description: `no anomalous dispersion (λ = ${lambdaAngstrom} Å is not within ${DISPERSION_WAVELENGTH_TOLERANCE * 100} % of a tabulated anode Kα1 line)`,
+  };
+}
+
 /**
  * Precomputed tables for repeated structure-factor sums over one unit cell: for each atom,
  * cos and sin of 2πhx for every index h within the limits (so a reflection's phase factor is a
@@ -106,16 +139,29 @@ export function expandToUnitCell(structure: CrystalStructure): UnitCellAtoms {
 export interface StructureFactorContext {
   atoms: UnitCellAtoms;
   coefficients: Array<readonly number[]>;
+  /** Per element: anomalous-dispersion terms f′ and f″ (zeros without dispersion). */
+  fPrime: Float64Array;
+  fDoublePrime: Float64Array;
   limits: [number, number, number];
   cos: [Float64Array, Float64Array, Float64Array];
   sin: [Float64Array, Float64Array, Float64Array];
-  /** Scratch: form factor of each element, weight of each site, at the current s². */
+  /** Scratch: f0 + f′ of each element, real and imaginary weight of each site, at the current s². */
   f: Float64Array;
   weight: Float64Array;
+  weightImag: Float64Array;
+  /** Scratch: [Re P, Im P, Re Q, Im Q] of the last sum, F(hkl) = P + iQ (see structureFactorParts). */
+  sum: Float64Array;
 }
 
-/** A context for reflections with |h| ≤ limits[0], |k| ≤ limits[1], |l| ≤ limits[2]. */
-export function structureFactorContext(atoms: UnitCellAtoms, limits: [number, number, number]): StructureFactorContext {
+/**
+ * A context for reflections with |h| ≤ limits[0], |k| ≤ limits[1], |l| ≤ limits[2], with the
+ * anomalous-dispersion terms of the wavelength (dispersionForWavelength(λ).terms; null for none).
+ */
+export function structureFactorContext(
+  atoms: UnitCellAtoms,
+  limits: [number, number, number],
+  dispersion: Dispersion['terms'] = null,
+): StructureFactorContext {
   const coordinates = [atoms.x, atoms.y, atoms.z];
   const cos: Float64Array[] = [];
   const sin: Float64Array[] = [];
@@ -133,33 +179,50 @@ export function structureFactorContext(atoms: UnitCellAtoms, limits: [number, nu
     cos.push(c);
     sin.push(s);
   }
+  const terms = atoms.elements.map((element) => {
+    if (dispersion === null) return [0, 0] as const;
+    const t = dispersion[element];
+    if (!t) throw new InputError(`no anomalous-dispersion terms are tabulated for element "${element}"`);
+    return t;
+  });
   return {
     atoms,
     coefficients: atoms.elements.map(formFactorCoefficients),
+    fPrime: Float64Array.from(terms, (t) => t[0]),
+    fDoublePrime: Float64Array.from(terms, (t) => t[1]),
     limits,
     cos: cos as [Float64Array, Float64Array, Float64Array],
     sin: sin as [Float64Array, Float64Array, Float64Array],
     f: new Float64Array(atoms.elements.length),
     weight: new Float64Array(atoms.siteOccupancy.length),
+    weightImag: new Float64Array(atoms.siteOccupancy.length),
+    sum: new Float64Array(4),
   };
 }
 
 /**
- * |F(hkl)|² = |Σ_j occ_j f_j(s) exp(−B_j s²) exp(2πi h·x_j)|² over all atoms of the cell,
- * with s² = 1/(4d²); no anomalous dispersion. Indices must lie within the context's limits.
- * Allocates nothing.
+ * F(hkl) = Σ_j T_j occ_j [(f0_j(s) + f′_j) + i f″_j] exp(2πi h·x_j) over all atoms of the cell,
+ * T_j = exp(−B_j s²), s² = 1/(4d²) (International Tables for Crystallography Vol. C, sections 6.1.1
+ * and 4.2.6, from memory), kept as F = P + iQ with P = Σ T occ (f0 + f′) exp(2πi h·x), Q = Σ T occ f″ exp(2πi h·x):
+ * ctx.sum = [Re P, Im P, Re Q, Im Q]. Indices must lie within the context's limits. Allocates nothing.
  */
-export function structureFactorSquared(ctx: StructureFactorContext, h: number, k: number, l: number, s2: number): number {
-  const { atoms, coefficients, f, weight, cos, sin, limits } = ctx;
-  for (let e = 0; e < f.length; e++) f[e] = formFactor(coefficients[e], s2);
-  for (let s = 0; s < weight.length; s++) weight[s] = atoms.siteOccupancy[s] * f[atoms.siteSpecies[s]] * Math.exp(-atoms.siteB[s] * s2);
+export function structureFactorParts(ctx: StructureFactorContext, h: number, k: number, l: number, s2: number): Float64Array {
+  const { atoms, coefficients, fPrime, fDoublePrime, f, weight, weightImag, cos, sin, limits, sum } = ctx;
+  for (let e = 0; e < f.length; e++) f[e] = formFactor(coefficients[e], s2) + fPrime[e];
+  for (let s = 0; s < weight.length; s++) {
+    const t = atoms.siteOccupancy[s] * Math.exp(-atoms.siteB[s] * s2);
+    weight[s] = t * f[atoms.siteSpecies[s]];
+    weightImag[s] = t * fDoublePrime[atoms.siteSpecies[s]];
+  }
   const wx = 2 * limits[0] + 1;
   const wy = 2 * limits[1] + 1;
   const wz = 2 * limits[2] + 1;
   const [cx, cy, cz] = cos;
   const [sx, sy, sz] = sin;
-  let re = 0;
-  let im = 0;
+  let pRe = 0;
+  let pIm = 0;
+  let qRe = 0;
+  let qIm = 0;
   for (let j = 0; j < atoms.count; j++) {
     const ix = j * wx + h + limits[0];
     const iy = j * wy + k + limits[1];
@@ -167,9 +230,39 @@ export function structureFactorSquared(ctx: StructureFactorContext, h: number, k
     // (cx + i sx)(cy + i sy)(cz + i sz) = exp(2πi(hx + ky + lz))
     const abRe = cx[ix] * cy[iy] - sx[ix] * sy[iy];
     const abIm = cx[ix] * sy[iy] + sx[ix] * cy[iy];
-    const w = weight[atoms.site[j]];
-    re += w * (abRe * cz[iz] - abIm * sz[iz]);
-    im += w * (abRe * sz[iz] + abIm * cz[iz]);
+    const re = abRe * cz[iz] - abIm * sz[iz];
+    const im = abRe * sz[iz] + abIm * cz[iz];
+    const a = weight[atoms.site[j]];
+    const b = weightImag[atoms.site[j]];
+    pRe += a * re;
+    pIm += a * im;
+    qRe += b * re;
+    qIm += b * im;
   }
+  sum[0] = pRe;
+  sum[1] = pIm;
+  sum[2] = qRe;
+  sum[3] = qIm;
+  return sum;
+}
+
+/**
+ * |F(hkl)|² of the one reflection hkl, F = P + iQ (structureFactorParts): with f″ ≠ 0 a
+ * non-centrosymmetric structure has |F(hkl)|² ≠ |F(−h−k−l)|² (Friedel's law fails). Allocates nothing.
+ */
+export function structureFactorSquared(ctx: StructureFactorContext, h: number, k: number, l: number, s2: number): number {
+  const sum = structureFactorParts(ctx, h, k, l, s2);
+  const re = sum[0] - sum[3];
+  const im = sum[1] + sum[2];
   return re * re + im * im;
+}
+
+/**
+ * ½(|F(hkl)|² + |F(−h−k−l)|²) = |P|² + |Q|², what a powder line of hkl and its Friedel mate
+ * carries per reflection (F(−h) = P* + iQ*); equal to |F(hkl)|² when f″ = 0 or the structure is
+ * centrosymmetric. Allocates nothing.
+ */
+export function powderStructureFactorSquared(ctx: StructureFactorContext, h: number, k: number, l: number, s2: number): number {
+  const sum = structureFactorParts(ctx, h, k, l, s2);
+  return sum[0] * sum[0] + sum[1] * sum[1] + sum[2] * sum[2] + sum[3] * sum[3];
 }
