@@ -1,7 +1,7 @@
 #!/usr/bin/env node
 // `npm start`: the desktop window when the Electron runtime is installed and can run here; otherwise
 // browser mode, saying why. Flags: --browser (always browser mode), --no-open (print the address only).
-import { spawn } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
 import { existsSync, readFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { dirname, join } from 'node:path';
@@ -10,7 +10,10 @@ import { fileURLToPath } from 'node:url';
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const args = process.argv.slice(2);
 
-/** The Electron executable, or the reason it cannot be used (never triggers a download). */
+/** How long the first launch may spend fetching the Electron runtime before browser mode is used instead. */
+const RUNTIME_FETCH_LIMIT_MS = 180_000;
+
+/** The Electron executable, or the reason it cannot be used. */
 function electronRuntime() {
   if (args.includes('--browser')) return { reason: 'asked for with --browser' };
   if (process.platform === 'linux' && !process.env.DISPLAY && !process.env.WAYLAND_DISPLAY) {
@@ -22,14 +25,28 @@ function electronRuntime() {
   } catch {
     return { reason: 'the electron package is not installed' };
   }
+  if (!existsSync(join(root, 'dist', 'electron', 'main.js'))) return { reason: 'the desktop shell is not built (run "npm run build")' };
+  let executable = installedExecutable(dir);
+  if (!executable) {
+    // The electron package installs without its runtime and fetches it at first launch, with its own downloader.
+    process.stderr.write('Crystallog: fetching the desktop runtime (Electron, about 100 MB) for the first launch…\n');
+    const fetched = spawnSync(process.execPath, [join(dir, 'install.js')], { stdio: ['ignore', 'inherit', 'pipe'], encoding: 'utf8', timeout: RUNTIME_FETCH_LIMIT_MS });
+    executable = installedExecutable(dir);
+    if (!executable) {
+      const firstLine = (fetched.stderr ?? '').split('\n').find((line) => line.trim() !== '')?.trim();
+      const why = fetched.error ? fetched.error.message : (firstLine ?? `the download ended with exit code ${fetched.status}`);
+      return { reason: `the desktop runtime could not be fetched (${why}; offline?)` };
+    }
+  }
+  return { executable };
+}
+
+/** The Electron executable the package recorded, if it is on disk. */
+function installedExecutable(dir) {
   const pathFile = join(dir, 'path.txt');
   const relative = existsSync(pathFile) ? readFileSync(pathFile, 'utf8').trim() : '';
   const executable = relative ? join(dir, 'dist', relative) : '';
-  if (!executable || !existsSync(executable)) {
-    return { reason: 'the Electron runtime was not downloaded when the packages were installed (offline install?)' };
-  }
-  if (!existsSync(join(root, 'dist', 'electron', 'main.js'))) return { reason: 'the desktop shell is not built (run "npm run build")' };
-  return { executable };
+  return executable && existsSync(executable) ? executable : null;
 }
 
 async function browserMode(reason) {
@@ -50,11 +67,13 @@ async function browserMode(reason) {
 const runtime = electronRuntime();
 if (runtime.executable) {
   const started = Date.now();
-  const child = spawn(runtime.executable, [root], { stdio: 'inherit' });
+  // The shell runs the app's engine with this Node.js, which built the native modules (see electron/main.ts).
+  const child = spawn(runtime.executable, [root], { stdio: 'inherit', env: { ...process.env, CRYSTALLOG_NODE: process.execPath } });
   child.on('error', (err) => void browserMode(`the Electron runtime could not start (${err.message})`));
   child.on('exit', (code) => {
     // A crash within seconds of launch means this machine cannot run it: fall back rather than leave the user with nothing.
-    if (code !== 0 && Date.now() - started < 5000) void browserMode(`the Electron runtime stopped at launch (exit code ${code})`);
+    // Exit code 3 is the shell's own word for it (its engine could not start; electron/main.ts).
+    if (code === 3 || (code !== 0 && Date.now() - started < 5000)) void browserMode(`the desktop window could not run here (exit code ${code})`);
     else process.exitCode = code ?? 0;
   });
 } else {

@@ -1,10 +1,11 @@
-// The desktop shell: one window, the menu, native dialogs and the IPC bridge. Everything else is in src/app.
+// The desktop shell: one window, the menu, native dialogs and the IPC bridge. Everything else is in src/app,
+// run by the system's Node.js in a process of its own (engine-client.ts): this runtime's Node.js has another ABI.
 import { app, BrowserWindow, dialog, ipcMain, Menu, protocol, session, shell, type IpcMainInvokeEvent, type MenuItemConstructorOptions } from 'electron';
 import { readFile, writeFile } from 'node:fs/promises';
 import { basename, dirname, extname, join, normalize, sep } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { z } from 'zod';
-import { createAppApi } from '../src/app/api.js';
+import { startEngine } from '../src/app/engine-client.js';
 import { IPC, type MenuAction, type PickedFile } from '../src/app/bridge.js';
 import { CONTENT_SECURITY_POLICY } from '../src/host/server.js';
 
@@ -15,7 +16,8 @@ const ORIGIN = 'app://crystallog';
 protocol.registerSchemesAsPrivileged([{ scheme: 'app', privileges: { standard: true, secure: true, supportFetchAPI: false } }]);
 app.enableSandbox();
 
-const api = createAppApi({ mode: 'electron' });
+// `npm start` passes the Node.js it runs on; started otherwise, the first `node` on the PATH.
+const api = startEngine({ nodePath: process.env.CRYSTALLOG_NODE || 'node', script: join(here, '..', 'src', 'app', 'engine-process.js') });
 let mainWindow: BrowserWindow | null = null;
 
 const saveSchema = z.object({ suggestedName: z.string().min(1).max(200), text: z.string().optional(), bytesBase64: z.string().optional() }).strict();
@@ -166,7 +168,17 @@ app.on('web-contents-created', (_event, contents) => {
   });
 });
 
-app.whenReady().then(() => {
+/** Exit code that tells `npm start` the desktop shell cannot run here, so it opens browser mode instead. */
+const CANNOT_RUN_HERE = 3;
+
+app.whenReady().then(async () => {
+  try {
+    await api.ready;
+  } catch (err) {
+    dialog.showErrorBox('Crystallog could not start its engine', `${err instanceof Error ? err.message : String(err)}\n\nStart Crystallog with "npm start"; it opens in your browser where the desktop window cannot run.`);
+    app.exit(CANNOT_RUN_HERE);
+    return;
+  }
   session.defaultSession.setPermissionRequestHandler((_contents, _permission, callback) => callback(false));
   session.defaultSession.setPermissionCheckHandler(() => false);
   serveRenderer();
