@@ -22,8 +22,7 @@ export function notify(message: string, tone: 'info' | 'error' | 'done' = 'info'
   const item = h(
     'div',
     { class: `message ${tone}`, role: tone === 'error' ? 'alert' : 'status', 'data-message': message, 'data-tone': tone },
-    h('span', {}, message),
-    h('span', { class: 'times' }),
+    h('span', {}, message, h('span', { class: 'times' })),
     h('button', { class: 'quiet', 'aria-label': 'Dismiss', onclick: () => item.remove() }, '×'),
   );
   area.append(item);
