@@ -151,15 +151,20 @@ export function analyzeSeries(samples: readonly SeriesSample[], options: SeriesO
 
   const warnings: string[] = [];
   if (timed.length > 0 && timed.length < samples.length) warnings.push('only some samples have an exposure time: the series is treated as workup variants');
-  const byArea = new Set(samples.flatMap((s) => s.otherPhases.filter((p) => p.basis === 'peak area share').map((p) => p.name)));
-  for (const name of byArea) {
+  const byArea = [...new Set(samples.flatMap((s) => s.otherPhases.filter((p) => p.basis === 'peak area share').map((p) => p.name)))];
+  if (byArea.length > 0) {
+    // One warning for all such phases (a long series may name many).
+    const shown = byArea.length > MAX_NAMES_IN_WARNING ? `${byArea.slice(0, MAX_NAMES_IN_WARNING).join(', ')} and ${byArea.length - MAX_NAMES_IN_WARNING} more phases are` : byArea.length === 1 ? `${byArea[0]} is` : `${byArea.join(', ')} are`;
     warnings.push(
-      `${name} is given as a share of the measured peak area on the peaks only it explains (lines shared with other phases not counted): a lower bound, not a weight fraction; references with a reference intensity ratio (RIR) give weight fractions`,
+      `${shown} given as a share of the measured peak area on the peaks only that phase explains (lines shared with other phases not counted): a lower bound, not a weight fraction; references with a reference intensity ratio (RIR) give weight fractions`,
     );
   }
   const references = mergeReferences(samples);
   return { kind, rows, comparison, growth, settings: reference, references, warnings, cautions: [...SIZE_CAUTIONS] };
 }
+
+/** Phases named one by one in a warning before the rest are counted. */
+const MAX_NAMES_IN_WARNING = 5;
 
 function growthOfOtherPhases(samples: readonly SeriesSample[]): SeriesGrowth[] {
   const names = new Map<string, SeriesPhaseShare['basis']>();

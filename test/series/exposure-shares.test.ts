@@ -85,6 +85,18 @@ describe('shares from match results', () => {
     const samples = seriesSamplesFromAnalyses([analysis('a', [phase('target', {}), phase('impurity', { explainedAreaShare: 0.5, exclusiveAreaShare: 0.04 })])], { target: 'target' });
     expect(samples[0].otherPhases).toEqual([{ name: 'impurity', share: 0.04, basis: 'peak area share' }]);
     const r = analyzeSeries(samples.map((s) => ({ ...s, size: results[0].size })));
-    expect(r.warnings.join(' ')).toMatch(/impurity is given as a share of the measured peak area on the peaks only it explains/);
+    expect(r.warnings.join(' ')).toMatch(/impurity is given as a share of the measured peak area on the peaks only that phase explains/);
+  });
+
+  it('names such phases in one warning, however many there are', () => {
+    const names = ['p1', 'p2', 'p3', 'p4', 'p5', 'p6', 'p7'];
+    const samples = seriesSamplesFromAnalyses(
+      names.map((n) => analysis(n, [phase('target', {}), phase(n, { explainedAreaShare: 0.5, exclusiveAreaShare: 0.04 })])),
+      { target: 'target' },
+    );
+    const r = analyzeSeries(samples.map((s) => ({ ...s, size: results[0].size })));
+    const shares = r.warnings.filter((w) => w.includes('share of the measured peak area'));
+    expect(shares).toHaveLength(1);
+    expect(shares[0]).toMatch(/^p1, p2, p3, p4, p5 and 2 more phases are given as a share/);
   });
 });
