@@ -7,11 +7,15 @@ import { createHash } from 'node:crypto';
 import { InputError } from '../errors.js';
 import type { StoredReference } from '../library/reference.js';
 import { buildReferenceIndex, matchPhases, type MatchResult, type ReferenceIndex } from '../match/index.js';
+import type { MatchedLine, PhaseMatch } from '../match/types.js';
 import type { Pattern } from '../pattern/pattern.js';
 import { anodeWavelength, type Wavelength } from '../pattern/wavelengths.js';
 import { findPeaks } from '../process/peaks.js';
+import { twoThetaFromD } from '../pattern/units.js';
 import type { FittedPeak } from '../process/types.js';
+import type { OtherPhaseLine } from '../size/assign.js';
 import type { InstrumentProfile } from '../size/instrument.js';
+import { median } from '../size/numeric.js';
 import { crystalliteSizes, type SizeResult } from '../size/sizes.js';
 import type { BreadthKind, CorrectionKind } from '../size/voigt.js';
 
@@ -138,9 +142,7 @@ export function analyzePattern(pattern: Pattern, context: AnalysisContext): Anal
   const sizePhaseMatch = present.find((p) => p.name.toLowerCase() === targetName) ?? present[0] ?? null;
   const byName = context.referenceByName;
   const sizeReference = sizePhaseMatch ? (byName.get(sizePhaseMatch.name) ?? null) : null;
-  const otherLines = present
-    .filter((p) => p !== sizePhaseMatch)
-    .flatMap((p) => p.lines.map((line) => line.twoThetaExpected));
+  const otherLines = present.filter((p) => p !== sizePhaseMatch).flatMap((p) => otherPhaseLines(p, byName.get(p.name), peaks, wavelength));
   const size = crystalliteSizes(peaks, {
     wavelength,
     instrument: context.instrument,
@@ -149,7 +151,7 @@ export function analyzePattern(pattern: Pattern, context: AnalysisContext): Anal
     correction: settings.correction,
     phase: sizeReference ? { name: sizeReference.name, version: sizeReference.version, lines: sizeReference.lines } : null,
     toleranceDeg: settings.toleranceDeg,
-    otherLineTwoThetasDeg: otherLines,
+    otherLines,
   });
   if (!sizeReference) warnings.push('no phase was found present: sizes come from every fitted peak');
   warnings.push(...size.warnings);
@@ -178,4 +180,24 @@ export function analyzePattern(pattern: Pattern, context: AnalysisContext): Anal
     references: { count: references.length, libraryDigest: context.libraryDigest, used },
     warnings,
   };
+}
+
+/**
+ * Every line of another phase found present, for the size module's overlap test: where it lies, how high it
+ * should stand (the phase's scale, measured height over reference intensity, median over the lines it owns)
+ * and how broad its phase's peaks are — a line it did not match (hidden under a peak of the sized phase)
+ * still blends with that peak.
+ */
+function otherPhaseLines(phase: PhaseMatch, reference: StoredReference | undefined, peaks: readonly FittedPeak[], wavelength: Wavelength): OtherPhaseLine[] {
+  if (!reference) return [];
+  const own = phase.lines
+    .filter((line) => !line.shared && line.intensity !== null && line.intensity > 0)
+    // The match reports measured positions rounded to 1e-4°.
+    .map((line) => ({ line, peak: peaks.find((p) => Math.abs(p.twoTheta - line.twoThetaMeasured) <= 1e-4) }))
+    .filter((e): e is { line: MatchedLine; peak: FittedPeak } => e.peak !== undefined);
+  const scale = own.length > 0 ? median(own.map((e) => e.peak.height / (e.line.intensity as number))) : null;
+  const fwhmDeg = own.length > 0 ? median(own.map((e) => e.peak.fwhm)) : null;
+  return reference.lines
+    .map((line) => ({ twoThetaDeg: twoThetaFromD(line.d, wavelength.lambda1), height: scale !== null && line.intensity !== null ? scale * line.intensity : null, fwhmDeg }))
+    .filter((line) => Number.isFinite(line.twoThetaDeg));
 }

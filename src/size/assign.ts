@@ -6,6 +6,7 @@ import type { Hkl } from '../crystal/cell.js';
 import type { ReferenceLine } from '../library/reference.js';
 import type { FittedPeak } from '../process/types.js';
 import { twoThetaFromD } from '../pattern/units.js';
+import { median } from './numeric.js';
 
 export interface LineAssignment {
   peakIndex: number;
@@ -23,8 +24,18 @@ export interface AssignOptions {
   estimateZeroShift?: boolean;
   /** Search window for the zero-offset estimate, degrees (default 0.5). */
   shiftWindowDeg?: number;
-  /** Positions (degrees 2θ) of lines of other phases known to be present; a peak on one of them is an overlap. */
-  otherLineTwoThetasDeg?: readonly number[];
+  /** Lines of other phases known to be present; a peak they blend with is an overlap. */
+  otherLines?: readonly OtherPhaseLine[];
+}
+
+/** A line of another phase known to be present in the pattern. */
+export interface OtherPhaseLine {
+  /** Reference position at the Kα1 wavelength, degrees 2θ (without zero shift, like this phase's lines). */
+  twoThetaDeg: number;
+  /** Its expected height above the background (counts); null when unknown (then it counts as equal to the peak's). */
+  height: number | null;
+  /** Its phase's typical FWHM, degrees 2θ (a finer or coarser phase has narrower or broader lines); null: as the peak's. */
+  fwhmDeg: number | null;
 }
 
 export interface AssignResult {
@@ -60,12 +71,6 @@ function nearestIndex(sorted: readonly number[], value: number): number {
     else hi = mid;
   }
   return Math.abs(sorted[lo] - value) <= Math.abs(sorted[hi] - value) ? lo : hi;
-}
-
-function median(values: number[]): number {
-  const s = [...values].sort((a, b) => a - b);
-  const m = s.length >>> 1;
-  return s.length % 2 ? s[m] : 0.5 * (s[m - 1] + s[m]);
 }
 
 /** Assign each reference line to its nearest fitted peak within the tolerance (one peak per line, nearest wins). */
@@ -105,7 +110,7 @@ export function assignReferenceLines(
     if (!previous || distance < previous.distance) best.set(li, { peakIndex, distance });
   });
 
-  const others = options.otherLineTwoThetasDeg ?? [];
+  const others = options.otherLines ?? [];
   const assignments: LineAssignment[] = [];
   // A line has a fitted peak of its own when a peak lies within the tolerance of it.
   const ownPeak = (tt: number): number => {
@@ -117,27 +122,31 @@ export function assignReferenceLines(
     const tt = linePositions[li];
     const reach = Math.max(peak.fwhm, options.toleranceDeg);
     const own = lineEntries[li].line.intensity;
+    /** Whether a line at `at` (reference 2θ) with this relative height and FWHM blends with the peak. */
+    const blendsWith = (at: number, share: number, lineFwhm: number): boolean => {
+      const distance = Math.abs(at - tt);
+      if (distance < reach) return share >= BLEND_SHARE;
+      const k = ownPeak(at);
+      if (k >= 0 && k !== peakIndex && peaks[k].group === peak.group) return false; // fitted together as its own peak
+      if (distance < MERGE_FWHM * peak.fwhm && share >= MERGE_SHARE) return true;
+      return share / (1 + (2 * (distance - peak.fwhm / 2) / lineFwhm) ** 2) > TAIL_SHARE;
+    };
     let overlap = peak.overlapped;
     for (let j = 0; j < linePositions.length && !overlap; j++) {
-      const distance = Math.abs(linePositions[j] - tt);
-      if (distance <= COINCIDENT_DEG) continue;
+      if (Math.abs(linePositions[j] - tt) <= COINCIDENT_DEG) continue;
       const other = lineEntries[j].line.intensity;
       // Relative intensity of the neighbour (unknown intensities count as equal).
-      const share = own !== null && other !== null && own > 0 ? other / own : 1;
-      if (distance < reach) {
-        overlap = share >= BLEND_SHARE;
-        continue;
-      }
-      const k = ownPeak(linePositions[j]);
-      if (k >= 0 && k !== peakIndex && peaks[k].group === peak.group) continue; // fitted together as its own peak
-      const merged = distance < MERGE_FWHM * peak.fwhm && share >= MERGE_SHARE;
-      const tail = share / (1 + (2 * (distance - peak.fwhm / 2) / peak.fwhm) ** 2);
-      overlap = merged || tail > TAIL_SHARE;
+      overlap = blendsWith(linePositions[j], own !== null && other !== null && own > 0 ? other / own : 1, peak.fwhm);
     }
     for (const neighbour of [peakIndex - 1, peakIndex + 1]) {
       if (neighbour >= 0 && neighbour < peaks.length && Math.abs(peaks[neighbour].twoTheta - peak.twoTheta) < peak.fwhm) overlap = true;
     }
-    for (const other of others) if (Math.abs(other + zeroShiftDeg - peak.twoTheta) < reach) overlap = true;
+    // Another phase's line: its expected height against this peak's, its tail with its own phase's width (a
+    // broad hydrate line's tail reaches further than this phase's neighbours' do).
+    for (let j = 0; j < others.length && !overlap; j++) {
+      const o = others[j];
+      overlap = blendsWith(o.twoThetaDeg, o.height === null ? 1 : o.height / peak.height, o.fwhmDeg ?? peak.fwhm);
+    }
     const line = lineEntries[li].line;
     assignments.push({ peakIndex, line, lineTwoThetaDeg: tt, hkl: line.hkl ?? null, overlap });
   }

@@ -1,6 +1,6 @@
 /**
  * Small numerical tools for the size and series analyses: error functions, normal and χ² tail
- * probabilities, and weighted linear least squares with the parameters' covariance.
+ * probabilities, weighted linear least squares with the parameters' covariance, and the median.
  */
 
 const SQRT_PI = Math.sqrt(Math.PI);
@@ -308,4 +308,11 @@ export function incompleteBeta(x: number, a: number, b: number): number {
 export function fDistributionSurvival(f: number, d1: number, d2: number): number {
   if (!(f > 0)) return 1;
   return incompleteBeta(d2 / (d2 + d1 * f), d2 / 2, d1 / 2);
+}
+
+/** Median of a non-empty list (mean of the middle two for an even count). */
+export function median(values: readonly number[]): number {
+  const sorted = [...values].sort((a, b) => a - b);
+  const m = sorted.length >>> 1;
+  return sorted.length % 2 ? sorted[m] : 0.5 * (sorted[m - 1] + sorted[m]);
 }

@@ -7,7 +7,7 @@ import type { ReferenceLine } from '../library/reference.js';
 import type { FittedPeak } from '../process/types.js';
 import { DEG_TO_RAD } from '../pattern/units.js';
 import type { Wavelength } from '../pattern/wavelengths.js';
-import { assignReferenceLines } from './assign.js';
+import { assignReferenceLines, type OtherPhaseLine } from './assign.js';
 import type { InstrumentProfile } from './instrument.js';
 import { instrumentWidthAt, isStandardReference } from './instrument-width.js';
 import { weightedMean } from './numeric.js';
@@ -49,8 +49,8 @@ export interface SizeOptions {
   zeroShiftDeg?: number;
   /** A peak whose observed breadth is below (1 + this) × the instrument's gives only a lower bound (default 0.2). */
   resolvableExcess?: number;
-  /** Positions of lines of other phases present (degrees 2θ); peaks on them are overlaps. */
-  otherLineTwoThetasDeg?: readonly number[];
+  /** Lines of other phases present; peaks they blend with are overlaps. */
+  otherLines?: readonly OtherPhaseLine[];
 }
 
 export interface PeakSize {
@@ -192,7 +192,7 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
     const assigned = assignReferenceLines(peaks, options.phase.lines, lambda, {
       toleranceDeg,
       estimateZeroShift: options.zeroShiftDeg === undefined,
-      otherLineTwoThetasDeg: options.otherLineTwoThetasDeg,
+      otherLines: options.otherLines,
     });
     if (options.zeroShiftDeg === undefined) zeroShiftDeg = assigned.zeroShiftDeg;
     candidates = assigned.assignments.map((a) => ({ peak: peaks[a.peakIndex], hkl: a.hkl, overlap: a.overlap }));
@@ -285,6 +285,11 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
       peaksUsed: 0,
       statement: `larger than ${floorNm} nm: ${options.phase.name} is a line-profile standard, its breadths are the instrument's own`,
     };
+  }
+  if (sizes.length > 0 && sizes.every((s) => s.limit === 'overlap')) {
+    warnings.push(
+      `every peak${options.phase ? ` of ${options.phase.name}` : ''} overlaps a neighbouring line (of this phase or of another phase present), which would broaden it: no size; a purer sample or a pattern where some lines stand alone is needed`,
+    );
   }
   const atLimit = sizes.filter((s) => s.limit === 'instrument').length;
   if (scherrer.peaksUsed > 0 && atLimit > 0) warnings.push(`${atLimit} peak(s) at the instrument limit were left out of the mean size`);
