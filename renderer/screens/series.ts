@@ -23,13 +23,19 @@ export async function renderSeries(root: HTMLElement): Promise<void> {
     comparisonsPanel(view),
   );
   root.append(screen);
-  const points = view.rows.filter((r) => r.sizeNm !== null);
+  // Every sample keeps its place on the axis; one without a size shows as a gap (the table says why).
+  const sized = view.rows.filter((r) => r.sizeNm !== null);
+  const low = Math.min(...sized.map((r) => r.sizeNm! - (r.sizeSigmaNm ?? 0)));
+  const high = Math.max(...sized.map((r) => r.sizeNm! + (r.sizeSigmaNm ?? 0)));
+  const pad = 0.1 * Math.max(high - low, 1);
+  const unsized = view.rows.filter((r) => r.sizeNm === null).map((r) => r.label);
+  if (unsized.length > 0) sizeCanvas.parentElement!.after(h('p', { class: 'small' }, `No size for ${unsized.join(', ')}: see the table.`));
   charts.push(
     new Chart(sizeCanvas, {
       type: 'line',
       data: {
-        labels: points.map((r) => r.label),
-        datasets: [{ label: 'size (nm)', data: points.map((r) => r.sizeNm!), showLine: false, backgroundColor: COLORS.phases[0], borderColor: COLORS.phases[0], pointRadius: 5, errors: points.map((r) => r.sizeSigmaNm) } as never],
+        labels: view.rows.map((r) => r.label),
+        datasets: [{ label: 'size (nm)', data: view.rows.map((r) => r.sizeNm), showLine: false, backgroundColor: COLORS.phases[0], borderColor: COLORS.phases[0], pointRadius: 5, errors: view.rows.map((r) => r.sizeSigmaNm) } as never],
       },
       plugins: [errorBarPlugin as never],
       options: {
@@ -37,7 +43,7 @@ export async function renderSeries(root: HTMLElement): Promise<void> {
         responsive: true,
         maintainAspectRatio: false,
         plugins: { legend: { display: false } },
-        scales: { x: { type: 'category', offset: true, title: { display: true, text: by === 'time' ? 'exposure' : 'workup variant' } }, y: { title: { display: true, text: 'crystallite size (nm)' } } },
+        scales: { x: { type: 'category', offset: true, title: { display: true, text: by === 'time' ? 'exposure' : 'workup variant' } }, y: { title: { display: true, text: 'crystallite size (nm)' }, ...(sized.length ? { suggestedMin: Math.max(0, low - pad), suggestedMax: high + pad } : {}) } },
       },
     }),
   );
@@ -90,7 +96,7 @@ function rowsTable(view: SeriesView): HTMLElement {
           h('td', { class: 'left small' }, r.otherPhases || '—'),
           h('td', {}, r.lowAngleCount),
           h('td', {}, r.impurityShare === null ? '—' : `${fmt(100 * r.impurityShare, 1)} %`),
-          h('td', {}, sizeText(r.sizeNm, r.sizeSigmaNm)),
+          h('td', {}, r.sizeNote === null ? sizeText(r.sizeNm, r.sizeSigmaNm) : h('span', { class: 'small', title: r.sizeNote }, r.sizeNm === null ? `— ${r.sizeNote}` : r.sizeNote)),
         ),
       ),
     ),

@@ -237,6 +237,8 @@ export interface SeriesRowView {
   otherPhases: string;
   sizeNm: number | null;
   sizeSigmaNm: number | null;
+  /** Why there is no size (or only a bound), in a few words; null when there is one. */
+  sizeNote: string | null;
 }
 
 export interface GrowthView {

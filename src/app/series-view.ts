@@ -47,11 +47,19 @@ export function buildSeriesView(workspace: Workspace, by: 'variant' | 'time'): S
       otherPhases: others.map((o) => `${o.name} ${(100 * o.share).toFixed(0)} %${o.basis === 'peak area share' ? ' of peak area' : ''}`).join(', '),
       sizeNm: summary.sizeNm,
       sizeSigmaNm: summary.sizeSigmaNm,
+      sizeNote: summary.sizeNm !== null && summary.sizeSigmaNm !== null ? null : sizeNoteOf(result),
     };
   });
   const comparisons = (series?.comparison.pairs ?? []).filter((p) => p.testable).map((p) => ({ a: p.a, b: p.b, differs: p.differs, test: 'z-test, Holm-adjusted', detail: p.statement }));
   if (series && comparisons.length) notes.push(`Size comparison: ${series.comparison.test}.`);
   return { by, rows, comparisons, growth: by === 'time' && series ? series.growth.map(growthView) : [], notes };
+}
+
+/** A few words on why a sample has no size, or only a bound. */
+function sizeNoteOf(result: AnalysisResult | null): string | null {
+  if (!result) return 'not analysed';
+  if (result.size.warnings.some((w) => w.startsWith('every peak'))) return 'every peak overlaps another line';
+  return result.size.scherrer.statement;
 }
 
 function growthView(g: SeriesResult['growth'][number]): GrowthView {
