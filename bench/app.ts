@@ -11,7 +11,7 @@ import { createAppApi } from '../src/app/api.js';
 import { patternToXyText, simulatePattern } from '../src/crystal/simulate.js';
 import type { Reference } from '../src/library/reference.js';
 import { anodeWavelength } from '../src/pattern/wavelengths.js';
-import type { BenchRow } from './types.js';
+import { timeStats, type BenchRow } from './types.js';
 
 /** Silicon lines from a = 5.43159 Å (NIST SRM 640d); intensities from memory. */
 const SILICON: Reference = {
@@ -36,8 +36,7 @@ function patternBase64(points: number, seed: number): string {
 }
 
 function row(name: string, times: number[], target?: string, note?: string): BenchRow {
-  const sorted = [...times].sort((a, b) => a - b);
-  return { name, medianMs: sorted[Math.floor(sorted.length / 2)]!, minMs: sorted[0]!, maxMs: sorted[sorted.length - 1]!, ...(target ? { target } : {}), ...(note ? { note } : {}) };
+  return { name, ...timeStats(times), ...(target ? { target } : {}), ...(note ? { note } : {}) };
 }
 
 export async function run(): Promise<BenchRow[]> {

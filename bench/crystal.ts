@@ -7,7 +7,7 @@
 import { readCifStructure, referenceFromStructure } from '../src/crystal/index.js';
 import { seededUniform } from '../src/crystal/random.js';
 import { anodeWavelength } from '../src/pattern/wavelengths.js';
-import type { BenchRow } from './types.js';
+import { timeStats, type BenchRow } from './types.js';
 
 const ELEMENTS = ['Pb', 'I', 'C', 'N', 'O'];
 
@@ -49,12 +49,9 @@ function measure(name: string, repeats: number, work: () => number, target?: str
     size = work();
     times.push(performance.now() - t0);
   }
-  times.sort((a, b) => a - b);
   return {
     name,
-    medianMs: times[Math.floor(times.length / 2)],
-    minMs: times[0],
-    maxMs: times[times.length - 1],
+    ...timeStats(times),
     ...(target ? { target } : {}),
     note: `${note ? `${note}; ` : ''}${size} lines`,
   };

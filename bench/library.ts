@@ -11,7 +11,7 @@ import { seededUniform } from '../src/crystal/random.js';
 import { formatReferenceJson, parseReferenceJson } from '../src/library/json-format.js';
 import type { Reference } from '../src/library/reference.js';
 import { ReferenceLibrary } from '../src/library/store.js';
-import type { BenchRow } from './types.js';
+import { timeStats, type BenchRow } from './types.js';
 
 const LINES_PER_REFERENCE = 30;
 /** Every this-many-th reference is tagged "target", so a tag query returns a few dozen of 10 000. */
@@ -50,9 +50,8 @@ async function timed(name: string, runs: number, work: (run: number) => unknown,
     cpu.push((used.user + used.system) / 1000);
     await new Promise((resolve) => setImmediate(resolve));
   }
-  const median = (values: number[]) => [...values].sort((a, b) => a - b)[Math.floor(values.length / 2)]!;
-  const note = [`CPU ${median(cpu).toFixed(1)} ms`, extra.note].filter(Boolean).join('; ');
-  return { name, medianMs: median(times), minMs: Math.min(...times), maxMs: Math.max(...times), ...extra, note };
+  const note = [`CPU ${timeStats(cpu).medianMs.toFixed(1)} ms`, extra.note].filter(Boolean).join('; ');
+  return { name, ...timeStats(times), ...extra, note };
 }
 
 /** Load every reference through a new connection (nothing cached), optionally decoding every line. */

@@ -4,7 +4,7 @@
  * library indexed by d once.
  * Patterns are simulated (two phases of the library, noise) and peak-searched before timing.
  */
-import type { BenchRow } from './types.js';
+import { timeStats, type BenchRow } from './types.js';
 import { asStored, syntheticLibrary } from './inputs.js';
 import { simulatePattern } from '../src/crystal/simulate.js';
 import type { StoredReference } from '../src/library/reference.js';
@@ -70,11 +70,6 @@ function compactLibrary(count: number): StoredReference[] {
   return out;
 }
 
-function stats(times: number[]): { medianMs: number; minMs: number; maxMs: number } {
-  const sorted = [...times].sort((a, b) => a - b);
-  return { medianMs: sorted[sorted.length >> 1], minMs: sorted[0], maxMs: sorted[sorted.length - 1] };
-}
-
 function timeMatches(patterns: PreparedPattern[], index: ReferenceIndex, withTarget: boolean): { times: number[]; confirmedTargets: number } {
   const times: number[] = [];
   let confirmedTargets = 0;
@@ -111,7 +106,7 @@ export async function run(): Promise<BenchRow[]> {
   const smallRun = timeMatches(patterns, smallIndex, false);
   rows.push({
     name: 'match: one pattern vs 1 000 references',
-    ...stats(smallRun.times),
+    ...timeStats(smallRun.times),
     target: '< 20 ms',
     note: `${PATTERNS} simulated two-phase patterns × ${REPEATS}; main phase confirmed in ${smallRun.confirmedTargets}/${PATTERNS}; index build ${smallIndexMs.toFixed(1)} ms`,
   });
@@ -132,7 +127,7 @@ export async function run(): Promise<BenchRow[]> {
   const afterIndex = heapMb();
   rows.push({
     name: 'match: index 100 000 references by d',
-    ...stats(indexTimes),
+    ...timeStats(indexTimes),
     target: '< 10 000 ms',
     note: `${lineCount} lines; library objects ${(afterLibrary - before).toFixed(0)} MB, index ${(largeIndex.d.byteLength + largeIndex.referenceOf.byteLength + largeIndex.intensity.byteLength) / 1e6} MB typed arrays; heap+buffers ${afterIndex.toFixed(0)} MB`,
   });
@@ -140,14 +135,14 @@ export async function run(): Promise<BenchRow[]> {
   const peak = heapMb();
   rows.push({
     name: 'match: one pattern vs 100 000 references (indexed)',
-    ...stats(largeRun.times),
+    ...timeStats(largeRun.times),
     target: '< 250 ms, memory < 500 MB',
     note: `main phase confirmed in ${largeRun.confirmedTargets}/${PATTERNS}; heap+buffers after matching ${peak.toFixed(0)} MB (rss ${(process.memoryUsage().rss / 1e6).toFixed(0)} MB)`,
   });
   const targetRun = timeMatches(patterns, largeIndex, true);
   rows.push({
     name: 'match: one pattern vs 100 000 references, with --target',
-    ...stats(targetRun.times),
+    ...timeStats(targetRun.times),
     target: '< 250 ms',
     note: `target confirmed in ${targetRun.confirmedTargets}/${PATTERNS}`,
   });

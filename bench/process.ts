@@ -17,7 +17,7 @@ import { anodeWavelength } from '../src/pattern/wavelengths.js';
 import { readPatternFile } from '../src/pattern/read.js';
 import { findPeaks } from '../src/process/peaks.js';
 import { BENCH_WAVELENGTH, prepareInputs } from './inputs.js';
-import type { BenchRow } from './types.js';
+import { timeStats, type BenchRow } from './types.js';
 
 const PEAK_COUNT = 60;
 const WARM_UP_RUNS = 5;
@@ -47,11 +47,6 @@ function benchPattern() {
   });
 }
 
-function stats(times: number[]): { medianMs: number; minMs: number; maxMs: number } {
-  const sorted = [...times].sort((a, b) => a - b);
-  return { medianMs: sorted[sorted.length >> 1], minMs: sorted[0], maxMs: sorted[sorted.length - 1] };
-}
-
 export async function run(): Promise<BenchRow[]> {
   const pattern = benchPattern();
   const wavelength = anodeWavelength('Cu');
@@ -67,8 +62,8 @@ export async function run(): Promise<BenchRow[]> {
     const cpu = process.cpuUsage(cpu0);
     cpuTimes.push((cpu.user + cpu.system) / 1000);
   }
-  const ours = stats(times);
-  const cpuMedianMs = stats(cpuTimes).medianMs;
+  const ours = timeStats(times);
+  const cpuMedianMs = timeStats(cpuTimes).medianMs;
   const rows: BenchRow[] = [
     {
       name: `process: findPeaks, ${pattern.x.length} points, ${PEAK_COUNT} Kα doublets`,
@@ -123,10 +118,10 @@ function jobPatternsRow(): BenchRow {
     const cpu = process.cpuUsage(cpu0);
     cpuTimes.push((cpu.user + cpu.system) / 1000);
   }
-  const cpu = stats(cpuTimes);
+  const cpu = timeStats(cpuTimes);
   return {
     name: `process: findPeaks on ${patterns.length} whole-job benchmark patterns (bench/inputs.ts, 10 001 points, 40–80 peaks)`,
-    ...stats(times),
+    ...timeStats(times),
     target: `< ${TARGET_MS} ms median`,
     note: `${(peaks / patterns.length).toFixed(1)} peaks per pattern; CPU time median ${cpu.medianMs.toFixed(1)} ms, min ${cpu.minMs.toFixed(1)}, max ${cpu.maxMs.toFixed(1)} ms`,
   };

@@ -11,7 +11,7 @@ import { patternToXyText, simulatePattern } from '../src/crystal/simulate.js';
 import type { Pattern } from '../src/pattern/pattern.js';
 import { readPatternBytes, readPatternFile } from '../src/pattern/read.js';
 import { anodeWavelength } from '../src/pattern/wavelengths.js';
-import type { BenchRow } from './types.js';
+import { timeStats, type BenchRow } from './types.js';
 
 /** Silicon-like d-spacings (Å) with rough relative intensities, only to put peaks into the simulated scan. */
 const LINES = [
@@ -63,14 +63,10 @@ function measure(name: string, repeats: number, work: () => number, target?: str
     const cpu = process.cpuUsage(cpu0);
     cpuTimes.push((cpu.user + cpu.system) / 1000);
   }
-  times.sort((a, b) => a - b);
-  cpuTimes.sort((a, b) => a - b);
-  const cpuMedian = cpuTimes[Math.floor(cpuTimes.length / 2)];
+  const cpuMedian = timeStats(cpuTimes).medianMs;
   const row: BenchRow = {
     name,
-    medianMs: times[Math.floor(times.length / 2)],
-    minMs: times[0],
-    maxMs: times[times.length - 1],
+    ...timeStats(times),
     note: `${points} points; CPU time median ${cpuMedian.toFixed(1)} ms (wall time suffers when other processes share the cores)${note ? `; ${note}` : ''}`,
   };
   if (target) row.target = target;

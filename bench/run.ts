@@ -9,7 +9,7 @@
  * Nothing is installed: without scipy the Python column is skipped with the command to install it.
  */
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { availableParallelism, cpus, totalmem } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -27,7 +27,7 @@ import { seriesSamplesFromAnalyses } from '../src/series/from-analysis.js';
 import { analyzeSeries } from '../src/series/series.js';
 import { crystalliteSizes } from '../src/size/sizes.js';
 import { asStored, BENCH_WAVELENGTH, prepareInputs, prepareLargeLibraryJson, syntheticLibrary, type BenchInputs } from './inputs.js';
-import type { BenchRow } from './types.js';
+import { timeStats, type BenchRow } from './types.js';
 
 interface BenchConfig {
   quick: boolean;
@@ -83,13 +83,6 @@ function parseArgs(argv: string[]): BenchConfig {
 
 const log = (line: string): void => void process.stderr.write(`${line}\n`);
 
-function stats(values: number[]): { medianMs: number; minMs: number; maxMs: number } {
-  const sorted = [...values].sort((a, b) => a - b);
-  const mid = sorted.length >> 1;
-  const medianMs = sorted.length % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
-  return { medianMs, minMs: sorted[0], maxMs: sorted[sorted.length - 1] };
-}
-
 /** Time `work` over all items, `repeats` times; one per-item time per repeat. */
 function perItemMs<T>(items: T[], repeats: number, work: (item: T) => unknown): number[] {
   const runs: number[] = [];
@@ -102,7 +95,7 @@ function perItemMs<T>(items: T[], repeats: number, work: (item: T) => unknown): 
 }
 
 function row(name: string, runs: number[], extra: Partial<BenchRow> = {}): BenchRow {
-  return { name, ...stats(runs), ...extra };
+  return { name, ...timeStats(runs), ...extra };
 }
 
 /** A full garbage collection, so memory figures count what is kept, not what is waiting to be collected. */
@@ -208,7 +201,7 @@ function measureSteps(inputs: BenchInputs, config: BenchConfig): { rows: BenchRo
   }
   rows.push(
     row(`series of ${seriesFiles.length}: analyse each (one thread) + series comparison (whole series)`, seriesRuns, {
-      note: `series comparison alone ${formatMs(stats(comparisonRuns).medianMs)}`,
+      note: `series comparison alone ${formatMs(timeStats(comparisonRuns).medianMs)}`,
     }),
   );
   perFile.analyze = seriesRuns.map((ms) => ms / seriesFiles.length);
@@ -244,7 +237,7 @@ function measureWholeJob(inputs: BenchInputs, config: BenchConfig): { row: Bench
     const rss = /maxrss_kb=(\d+)/.exec(child.stderr.toString());
     if (rss) peakRssMb = Math.max(peakRssMb ?? 0, Number(rss[1]) / 1024);
   }
-  const s = stats(runs);
+  const s = timeStats(runs);
   return {
     runs,
     peakRssMb,
@@ -354,10 +347,42 @@ async function runAreaModules(): Promise<Record<string, BenchRow[] | { error: st
   return results;
 }
 
+/**
+ * A fixed arithmetic loop that no change to Crystallog touches, timed (median of 3) at the start and the
+ * end of the run: on a shared machine whose speed drifts, it tells which runs can be compared.
+ */
+function machineSpeedProbeMs(): number {
+  const times: number[] = [];
+  let sink = 0;
+  for (let rep = 0; rep < 3; rep++) {
+    const started = performance.now();
+    for (let i = 0; i < 5_000_000; i++) {
+      const u = (i % 1000) * 0.004;
+      sink += Math.exp(-2.772588722239781 * u * u) + 1 / (1 + 4 * u * u);
+    }
+    times.push(performance.now() - started);
+  }
+  if (!Number.isFinite(sink)) throw new Error('speed probe overflowed');
+  return timeStats(times).medianMs;
+}
+
+/** Linux's CPU pressure over the last minute (share of time some task waited for a CPU), or null. */
+function cpuPressureAvg60(): number | null {
+  try {
+    const match = /some avg10=[\d.]+ avg60=([\d.]+)/.exec(readFileSync('/proc/pressure/cpu', 'utf8'));
+    return match ? Number(match[1]) : null;
+  } catch {
+    return null;
+  }
+}
+
 async function main(): Promise<void> {
   const config = parseArgs(process.argv.slice(2));
   const machine = { cpus: cpus().length, cpuModel: cpus()[0]?.model ?? 'unknown', memoryGb: totalmem() / 2 ** 30, node: process.version };
   log(`Crystallog benchmark (${config.quick ? 'quick' : 'full'}): ${machine.cpus} cores (${machine.cpuModel}), Node ${machine.node}`);
+  const probeStartMs = machineSpeedProbeMs();
+  const pressureStart = cpuPressureAvg60();
+  log(`machine speed probe (a fixed loop, not our code): ${probeStartMs.toFixed(1)} ms${pressureStart !== null ? `; CPU pressure ${pressureStart} % over the last minute` : ''}`);
   log(`inputs: ${config.patterns} simulated patterns (cached in the temp folder; first run simulates them)`);
   const inputs = prepareInputs(config.patterns, log);
 
@@ -371,10 +396,10 @@ async function main(): Promise<void> {
   if (missing) log(`scipy column skipped: ${missing}`);
   else python = runPython(inputs, config);
 
-  const theirs = (key: string): number | null => (python?.steps[key] ? stats(python.steps[key]).medianMs : null);
-  const ours = (key: string): number => stats(steps.perFile[key]).medianMs;
-  const oursWholePerFile = stats(whole.runs).medianMs / config.patterns;
-  const theirsWholePerFile = python?.wholeJob ? stats(python.wholeJob.runsMs).medianMs / python.wholeJob.files : null;
+  const theirs = (key: string): number | null => (python?.steps[key] ? timeStats(python.steps[key]).medianMs : null);
+  const ours = (key: string): number => timeStats(steps.perFile[key]).medianMs;
+  const oursWholePerFile = timeStats(whole.runs).medianMs / config.patterns;
+  const theirsWholePerFile = python?.wholeJob ? timeStats(python.wholeJob.runsMs).medianMs / python.wholeJob.files : null;
   const comparisons: Comparison[] = [
     compare('read (per file)', ours('read'), theirs('read')),
     compare('peaks (per file)', ours('peaks'), theirs('peaks'), 'scipy: savgol + SNIP + find_peaks + curve_fit per peak'),
@@ -393,11 +418,13 @@ async function main(): Promise<void> {
   printComparisons(comparisons, pythonNote);
 
   const areas = config.modules ? await runAreaModules() : {};
+  const probeEndMs = machineSpeedProbeMs();
+  log(`\nmachine speed probe at the end: ${probeEndMs.toFixed(1)} ms (start ${probeStartMs.toFixed(1)} ms); compare runs whose probes agree`);
   const summary = {
     kind: 'crystallog benchmark',
     date: new Date().toISOString(),
     mode: config.quick ? 'quick' : 'full',
-    machine,
+    machine: { ...machine, speedProbeMs: { start: probeStartMs, end: probeEndMs }, cpuPressureAvg60AtStart: pressureStart },
     config,
     inputs: { dir: inputs.dir, patterns: config.patterns, points: 10_001, simulated: true },
     steps: steps.rows,

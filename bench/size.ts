@@ -11,7 +11,7 @@ import { analyzeSeries, type SeriesSample } from '../src/series/series.js';
 import { fitInstrumentProfile } from '../src/size/instrument.js';
 import { crystalliteSizes } from '../src/size/sizes.js';
 import { cubicPhase, siliconStandard } from '../test/size/fixtures.js';
-import type { BenchRow } from './types.js';
+import { timeStats, type BenchRow } from './types.js';
 
 const CU = anodeWavelength('Cu');
 const SERIES_SAMPLES = 50;
@@ -23,8 +23,7 @@ function measure(name: string, repeats: number, work: () => void, target?: strin
     work();
     times.push(performance.now() - t0);
   }
-  times.sort((a, b) => a - b);
-  const row: BenchRow = { name, medianMs: times[times.length >> 1], minMs: times[0], maxMs: times[times.length - 1] };
+  const row: BenchRow = { name, ...timeStats(times) };
   if (target) row.target = target;
   if (note) row.note = note;
   return row;

@@ -7,3 +7,14 @@ export interface BenchRow {
   target?: string;
   note?: string;
 }
+
+/**
+ * Median (the middle value; the mean of the two middle ones for an even count), min and max of
+ * repeated timings, in milliseconds.
+ */
+export function timeStats(times: readonly number[]): { medianMs: number; minMs: number; maxMs: number } {
+  const sorted = [...times].sort((a, b) => a - b);
+  const mid = sorted.length >> 1;
+  const medianMs = sorted.length % 2 ? sorted[mid]! : (sorted[mid - 1]! + sorted[mid]!) / 2;
+  return { medianMs, minMs: sorted[0]!, maxMs: sorted[sorted.length - 1]! };
+}
