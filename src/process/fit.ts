@@ -32,12 +32,8 @@ const GAUSS_CUT_U2 = 16;
 const MIN_REACH_FWHM = 5;
 const MAX_REACH_FWHM = 25;
 const TAIL_NOISE_FRACTION = 0.5;
-/**
- * A group is fitted on this many FWHM either side of its peaks' Kα1 lines and Kα2 partners, where the
- * profiles carry their information (a Lorentzian has 90 % of its area within ±3 FWHM: 2/π·atan 6); further
- * out the tails are modelled, held fixed under neighbouring groups, but not fitted.
- */
-const CORE_FWHM = 3;
+/** A group is fitted on this many FWHM either side of its peaks' Kα1 lines and Kα2 partners. */
+const CORE_FWHM = 4;
 /** …and at least this many points either side (enough for a fair χ² where peaks span few points). */
 const MIN_CORE_POINTS = 60;
 /**
