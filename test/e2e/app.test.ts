@@ -7,6 +7,13 @@ import { chromiumAvailable, openApp, pageProblems, SCREENSHOTS, type AppSession 
 let app: AppSession;
 const shot = (name: string) => app.page.screenshot({ path: join(SCREENSHOTS, `${name}.png`) });
 
+/** Pick a file with the page's own file picker, opened by the button with this test id. */
+async function pickFile(buttonTestId: string, file: string): Promise<void> {
+  const chooser = app.page.waitForEvent('filechooser');
+  await app.page.getByTestId(buttonTestId).click();
+  await (await chooser).setFiles(file);
+}
+
 describe('the app in a real browser (browser mode, headless Chromium)', () => {
   beforeAll(async () => {
     // No silent skip: these tests need Debian's Chromium (.ci/run installs it).
@@ -92,9 +99,7 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     const { page } = app;
     const file = join(app.dataDir, 'silicon-check_10k.xy');
     writeFileSync(file, siliconPatternText({ points: 10001 }));
-    const chooser = page.waitForEvent('filechooser');
-    await page.getByTestId('open-patterns').click();
-    await (await chooser).setFiles(file);
+    await pickFile('open-patterns', file);
     await page.locator('[data-testid="sample-list"] li', { hasText: 'silicon-check_10k' }).waitFor();
     await page.getByTestId('verdict').waitFor();
     const timings = await page.evaluate(() => (window as unknown as { crystallogTimings: { lastAddMs: number; lastDrawMs: number } }).crystallogTimings);
@@ -107,9 +112,7 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     const { page } = app;
     const file = join(app.dataDir, 'silicon-long_50k.xy');
     writeFileSync(file, siliconPatternText({ points: 50001, seed: 77 }));
-    const chooser = page.waitForEvent('filechooser');
-    await page.getByTestId('open-patterns').click();
-    await (await chooser).setFiles(file);
+    await pickFile('open-patterns', file);
     await page.locator('[data-testid="sample-list"] li', { hasText: 'silicon-long_50k' }).waitFor();
     await page.getByTestId('verdict').waitFor();
     // Zoom in first, as one does before panning, then time each pan step (chart update with decimation).
@@ -132,18 +135,14 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     const { page } = app;
     const file = join(app.dataDir, 'broken.xy');
     writeFileSync(file, '2theta counts\n10.00 120\n10.02 lots\n');
-    const chooser = page.waitForEvent('filechooser');
-    await page.getByTestId('open-patterns').click();
-    await (await chooser).setFiles(file);
+    await pickFile('open-patterns', file);
     const alert = page.getByRole('alert').first();
     await alert.waitFor();
     const text = (await alert.textContent()) ?? '';
     expect(text).toMatch(/broken\.xy, line 3: .*not a number/);
     expect(text).not.toMatch(/at .*\.(ts|js):\d+/);
     // The same file refused again counts up on the same line instead of stacking another.
-    const again = page.waitForEvent('filechooser');
-    await page.getByTestId('open-patterns').click();
-    await (await again).setFiles(file);
+    await pickFile('open-patterns', file);
     await page.getByRole('alert').filter({ hasText: '(×2)' }).waitFor();
     expect(await page.getByRole('alert').count()).toBe(1);
     await shot('05-malformed-file');
@@ -172,9 +171,7 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     const file = join(app.dataDir, 'sodium-chloride.csv');
     // NaCl lines of NBS Circular 539 (Swanson & Fuyat, 1953), from memory.
     writeFileSync(file, '# name: sodium chloride test\n# formula: NaCl\n# source: NBS Circular 539 (from memory)\nd,intensity\n3.258,13\n2.821,100\n1.994,55\n1.628,15\n');
-    const chooser = page.waitForEvent('filechooser');
-    await page.getByTestId('library-import').click();
-    await (await chooser).setFiles(file);
+    await pickFile('library-import', file);
     await page.getByText('Imported sodium chloride test.').waitFor();
     await expect.poll(() => page.getByTestId('reference-detail').textContent()).toContain('NBS Circular 539');
   });
