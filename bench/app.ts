@@ -8,9 +8,9 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { createAppApi } from '../src/app/api.js';
-import { patternToXyText, simulatePattern } from '../src/crystal/simulate.js';
-import type { Reference } from '../src/library/reference.js';
-import { anodeWavelength } from '../src/pattern/wavelengths.js';
+import { patternToXyText, simulatePattern } from '../src/core/crystal/simulate.js';
+import type { Reference } from '../src/core/model/reference.js';
+import { anodeWavelength } from '../src/core/model/wavelengths.js';
 import { timeStats, type BenchRow } from './types.js';
 
 /** Silicon lines from a = 5.43159 Å (NIST SRM 640d); intensities from memory. */

@@ -4,9 +4,10 @@
  * identification from the listed operators, reflection enumeration and structure factors.
  * The structures are made up (seeded random coordinates), not real compounds.
  */
-import { readCifStructure, referenceFromStructure } from '../src/crystal/index.js';
-import { seededUniform } from '../src/crystal/random.js';
-import { anodeWavelength } from '../src/pattern/wavelengths.js';
+import { readCifStructure } from '../src/core/crystal/structure.js';
+import { referenceFromStructure } from '../src/core/crystal/powder.js';
+import { seededUniform } from '../src/core/numeric/random.js';
+import { anodeWavelength } from '../src/core/model/wavelengths.js';
 import { timeStats, type BenchRow } from './types.js';
 
 const ELEMENTS = ['Pb', 'I', 'C', 'N', 'O'];

@@ -6,11 +6,11 @@
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { patternToXyText, simulatePattern } from '../src/crystal/simulate.js';
-import { seededUniform } from '../src/crystal/random.js';
-import type { Reference, ReferenceLine, StoredReference } from '../src/library/reference.js';
-import { dFromTwoTheta } from '../src/pattern/units.js';
-import { anodeWavelength } from '../src/pattern/wavelengths.js';
+import { patternToXyText, simulatePattern } from '../src/core/crystal/simulate.js';
+import { seededUniform } from '../src/core/numeric/random.js';
+import type { Reference, ReferenceLine, StoredReference } from '../src/core/model/reference.js';
+import { dFromTwoTheta } from '../src/core/model/units.js';
+import { anodeWavelength } from '../src/core/model/wavelengths.js';
 
 /** Bump when the generator changes, so stale caches are not reused. */
 const INPUTS_VERSION = 1;

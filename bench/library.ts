@@ -7,10 +7,10 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { performance } from 'node:perf_hooks';
-import { seededUniform } from '../src/crystal/random.js';
-import { formatReferenceJson, parseReferenceJson } from '../src/library/json-format.js';
-import type { Reference } from '../src/library/reference.js';
-import { ReferenceLibrary } from '../src/library/store.js';
+import { seededUniform } from '../src/core/numeric/random.js';
+import { formatReferenceJson, parseReferenceJson } from '../src/core/library/json-format.js';
+import type { Reference } from '../src/core/model/reference.js';
+import { ReferenceLibrary } from '../src/node/library/store.js';
 import { timeStats, type BenchRow } from './types.js';
 
 const LINES_PER_REFERENCE = 30;

@@ -6,15 +6,15 @@
  */
 import { timeStats, type BenchRow } from './types.js';
 import { asStored, syntheticLibrary } from './inputs.js';
-import { simulatePattern } from '../src/crystal/simulate.js';
-import type { StoredReference } from '../src/library/reference.js';
-import { buildReferenceIndex, type ReferenceIndex } from '../src/match/reference-index.js';
-import { matchPhases } from '../src/match/match.js';
-import type { MatchOptions } from '../src/match/types.js';
-import { anodeWavelength } from '../src/pattern/wavelengths.js';
-import { dFromTwoTheta } from '../src/pattern/units.js';
-import { seededUniform } from '../src/crystal/random.js';
-import { findPeaks } from '../src/process/peaks.js';
+import { simulatePattern } from '../src/core/crystal/simulate.js';
+import type { StoredReference } from '../src/core/model/reference.js';
+import { buildReferenceIndex, type ReferenceIndex } from '../src/core/match/reference-index.js';
+import { matchPhases } from '../src/core/match/match.js';
+import type { MatchOptions } from '../src/core/match/types.js';
+import { anodeWavelength } from '../src/core/model/wavelengths.js';
+import { dFromTwoTheta } from '../src/core/model/units.js';
+import { seededUniform } from '../src/core/numeric/random.js';
+import { findPeaks } from '../src/core/process/peaks.js';
 
 const WAVELENGTH = anodeWavelength('Cu');
 const PATTERNS = 5;

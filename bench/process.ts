@@ -10,12 +10,12 @@ import { existsSync, mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { patternToXyText, simulatePattern } from '../src/crystal/simulate.js';
-import { seededUniform } from '../src/crystal/random.js';
-import { dFromTwoTheta } from '../src/pattern/units.js';
-import { anodeWavelength } from '../src/pattern/wavelengths.js';
-import { readPatternFile } from '../src/pattern/read.js';
-import { findPeaks } from '../src/process/peaks.js';
+import { patternToXyText, simulatePattern } from '../src/core/crystal/simulate.js';
+import { seededUniform } from '../src/core/numeric/random.js';
+import { dFromTwoTheta } from '../src/core/model/units.js';
+import { anodeWavelength } from '../src/core/model/wavelengths.js';
+import { readPatternFile } from '../src/node/files.js';
+import { findPeaks } from '../src/core/process/peaks.js';
 import { BENCH_WAVELENGTH, prepareInputs } from './inputs.js';
 import { timeStats, type BenchRow } from './types.js';
 

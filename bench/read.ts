@@ -7,10 +7,11 @@
 import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { patternToXyText, simulatePattern } from '../src/crystal/simulate.js';
-import type { Pattern } from '../src/pattern/pattern.js';
-import { readPatternBytes, readPatternFile } from '../src/pattern/read.js';
-import { anodeWavelength } from '../src/pattern/wavelengths.js';
+import { patternToXyText, simulatePattern } from '../src/core/crystal/simulate.js';
+import type { Pattern } from '../src/core/model/pattern.js';
+import { readPatternBytes } from '../src/core/pattern/read.js';
+import { readPatternFile } from '../src/node/files.js';
+import { anodeWavelength } from '../src/core/model/wavelengths.js';
 import { timeStats, type BenchRow } from './types.js';
 
 /** Silicon-like d-spacings (Å) with rough relative intensities, only to put peaks into the simulated scan. */

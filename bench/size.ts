@@ -2,14 +2,14 @@
  * Size-module speed on simulated patterns (Cu Kα1/Kα2, 0.01° steps): the instrument profile from a
  * silicon standard, the sizes of one pattern, and a 50-sample series. Fixed seeds.
  */
-import { simulatePattern } from '../src/crystal/simulate.js';
-import type { ReferenceLine } from '../src/library/reference.js';
-import { anodeWavelength } from '../src/pattern/wavelengths.js';
-import { findPeaks } from '../src/process/peaks.js';
-import type { FittedPeak } from '../src/process/types.js';
-import { analyzeSeries, type SeriesSample } from '../src/series/series.js';
-import { fitInstrumentProfile } from '../src/size/instrument.js';
-import { crystalliteSizes } from '../src/size/sizes.js';
+import { simulatePattern } from '../src/core/crystal/simulate.js';
+import type { ReferenceLine } from '../src/core/model/reference.js';
+import { anodeWavelength } from '../src/core/model/wavelengths.js';
+import { findPeaks } from '../src/core/process/peaks.js';
+import type { FittedPeak } from '../src/core/model/peak.js';
+import { analyzeSeries, type SeriesSample } from '../src/core/series/series.js';
+import { fitInstrumentProfile } from '../src/core/size/instrument.js';
+import { crystalliteSizes } from '../src/core/size/sizes.js';
 import { cubicPhase, siliconStandard } from '../test/size/fixtures.js';
 import { timeStats, type BenchRow } from './types.js';
 

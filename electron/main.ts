@@ -6,8 +6,8 @@ import { basename, dirname, extname, join, normalize, sep } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { z } from 'zod';
 import { startEngine } from '../src/app/engine-client.js';
-import { IPC, type MenuAction, type PickedFile } from '../src/app/bridge.js';
-import { CONTENT_SECURITY_POLICY } from '../src/host/server.js';
+import { IPC, type MenuAction, type PickedFile } from '../src/api/bridge.js';
+import { CONTENT_SECURITY_POLICY } from '../src/api/csp.js';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const rendererDir = normalize(join(here, '..', 'renderer') + sep);

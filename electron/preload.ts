@@ -1,6 +1,6 @@
 // Preload of the sandboxed page: exposes only the typed bridge, never ipcRenderer itself.
 import { contextBridge, ipcRenderer, type IpcRendererEvent } from 'electron';
-import { IPC, MENU_ACTIONS, type CrystallogBridge, type MenuAction, type SaveRequest } from '../src/app/bridge.js';
+import { IPC, MENU_ACTIONS, type CrystallogBridge, type MenuAction, type SaveRequest } from '../src/api/bridge.js';
 
 const bridge: CrystallogBridge = {
   call: (method: string, params: unknown) => ipcRenderer.invoke(IPC.call, String(method), params),

@@ -1,14 +1,14 @@
-import { call, isDesktop } from './api.js';
-import { addPatternFiles, exportReport, filesFromDrop, openDemo, openPatternFiles } from './actions.js';
-import { h, clear } from './dom.js';
+import { call, isDesktop } from './base/api.js';
+import { addPatternFiles, exportReport, filesFromDrop, openDemo, openPatternFiles } from './base/actions.js';
+import { h, clear } from './base/dom.js';
 import { renderInstrument } from './screens/instrument.js';
 import { renderLibrary } from './screens/library.js';
 import { renderReport } from './screens/report.js';
 import { renderSamples } from './screens/samples.js';
 import { renderSeries } from './screens/series.js';
 import { renderSettings } from './screens/settings.js';
-import { app, changed, onChange, SCREENS, setProject, type ScreenName } from './state.js';
-import { errorText, notify, showError } from './ui.js';
+import { app, changed, onChange, SCREENS, setProject, type ScreenName } from './base/state.js';
+import { errorText, notify, showError } from './base/ui.js';
 
 const RENDERERS: Record<ScreenName, (root: HTMLElement) => void | Promise<void>> = {
   samples: renderSamples,

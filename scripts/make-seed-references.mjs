@@ -3,8 +3,8 @@
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 
-const { seedFiles } = await import('../dist/src/library/seed-build.js');
-const { seedFolder } = await import('../dist/src/library/seed.js');
+const { seedFiles } = await import('../dist/src/node/library/seed-build.js');
+const { seedFolder } = await import('../dist/src/node/library/seed.js');
 
 const folder = seedFolder();
 for (const { fileName, text } of seedFiles()) {

@@ -1,9 +1,9 @@
-import type { InstrumentView } from '../../src/app/contract.js';
-import { call } from '../api.js';
+import type { InstrumentView } from '../../src/api/contract.js';
+import { call } from '../base/api.js';
 import { Chart, COLORS } from '../chart/pattern-chart.js';
-import { clear, field, h } from '../dom.js';
-import { app, changed } from '../state.js';
-import { notify, showError } from '../ui.js';
+import { clear, field, h } from '../base/dom.js';
+import { app, changed } from '../base/state.js';
+import { notify, showError } from '../base/ui.js';
 
 let chart: Chart | null = null;
 let fitted: InstrumentView | null = null;

@@ -1,10 +1,10 @@
-import type { ReferenceSummary } from '../../src/app/contract.js';
-import type { Reference, StoredReference } from '../../src/library/reference.js';
-import { call, decodeFloats, pickFiles } from '../api.js';
+import type { ReferenceSummary } from '../../src/api/contract.js';
+import type { Reference, StoredReference } from '../../src/core/model/reference.js';
+import { call, decodeFloats, pickFiles } from '../base/api.js';
 import { COLORS, PatternChart } from '../chart/pattern-chart.js';
-import { clear, field, h, hklText } from '../dom.js';
-import { app } from '../state.js';
-import { errorText, notify, showError, withProgress } from '../ui.js';
+import { clear, field, h, hklText } from '../base/dom.js';
+import { app } from '../base/state.js';
+import { errorText, notify, showError, withProgress } from '../base/ui.js';
 
 const TAGS = ['target', 'impurity', 'precursor', 'decomposition product', 'standard'];
 let selectedName: string | null = null;

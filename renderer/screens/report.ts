@@ -1,6 +1,6 @@
-import { exportReport } from '../actions.js';
-import { h, sizeText } from '../dom.js';
-import { app, verdictClass } from '../state.js';
+import { exportReport } from '../base/actions.js';
+import { h, sizeText } from '../base/dom.js';
+import { app, verdictClass } from '../base/state.js';
 
 /** What the report will hold, and the buttons that save it. */
 export function renderReport(root: HTMLElement): void {

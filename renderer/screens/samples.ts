@@ -1,12 +1,11 @@
-import type { SampleDetail, SampleSummary } from '../../src/app/contract.js';
-import type { PhaseMatch } from '../../src/match/types.js';
-import { call, decodeFloats, saveFile } from '../api.js';
-import { timings } from '../actions.js';
+import type { PhaseMatch, SampleDetail, SampleSummary } from '../../src/api/contract.js';
+import { call, decodeFloats, saveFile } from '../base/api.js';
+import { timings } from '../base/actions.js';
 import { COLORS, PatternChart, type PatternSeries, type PeakMark, type PatternViewModel } from '../chart/pattern-chart.js';
 import { chartToSvg } from '../chart/svg.js';
-import { append, field, fmt, h, hklText, sizeText } from '../dom.js';
-import { app, changed, verdictClass } from '../state.js';
-import { notify, showError } from '../ui.js';
+import { append, field, fmt, h, hklText, sizeText } from '../base/dom.js';
+import { app, changed, verdictClass } from '../base/state.js';
+import { notify, showError } from '../base/ui.js';
 
 let chart: PatternChart | null = null;
 

@@ -1,8 +1,8 @@
-import type { SeriesView } from '../../src/app/contract.js';
-import { call } from '../api.js';
+import type { SeriesView } from '../../src/api/contract.js';
+import { call } from '../base/api.js';
 import { Chart, COLORS, errorBarPlugin } from '../chart/pattern-chart.js';
-import { fmt, h, sizeText } from '../dom.js';
-import { app, changed, verdictClass } from '../state.js';
+import { fmt, h, sizeText } from '../base/dom.js';
+import { app, changed, verdictClass } from '../base/state.js';
 
 let by: 'variant' | 'time' = 'variant';
 const charts: Chart[] = [];

@@ -1,8 +1,8 @@
-import type { ProjectSettings } from '../../src/app/contract.js';
-import { call } from '../api.js';
-import { field, h } from '../dom.js';
-import { app, changed } from '../state.js';
-import { notify, showError, withProgress } from '../ui.js';
+import type { ProjectSettings } from '../../src/api/contract.js';
+import { call } from '../base/api.js';
+import { field, h } from '../base/dom.js';
+import { app, changed } from '../base/state.js';
+import { notify, showError, withProgress } from '../base/ui.js';
 
 /** The project's analysis settings; saving re-analyses every sample with them. */
 export async function renderSettings(root: HTMLElement): Promise<void> {

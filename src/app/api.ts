@@ -1,15 +1,15 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { z } from 'zod';
-import { isInputError } from '../errors.js';
-import { packageRoot } from '../library/seed.js';
-import { findChromium } from '../host/browser.js';
+import { isInputError } from '../core/errors.js';
+import { packageRoot } from '../node/library/seed.js';
+import { findChromium } from '../node/browser.js';
 import { buildCsvReport, buildHtmlReport } from './report-input.js';
-import { htmlToPdf } from '../report/pdf.js';
-import { appDataPaths, defaultAppDataRoot } from './app-data.js';
-import { apiSchemas, type ApiMethod, type ApiParsed, type ApiResults, type ReferenceSummary } from './contract.js';
+import { htmlToPdf } from '../node/pdf.js';
+import { appDataPaths, defaultAppDataRoot } from '../node/app-data.js';
+import { apiSchemas, type ApiMethod, type ApiParsed, type ApiResults, type ReferenceSummary } from '../api/contract.js';
 import { addDemoSample, startDemoProject } from './demo.js';
-import type { ApiDispatcher, ApiReply } from './reply.js';
+import type { ApiDispatcher, ApiReply } from '../api/reply.js';
 import { buildSeriesView } from './series-view.js';
 import { Workspace } from './workspace.js';
 
@@ -130,7 +130,7 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
 /** A mistake of the user's found by the API itself (not by the engine). */
 class UserMistake extends Error {}
 
-function referenceSummary(ref: import('../library/reference.js').StoredReference): ReferenceSummary {
+function referenceSummary(ref: import('../core/model/reference.js').StoredReference): ReferenceSummary {
   return { name: ref.name, formula: ref.formula, tags: ref.tags, version: ref.version, lines: ref.lines.length, source: ref.source, createdAt: ref.createdAt };
 }
 

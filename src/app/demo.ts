@@ -1,13 +1,13 @@
 import { existsSync, mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import type { UnitCell } from '../crystal/cell.js';
-import { patternToXyText, simulatePattern, TYPICAL_LAB_INSTRUMENT, type SimulatedPhase } from '../crystal/simulate.js';
-import { positionsFromCell, referenceFromCif } from '../library/from-crystal.js';
-import type { Reference, StoredReference } from '../library/reference.js';
-import { loadSeedReferences, seedFolder } from '../library/seed.js';
-import { anodeWavelength } from '../pattern/wavelengths.js';
-import { InputError } from '../errors.js';
-import type { ProjectState, SampleSummary } from './contract.js';
+import type { UnitCell } from '../core/model/cell.js';
+import { patternToXyText, simulatePattern, TYPICAL_LAB_INSTRUMENT, type SimulatedPhase } from '../core/crystal/simulate.js';
+import { positionsFromCell, referenceFromCif } from '../core/library/from-crystal.js';
+import type { Reference, StoredReference } from '../core/model/reference.js';
+import { loadSeedReferences, seedFolder } from '../node/library/seed.js';
+import { anodeWavelength } from '../core/model/wavelengths.js';
+import { InputError } from '../core/errors.js';
+import type { ProjectState, SampleSummary } from '../api/contract.js';
 import type { Workspace } from './workspace.js';
 
 /**

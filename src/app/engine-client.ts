@@ -3,7 +3,7 @@
  * Node.js and forwards API calls to it, answering each call with its reply, in any order.
  */
 import { fork, type ChildProcess } from 'node:child_process';
-import type { ApiDispatcher, ApiReply } from './reply.js';
+import type { ApiDispatcher, ApiReply } from '../api/reply.js';
 
 export interface EngineRequest {
   id: number;

@@ -1,7 +1,7 @@
-import { SIZE_CAUTIONS } from '../size/sizes.js';
-import { REPORT_CAUTIONS, renderCsvReport, renderHtmlReport, reportFileBase, type ReportInput, type ReportSample } from '../report/report.js';
-import type { ExportedFile } from './contract.js';
-import { lowAnglePeaks } from './verdict.js';
+import { SIZE_CAUTIONS } from '../core/size/sizes.js';
+import { REPORT_CAUTIONS, renderCsvReport, renderHtmlReport, reportFileBase, type ReportInput, type ReportSample } from '../core/report/report.js';
+import type { ExportedFile } from '../api/contract.js';
+import { lowAnglePeaks } from '../core/analysis/verdict.js';
 import { buildSeriesView } from './series-view.js';
 import type { Workspace } from './workspace.js';
 

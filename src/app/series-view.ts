@@ -1,8 +1,8 @@
-import { isInputError } from '../errors.js';
-import { seriesSamplesFromAnalyses } from '../series/from-analysis.js';
-import { analyzeSeries, type SeriesResult } from '../series/series.js';
-import type { GrowthView, SeriesRowView, SeriesView } from './contract.js';
-import type { AnalysisResult } from './pipeline.js';
+import { isInputError } from '../core/errors.js';
+import { seriesSamplesFromAnalyses } from '../core/analysis/series-from-analysis.js';
+import { analyzeSeries, type SeriesResult } from '../core/series/series.js';
+import type { GrowthView, SeriesRowView, SeriesView } from '../api/contract.js';
+import type { AnalysisResult } from '../core/analysis/analyse.js';
 import type { Workspace } from './workspace.js';
 
 /**

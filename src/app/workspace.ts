@@ -1,19 +1,19 @@
 import { randomBytes } from 'node:crypto';
 import { existsSync, readdirSync, readFileSync, renameSync, statSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { InputError } from '../errors.js';
-import { positionsFromCell } from '../library/from-crystal.js';
-import { parseReferenceFile } from '../library/import-files.js';
-import { ensureSeeded } from '../library/seed.js';
-import { ReferenceLibrary } from '../library/store.js';
-import type { Reference, StoredReference } from '../library/reference.js';
-import { readPatternBytes } from '../pattern/read.js';
-import type { Pattern } from '../pattern/pattern.js';
-import { parseWavelength, type Wavelength } from '../pattern/wavelengths.js';
-import { twoThetaFromD } from '../pattern/units.js';
-import { findPeaks } from '../process/peaks.js';
-import { fitInstrumentProfile, instrumentWidthAt, type InstrumentProfile } from '../size/instrument.js';
-import type { AppDataPaths } from './app-data.js';
+import { InputError } from '../core/errors.js';
+import { positionsFromCell } from '../core/library/from-crystal.js';
+import { parseReferenceFile } from '../node/library/import-files.js';
+import { ensureSeeded } from '../node/library/seed.js';
+import { ReferenceLibrary } from '../node/library/store.js';
+import type { Reference, StoredReference } from '../core/model/reference.js';
+import { readPatternBytes } from '../core/pattern/read.js';
+import type { Pattern } from '../core/model/pattern.js';
+import { parseWavelength, type Wavelength } from '../core/model/wavelengths.js';
+import { twoThetaFromD } from '../core/model/units.js';
+import { findPeaks } from '../core/process/peaks.js';
+import { fitInstrumentProfile, instrumentWidthAt, type InstrumentProfile } from '../core/size/instrument.js';
+import type { AppDataPaths } from '../node/app-data.js';
 import {
   DEFAULT_SETTINGS,
   settingsSchema,
@@ -26,10 +26,10 @@ import {
   type SampleDetail,
   type SampleSummary,
   type SizeView,
-} from './contract.js';
-import { analyzePattern, createAnalysisContext, type AnalysisContext, type AnalysisResult } from './pipeline.js';
-import { ProjectStore, type SampleRecord } from './project-store.js';
-import { lowAnglePeaks, sampleVerdict } from './verdict.js';
+} from '../api/contract.js';
+import { analyzePattern, createAnalysisContext, type AnalysisContext, type AnalysisResult } from '../core/analysis/analyse.js';
+import { ProjectStore, type SampleRecord } from '../node/project-store.js';
+import { lowAnglePeaks, sampleVerdict } from '../core/analysis/verdict.js';
 
 /** What a project keeps in its settings document besides the analysis settings. */
 interface ProjectDocument {

@@ -2,8 +2,8 @@ import { existsSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { createAppApi } from '../app/api.js';
-import { defaultAppDataRoot } from '../app/app-data.js';
-import { openAppWindow } from './browser.js';
+import { defaultAppDataRoot } from '../node/app-data.js';
+import { openAppWindow } from '../node/browser.js';
 import { startHost, type RunningHost } from './server.js';
 
 /** The project root: the nearest folder above this module holding package.json. */

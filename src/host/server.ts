@@ -1,9 +1,10 @@
+import { CONTENT_SECURITY_POLICY } from '../api/csp.js';
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import { randomBytes, timingSafeEqual } from 'node:crypto';
 import { readFile } from 'node:fs/promises';
 import { extname, join, normalize, sep } from 'node:path';
 import type { AddressInfo } from 'node:net';
-import type { ApiDispatcher } from '../app/reply.js';
+import type { ApiDispatcher } from '../api/reply.js';
 
 /**
  * The local host of browser mode: the same screens and the same API as the desktop shell, served on
@@ -34,19 +35,6 @@ export interface RunningHost {
 }
 
 const COOKIE = 'crystallog_token';
-
-/** Content-Security-Policy of every page the host serves: our own scripts and styles only, no inline code. */
-export const CONTENT_SECURITY_POLICY = [
-  "default-src 'none'",
-  "script-src 'self'",
-  "style-src 'self'",
-  "img-src 'self' data: blob:",
-  "connect-src 'self'",
-  "font-src 'self'",
-  "base-uri 'none'",
-  "form-action 'none'",
-  "frame-ancestors 'none'",
-].join('; ');
 
 const SECURITY_HEADERS: Record<string, string> = {
   'Content-Security-Policy': CONTENT_SECURITY_POLICY,

@@ -1,7 +1,7 @@
 import { existsSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createAppApi } from '../../src/app/api.js';
-import type { ApiReply } from '../../src/app/reply.js';
+import type { ApiReply } from '../../src/api/reply.js';
 import { b64, freshDataDir, SILICON, siliconPatternText } from './fixtures.js';
 
 const dataDir = freshDataDir();

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createAppApi } from '../../src/app/api.js';
-import type { ProjectState, SeriesView } from '../../src/app/contract.js';
+import type { ProjectState, SeriesView } from '../../src/api/contract.js';
 import { DEMO_EXPOSURE_HOURS, DEMO_VARIANT_SIZES_NM, demoImpurityScales, demoTruth } from '../../src/app/demo.js';
 import { freshDataDir } from './fixtures.js';
 

@@ -1,9 +1,9 @@
 import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { patternToXyText, simulatePattern } from '../../src/crystal/simulate.js';
-import type { Reference } from '../../src/library/reference.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
+import { patternToXyText, simulatePattern } from '../../src/core/crystal/simulate.js';
+import type { Reference } from '../../src/core/model/reference.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 
 /** A fresh app-data folder per test file. */
 export function freshDataDir(prefix = 'crystallog-app-'): string {

@@ -2,8 +2,9 @@ import { request } from 'node:http';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { ApiDispatcher } from '../../src/app/reply.js';
-import { CONTENT_SECURITY_POLICY, startHost, type RunningHost } from '../../src/host/server.js';
+import type { ApiDispatcher } from '../../src/api/reply.js';
+import { CONTENT_SECURITY_POLICY } from '../../src/api/csp.js';
+import { startHost, type RunningHost } from '../../src/host/server.js';
 import { freshDataDir } from './fixtures.js';
 
 interface Answer {

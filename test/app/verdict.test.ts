@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import type { MatchResult, PhaseMatch } from '../../src/match/types.js';
-import { lowAnglePeaks, sampleVerdict } from '../../src/app/verdict.js';
+import type { MatchResult, PhaseMatch } from '../../src/core/match/types.js';
+import { lowAnglePeaks, sampleVerdict } from '../../src/core/analysis/verdict.js';
 import { guessHours, guessVariant } from '../../src/app/workspace.js';
-import { renderCsvReport, renderHtmlReport, type ReportInput } from '../../src/report/report.js';
+import { renderCsvReport, renderHtmlReport, type ReportInput } from '../../src/core/report/report.js';
 
 function phase(name: string, verdict: PhaseMatch['verdict'], lines: Array<[number, boolean?]>): PhaseMatch {
   return {

@@ -5,12 +5,12 @@ import { join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { analyzeCommand, type AnalyzeCommandOptions, type AnalyzeIo } from '../../src/cli/commands/analyze.js';
-import { patternToXyText, simulatePattern } from '../../src/crystal/simulate.js';
-import { InputError } from '../../src/errors.js';
-import type { Reference } from '../../src/library/reference.js';
-import { ReferenceLibrary } from '../../src/library/store.js';
-import { dFromTwoTheta } from '../../src/pattern/units.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
+import { patternToXyText, simulatePattern } from '../../src/core/crystal/simulate.js';
+import { InputError } from '../../src/core/errors.js';
+import type { Reference } from '../../src/core/model/reference.js';
+import { ReferenceLibrary } from '../../src/node/library/store.js';
+import { dFromTwoTheta } from '../../src/core/model/units.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 
 const cu = anodeWavelength('Cu');
 let dir = '';
@@ -59,7 +59,7 @@ beforeAll(async () => {
   dir = mkdtempSync(join(tmpdir(), 'crystallog-batch-test-'));
   // Tests run from TypeScript sources; the worker thread needs JavaScript, so bundle it once.
   const outfile = join(dir, 'batch-worker.mjs');
-  await build({ entryPoints: [fileURLToPath(new URL('../../src/app/batch-worker.ts', import.meta.url))], bundle: true, platform: 'node', format: 'esm', outfile, logLevel: 'silent' });
+  await build({ entryPoints: [fileURLToPath(new URL('../../src/node/batch-worker.ts', import.meta.url))], bundle: true, platform: 'node', format: 'esm', outfile, logLevel: 'silent' });
   workerScript = pathToFileURL(outfile);
   library = join(dir, 'library.db');
   const store = ReferenceLibrary.open(library);

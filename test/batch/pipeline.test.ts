@@ -1,11 +1,11 @@
 import { describe, expect, it } from 'vitest';
-import { analyzePattern, createAnalysisContext } from '../../src/app/pipeline.js';
-import { simulatePattern } from '../../src/crystal/simulate.js';
-import { InputError } from '../../src/errors.js';
-import type { StoredReference } from '../../src/library/reference.js';
-import { dFromTwoTheta } from '../../src/pattern/units.js';
-import { findPeaks } from '../../src/process/peaks.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
+import { analyzePattern, createAnalysisContext } from '../../src/core/analysis/analyse.js';
+import { simulatePattern } from '../../src/core/crystal/simulate.js';
+import { InputError } from '../../src/core/errors.js';
+import type { StoredReference } from '../../src/core/model/reference.js';
+import { dFromTwoTheta } from '../../src/core/model/units.js';
+import { findPeaks } from '../../src/core/process/peaks.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 
 const cu = anodeWavelength('Cu');
 

@@ -1,9 +1,9 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { ANOMALOUS_SCATTERING } from '../../src/crystal/anomalous-scattering.js';
-import { computePowderLines, referenceFromStructure } from '../../src/crystal/powder.js';
-import { SCATTERING_FACTORS } from '../../src/crystal/scattering-factors.js';
-import { getSpaceGroup } from '../../src/crystal/space-groups.js';
+import { ANOMALOUS_SCATTERING } from '../../src/core/crystal/anomalous-scattering.js';
+import { computePowderLines, referenceFromStructure } from '../../src/core/crystal/powder.js';
+import { SCATTERING_FACTORS } from '../../src/core/crystal/scattering-factors.js';
+import { getSpaceGroup } from '../../src/core/crystal/space-groups.js';
 import {
   dispersionForWavelength,
   expandToUnitCell,
@@ -11,9 +11,9 @@ import {
   powderStructureFactorSquared,
   structureFactorContext,
   structureFactorSquared,
-} from '../../src/crystal/structure-factors.js';
-import type { CrystalStructure } from '../../src/crystal/structure.js';
-import { ANODE_LINES, anodeWavelength, singleWavelength, type AnodeName } from '../../src/pattern/wavelengths.js';
+} from '../../src/core/crystal/structure-factors.js';
+import type { CrystalStructure } from '../../src/core/crystal/structure.js';
+import { ANODE_LINES, anodeWavelength, singleWavelength, type AnodeName } from '../../src/core/model/wavelengths.js';
 
 type Atom = [string, number, number, number, number];
 type Row = [number, number, number, number, number, number, number];

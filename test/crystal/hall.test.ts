@@ -1,9 +1,9 @@
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { operationsFromHall } from '../../src/crystal/hall.js';
-import { formatXyzOperation, opKey, parseXyzOperation } from '../../src/crystal/symop.js';
-import { InputError } from '../../src/errors.js';
+import { operationsFromHall } from '../../src/core/crystal/hall.js';
+import { formatXyzOperation, opKey, parseXyzOperation } from '../../src/core/crystal/symop.js';
+import { InputError } from '../../src/core/errors.js';
 
 interface OperatorRow {
   number: number;

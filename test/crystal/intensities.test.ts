@@ -1,11 +1,11 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { computePowderLines, lorentzPolarization, referenceFromStructure } from '../../src/crystal/powder.js';
-import { representativeHkl } from '../../src/crystal/reflections.js';
-import { readCifStructure } from '../../src/crystal/structure.js';
-import { formFactor } from '../../src/crystal/structure-factors.js';
-import { SCATTERING_FACTORS } from '../../src/crystal/scattering-factors.js';
-import { anodeWavelength, singleWavelength } from '../../src/pattern/wavelengths.js';
+import { computePowderLines, lorentzPolarization, referenceFromStructure } from '../../src/core/crystal/powder.js';
+import { representativeHkl } from '../../src/core/crystal/reflections.js';
+import { readCifStructure } from '../../src/core/crystal/structure.js';
+import { formFactor } from '../../src/core/crystal/structure-factors.js';
+import { SCATTERING_FACTORS } from '../../src/core/crystal/scattering-factors.js';
+import { anodeWavelength, singleWavelength } from '../../src/core/model/wavelengths.js';
 
 type Row = [number, number, number, number, number, number, number];
 

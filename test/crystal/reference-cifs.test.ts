@@ -1,10 +1,10 @@
 import { readdirSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { referenceFromStructure } from '../../src/crystal/powder.js';
-import { readCifStructure } from '../../src/crystal/structure.js';
-import { expandToUnitCell } from '../../src/crystal/structure-factors.js';
-import { twoThetaFromD } from '../../src/pattern/units.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
+import { referenceFromStructure } from '../../src/core/crystal/powder.js';
+import { readCifStructure } from '../../src/core/crystal/structure.js';
+import { expandToUnitCell } from '../../src/core/crystal/structure-factors.js';
+import { twoThetaFromD } from '../../src/core/model/units.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 
 const DIR = new URL('../../reference-patterns/cif/', import.meta.url);
 const CU_KA1 = 1.5405929;

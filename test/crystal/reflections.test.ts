@@ -1,10 +1,10 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import type { Hkl, UnitCell } from '../../src/crystal/cell.js';
-import { dSpacing } from '../../src/crystal/metric.js';
-import { referenceFromCell } from '../../src/crystal/powder.js';
-import { enumerateReflections, generateReflections, isSystematicallyAbsent, multiplicity, representativeHkl } from '../../src/crystal/reflections.js';
-import { getSpaceGroup } from '../../src/crystal/space-groups.js';
+import type { Hkl, UnitCell } from '../../src/core/model/cell.js';
+import { dSpacing } from '../../src/core/crystal/metric.js';
+import { referenceFromCell } from '../../src/core/crystal/powder.js';
+import { enumerateReflections, generateReflections, isSystematicallyAbsent, multiplicity, representativeHkl } from '../../src/core/crystal/reflections.js';
+import { getSpaceGroup } from '../../src/core/crystal/space-groups.js';
 
 interface ReflectionCase {
   query: string;

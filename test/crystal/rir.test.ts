@@ -1,9 +1,9 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { ATOMIC_WEIGHTS } from '../../src/crystal/atomic-weights.js';
-import { cellContents, corundumStructure, intensityPerUnitWeight, referenceIntensityRatio } from '../../src/crystal/rir.js';
-import { readCifStructure } from '../../src/crystal/structure.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
+import { ATOMIC_WEIGHTS } from '../../src/core/crystal/atomic-weights.js';
+import { cellContents, corundumStructure, intensityPerUnitWeight, referenceIntensityRatio } from '../../src/core/crystal/rir.js';
+import { readCifStructure } from '../../src/core/crystal/structure.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 
 const CU = { wavelength: anodeWavelength('Cu') };
 

@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { operationsFromHall } from '../../src/crystal/hall.js';
-import { allSpaceGroupSettings, getSpaceGroup, identifySpaceGroup, sameOperations } from '../../src/crystal/space-groups.js';
-import { parseXyzOperation } from '../../src/crystal/symop.js';
-import { InputError } from '../../src/errors.js';
+import { operationsFromHall } from '../../src/core/crystal/hall.js';
+import { allSpaceGroupSettings, getSpaceGroup, identifySpaceGroup, sameOperations } from '../../src/core/crystal/space-groups.js';
+import { parseXyzOperation } from '../../src/core/crystal/symop.js';
+import { InputError } from '../../src/core/errors.js';
 
 describe('space-group lookup', () => {
   it('accepts Hermann–Mauguin symbols with any spacing, case and underscores', () => {

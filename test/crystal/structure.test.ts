@@ -1,9 +1,9 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { cellMetric, equivalentIsotropicU } from '../../src/crystal/metric.js';
-import { readCifStructure } from '../../src/crystal/structure.js';
-import { expandToUnitCell } from '../../src/crystal/structure-factors.js';
-import { InputError } from '../../src/errors.js';
+import { cellMetric, equivalentIsotropicU } from '../../src/core/crystal/metric.js';
+import { readCifStructure } from '../../src/core/crystal/structure.js';
+import { expandToUnitCell } from '../../src/core/crystal/structure-factors.js';
+import { InputError } from '../../src/core/errors.js';
 
 function fixture(name: string): string {
   return readFileSync(new URL(`../fixtures/cif/${name}`, import.meta.url), 'utf8');

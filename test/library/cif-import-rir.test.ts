@@ -1,6 +1,6 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { referenceFromCif } from '../../src/library/from-crystal.js';
+import { referenceFromCif } from '../../src/core/library/from-crystal.js';
 
 describe('a reference imported from a structure CIF', () => {
   it('carries a computed reference intensity ratio so the phase can be quantified', () => {

@@ -10,8 +10,8 @@ import {
   removeCommand,
   restoreCommand,
 } from '../../src/cli/commands/library.js';
-import { InputError } from '../../src/errors.js';
-import { formatReferenceJson } from '../../src/library/json-format.js';
+import { InputError } from '../../src/core/errors.js';
+import { formatReferenceJson } from '../../src/core/library/json-format.js';
 import { silicon, syntheticPhase, useTempDir } from './helpers.js';
 
 const tempDir = useTempDir();
@@ -90,7 +90,7 @@ describe('crystallog library (command functions)', () => {
 /** Build dist/ when it is missing or older than this area's sources (the command runs the compiled code). */
 function ensureBuilt(root: string): void {
   const built = join(root, 'dist/src/cli/commands/library.js');
-  const sources = [join(root, 'src/cli/commands/library.ts'), ...readdirSync(join(root, 'src/library')).map((f) => join(root, 'src/library', f))];
+  const sources = [join(root, 'src/cli/commands/library.ts'), ...['src/core/library', 'src/node/library'].flatMap((d) => readdirSync(join(root, d)).map((f) => join(root, d, f)))];
   const newest = Math.max(...sources.map((f) => statSync(f).mtimeMs));
   if (existsSync(built) && statSync(built).mtimeMs >= newest) return;
   // Other areas may still have type errors while being written; tsc emits anyway, so only the output is checked.

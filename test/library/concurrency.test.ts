@@ -1,7 +1,7 @@
 import { spawn } from 'node:child_process';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { ReferenceLibrary } from '../../src/library/store.js';
+import { ReferenceLibrary } from '../../src/node/library/store.js';
 import { syntheticPhase, useTempDir } from './helpers.js';
 
 const tempDir = useTempDir();

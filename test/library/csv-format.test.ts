@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.js';
-import { parseReferenceCsv } from '../../src/library/csv-format.js';
+import { InputError } from '../../src/core/errors.js';
+import { parseReferenceCsv } from '../../src/core/library/csv-format.js';
 
 function problem(text: string, meta = { source: 'test' }): InputError {
   try {

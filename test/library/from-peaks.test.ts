@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.js';
-import { referenceFromPeaks } from '../../src/library/from-peaks.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
-import type { FittedPeak } from '../../src/process/types.js';
+import { InputError } from '../../src/core/errors.js';
+import { referenceFromPeaks } from '../../src/core/library/from-peaks.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import type { FittedPeak } from '../../src/core/model/peak.js';
 
 function peak(d: number, area: number): FittedPeak {
   return {

@@ -2,7 +2,7 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterEach } from 'vitest';
-import type { Reference } from '../../src/library/reference.js';
+import type { Reference } from '../../src/core/model/reference.js';
 
 /** A fresh temporary folder, removed after the test. */
 export function useTempDir(): () => string {

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { parseReferenceFile, referenceFileKind } from '../../src/library/import-files.js';
-import { parseReferenceJson } from '../../src/library/json-format.js';
-import { singleWavelength } from '../../src/pattern/wavelengths.js';
+import { parseReferenceFile, referenceFileKind } from '../../src/node/library/import-files.js';
+import { parseReferenceJson } from '../../src/core/library/json-format.js';
+import { singleWavelength } from '../../src/core/model/wavelengths.js';
 
 /** Rock salt, Fm-3m, a = 5.6402 Å (from memory); Na at 0,0,0 and Cl at ½,½,½. */
 const NACL_CIF = `data_nacl

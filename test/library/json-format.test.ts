@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.js';
-import { formatReferenceJson, parseReferenceJson } from '../../src/library/json-format.js';
+import { InputError } from '../../src/core/errors.js';
+import { formatReferenceJson, parseReferenceJson } from '../../src/core/library/json-format.js';
 import { silicon } from './helpers.js';
 
 /** The InputError a parse throws (fails the test when it does not throw one). */

@@ -1,9 +1,9 @@
 import Database from 'better-sqlite3';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { ProjectStore } from '../../src/app/project-store.js';
-import { InputError } from '../../src/errors.js';
-import { ReferenceLibrary } from '../../src/library/store.js';
+import { ProjectStore } from '../../src/node/project-store.js';
+import { InputError } from '../../src/core/errors.js';
+import { ReferenceLibrary } from '../../src/node/library/store.js';
 import { useTempDir } from './helpers.js';
 
 const tempDir = useTempDir();

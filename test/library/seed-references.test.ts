@@ -1,10 +1,10 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { twoThetaFromD } from '../../src/pattern/units.js';
-import { buildSeedReferences, seedFiles } from '../../src/library/seed-build.js';
-import { loadSeedReferences, seedFolder } from '../../src/library/seed.js';
-import type { Reference } from '../../src/library/reference.js';
+import { twoThetaFromD } from '../../src/core/model/units.js';
+import { buildSeedReferences, seedFiles } from '../../src/node/library/seed-build.js';
+import { loadSeedReferences, seedFolder } from '../../src/node/library/seed.js';
+import type { Reference } from '../../src/core/model/reference.js';
 
 const CU_KA1 = 1.5405929;
 const NAMES = [

@@ -1,9 +1,9 @@
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { formatReferenceJson } from '../../src/library/json-format.js';
-import { ensureSeeded, loadSeedReferences, packageRoot, seedFolder } from '../../src/library/seed.js';
-import { ReferenceLibrary } from '../../src/library/store.js';
+import { formatReferenceJson } from '../../src/core/library/json-format.js';
+import { ensureSeeded, loadSeedReferences, packageRoot, seedFolder } from '../../src/node/library/seed.js';
+import { ReferenceLibrary } from '../../src/node/library/store.js';
 import { silicon, syntheticPhase, useTempDir } from './helpers.js';
 
 const tempDir = useTempDir();

@@ -2,10 +2,10 @@ import Database from 'better-sqlite3';
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.js';
-import { lineArrays, ReferenceLibrary } from '../../src/library/store.js';
-import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from '../../src/library/schema.js';
-import { openDatabase, schemaVersion } from '../../src/library/sqlite.js';
+import { InputError } from '../../src/core/errors.js';
+import { lineArrays, ReferenceLibrary } from '../../src/node/library/store.js';
+import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from '../../src/node/library/schema.js';
+import { openDatabase, schemaVersion } from '../../src/node/library/sqlite.js';
 import { silicon, syntheticPhase, useTempDir } from './helpers.js';
 
 const tempDir = useTempDir();

@@ -10,15 +10,18 @@
 import { readFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { cellMetric, equivalentReflections, readCifStructure, referenceFromStructure, type CrystalStructure } from '../../src/crystal/index.js';
-import { seededUniform } from '../../src/crystal/random.js';
-import { simulatePattern } from '../../src/crystal/simulate.js';
-import type { ReferenceLine, StoredReference } from '../../src/library/reference.js';
-import { matchPhases } from '../../src/match/match.js';
-import type { MatchResult } from '../../src/match/types.js';
-import { DEG_TO_RAD, twoThetaFromD } from '../../src/pattern/units.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
-import { findPeaks } from '../../src/process/peaks.js';
+import { cellMetric } from '../../src/core/crystal/metric.js';
+import { equivalentReflections } from '../../src/core/crystal/reflections.js';
+import { readCifStructure, type CrystalStructure } from '../../src/core/crystal/structure.js';
+import { referenceFromStructure } from '../../src/core/crystal/powder.js';
+import { seededUniform } from '../../src/core/numeric/random.js';
+import { simulatePattern } from '../../src/core/crystal/simulate.js';
+import type { ReferenceLine, StoredReference } from '../../src/core/model/reference.js';
+import { matchPhases } from '../../src/core/match/match.js';
+import type { MatchResult } from '../../src/core/match/types.js';
+import { DEG_TO_RAD, twoThetaFromD } from '../../src/core/model/units.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import { findPeaks } from '../../src/core/process/peaks.js';
 
 export const CU = anodeWavelength('Cu');
 const FIXTURE_DIR = join(dirname(fileURLToPath(import.meta.url)), '..', 'fixtures', 'cif');

@@ -3,8 +3,8 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it, vi } from 'vitest';
 import { main } from '../../src/cli/main.js';
-import { patternToXyText, simulatePattern } from '../../src/crystal/simulate.js';
-import { ReferenceLibrary } from '../../src/library/store.js';
+import { patternToXyText, simulatePattern } from '../../src/core/crystal/simulate.js';
+import { ReferenceLibrary } from '../../src/node/library/store.js';
 import { CU, loadStructure, phaseFromStructure } from './accuracy-support.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'crystallog-match-cli-'));

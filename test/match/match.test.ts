@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.js';
-import { buildReferenceIndex, matchPhases } from '../../src/match/index.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
+import { InputError } from '../../src/core/errors.js';
+import { buildReferenceIndex } from '../../src/core/match/reference-index.js';
+import { matchPhases } from '../../src/core/match/match.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 import { flatBackground, linesAt, peaksOf, stored } from './synthetic.js';
 
 const cu = anodeWavelength('Cu');

@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { seededUniform } from '../../src/crystal/random.js';
-import { buildReferenceIndex, chungWeightFractions, screenReferences } from '../../src/match/index.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
+import { seededUniform } from '../../src/core/numeric/random.js';
+import { buildReferenceIndex, screenReferences } from '../../src/core/match/reference-index.js';
+import { chungWeightFractions } from '../../src/core/match/quantify.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 import { linesAt, stored } from './synthetic.js';
 
 const L = anodeWavelength('Cu').lambda1;

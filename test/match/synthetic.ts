@@ -1,7 +1,7 @@
 /** Synthetic peak lists and references for the matcher's unit tests (no simulation, no peak search). */
-import type { ReferenceLine, StoredReference } from '../../src/library/reference.js';
-import type { FittedPeak } from '../../src/process/types.js';
-import { DEG_TO_RAD, dFromTwoTheta, twoThetaFromD } from '../../src/pattern/units.js';
+import type { ReferenceLine, StoredReference } from '../../src/core/model/reference.js';
+import type { FittedPeak } from '../../src/core/model/peak.js';
+import { DEG_TO_RAD, dFromTwoTheta, twoThetaFromD } from '../../src/core/model/units.js';
 
 let nextId = 1;
 

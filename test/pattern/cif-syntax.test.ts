@@ -1,6 +1,6 @@
 import { describe, it, expect } from 'vitest';
-import { parseCif, cifNumber, findLoop, cifItem, requireCifNumber, type CifValue } from '../../src/pattern/cif-syntax.js';
-import { InputError } from '../../src/errors.js';
+import { parseCif, cifNumber, findLoop, cifItem, requireCifNumber, type CifValue } from '../../src/core/cif/syntax.js';
+import { InputError } from '../../src/core/errors.js';
 
 const value = (text: string, quoted = false): CifValue => ({ text, line: 1, quoted });
 

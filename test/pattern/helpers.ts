@@ -1,9 +1,9 @@
 import { expect } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
-import { InputError } from '../../src/errors.js';
-import { readPatternBytes } from '../../src/pattern/read.js';
-import type { Pattern } from '../../src/pattern/pattern.js';
+import { InputError } from '../../src/core/errors.js';
+import { readPatternBytes } from '../../src/core/pattern/read.js';
+import type { Pattern } from '../../src/core/model/pattern.js';
 
 export const fixturePath = (name: string): string => fileURLToPath(new URL(`../fixtures/patterns/${name}`, import.meta.url));
 export const fixtureText = (name: string): string => readFileSync(fixturePath(name), 'utf8');

@@ -1,6 +1,6 @@
 import { describe, it, expect } from 'vitest';
 import fc from 'fast-check';
-import { scanNumber, scanState } from '../../src/pattern/readers/number-scan.js';
+import { scanNumber, scanState } from '../../src/core/numeric/number-scan.js';
 
 describe('scanNumber', () => {
   it('gives the same double as Number() for any finite double written in any notation', () => {

@@ -3,8 +3,9 @@ import { createHash } from 'node:crypto';
 import { mkdtempSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { readPatternBytes, readPatternFile } from '../../src/pattern/read.js';
-import { InputError } from '../../src/errors.js';
+import { readPatternBytes } from '../../src/core/pattern/read.js';
+import { readPatternFile } from '../../src/node/files.js';
+import { InputError } from '../../src/core/errors.js';
 import { fixturePath, readError, rows } from './helpers.js';
 
 const utf8 = (text: string): Uint8Array => new TextEncoder().encode(text);

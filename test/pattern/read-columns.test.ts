@@ -1,8 +1,8 @@
 import { describe, it, expect } from 'vitest';
-import { readPatternBytes } from '../../src/pattern/read.js';
-import { ANODE_LINES } from '../../src/pattern/wavelengths.js';
-import { patternToXyText, simulatePattern } from '../../src/crystal/simulate.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
+import { readPatternBytes } from '../../src/core/pattern/read.js';
+import { ANODE_LINES } from '../../src/core/model/wavelengths.js';
+import { patternToXyText, simulatePattern } from '../../src/core/crystal/simulate.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 import { fixtureText, readError, readText, rows, expectValidPattern } from './helpers.js';
 
 describe('two- and three-column text', () => {

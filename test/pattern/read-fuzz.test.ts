@@ -1,8 +1,8 @@
 import { describe, it, expect } from 'vitest';
 import fc from 'fast-check';
-import { readPatternBytes } from '../../src/pattern/read.js';
-import { parseCif } from '../../src/pattern/cif-syntax.js';
-import { InputError } from '../../src/errors.js';
+import { readPatternBytes } from '../../src/core/pattern/read.js';
+import { parseCif } from '../../src/core/cif/syntax.js';
+import { InputError } from '../../src/core/errors.js';
 import { fixtureText, expectValidPattern } from './helpers.js';
 
 /** Reading must give a valid Pattern or an InputError naming the file, never anything else. */

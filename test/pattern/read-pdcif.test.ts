@@ -1,6 +1,6 @@
 import { describe, it, expect } from 'vitest';
 import { fixtureText, readError, readText, expectValidPattern } from './helpers.js';
-import { ANODE_LINES } from '../../src/pattern/wavelengths.js';
+import { ANODE_LINES } from '../../src/core/model/wavelengths.js';
 
 const loopOf = (tags: string[], rows: string[]): string => ['loop_', ...tags, ...rows].join('\n') + '\n';
 const fivePoints = ['10.00 100', '10.02 121', '10.04 144', '10.06 169', '10.08 196'];

@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import { liftToNoiseMedian, snipBackground } from '../../src/process/snip.js';
-import { stripKAlpha2 } from '../../src/process/kalpha2.js';
-import { simulatePattern } from '../../src/crystal/simulate.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
-import { poissonDeviate, seededUniform } from '../../src/crystal/random.js';
+import { liftToNoiseMedian, snipBackground } from '../../src/core/process/snip.js';
+import { stripKAlpha2 } from '../../src/core/process/kalpha2.js';
+import { simulatePattern } from '../../src/core/crystal/simulate.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import { poissonDeviate, seededUniform } from '../../src/core/numeric/random.js';
 
 const CU = anodeWavelength('Cu');
 const curve = (tt: number): number => 80 + 400 * Math.exp(-tt / 6);

@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { fitPeakGroups, fitPeaksAt } from '../../src/process/fit.js';
-import { pseudoVoigtIntegralBreadth } from '../../src/process/profiles.js';
-import { anodeWavelength, singleWavelength } from '../../src/pattern/wavelengths.js';
-import { simulatePattern } from '../../src/crystal/simulate.js';
+import { fitPeakGroups, fitPeaksAt } from '../../src/core/process/fit.js';
+import { pseudoVoigtIntegralBreadth } from '../../src/core/process/profiles.js';
+import { anodeWavelength, singleWavelength } from '../../src/core/model/wavelengths.js';
+import { simulatePattern } from '../../src/core/crystal/simulate.js';
 import { golden } from './golden.js';
 import { patternOf } from './helpers.js';
 

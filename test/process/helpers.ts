@@ -1,5 +1,5 @@
-import type { Pattern } from '../../src/pattern/pattern.js';
-import type { ReferenceLine } from '../../src/library/reference.js';
+import type { Pattern } from '../../src/core/model/pattern.js';
+import type { ReferenceLine } from '../../src/core/model/reference.js';
 
 /** A pattern from plain arrays (σ = √counts unless given), labelled as a test input. */
 export function patternOf(x: ArrayLike<number>, y: ArrayLike<number>, sigma?: ArrayLike<number>): Pattern {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { findLocalMaxima } from '../../src/process/local-maxima.js';
+import { findLocalMaxima } from '../../src/core/process/local-maxima.js';
 import { golden } from './golden.js';
 
 describe('local maxima with height and prominence limits', () => {

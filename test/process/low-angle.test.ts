@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import { simulatePattern, TYPICAL_LAB_INSTRUMENT, type SimulatedPhase } from '../../src/crystal/simulate.js';
-import { loadSeedReferences } from '../../src/library/seed.js';
-import { twoThetaFromD } from '../../src/pattern/units.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
-import { findPeaks } from '../../src/process/peaks.js';
+import { simulatePattern, TYPICAL_LAB_INSTRUMENT, type SimulatedPhase } from '../../src/core/crystal/simulate.js';
+import { loadSeedReferences } from '../../src/node/library/seed.js';
+import { twoThetaFromD } from '../../src/core/model/units.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import { findPeaks } from '../../src/core/process/peaks.js';
 
 const CU = anodeWavelength('Cu');
 const seedReferences = new Map(loadSeedReferences().map((r) => [r.name, r]));

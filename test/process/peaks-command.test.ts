@@ -3,9 +3,9 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { peaksReport } from '../../src/cli/commands/peaks.js';
-import { patternToXyText, simulatePattern } from '../../src/crystal/simulate.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
-import { InputError } from '../../src/errors.js';
+import { patternToXyText, simulatePattern } from '../../src/core/crystal/simulate.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import { InputError } from '../../src/core/errors.js';
 import { siliconLines } from './helpers.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'crystallog-peaks-cli-'));

@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import { findPeaks } from '../../src/process/peaks.js';
-import { simulatePattern } from '../../src/crystal/simulate.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
-import { dFromTwoTheta } from '../../src/pattern/units.js';
-import { InputError } from '../../src/errors.js';
+import { findPeaks } from '../../src/core/process/peaks.js';
+import { simulatePattern } from '../../src/core/crystal/simulate.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import { dFromTwoTheta } from '../../src/core/model/units.js';
+import { InputError } from '../../src/core/errors.js';
 import { patternOf, siliconLines } from './helpers.js';
 
 const CU = anodeWavelength('Cu');

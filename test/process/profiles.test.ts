@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { pseudoVoigtIntegralBreadth, thompsonCoxHastings, thompsonCoxHastingsWithDerivatives } from '../../src/process/profiles.js';
+import { pseudoVoigtIntegralBreadth, thompsonCoxHastings, thompsonCoxHastingsWithDerivatives } from '../../src/core/process/profiles.js';
 import { golden } from './golden.js';
 
 describe('profile widths', () => {

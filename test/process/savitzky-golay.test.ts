@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { savitzkyGolay, savitzkyGolayWeights } from '../../src/process/savitzky-golay.js';
-import { InputError } from '../../src/errors.js';
+import { savitzkyGolay, savitzkyGolayWeights } from '../../src/core/process/savitzky-golay.js';
+import { InputError } from '../../src/core/errors.js';
 import { golden } from './golden.js';
 
 describe('Savitzky–Golay smoothing', () => {

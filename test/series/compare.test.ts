@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { compareSizes } from '../../src/series/compare.js';
+import { compareSizes } from '../../src/core/series/compare.js';
 
 describe('pairwise size comparison', () => {
   it('calls 20 ± 0.5 nm and 40 ± 0.8 nm different and names its test', () => {

@@ -5,10 +5,10 @@
  * (peaks → match → sizes) and turned into a series.
  */
 import { describe, expect, it } from 'vitest';
-import type { AnalysisResult } from '../../src/app/pipeline.js';
-import type { PhaseMatch } from '../../src/match/types.js';
-import { seriesSamplesFromAnalyses } from '../../src/series/from-analysis.js';
-import { analyzeSeries } from '../../src/series/series.js';
+import type { AnalysisResult } from '../../src/core/analysis/analyse.js';
+import type { PhaseMatch } from '../../src/core/match/types.js';
+import { seriesSamplesFromAnalyses } from '../../src/core/analysis/series-from-analysis.js';
+import { analyzeSeries } from '../../src/core/series/series.js';
 import { exposureSample, HYDRATE, perovskiteContext, standardProfile, TARGET } from './perovskite-fixtures.js';
 
 const context = perovskiteContext(standardProfile());

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { fitGrowth } from '../../src/series/kinetics.js';
-import { seededUniform, normalDeviate } from '../../src/crystal/random.js';
+import { fitGrowth } from '../../src/core/series/kinetics.js';
+import { seededUniform, normalDeviate } from '../../src/core/numeric/random.js';
 
 const times = [0, 0.5, 1, 2, 4, 8, 16, 24];
 

@@ -3,14 +3,14 @@
  * lead iodide; LaB6 as the line-profile standard): the seed references, Cu Kα1/Kα2, 5–60° 2θ in
  * 0.01° steps, a typical lab instrument and Poisson noise. Simulated, not measured.
  */
-import { simulatePattern, TYPICAL_LAB_INSTRUMENT, type SimulatedPhase } from '../../src/crystal/simulate.js';
-import { analyzePattern, createAnalysisContext, type AnalysisContext, type AnalysisResult } from '../../src/app/pipeline.js';
-import type { StoredReference } from '../../src/library/reference.js';
-import { loadSeedReferences } from '../../src/library/seed.js';
-import type { Pattern } from '../../src/pattern/pattern.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
-import { findPeaks } from '../../src/process/peaks.js';
-import { fitInstrumentProfile, type InstrumentProfile } from '../../src/size/instrument.js';
+import { simulatePattern, TYPICAL_LAB_INSTRUMENT, type SimulatedPhase } from '../../src/core/crystal/simulate.js';
+import { analyzePattern, createAnalysisContext, type AnalysisContext, type AnalysisResult } from '../../src/core/analysis/analyse.js';
+import type { StoredReference } from '../../src/core/model/reference.js';
+import { loadSeedReferences } from '../../src/node/library/seed.js';
+import type { Pattern } from '../../src/core/model/pattern.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import { findPeaks } from '../../src/core/process/peaks.js';
+import { fitInstrumentProfile, type InstrumentProfile } from '../../src/core/size/instrument.js';
 
 export const CU = anodeWavelength('Cu');
 export const TARGET = 'methylammonium lead iodide';

@@ -1,10 +1,10 @@
 import { describe, expect, it } from 'vitest';
-import { normalDeviate, seededUniform } from '../../src/crystal/random.js';
-import { InputError } from '../../src/errors.js';
-import { twoThetaFromD } from '../../src/pattern/units.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
-import { analyzeSeries, exposureHoursFromLabel, type SeriesSample } from '../../src/series/series.js';
-import { crystalliteSizes, type SizeOptions } from '../../src/size/sizes.js';
+import { normalDeviate, seededUniform } from '../../src/core/numeric/random.js';
+import { InputError } from '../../src/core/errors.js';
+import { twoThetaFromD } from '../../src/core/model/units.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import { analyzeSeries, exposureHoursFromLabel, type SeriesSample } from '../../src/core/series/series.js';
+import { crystalliteSizes, type SizeOptions } from '../../src/core/size/sizes.js';
 import { broadenedProfile, CU_KA1, cubicPhase, fittedPeak, typicalInstrumentProfile } from '../size/fixtures.js';
 
 const CU = anodeWavelength('Cu');

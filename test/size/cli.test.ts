@@ -5,11 +5,11 @@ import { describe, expect, it } from 'vitest';
 import { instrumentCommand } from '../../src/cli/commands/instrument.js';
 import { seriesCommand } from '../../src/cli/commands/series.js';
 import { sizeCommand } from '../../src/cli/commands/size.js';
-import { patternToXyText, simulatePattern } from '../../src/crystal/simulate.js';
-import { InputError } from '../../src/errors.js';
-import { ReferenceLibrary } from '../../src/library/store.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
-import { parseInstrumentProfile } from '../../src/size/instrument.js';
+import { patternToXyText, simulatePattern } from '../../src/core/crystal/simulate.js';
+import { InputError } from '../../src/core/errors.js';
+import { ReferenceLibrary } from '../../src/node/library/store.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import { parseInstrumentProfile } from '../../src/core/size/instrument.js';
 import { cubicPhase, siliconStandard } from './fixtures.js';
 
 const CU = anodeWavelength('Cu');

@@ -1,12 +1,12 @@
 /** Synthetic fitted peaks for the size tests: widths made from known instrument and sample parts. */
-import type { ReferenceLine } from '../../src/library/reference.js';
-import type { FittedPeak } from '../../src/process/types.js';
-import { DEG_TO_RAD, dFromTwoTheta, twoThetaFromD } from '../../src/pattern/units.js';
-import { thompsonCoxHastings, pseudoVoigtIntegralBreadth } from '../../src/process/profiles.js';
-import { TYPICAL_LAB_INSTRUMENT, type InstrumentBroadening } from '../../src/crystal/simulate.js';
-import type { Reference } from '../../src/library/reference.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
-import { fitInstrumentProfile, type InstrumentProfile } from '../../src/size/instrument.js';
+import type { ReferenceLine } from '../../src/core/model/reference.js';
+import type { FittedPeak } from '../../src/core/model/peak.js';
+import { DEG_TO_RAD, dFromTwoTheta, twoThetaFromD } from '../../src/core/model/units.js';
+import { thompsonCoxHastings, pseudoVoigtIntegralBreadth } from '../../src/core/process/profiles.js';
+import { TYPICAL_LAB_INSTRUMENT, type InstrumentBroadening } from '../../src/core/crystal/simulate.js';
+import type { Reference } from '../../src/core/model/reference.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import { fitInstrumentProfile, type InstrumentProfile } from '../../src/core/size/instrument.js';
 
 export const CU_KA1 = 1.5405929;
 

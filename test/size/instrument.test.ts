@@ -1,13 +1,13 @@
 import { describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.js';
-import { twoThetaFromD } from '../../src/pattern/units.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
+import { InputError } from '../../src/core/errors.js';
+import { twoThetaFromD } from '../../src/core/model/units.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 import {
   fitInstrumentProfile,
   instrumentProfileToJson,
   instrumentWidthAt,
   parseInstrumentProfile,
-} from '../../src/size/instrument.js';
+} from '../../src/core/size/instrument.js';
 import { broadenedProfile, CU_KA1, fittedPeak, siliconStandard } from './fixtures.js';
 
 const CU = anodeWavelength('Cu');

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { chiSquareSurvival, erf, erfc, erfcx, normalTwoSidedP, weightedLinearFit, weightedMean } from '../../src/size/numeric.js';
+import { chiSquareSurvival, erf, erfc, erfcx, normalTwoSidedP, weightedLinearFit, weightedMean } from '../../src/core/numeric/numeric.js';
 
 describe('error functions and tail probabilities', () => {
   it('erf and erfc add to one and are continuous across the method switch', () => {

@@ -4,8 +4,8 @@
  * strong ones), with the instrument profile from a simulated LaB6 standard.
  */
 import { describe, expect, it } from 'vitest';
-import { analyzePattern } from '../../src/app/pipeline.js';
-import { crystalliteSizes } from '../../src/size/sizes.js';
+import { analyzePattern } from '../../src/core/analysis/analyse.js';
+import { crystalliteSizes } from '../../src/core/size/sizes.js';
 import { CU, exposureSample, perovskiteContext, reference, simulate, STANDARD, standardProfile, TARGET } from '../series/perovskite-fixtures.js';
 
 const instrument = standardProfile();

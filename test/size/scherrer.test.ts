@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.js';
-import { resolveScherrerK, SCHERRER_K_PRESETS, scherrerBreadthDeg, scherrerSizeNm } from '../../src/size/scherrer.js';
+import { InputError } from '../../src/core/errors.js';
+import { resolveScherrerK, SCHERRER_K_PRESETS, scherrerBreadthDeg, scherrerSizeNm } from '../../src/core/size/scherrer.js';
 import { CU_KA1 } from './fixtures.js';
 
 describe('Scherrer equation', () => {

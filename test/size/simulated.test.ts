@@ -4,13 +4,13 @@
  * Poisson noise; peaks found and fitted by findPeaks, then the instrument profile and the sizes.
  */
 import { describe, expect, it } from 'vitest';
-import { simulatePattern, TYPICAL_LAB_INSTRUMENT } from '../../src/crystal/simulate.js';
-import type { ReferenceLine } from '../../src/library/reference.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
-import { findPeaks } from '../../src/process/peaks.js';
-import { analyzeSeries } from '../../src/series/series.js';
-import { fitInstrumentProfile, instrumentWidthAt } from '../../src/size/instrument.js';
-import { crystalliteSizes, type SizeResult } from '../../src/size/sizes.js';
+import { simulatePattern, TYPICAL_LAB_INSTRUMENT } from '../../src/core/crystal/simulate.js';
+import type { ReferenceLine } from '../../src/core/model/reference.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import { findPeaks } from '../../src/core/process/peaks.js';
+import { analyzeSeries } from '../../src/core/series/series.js';
+import { fitInstrumentProfile, instrumentWidthAt } from '../../src/core/size/instrument.js';
+import { crystalliteSizes, type SizeResult } from '../../src/core/size/sizes.js';
 import { broadenedProfile, cubicPhase, siliconStandard } from './fixtures.js';
 
 const CU = anodeWavelength('Cu');

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { twoThetaFromD } from '../../src/pattern/units.js';
-import { anodeWavelength } from '../../src/pattern/wavelengths.js';
-import { crystalliteSizes } from '../../src/size/sizes.js';
+import { twoThetaFromD } from '../../src/core/model/units.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import { crystalliteSizes } from '../../src/core/size/sizes.js';
 import { broadenedProfile, CU_KA1, cubicPhase, fittedPeak, typicalInstrumentProfile } from './fixtures.js';
 
 const CU = anodeWavelength('Cu');

@@ -1,6 +1,6 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { sampleBreadths, voigtBreadths, voigtFwhm, voigtIntegralBreadth, voigtParts } from '../../src/size/voigt.js';
+import { sampleBreadths, voigtBreadths, voigtFwhm, voigtIntegralBreadth, voigtParts } from '../../src/core/size/voigt.js';
 
 interface GoldenCase {
   sigma: number;

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { scherrerBreadthDeg } from '../../src/size/scherrer.js';
-import { hklFamily, williamsonHall, type BreadthPoint } from '../../src/size/williamson-hall.js';
-import { DEG_TO_RAD } from '../../src/pattern/units.js';
+import { scherrerBreadthDeg } from '../../src/core/size/scherrer.js';
+import { hklFamily, williamsonHall, type BreadthPoint } from '../../src/core/size/williamson-hall.js';
+import { DEG_TO_RAD } from '../../src/core/model/units.js';
 import { CU_KA1 } from './fixtures.js';
 
 /** Breadths that follow β cosθ = Kλ/D + 4ε sinθ exactly (Williamson & Hall 1953). */

@@ -1,14 +1,14 @@
 import type { Command } from 'commander';
 import { existsSync, readFileSync } from 'node:fs';
-import { analyzeFiles, defaultWorkerCount, type BatchFileOutcome } from '../../app/batch.js';
-import type { AnalysisResult, AnalysisSettings } from '../../app/pipeline.js';
-import { InputError } from '../../errors.js';
-import { parseWavelength } from '../../pattern/wavelengths.js';
-import { parseInstrumentProfile, type InstrumentProfile } from '../../size/instrument.js';
-import { resolveScherrerK } from '../../size/scherrer.js';
-import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../../size/voigt.js';
-import { loadAllReferences } from '../io.js';
-import { BACKGROUND_OPTION_HELP, backgroundOption, numberOption, runCommand } from '../run-command.js';
+import { analyzeFiles, defaultWorkerCount, type BatchFileOutcome } from '../../node/batch.js';
+import type { AnalysisResult, AnalysisSettings } from '../../core/analysis/analyse.js';
+import { InputError } from '../../core/errors.js';
+import { parseWavelength } from '../../core/model/wavelengths.js';
+import { parseInstrumentProfile, type InstrumentProfile } from '../../core/size/instrument.js';
+import { resolveScherrerK } from '../../core/size/scherrer.js';
+import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../../core/size/voigt.js';
+import { loadAllReferences } from '../common/io.js';
+import { BACKGROUND_OPTION_HELP, backgroundOption, numberOption, runCommand } from '../common/run-command.js';
 
 export interface AnalyzeCommandOptions {
   library: string;

@@ -1,12 +1,12 @@
 import type { Command } from 'commander';
 import { existsSync, readFileSync } from 'node:fs';
-import { InputError } from '../../errors.js';
-import { ReferenceLibrary } from '../../library/store.js';
-import { readPatternFile } from '../../pattern/read.js';
-import { findPeaks } from '../../process/peaks.js';
-import { fitInstrumentProfile, instrumentProfileToJson, parseInstrumentProfile, type InstrumentProfile } from '../../size/instrument.js';
-import { chooseWavelength, withLibrary, writeFileAtomically } from '../io.js';
-import { numberOption, runCommand } from '../run-command.js';
+import { InputError } from '../../core/errors.js';
+import { ReferenceLibrary } from '../../node/library/store.js';
+import { readPatternFile } from '../../node/files.js';
+import { findPeaks } from '../../core/process/peaks.js';
+import { fitInstrumentProfile, instrumentProfileToJson, parseInstrumentProfile, type InstrumentProfile } from '../../core/size/instrument.js';
+import { chooseWavelength, withLibrary, writeFileAtomically } from '../common/io.js';
+import { numberOption, runCommand } from '../common/run-command.js';
 
 interface InstrumentCommandOptions {
   standard: string;

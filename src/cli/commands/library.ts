@@ -1,13 +1,13 @@
 import type { Command } from 'commander';
-import { InputError } from '../../errors.js';
-import { readReferenceFile } from '../../library/import-files.js';
-import { formatReferenceJson } from '../../library/json-format.js';
-import type { Reference } from '../../library/reference.js';
-import { ensureSeeded } from '../../library/seed.js';
-import { type ImportSummary, type ReferenceVersionInfo } from '../../library/store.js';
-import { parseWavelength } from '../../pattern/wavelengths.js';
-import { withLibrary, writeFileAtomically } from '../io.js';
-import { runCommand } from '../run-command.js';
+import { InputError } from '../../core/errors.js';
+import { readReferenceFile } from '../../node/library/import-files.js';
+import { formatReferenceJson } from '../../core/library/json-format.js';
+import type { Reference } from '../../core/model/reference.js';
+import { ensureSeeded } from '../../node/library/seed.js';
+import { type ImportSummary, type ReferenceVersionInfo } from '../../node/library/store.js';
+import { parseWavelength } from '../../core/model/wavelengths.js';
+import { withLibrary, writeFileAtomically } from '../common/io.js';
+import { runCommand } from '../common/run-command.js';
 
 /** `crystallog library ...`: import, list, export, remove, history, restore, seed. */
 export function registerLibrary(program: Command): void {

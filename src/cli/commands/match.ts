@@ -1,10 +1,10 @@
 import type { Command } from 'commander';
-import { matchPhases } from '../../match/match.js';
-import type { MatchResult } from '../../match/types.js';
-import { readPatternFile } from '../../pattern/read.js';
-import { findPeaks } from '../../process/peaks.js';
-import { chooseWavelength, loadAllReferences } from '../io.js';
-import { numberOption, runCommand } from '../run-command.js';
+import { matchPhases } from '../../core/match/match.js';
+import type { MatchResult } from '../../core/match/types.js';
+import { readPatternFile } from '../../node/files.js';
+import { findPeaks } from '../../core/process/peaks.js';
+import { chooseWavelength, loadAllReferences } from '../common/io.js';
+import { numberOption, runCommand } from '../common/run-command.js';
 
 interface MatchCommandOptions {
   library: string;

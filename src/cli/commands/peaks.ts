@@ -1,9 +1,9 @@
 import type { Command } from 'commander';
-import { readPatternFile } from '../../pattern/read.js';
-import { anodeWavelength, parseWavelength, type Wavelength } from '../../pattern/wavelengths.js';
-import { findPeaks } from '../../process/peaks.js';
-import type { FittedPeak } from '../../process/types.js';
-import { BACKGROUND_OPTION_HELP, backgroundOption, numberOption, runCommand } from '../run-command.js';
+import { readPatternFile } from '../../node/files.js';
+import { anodeWavelength, parseWavelength, type Wavelength } from '../../core/model/wavelengths.js';
+import { findPeaks } from '../../core/process/peaks.js';
+import type { FittedPeak } from '../../core/model/peak.js';
+import { BACKGROUND_OPTION_HELP, backgroundOption, numberOption, runCommand } from '../common/run-command.js';
 
 export interface PeaksCommandOptions {
   wavelength?: string;

@@ -1,13 +1,13 @@
 import type { Command } from 'commander';
-import { analyzeFiles } from '../../app/batch.js';
-import { analyzePattern, createAnalysisContext, type AnalysisResult, type AnalysisSettings } from '../../app/pipeline.js';
-import { InputError } from '../../errors.js';
-import { readPatternFile } from '../../pattern/read.js';
-import { parseWavelength } from '../../pattern/wavelengths.js';
-import { seriesSamplesFromAnalyses } from '../../series/from-analysis.js';
-import { analyzeSeries, type SeriesResult } from '../../series/series.js';
-import { loadAllReferences } from '../io.js';
-import { numberOption, runCommand } from '../run-command.js';
+import { analyzeFiles } from '../../node/batch.js';
+import { analyzePattern, createAnalysisContext, type AnalysisResult, type AnalysisSettings } from '../../core/analysis/analyse.js';
+import { InputError } from '../../core/errors.js';
+import { readPatternFile } from '../../node/files.js';
+import { parseWavelength } from '../../core/model/wavelengths.js';
+import { seriesSamplesFromAnalyses } from '../../core/analysis/series-from-analysis.js';
+import { analyzeSeries, type SeriesResult } from '../../core/series/series.js';
+import { loadAllReferences } from '../common/io.js';
+import { numberOption, runCommand } from '../common/run-command.js';
 import { loadInstrumentProfile } from './instrument.js';
 import { parseBreadth, parseCorrection } from './size.js';
 

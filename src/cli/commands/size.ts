@@ -1,11 +1,11 @@
 import type { Command } from 'commander';
-import { InputError } from '../../errors.js';
-import { readPatternFile } from '../../pattern/read.js';
-import { findPeaks } from '../../process/peaks.js';
-import { crystalliteSizes, type SizeResult } from '../../size/sizes.js';
-import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../../size/voigt.js';
-import { chooseWavelength, withLibrary } from '../io.js';
-import { numberOption, runCommand } from '../run-command.js';
+import { InputError } from '../../core/errors.js';
+import { readPatternFile } from '../../node/files.js';
+import { findPeaks } from '../../core/process/peaks.js';
+import { crystalliteSizes, type SizeResult } from '../../core/size/sizes.js';
+import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../../core/size/voigt.js';
+import { chooseWavelength, withLibrary } from '../common/io.js';
+import { numberOption, runCommand } from '../common/run-command.js';
 import { loadInstrumentProfile } from './instrument.js';
 
 export interface SizeCommandOptions {

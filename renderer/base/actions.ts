@@ -1,0 +1,107 @@
+import type { PickedFile } from '../../src/api/bridge.js';
+import type { SampleSummary } from '../../src/api/contract.js';
+import { call, isDesktop, pickFiles, saveFile, toBase64 } from './api.js';
+import { app, changed, setProject } from './state.js';
+import { errorText, notify, withProgress } from './ui.js';
+
+/** Timings of the last drop, read by the end-to-end tests and shown nowhere else. */
+export const timings = { lastAddMs: 0, lastDrawMs: 0 };
+
+/** Add pattern files to the open project, one request per file, with progress and Cancel. */
+export async function addPatternFiles(files: PickedFile[]): Promise<void> {
+  if (!app.project) {
+    notify('Open or create a project first, then add pattern files to it.', 'error');
+    return;
+  }
+  if (files.length === 0) return;
+  const started = performance.now();
+  const added: SampleSummary[] = [];
+  const refused: string[] = [];
+  const { cancelled } = await withProgress(`Analysing ${files.length} pattern file${files.length === 1 ? '' : 's'}`, files, async (file) => {
+    try {
+      added.push(await call('sample.add', { fileName: file.name, bytesBase64: file.bytesBase64 }));
+    } catch (err) {
+      refused.push(errorText(err));
+    }
+  });
+  timings.lastAddMs = performance.now() - started;
+  app.project = await call('project.state', {});
+  app.details.clear();
+  if (added.length) app.selected = added[added.length - 1]!.id;
+  changed();
+  for (const message of refused.slice(0, 3)) notify(message, 'error');
+  if (refused.length > 3) notify(`${refused.length - 3} more files were refused.`, 'error');
+  if (added.length) notify(`${added.length} pattern${added.length === 1 ? '' : 's'} added${cancelled ? ' before you cancelled' : ''}.`, 'done');
+}
+
+export async function openPatternFiles(): Promise<void> {
+  await addPatternFiles(await pickFiles('patterns'));
+}
+
+/** Files dropped on the window, read in the page (no paths needed: works sandboxed and in a browser). */
+export async function filesFromDrop(list: FileList): Promise<PickedFile[]> {
+  const files = Array.from(list);
+  return Promise.all(files.map(async (f) => ({ name: f.name, bytesBase64: toBase64(new Uint8Array(await f.arrayBuffer())) })));
+}
+
+export async function exportReport(format: 'html' | 'csv' | 'pdf'): Promise<void> {
+  if (!app.project) {
+    notify('Open a project first: a report covers the samples of one project.', 'error');
+    return;
+  }
+  try {
+    if (format === 'pdf') {
+      if (isDesktop()) {
+        const html = await call('report.build', { format: 'html' });
+        const saved = await window.crystallog!.printPdf(html.text!, html.fileName.replace(/\.html$/, '.pdf'));
+        if (saved) notify(`Report saved as ${saved}.`, 'done');
+        return;
+      }
+      const pdf = await withBusy('Printing the report to PDF…', () => call('report.pdf', {}));
+      await saveFile({ suggestedName: pdf.fileName, bytesBase64: pdf.bytesBase64! }, 'application/pdf');
+      notify(`Report saved as ${pdf.fileName}.`, 'done');
+      return;
+    }
+    const file = await call('report.build', { format });
+    const saved = await saveFile({ suggestedName: file.fileName, text: file.text! }, format === 'html' ? 'text/html' : 'text/csv');
+    if (saved) notify(`Report saved as ${saved}.`, 'done');
+  } catch (err) {
+    notify(errorText(err), 'error');
+  }
+}
+
+/** A single long request with an indeterminate progress box after half a second. */
+export async function withBusy<T>(title: string, work: () => Promise<T>): Promise<T> {
+  let result: T | undefined;
+  await withProgress(
+    title,
+    [0],
+    async () => {
+      result = await work();
+    },
+    { cancellable: false },
+  );
+  return result as T;
+}
+
+/** The demo: references and the LaB6 standard first, then each simulated sample with progress (cancellable). */
+export async function openDemo(): Promise<void> {
+  document.querySelectorAll('#messages .message.info').forEach((m) => m.remove());
+  try {
+    const { state, steps } = await withBusy('Preparing the demo project: references and the LaB6 standard…', () => call('project.demo', {}));
+    setProject(state);
+    app.screen = 'samples';
+    changed();
+    const indices = Array.from({ length: steps }, (_, i) => i);
+    const { done, cancelled } = await withProgress('Simulating and analysing the demo samples', indices, async (index) => {
+      await call('project.demoSample', { index });
+    });
+    app.project = await call('project.state', {});
+    app.info = await call('app.info', {});
+    app.selected = app.project.samples.find((s) => s.variant === 'as made')?.id ?? app.project.samples[0]?.id ?? null;
+    changed();
+    notify(`Demo project ready: ${done} simulated samples${cancelled ? ' (cancelled before the rest)' : ''}.`, 'done');
+  } catch (err) {
+    notify(errorText(err), 'error');
+  }
+}

@@ -1,0 +1,55 @@
+import type { AppInfo, ProjectState, SampleDetail } from '../../src/api/contract.js';
+import type { AxisUnit, IntensityScale } from '../chart/units.js';
+
+export type ScreenName = 'samples' | 'library' | 'instrument' | 'series' | 'report' | 'settings';
+
+export const SCREENS: ReadonlyArray<{ name: ScreenName; title: string }> = [
+  { name: 'samples', title: 'Samples' },
+  { name: 'library', title: 'Library' },
+  { name: 'instrument', title: 'Instrument' },
+  { name: 'series', title: 'Series' },
+  { name: 'report', title: 'Report' },
+  { name: 'settings', title: 'Settings' },
+];
+
+/** What the screens share: the open project, the selection and how the pattern is drawn. */
+export const app = {
+  info: null as AppInfo | null,
+  project: null as ProjectState | null,
+  screen: 'samples' as ScreenName,
+  selected: null as number | null,
+  overlays: new Set<number>(),
+  /** Phases whose reference lines are drawn under the pattern; null = the sample's present phases. */
+  checked: null as Set<string> | null,
+  details: new Map<number, SampleDetail>(),
+  view: { axis: '2theta' as AxisUnit, scale: 'linear' as IntensityScale, offsetFraction: 0.35, showFit: true },
+};
+
+type Listener = () => void;
+const listeners = new Set<Listener>();
+
+export function onChange(listener: Listener): () => void {
+  listeners.add(listener);
+  return () => listeners.delete(listener);
+}
+
+export function changed(): void {
+  for (const l of listeners) l();
+}
+
+export function setProject(project: ProjectState | null): void {
+  if (app.project?.project.id !== project?.project.id) {
+    app.selected = null;
+    app.overlays.clear();
+    app.checked = null;
+  }
+  app.project = project;
+  app.details.clear();
+}
+
+export function verdictClass(verdict: string): string {
+  if (verdict === 'target') return 'target';
+  if (verdict === 'target with extra peaks') return 'extra';
+  if (verdict === 'not the target' || verdict === 'featureless') return 'not';
+  return 'none';
+}

@@ -1,0 +1,298 @@
+import { z } from 'zod';
+import type { MatchResult, Verdict } from '../core/match/types.js';
+export type { MatchResult, PhaseMatch, Verdict } from '../core/match/types.js';
+import type { StoredReference } from '../core/model/reference.js';
+
+/**
+ * The one API of the app: every method's input schema (checked at runtime wherever a call crosses
+ * a process boundary) and its result type. The shell, the browser host and the screens all use it.
+ */
+
+const name = z.string().trim().min(1, 'a name is needed').max(200);
+const finite = z.number().finite();
+const base64 = z.string().max(90_000_000).regex(/^[A-Za-z0-9+/=\r\n]*$/, 'file bytes must be base64');
+
+export const settingsSchema = z
+  .object({
+    /** Anode symbol (Cu, Co, Fe, Cr, Mo, Ag) or a wavelength in Å. */
+    wavelength: z.string().trim().min(1).max(20),
+    toleranceDeg: finite.min(0.005).max(1),
+    scherrerK: finite.min(0.5).max(1.5),
+    breadth: z.enum(['fwhm', 'integral']),
+    correction: z.enum(['voigt', 'lorentzian', 'gaussian']),
+    /**
+     * Background: SNIP clipping half-width, degrees 2θ (wider follows less of the peaks); null for
+     * automatic (1° widened to the broad peaks found).
+     */
+    backgroundHalfWidthDeg: finite.min(0.1).max(20).nullable(),
+    /** Phase the chemist expects, by library name; null for none. */
+    target: z.string().max(200).nullable(),
+  })
+  .strict();
+
+export type ProjectSettings = z.infer<typeof settingsSchema>;
+
+export const DEFAULT_SETTINGS: ProjectSettings = {
+  wavelength: 'Cu',
+  toleranceDeg: 0.1,
+  scherrerK: 0.9,
+  breadth: 'fwhm',
+  correction: 'voigt',
+  backgroundHalfWidthDeg: null,
+  target: null,
+};
+
+const hkl = z.tuple([z.number().int(), z.number().int(), z.number().int()]);
+const cellSchema = z
+  .object({ a: finite.positive(), b: finite.positive(), c: finite.positive(), alpha: finite.gt(0).lt(180), beta: finite.gt(0).lt(180), gamma: finite.gt(0).lt(180), spaceGroup: z.string().max(40).optional() })
+  .strict();
+
+export const referenceSchema = z
+  .object({
+    name,
+    formula: z.string().trim().max(200),
+    tags: z.array(z.string().trim().min(1).max(60)).max(20),
+    source: z.string().trim().min(1, 'say where the values come from').max(2000),
+    notes: z.string().max(5000).optional(),
+    rir: finite.positive().nullable().optional(),
+    cell: cellSchema.nullable().optional(),
+    intensityBasis: z.string().max(300).optional(),
+    lines: z.array(z.object({ d: finite.positive(), intensity: finite.min(0).max(100).nullable(), hkl: hkl.optional(), multiplicity: z.number().int().positive().optional() }).strict()).max(5000),
+  })
+  .strict();
+
+export const apiSchemas = {
+  'app.info': z.object({}).strict(),
+  'project.list': z.object({}).strict(),
+  'project.create': z.object({ name }).strict(),
+  'project.open': z.object({ id: z.string().regex(/^[a-z0-9-]{1,80}$/, 'not a project id') }).strict(),
+  'project.demo': z.object({}).strict(),
+  'project.demoSample': z.object({ index: z.number().int().min(0).max(100) }).strict(),
+  'project.state': z.object({}).strict(),
+  'project.settings': z.object({ settings: settingsSchema.partial() }).strict(),
+  'sample.add': z.object({ fileName: z.string().min(1).max(300), bytesBase64: base64, variant: z.string().max(100).optional(), hours: finite.min(0).optional() }).strict(),
+  'sample.get': z.object({ id: z.number().int().positive() }).strict(),
+  'sample.label': z.object({ id: z.number().int().positive(), variant: z.string().max(100).nullable(), hours: finite.min(0).nullable() }).strict(),
+  'sample.remove': z.object({ id: z.number().int().positive() }).strict(),
+  'sample.reanalyze': z.object({ id: z.number().int().positive() }).strict(),
+  'library.list': z.object({ search: z.string().max(200).optional(), tag: z.string().max(60).optional() }).strict(),
+  'library.get': z.object({ name, version: z.number().int().positive().optional() }).strict(),
+  'library.history': z.object({ name }).strict(),
+  'library.save': z.object({ reference: referenceSchema }).strict(),
+  'library.import': z.object({ fileName: z.string().min(1).max(300), text: z.string().max(50_000_000) }).strict(),
+  'library.fromCell': z.object({ name, formula: z.string().max(200), cell: cellSchema, tags: z.array(z.string().max(60)).max(20), source: z.string().min(1).max(2000) }).strict(),
+  'library.remove': z.object({ name }).strict(),
+  'library.restore': z.object({ name, version: z.number().int().positive() }).strict(),
+  'library.lines': z.object({ names: z.array(name).max(50) }).strict(),
+  'instrument.fit': z.object({ sampleId: z.number().int().positive(), standard: name }).strict(),
+  'instrument.save': z.object({ sampleId: z.number().int().positive(), standard: name }).strict(),
+  'instrument.clear': z.object({}).strict(),
+  'series.get': z.object({ by: z.enum(['variant', 'time']) }).strict(),
+  'report.build': z.object({ format: z.enum(['html', 'csv']) }).strict(),
+  'report.pdf': z.object({}).strict(),
+} as const;
+
+export type ApiMethod = keyof typeof apiSchemas;
+export type ApiInput<M extends ApiMethod> = z.input<(typeof apiSchemas)[M]>;
+export type ApiParsed<M extends ApiMethod> = z.output<(typeof apiSchemas)[M]>;
+
+export interface ProjectSummary {
+  id: string;
+  name: string;
+  modified: string;
+  demo: boolean;
+}
+
+/** One sample's verdict at a glance. */
+export type { SampleVerdict } from '../core/analysis/verdict.js';
+import type { SampleVerdict } from '../core/analysis/verdict.js';
+
+export interface SampleSummary {
+  id: number;
+  name: string;
+  fileName: string;
+  variant: string | null;
+  hours: number | null;
+  simulated: boolean;
+  verdict: SampleVerdict;
+  /** The best phase and its verdict (the target's when one is set). */
+  phase: { name: string; verdict: Verdict; score: number } | null;
+  lowAngleCount: number;
+  unexplainedCount: number;
+  sizeNm: number | null;
+  sizeSigmaNm: number | null;
+  /** Sentence when the analysis failed (the raw file is still kept). */
+  problem: string | null;
+  analysisMs: number | null;
+}
+
+export interface SizePeakView {
+  twoTheta: number;
+  hkl: [number, number, number] | null;
+  sizeNm: number | null;
+  sizeSigmaNm: number | null;
+  limit: 'instrument' | 'overlap' | null;
+}
+
+export interface SizeView {
+  k: number;
+  breadth: 'fwhm' | 'integral';
+  correction: string;
+  phase: string | null;
+  instrumentCorrected: boolean;
+  peaks: SizePeakView[];
+  scherrer: { sizeNm: number; sizeSigmaNm: number } | null;
+  williamsonHall: { sizeNm: number | null; strain: number; r2: number } | null;
+  notes: string[];
+}
+
+export interface PeakView {
+  twoTheta: number;
+  twoThetaSigma: number;
+  d: number;
+  height: number;
+  area: number;
+  fwhm: number;
+  integralBreadth: number;
+  eta: number;
+  /** Phase that explains it, or null. */
+  phase: string | null;
+  lowAngle: boolean;
+}
+
+/** Numeric arrays travel as base64 of little-endian Float32 (display precision), decoded by the screens. */
+export interface SampleDetail extends SampleSummary {
+  wavelengthLabel: string;
+  lambda1: number;
+  points: number;
+  x: string;
+  y: string;
+  background: string | null;
+  model: string | null;
+  peaks: PeakView[];
+  /** Peaks below the target's first line: unexplained ones, and those of other phases found present. */
+  lowAnglePeaks: Array<{ twoTheta: number; d: number; phase: string | null }>;
+  match: MatchResult | null;
+  size: SizeView | null;
+  readerNotes: string[];
+  meta: Record<string, string>;
+  sha256: string;
+}
+
+export interface InstrumentView {
+  standard: string;
+  sampleName: string;
+  u: number;
+  v: number;
+  w: number;
+  points: Array<{ twoTheta: number; fwhm: number; fwhmSigma: number; used: boolean }>;
+  /** FWHM(2θ) of the fitted Caglioti curve, for drawing. */
+  curve: Array<{ twoTheta: number; fwhm: number }>;
+  notes: string[];
+}
+
+export interface ProjectState {
+  project: ProjectSummary;
+  settings: ProjectSettings;
+  samples: SampleSummary[];
+  instrument: InstrumentView | null;
+  /** For the demo project: what the patterns were simulated from. */
+  truth: string | null;
+}
+
+export interface AppInfo {
+  version: string;
+  mode: 'electron' | 'browser';
+  dataDir: string;
+  firstRun: boolean;
+  libraryCount: number;
+  projects: ProjectSummary[];
+  current: ProjectState | null;
+  pdfAvailable: boolean;
+}
+
+export interface ReferenceSummary {
+  name: string;
+  formula: string;
+  tags: string[];
+  version: number;
+  lines: number;
+  source: string;
+  createdAt: string;
+}
+
+export interface ReferenceLinesView {
+  name: string;
+  version: number;
+  lines: Array<{ twoTheta: number; d: number; intensity: number | null; hkl: [number, number, number] | null }>;
+}
+
+export interface SeriesRowView {
+  sampleId: number;
+  name: string;
+  label: string;
+  hours: number | null;
+  verdict: SampleVerdict;
+  lowAngleCount: number;
+  impurityShare: number | null;
+  /** Other phases found present, with their shares ("MAPbI3·H2O 33 %"). */
+  otherPhases: string;
+  sizeNm: number | null;
+  sizeSigmaNm: number | null;
+  /** Why there is no size (or only a bound), in a few words; null when there is one. */
+  sizeNote: string | null;
+}
+
+export interface GrowthView {
+  phase: string;
+  basis: string;
+  points: Array<{ hours: number; share: number }>;
+  /** The fitted curve, when the data support one. */
+  curve: Array<{ hours: number; share: number }>;
+  statement: string;
+}
+
+export interface SeriesView {
+  by: 'variant' | 'time';
+  rows: SeriesRowView[];
+  comparisons: Array<{ a: string; b: string; differs: boolean; test: string; detail: string }>;
+  growth: GrowthView[];
+  notes: string[];
+}
+
+export interface ExportedFile {
+  fileName: string;
+  text?: string;
+  bytesBase64?: string;
+}
+
+export interface ApiResults {
+  'app.info': AppInfo;
+  'project.list': ProjectSummary[];
+  'project.create': ProjectState;
+  'project.open': ProjectState;
+  'project.demo': { state: ProjectState; steps: number };
+  'project.demoSample': SampleSummary;
+  'project.state': ProjectState;
+  'project.settings': ProjectState;
+  'sample.add': SampleSummary;
+  'sample.get': SampleDetail;
+  'sample.label': SampleSummary;
+  'sample.remove': ProjectState;
+  'sample.reanalyze': SampleSummary;
+  'library.list': ReferenceSummary[];
+  'library.get': StoredReference;
+  'library.history': Array<{ version: number; createdAt: string; lines: number; source: string }>;
+  'library.save': StoredReference;
+  'library.import': { imported: string[]; updated: string[] };
+  'library.fromCell': StoredReference;
+  'library.remove': { removed: string };
+  'library.restore': StoredReference;
+  'library.lines': ReferenceLinesView[];
+  'instrument.fit': InstrumentView;
+  'instrument.save': ProjectState;
+  'instrument.clear': ProjectState;
+  'series.get': SeriesView;
+  'report.build': ExportedFile;
+  'report.pdf': ExportedFile;
+}

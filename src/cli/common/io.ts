@@ -1,0 +1,44 @@
+import { existsSync, renameSync, rmSync, writeFileSync } from 'node:fs';
+import { InputError } from '../../core/errors.js';
+import type { StoredReference } from '../../core/model/reference.js';
+import { ReferenceLibrary } from '../../node/library/store.js';
+import type { Pattern } from '../../core/model/pattern.js';
+import { anodeWavelength, parseWavelength, type Wavelength } from '../../core/model/wavelengths.js';
+
+/**
+ * Open the library file named by --library for one piece of work, and always close it. Only an
+ * import may create the file (createIfMissing); every other command needs it to exist.
+ */
+export function withLibrary<T>(path: string, work: (library: ReferenceLibrary) => T, createIfMissing = false): T {
+  if (!createIfMissing && !existsSync(path)) throw new InputError(`library file ${path} does not exist; create it with: crystallog library import FILE --library ${path}`);
+  const library = ReferenceLibrary.open(path);
+  try {
+    return work(library);
+  } finally {
+    library.close();
+  }
+}
+
+/** Every current reference of the library; an empty library is the user's mistake for commands that match. */
+export function loadAllReferences(path: string): StoredReference[] {
+  const references = withLibrary(path, (library) => library.all());
+  if (references.length === 0) throw new InputError(`the library ${path} holds no references; add some with: crystallog library import FILE --library ${path}`);
+  return references;
+}
+
+/** The wavelength to use: the --wavelength option, else the one named in the file, else Cu Kα1/Kα2. */
+export function chooseWavelength(option: string | undefined, pattern: Pattern): Wavelength {
+  return option ? parseWavelength(option) : (pattern.wavelength ?? anodeWavelength('Cu'));
+}
+
+/** Write a whole file or nothing: a temporary file beside it, flushed, then renamed over it. */
+export function writeFileAtomically(path: string, text: string): void {
+  const temporary = `${path}.${process.pid}.tmp`;
+  try {
+    writeFileSync(temporary, text, { flush: true });
+    renameSync(temporary, path);
+  } catch (err) {
+    rmSync(temporary, { force: true });
+    throw new InputError(`cannot write this file (${(err as { code?: string }).code ?? String(err)})`, { file: path });
+  }
+}

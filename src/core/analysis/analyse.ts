@@ -1,0 +1,205 @@
+/**
+ * The whole analysis of one pattern: peaks → phase match against the library → crystallite sizes.
+ * Used by the screens, by `crystallog analyze` and by the batch workers. Pure: the same pattern and
+ * context give the same result, so batch output is byte-identical whatever the worker count.
+ */
+import { InputError } from '../errors.js';
+import { sha256Stream } from '../model/checksum.js';
+import type { StoredReference } from '../model/reference.js';
+import { buildReferenceIndex, type ReferenceIndex } from '../match/reference-index.js';
+import { matchPhases } from '../match/match.js';
+import { type MatchResult } from '../match/types.js';
+import type { MatchedLine, PhaseMatch } from '../match/types.js';
+import type { Pattern } from '../model/pattern.js';
+import { anodeWavelength, type Wavelength } from '../model/wavelengths.js';
+import { findPeaks } from '../process/peaks.js';
+import { twoThetaFromD } from '../model/units.js';
+import type { FittedPeak } from '../model/peak.js';
+import type { OtherPhaseLine } from '../size/assign.js';
+import type { InstrumentProfile } from '../size/instrument.js';
+import { median } from '../numeric/numeric.js';
+import { crystalliteSizes, type SizeResult } from '../size/sizes.js';
+import type { BreadthKind, CorrectionKind } from '../size/voigt.js';
+
+export interface AnalysisSettings {
+  /** The user's wavelength; null means the one named in the file, else Cu Kα1/Kα2. */
+  wavelength: Wavelength | null;
+  /** Matching tolerance, degrees 2θ (default 0.1). */
+  toleranceDeg: number;
+  /** Scherrer K as a number or preset name (default 0.9). */
+  k: number | string;
+  breadth: BreadthKind;
+  correction: CorrectionKind;
+  /** Name of the expected phase, or null. */
+  target: string | null;
+  /** Background clipping half-width, degrees 2θ; null for automatic (see findPeaks). */
+  backgroundHalfWidthDeg: number | null;
+}
+
+export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
+  wavelength: null,
+  toleranceDeg: 0.1,
+  k: 0.9,
+  breadth: 'fwhm',
+  correction: 'voigt',
+  target: null,
+  backgroundHalfWidthDeg: null,
+};
+
+/** What every analysis of a batch shares, loaded once and only read. */
+export interface AnalysisContext {
+  references: readonly StoredReference[];
+  /** The d-sorted line index over `references` (built once per batch). */
+  index: ReferenceIndex;
+  instrument: InstrumentProfile | null;
+  settings: AnalysisSettings;
+  /** SHA-256 over the names and versions of the references: which library state gave these results. */
+  libraryDigest: string;
+  /** The references by name (built once, not per pattern). */
+  referenceByName: ReadonlyMap<string, StoredReference>;
+}
+
+export interface ReferenceVersion {
+  name: string;
+  version: number;
+}
+
+export interface AnalysisResult {
+  file: string;
+  sha256: string;
+  points: number;
+  wavelength: Wavelength;
+  peaks: FittedPeak[];
+  match: MatchResult;
+  /** Sizes from the target's (or the best present phase's) lines; from every peak when no phase is present. */
+  size: SizeResult;
+  settings: {
+    wavelength: string;
+    toleranceDeg: number;
+    k: number;
+    breadth: BreadthKind;
+    correction: CorrectionKind | 'none';
+    target: string | null;
+    /** The background clipping half-width asked for, degrees 2θ; null when automatic. */
+    backgroundHalfWidthDeg: number | null;
+    instrument: string | null;
+    sizePhase: string | null;
+  };
+  references: { count: number; libraryDigest: string; used: ReferenceVersion[] };
+  warnings: string[];
+}
+
+/** Build the shared context: checks the target exists and indexes the references once. */
+export function createAnalysisContext(
+  references: readonly StoredReference[],
+  instrument: InstrumentProfile | null,
+  settings: Partial<AnalysisSettings> = {},
+  index?: ReferenceIndex,
+): AnalysisContext {
+  const full: AnalysisSettings = { ...DEFAULT_ANALYSIS_SETTINGS, ...settings };
+  checkTarget(references, full.target);
+  return {
+    references,
+    index: index ?? buildReferenceIndex(references),
+    instrument,
+    settings: full,
+    libraryDigest: libraryDigest(references),
+    referenceByName: new Map(references.map((r) => [r.name, r])),
+  };
+}
+
+/** A named target must be in the library (names compare without regard to case). */
+export function checkTarget(references: readonly StoredReference[], target: string | null): void {
+  if (target !== null && !references.some((r) => r.name.toLowerCase() === target.toLowerCase())) {
+    throw new InputError(`the target "${target}" is not in the library; import it first or check the name with "crystallog library list"`);
+  }
+}
+
+export function libraryDigest(references: readonly StoredReference[]): string {
+  const hash = sha256Stream();
+  for (const r of references) hash.update(`${r.name}\u0000${r.version}\u0000`);
+  return hash.hex();
+}
+
+/** Peaks, phase verdicts and crystallite sizes of one pattern. */
+export function analyzePattern(pattern: Pattern, context: AnalysisContext): AnalysisResult {
+  const { settings, references } = context;
+  const warnings: string[] = [...pattern.readerNotes];
+  const wavelength = settings.wavelength ?? pattern.wavelength ?? anodeWavelength('Cu');
+  if (!settings.wavelength && !pattern.wavelength) warnings.push('the file names no wavelength; Cu Kα1/Kα2 assumed');
+
+  const search = findPeaks(pattern, { wavelength, backgroundHalfWidthDeg: settings.backgroundHalfWidthDeg ?? undefined });
+  const peaks = search.peaks;
+  const match = matchPhases(peaks, references, {
+    wavelength,
+    toleranceDeg: settings.toleranceDeg,
+    target: settings.target ?? undefined,
+    background: { x: pattern.x, y: search.background, sigma: search.noiseSigma },
+    twoThetaRangeDeg: { min: pattern.x[0], max: pattern.x[pattern.x.length - 1] },
+    index: context.index,
+  });
+
+  const present = match.phases.filter((p) => p.verdict !== 'absent');
+  const targetName = settings.target?.toLowerCase();
+  const sizePhaseMatch = present.find((p) => p.name.toLowerCase() === targetName) ?? present[0] ?? null;
+  const byName = context.referenceByName;
+  const sizeReference = sizePhaseMatch ? (byName.get(sizePhaseMatch.name) ?? null) : null;
+  const otherLines = present.filter((p) => p !== sizePhaseMatch).flatMap((p) => otherPhaseLines(p, byName.get(p.name), peaks, wavelength));
+  const size = crystalliteSizes(peaks, {
+    wavelength,
+    instrument: context.instrument,
+    k: settings.k,
+    breadth: settings.breadth,
+    correction: settings.correction,
+    phase: sizeReference ? { name: sizeReference.name, version: sizeReference.version, lines: sizeReference.lines } : null,
+    toleranceDeg: settings.toleranceDeg,
+    otherLines,
+  });
+  if (!sizeReference) warnings.push('no phase was found present: sizes come from every fitted peak');
+  warnings.push(...size.warnings);
+  if (match.featureless) warnings.push('the pattern shows too few clear peaks to support a phase claim');
+
+  const used: ReferenceVersion[] = match.phases.map((p) => ({ name: p.name, version: byName.get(p.name)?.version ?? 0 }));
+  return {
+    file: pattern.source.file,
+    sha256: pattern.source.sha256,
+    points: pattern.x.length,
+    wavelength,
+    peaks,
+    match,
+    size,
+    settings: {
+      wavelength: wavelength.label,
+      toleranceDeg: settings.toleranceDeg,
+      k: size.k,
+      breadth: size.breadth,
+      correction: size.correction,
+      target: settings.target,
+      backgroundHalfWidthDeg: settings.backgroundHalfWidthDeg,
+      instrument: context.instrument?.name ?? null,
+      sizePhase: sizeReference?.name ?? null,
+    },
+    references: { count: references.length, libraryDigest: context.libraryDigest, used },
+    warnings,
+  };
+}
+
+/**
+ * Every line of another phase found present, for the size module's overlap test: where it lies, how high it
+ * should stand (the phase's scale, measured height over reference intensity, median over the lines it owns)
+ * and how broad its phase's peaks are — a line it did not match (hidden under a peak of the sized phase)
+ * still blends with that peak.
+ */
+function otherPhaseLines(phase: PhaseMatch, reference: StoredReference | undefined, peaks: readonly FittedPeak[], wavelength: Wavelength): OtherPhaseLine[] {
+  if (!reference) return [];
+  const own = phase.lines
+    .filter((line) => !line.shared && line.intensity !== null && line.intensity > 0)
+    // The match reports measured positions rounded to 1e-4°.
+    .map((line) => ({ line, peak: peaks.find((p) => Math.abs(p.twoTheta - line.twoThetaMeasured) <= 1e-4) }))
+    .filter((e): e is { line: MatchedLine; peak: FittedPeak } => e.peak !== undefined);
+  const scale = own.length > 0 ? median(own.map((e) => e.peak.height / (e.line.intensity as number))) : null;
+  const fwhmDeg = own.length > 0 ? median(own.map((e) => e.peak.fwhm)) : null;
+  return reference.lines
+    .map((line) => ({ twoThetaDeg: twoThetaFromD(line.d, wavelength.lambda1), height: scale !== null && line.intensity !== null ? scale * line.intensity : null, fwhmDeg }))
+    .filter((line) => Number.isFinite(line.twoThetaDeg));
+}

@@ -1,0 +1,268 @@
+import { InputError } from '../errors.js';
+import type { AnodeName } from '../model/wavelengths.js';
+import { ANOMALOUS_SCATTERING, ANOMALOUS_SCATTERING_SOURCE } from './anomalous-scattering.js';
+import { cellMetric } from './metric.js';
+import { SCATTERING_FACTORS } from './scattering-factors.js';
+import { TRANSLATION_DENOMINATOR } from './symop.js';
+import type { CrystalStructure } from './structure.js';
+
+/**
+ * X-ray form factor f(s) = Σ_{i=1..4} a_i exp(−b_i s²) + c with s = sinθ/λ
+ * (International Tables for Crystallography Vol. C, Table 6.1.1.4; Cromer–Mann form).
+ * coefs = [a1, a2, a3, a4, b1, b2, b3, b4, c]; s2 = (sinθ/λ)² in Å⁻².
+ */
+export function formFactor(coefs: readonly number[], s2: number): number {
+  return (
+    coefs[0] * Math.exp(-coefs[4] * s2) +
+    coefs[1] * Math.exp(-coefs[5] * s2) +
+    coefs[2] * Math.exp(-coefs[6] * s2) +
+    coefs[3] * Math.exp(-coefs[7] * s2) +
+    coefs[8]
+  );
+}
+
+export function formFactorCoefficients(element: string): readonly number[] {
+  const coefs = SCATTERING_FACTORS[element];
+  if (!coefs) throw new InputError(`no X-ray scattering factor is tabulated for element "${element}"`);
+  return coefs;
+}
+
+/** Every atom of the unit cell, packed for the structure-factor sum. */
+export interface UnitCellAtoms {
+  count: number;
+  x: Float64Array;
+  y: Float64Array;
+  z: Float64Array;
+  /** Index of the structure site each atom is an image of. */
+  site: Int32Array;
+  /** Per site: occupancy, Debye–Waller B = 8π²U in Å², and index into elements. */
+  siteOccupancy: Float64Array;
+  siteB: Float64Array;
+  siteSpecies: Int32Array;
+  elements: string[];
+}
+
+/** Images of one site closer than this (Å) are the same atom on a special position. */
+export const SPECIAL_POSITION_TOLERANCE_ANGSTROM = 0.03;
+
+function wrap(v: number): number {
+  const w = v - Math.floor(v);
+  return w >= 1 - 1e-12 ? 0 : w;
+}
+
+/**
+ * Apply every symmetry operation to every site and keep the distinct images (images of one site
+ * within SPECIAL_POSITION_TOLERANCE_ANGSTROM are one atom on a special position), so that the
+ * site's occupancy is the chemical one, as CIFs of the IUCr core dictionary give it.
+ */
+export function expandToUnitCell(structure: CrystalStructure): UnitCellAtoms {
+  const { g } = cellMetric(structure.cell);
+  const ops = structure.spaceGroup.operations;
+  const elements: string[] = [];
+  const positions: number[][] = [];
+  const siteOf: number[] = [];
+  const tol2 = SPECIAL_POSITION_TOLERANCE_ANGSTROM ** 2;
+  const nSites = structure.sites.length;
+  const siteOccupancy = new Float64Array(nSites);
+  const siteB = new Float64Array(nSites);
+  const siteSpecies = new Int32Array(nSites);
+  structure.sites.forEach((site, index) => {
+    let species = elements.indexOf(site.element);
+    if (species < 0) species = elements.push(site.element) - 1;
+    siteOccupancy[index] = site.occupancy;
+    siteB[index] = 8 * Math.PI * Math.PI * site.uIso;
+    siteSpecies[index] = species;
+    const images: number[][] = [];
+    for (const op of ops) {
+      const p = [0, 1, 2].map((i) => wrap(op.r[3 * i] * site.x + op.r[3 * i + 1] * site.y + op.r[3 * i + 2] * site.z + op.t[i] / TRANSLATION_DENOMINATOR));
+      const duplicate = images.some((q) => {
+        const d = [0, 1, 2].map((i) => p[i] - q[i] - Math.round(p[i] - q[i]));
+        let dist2 = 0;
+        for (let i = 0; i < 3; i++) for (let j = 0; j < 3; j++) dist2 += d[i] * g[3 * i + j] * d[j];
+        return dist2 < tol2;
+      });
+      if (duplicate) continue;
+      images.push(p);
+      positions.push(p);
+      siteOf.push(index);
+    }
+  });
+  return {
+    count: positions.length,
+    x: Float64Array.from(positions, (p) => p[0]),
+    y: Float64Array.from(positions, (p) => p[1]),
+    z: Float64Array.from(positions, (p) => p[2]),
+    site: Int32Array.from(siteOf),
+    siteOccupancy,
+    siteB,
+    siteSpecies,
+    elements,
+  };
+}
+
+/** The anomalous-dispersion terms f′, f″ used at one wavelength, and a sentence saying which. */
+export interface Dispersion {
+  /** Element symbol → [f′, f″] in electrons, or null for none (f = f0 alone). */
+  terms: Readonly<Record<string, readonly [number, number]>> | null;
+  description: string;
+}
+
+/** A wavelength within this relative distance of a tabulated anode Kα1 line takes that line's f′, f″. */
+export const DISPERSION_WAVELENGTH_TOLERANCE = 1e-3;
+
+/**
+ * The f′, f″ of the anode Kα1 line that λ is (within DISPERSION_WAVELENGTH_TOLERANCE), from the
+ * table exported from xraylib; none for any other wavelength, or when switched off.
+ */
+export function dispersionForWavelength(lambdaAngstrom: number, enabled = true): Dispersion {
+  if (!enabled) return { terms: null, description: 'no anomalous dispersion (switched off)' };
+  for (const anode of Object.keys(ANOMALOUS_SCATTERING) as AnodeName[]) {
+    const line = ANOMALOUS_SCATTERING[anode];
+    if (Math.abs(lambdaAngstrom / line.wavelengthAngstrom - 1) <= DISPERSION_WAVELENGTH_TOLERANCE) {
+      return {
+        terms: line.terms,
+        description: `anomalous dispersion f′, f″ of ${anode} Kα1 (${line.wavelengthAngstrom} Å; ${ANOMALOUS_SCATTERING_SOURCE})`,
+      };
+    }
+  }
+  return {
+    terms: null,
+    description: `no anomalous dispersion (λ = ${lambdaAngstrom} Å is not within ${DISPERSION_WAVELENGTH_TOLERANCE * 100} % of a tabulated anode Kα1 line)`,
+  };
+}
+
+/**
+ * Precomputed tables for repeated structure-factor sums over one unit cell: for each atom,
+ * cos and sin of 2πhx for every index h within the limits (so a reflection's phase factor is a
+ * product of three tabulated complex numbers, not a new cosine and sine).
+ */
+export interface StructureFactorContext {
+  atoms: UnitCellAtoms;
+  coefficients: Array<readonly number[]>;
+  /** Per element: anomalous-dispersion terms f′ and f″ (zeros without dispersion). */
+  fPrime: Float64Array;
+  fDoublePrime: Float64Array;
+  limits: [number, number, number];
+  cos: [Float64Array, Float64Array, Float64Array];
+  sin: [Float64Array, Float64Array, Float64Array];
+  /** Scratch: f0 + f′ of each element, real and imaginary weight of each site, at the current s². */
+  f: Float64Array;
+  weight: Float64Array;
+  weightImag: Float64Array;
+  /** Scratch: [Re P, Im P, Re Q, Im Q] of the last sum, F(hkl) = P + iQ (see structureFactorParts). */
+  sum: Float64Array;
+}
+
+/**
+ * A context for reflections with |h| ≤ limits[0], |k| ≤ limits[1], |l| ≤ limits[2], with the
+ * anomalous-dispersion terms of the wavelength (dispersionForWavelength(λ).terms; null for none).
+ */
+export function structureFactorContext(
+  atoms: UnitCellAtoms,
+  limits: [number, number, number],
+  dispersion: Dispersion['terms'] = null,
+): StructureFactorContext {
+  const coordinates = [atoms.x, atoms.y, atoms.z];
+  const cos: Float64Array[] = [];
+  const sin: Float64Array[] = [];
+  for (let axis = 0; axis < 3; axis++) {
+    const width = 2 * limits[axis] + 1;
+    const c = new Float64Array(atoms.count * width);
+    const s = new Float64Array(atoms.count * width);
+    for (let j = 0; j < atoms.count; j++) {
+      for (let h = -limits[axis]; h <= limits[axis]; h++) {
+        const phase = 2 * Math.PI * h * coordinates[axis][j];
+        c[j * width + h + limits[axis]] = Math.cos(phase);
+        s[j * width + h + limits[axis]] = Math.sin(phase);
+      }
+    }
+    cos.push(c);
+    sin.push(s);
+  }
+  const terms = atoms.elements.map((element) => {
+    if (dispersion === null) return [0, 0] as const;
+    const t = dispersion[element];
+    if (!t) throw new InputError(`no anomalous-dispersion terms are tabulated for element "${element}"`);
+    return t;
+  });
+  return {
+    atoms,
+    coefficients: atoms.elements.map(formFactorCoefficients),
+    fPrime: Float64Array.from(terms, (t) => t[0]),
+    fDoublePrime: Float64Array.from(terms, (t) => t[1]),
+    limits,
+    cos: cos as [Float64Array, Float64Array, Float64Array],
+    sin: sin as [Float64Array, Float64Array, Float64Array],
+    f: new Float64Array(atoms.elements.length),
+    weight: new Float64Array(atoms.siteOccupancy.length),
+    weightImag: new Float64Array(atoms.siteOccupancy.length),
+    sum: new Float64Array(4),
+  };
+}
+
+/**
+ * F(hkl) = Σ_j T_j occ_j [(f0_j(s) + f′_j) + i f″_j] exp(2πi h·x_j) over all atoms of the cell,
+ * T_j = exp(−B_j s²), s² = 1/(4d²) (International Tables for Crystallography Vol. C, sections 6.1.1
+ * and 4.2.6, from memory), kept as F = P + iQ with P = Σ T occ (f0 + f′) exp(2πi h·x), Q = Σ T occ f″ exp(2πi h·x):
+ * ctx.sum = [Re P, Im P, Re Q, Im Q]. Indices must lie within the context's limits. Allocates nothing.
+ */
+export function structureFactorParts(ctx: StructureFactorContext, h: number, k: number, l: number, s2: number): Float64Array {
+  const { atoms, coefficients, fPrime, fDoublePrime, f, weight, weightImag, cos, sin, limits, sum } = ctx;
+  for (let e = 0; e < f.length; e++) f[e] = formFactor(coefficients[e], s2) + fPrime[e];
+  for (let s = 0; s < weight.length; s++) {
+    const t = atoms.siteOccupancy[s] * Math.exp(-atoms.siteB[s] * s2);
+    weight[s] = t * f[atoms.siteSpecies[s]];
+    weightImag[s] = t * fDoublePrime[atoms.siteSpecies[s]];
+  }
+  const wx = 2 * limits[0] + 1;
+  const wy = 2 * limits[1] + 1;
+  const wz = 2 * limits[2] + 1;
+  const [cx, cy, cz] = cos;
+  const [sx, sy, sz] = sin;
+  let pRe = 0;
+  let pIm = 0;
+  let qRe = 0;
+  let qIm = 0;
+  for (let j = 0; j < atoms.count; j++) {
+    const ix = j * wx + h + limits[0];
+    const iy = j * wy + k + limits[1];
+    const iz = j * wz + l + limits[2];
+    // (cx + i sx)(cy + i sy)(cz + i sz) = exp(2πi(hx + ky + lz))
+    const abRe = cx[ix] * cy[iy] - sx[ix] * sy[iy];
+    const abIm = cx[ix] * sy[iy] + sx[ix] * cy[iy];
+    const re = abRe * cz[iz] - abIm * sz[iz];
+    const im = abRe * sz[iz] + abIm * cz[iz];
+    const a = weight[atoms.site[j]];
+    const b = weightImag[atoms.site[j]];
+    pRe += a * re;
+    pIm += a * im;
+    qRe += b * re;
+    qIm += b * im;
+  }
+  sum[0] = pRe;
+  sum[1] = pIm;
+  sum[2] = qRe;
+  sum[3] = qIm;
+  return sum;
+}
+
+/**
+ * |F(hkl)|² of the one reflection hkl, F = P + iQ (structureFactorParts): with f″ ≠ 0 a
+ * non-centrosymmetric structure has |F(hkl)|² ≠ |F(−h−k−l)|² (Friedel's law fails). Allocates nothing.
+ */
+export function structureFactorSquared(ctx: StructureFactorContext, h: number, k: number, l: number, s2: number): number {
+  const sum = structureFactorParts(ctx, h, k, l, s2);
+  const re = sum[0] - sum[3];
+  const im = sum[1] + sum[2];
+  return re * re + im * im;
+}
+
+/**
+ * ½(|F(hkl)|² + |F(−h−k−l)|²) = |P|² + |Q|², what a powder line of hkl and its Friedel mate
+ * carries per reflection (F(−h) = P* + iQ*); equal to |F(hkl)|² when f″ = 0 or the structure is
+ * centrosymmetric. Allocates nothing.
+ */
+export function powderStructureFactorSquared(ctx: StructureFactorContext, h: number, k: number, l: number, s2: number): number {
+  const sum = structureFactorParts(ctx, h, k, l, s2);
+  return sum[0] * sum[0] + sum[1] * sum[1] + sum[2] * sum[2] + sum[3] * sum[3];
+}

@@ -1,0 +1,608 @@
+import { InputError } from '../errors.js';
+import type { StoredReference } from '../model/reference.js';
+import type { FittedPeak } from '../model/peak.js';
+import { dFromTwoTheta } from '../model/units.js';
+import { buildPeakTable, nearestPeak, type PeakTable } from './peak-table.js';
+import { chungWeightFractions, fitPhaseScales, type GroupIntensities } from './quantify.js';
+import { buildReferenceIndex, rangeTotals, screenReferences } from './reference-index.js';
+import { evaluatePhase, phaseLines, type Claims, type PhaseEvaluation, type PhaseLines } from './score.js';
+import { refineShift, type ShiftBounds } from './shift.js';
+import type { MatchOptions, MatchResult, MatchShift, MatchedLine, PhaseMatch, UnexplainedPeak, Verdict } from './types.js';
+
+export const DEFAULT_TOLERANCE_DEG = 0.1;
+export const DEFAULT_MAX_ZERO_DEG = 0.15;
+export const DEFAULT_MAX_DISPLACEMENT_DEG = 0.15;
+/** Score from which a phase that explains new clear peaks is taken into the explanation (and called possible). */
+export const POSSIBLE_SCORE = 0.4;
+/** Score from which a present phase with enough clear lines is confirmed. */
+export const CONFIRMED_SCORE = 0.55;
+/** Clear matched lines needed to confirm a phase (fewer if the phase has fewer lines in range). */
+export const CONFIRMING_LINES = 3;
+/** A look-alike goes before the target only when it scores more than this above it. */
+const TARGET_MARGIN = 0.05;
+/** A phase not needed for the explanation stays "possible" when its first score was this close to the phase that took its peaks. */
+const LOOK_ALIKE_MARGIN = 0.03;
+/** Lines weaker than this share of the strongest do not define a phase's "first line" for the low-angle flag. */
+const FIRST_LINE_SHARE = 0.01;
+/** A candidate with at least this share of its matched peaks already explained is treated as a look-alike of an accepted phase. */
+const LOOK_ALIKE_SHARED_SHARE = 0.8;
+const DECOMPOSITION_TAG = 'decomposition product';
+
+const fmt = (value: number, digits: number): string => value.toFixed(digits);
+const pct = (value: number): string => `${Math.round(100 * value)} %`;
+
+/**
+ * Which reference phases explain the measured peaks: the target (or the best phase) first, then
+ * what is left with other references, until no reference explains significant peaks. Returns
+ * verdicts with readable reasons, the refined shift, unexplained peaks and Chung weight fractions.
+ */
+export function matchPhases(peaks: readonly FittedPeak[], references: readonly StoredReference[], options: MatchOptions): MatchResult {
+  const tol = options.toleranceDeg ?? DEFAULT_TOLERANCE_DEG;
+  if (!(tol > 0 && tol <= 2)) throw new InputError(`tolerance ${tol}° 2θ is not usable; give a value between 0.01 and 2 degrees (typical 0.05–0.2)`);
+  const bounds: ShiftBounds = {
+    toleranceDeg: tol,
+    maxZeroDeg: nonNegative(options.maxZeroDeg ?? DEFAULT_MAX_ZERO_DEG, 'maximum zero offset'),
+    maxDisplacementDeg: nonNegative(options.maxDisplacementDeg ?? DEFAULT_MAX_DISPLACEMENT_DEG, 'maximum displacement'),
+  };
+  const index = options.index ?? buildReferenceIndex(references);
+  const refs = index.references;
+  const lambda = options.wavelength.lambda1;
+  const table = buildPeakTable([...peaks], options.background, options.twoThetaRangeDeg, tol);
+  const targetIndex = findTarget(refs, options.target);
+
+  const lineCache = new Map<number, PhaseLines>();
+  const linesOf = (r: number): PhaseLines => {
+    let lines = lineCache.get(r);
+    if (!lines) {
+      lines = phaseLines(refs[r], lambda, table.rangeMin, table.rangeMax);
+      lineCache.set(r, lines);
+    }
+    return lines;
+  };
+
+  const clearPeaks = countClear(table, null);
+  const featureless = clearPeaks === 0;
+  const claims: Claims = { claimed: new Int32Array(table.count).fill(-1) };
+  const accepted: Array<{ ref: number; evaluation: PhaseEvaluation }> = [];
+  const firstEvaluation = new Map<number, PhaseEvaluation>();
+  let shift: MatchShift | null = null;
+  const maxPhases = options.maxPhases ?? 5;
+  const candidateCount = options.candidates ?? 40;
+  const dMin = dFromTwoTheta(Math.min(table.rangeMax, 179), lambda);
+  const dMax = table.rangeMin > 0 ? dFromTwoTheta(table.rangeMin, lambda) : Infinity;
+  const totals = featureless ? new Float64Array(0) : rangeTotals(index, dMin, dMax);
+  const latest = new Map<number, PhaseEvaluation>();
+
+  for (let round = 0; round < maxPhases && !featureless; round++) {
+    const open: number[] = [];
+    for (let k = 0; k < table.count; k++) if (claims.claimed[k] < 0) open.push(k);
+    if (!explainsSignificantPeaks({ clear: countClear(table, claims), all: open.length })) break;
+    const candidates = screenReferences(index, {
+      twoTheta: Float64Array.from(open, (k) => table.twoTheta[k]),
+      lambda,
+      windowDeg: 2 * tol + bounds.maxZeroDeg + bounds.maxDisplacementDeg,
+      dMin,
+      dMax,
+      // After the first phase the open peaks are few and screen sharply: half the candidates suffice.
+      count: round === 0 ? candidateCount : Math.max(1, candidateCount >> 1),
+    }, totals);
+    if (round === 0 && targetIndex >= 0 && !candidates.includes(targetIndex)) candidates.push(targetIndex);
+
+    const evaluations: Array<{ ref: number; evaluation: PhaseEvaluation }> = [];
+    for (const r of candidates) {
+      if (accepted.some((a) => a.ref === r)) continue;
+      const lines = linesOf(r);
+      if (lines.count === 0) continue;
+      // Each candidate gets its own bounded shift: the first phase's may be poorly defined (broad or overlapped peaks).
+      const evaluation = evaluatePhase(lines, table, refineShift(lines, table, bounds), claims);
+      if (!firstEvaluation.has(r)) firstEvaluation.set(r, evaluation);
+      latest.set(r, evaluation);
+      evaluations.push({ ref: r, evaluation });
+    }
+    const distinct = (e: PhaseEvaluation): NewPeakCount => distinctNewPeaks(e, accepted, table);
+    const choice = choosePhase(evaluations, round === 0 ? targetIndex : -1, lowAngleOpenPeaks(table, claims, firstLineTwoTheta(accepted[0]?.evaluation, tol)), distinct);
+    if (!choice) break;
+    for (let j = 0; j < choice.evaluation.lines.count; j++) {
+      const k = choice.evaluation.peakOf[j];
+      if (k >= 0 && claims.claimed[k] < 0) claims.claimed[k] = accepted.length;
+    }
+    accepted.push(choice);
+    shift ??= choice.evaluation.shift;
+  }
+
+  const finalShift: MatchShift = shift ?? { zeroDeg: 0, displacementCosDeg: 0 };
+  // Phases not taken into the explanation are judged against the final state (one shift for the sample).
+  if (targetIndex >= 0 && !firstEvaluation.has(targetIndex)) firstEvaluation.set(targetIndex, evaluatePhase(linesOf(targetIndex), table, finalShift, claims));
+  // Re-judge the most promising of them (by their latest score) against the final state.
+  const listAbsent = options.listAbsent ?? 5;
+  const promising = [...latest.entries()]
+    .filter(([r]) => !accepted.some((a) => a.ref === r))
+    .sort((a, b) => b[1].score - a[1].score)
+    .filter(([r], i) => i < 2 * listAbsent || r === targetIndex);
+  if (targetIndex >= 0 && !promising.some(([r]) => r === targetIndex) && !accepted.some((a) => a.ref === targetIndex)) promising.push([targetIndex, firstEvaluation.get(targetIndex)!]);
+  const others = promising.map(([r]) => ({ ref: r, evaluation: evaluatePhase(linesOf(r), table, finalShift, claims) }));
+  others.sort((a, b) => b.evaluation.score - a.evaluation.score);
+  const listed = others.filter((o, i) => i < listAbsent || o.ref === targetIndex);
+
+  // Scales fitted jointly to the peak areas (shared peaks split between the phases); a phase the fit gives nothing keeps its own peaks' scale.
+  const gi = groupIntensities(accepted.map((a) => a.evaluation), table);
+  const joint = fitPhaseScales(gi);
+  const scales = accepted.map((a, i) => (joint[i] > 0 ? joint[i] : a.evaluation.scale));
+  const exclusive = exclusiveAreaShares(linesOnPeaks(accepted.map((a) => a.evaluation), table), table);
+  const fractions = chungWeightFractions(accepted.map((a, i) => ({ scale: scales[i], rir: refs[a.ref].rir })));
+  const unquantified = accepted.filter((_, i) => fractions[i] === null).map((a) => refs[a.ref].name);
+  const phases: PhaseMatch[] = [];
+  accepted.forEach((a, i) => {
+    const verdict = acceptedVerdict(a.evaluation);
+    phases.push({ ...describePhase(a.evaluation, verdict, claims, accepted, table, fractions[i], unquantified, null, exclusive[i]), scale: scales[i] });
+  });
+  for (const o of listed) {
+    const { verdict, rival } = notNeededVerdict(o.evaluation, firstEvaluation.get(o.ref), claims, accepted);
+    phases.push(describePhase(o.evaluation, verdict, claims, accepted, table, null, unquantified, rival, 0));
+  }
+  phases.sort((a, b) => b.score - a.score);
+
+  const firstLineEvaluation = targetIndex >= 0 ? accepted.find((a) => a.ref === targetIndex)?.evaluation ?? evaluatePhase(linesOf(targetIndex), table, finalShift, claims) : accepted[0]?.evaluation;
+  const lowAngleLimit = firstLineTwoTheta(firstLineEvaluation, tol);
+  const unexplained = unexplainedPeaks(table, claims, lowAngleLimit, refs, lambda, finalShift, tol);
+  let unexplainedArea = 0;
+  for (let k = 0; k < table.count; k++) if (claims.claimed[k] < 0) unexplainedArea += table.area[k];
+  const unexplainedAreaShare = table.totalArea > 0 ? unexplainedArea / table.totalArea : 0;
+
+  return {
+    shift: finalShift,
+    phases,
+    unexplained,
+    unexplainedAreaShare,
+    featureless,
+    toleranceDeg: tol,
+    reasons: patternReasons(table, featureless, clearPeaks, accepted, refs, finalShift, bounds, unexplained, unexplainedAreaShare, firstLineEvaluation),
+  };
+}
+
+function nonNegative(value: number, what: string): number {
+  if (!(value >= 0 && value <= 2)) throw new InputError(`${what} ${value}° 2θ is not usable; give a value between 0 and 2 degrees`);
+  return value;
+}
+
+function findTarget(refs: readonly StoredReference[], target: string | undefined): number {
+  if (target === undefined) return -1;
+  let i = refs.findIndex((r) => r.name === target);
+  if (i < 0) i = refs.findIndex((r) => r.name.toLowerCase() === target.toLowerCase());
+  if (i < 0) throw new InputError(`target phase "${target}" is not in the reference library; list the library's phases and give one of their names`);
+  return i;
+}
+
+function countClear(table: PeakTable, claims: Claims | null): number {
+  let n = 0;
+  for (let k = 0; k < table.count; k++) if (table.clear[k] && (!claims || claims.claimed[k] < 0)) n++;
+  return n;
+}
+
+/** 2θ (shifted) of a phase's first line: the largest d with at least 1 % of the strongest intensity. */
+function firstLineTwoTheta(evaluation: PhaseEvaluation | undefined, tol: number): number {
+  if (!evaluation) return -Infinity;
+  const { lines, shift } = evaluation;
+  let first = Infinity;
+  for (let j = 0; j < lines.count; j++) {
+    if (lines.intensity[j] < FIRST_LINE_SHARE * lines.strongestIntensity) continue;
+    first = Math.min(first, lines.twoTheta[j] + shift.zeroDeg + shift.displacementCosDeg * lines.cosTheta[j]);
+  }
+  return Number.isFinite(first) ? first - tol : -Infinity;
+}
+
+function lowAngleOpenPeaks(table: PeakTable, claims: Claims, limit: number): Set<number> {
+  const set = new Set<number>();
+  for (let k = 0; k < table.count && table.twoTheta[k] < limit; k++) if (claims.claimed[k] < 0 && table.clear[k]) set.add(k);
+  return set;
+}
+
+/**
+ * The next phase of the explanation: the target when it explains significant new peaks (unless a
+ * look-alike claiming the same peaks scores more than TARGET_MARGIN above it); else, while low-angle peaks are open, the best decomposition product that
+ * explains one of them; else the best-scoring candidate that explains new clear peaks.
+ */
+function choosePhase(
+  evaluations: Array<{ ref: number; evaluation: PhaseEvaluation }>,
+  targetIndex: number,
+  lowAngleOpen: Set<number>,
+  distinctNew: (evaluation: PhaseEvaluation) => NewPeakCount,
+): { ref: number; evaluation: PhaseEvaluation } | null {
+  const eligible = evaluations.filter((e) => e.evaluation.score >= POSSIBLE_SCORE && explainsSignificantPeaks(distinctNew(e.evaluation)));
+  if (eligible.length === 0) return null;
+  eligible.sort((a, b) => b.evaluation.score - a.evaluation.score);
+  const target = eligible.find((e) => e.ref === targetIndex);
+  if (target) {
+    // The target goes first unless a phase claiming mostly the same peaks fits clearly better (a look-alike).
+    const rival = eligible.find((e) => e !== target && e.evaluation.score > target.evaluation.score + TARGET_MARGIN && sharedPeakShare(target.evaluation, e.evaluation) >= 0.5);
+    return rival ?? target;
+  }
+  if (lowAngleOpen.size > 0) {
+    const decomposition = eligible.find(
+      (e) => e.evaluation.lines.reference.tags.includes(DECOMPOSITION_TAG) && e.evaluation.newPeaks.some((k) => lowAngleOpen.has(k)),
+    );
+    if (decomposition) return decomposition;
+  }
+  return eligible[0];
+}
+
+/** Shifted Kα1 position of line j under the evaluation's shift, degrees 2θ. */
+function shiftedTwoTheta(evaluation: PhaseEvaluation, j: number): number {
+  const { lines, shift } = evaluation;
+  return lines.twoTheta[j] + shift.zeroDeg + shift.displacementCosDeg * lines.cosTheta[j];
+}
+
+/**
+ * Per present phase and measured peak, the summed reference intensity of the phase's lines on the
+ * peak: its matched lines, and lines within the peak's breadth that were not resolved from it
+ * (hidden under it), since their intensity is part of the measured area too.
+ */
+function linesOnPeaks(evaluations: readonly PhaseEvaluation[], table: PeakTable): Float64Array[] {
+  return evaluations.map((evaluation) => {
+    const g = new Float64Array(table.count);
+    for (let j = 0; j < evaluation.lines.count; j++) {
+      let k = evaluation.peakOf[j];
+      if (k < 0) {
+        const tt = shiftedTwoTheta(evaluation, j);
+        k = nearestPeak(table, tt);
+        if (k < 0 || Math.abs(tt - table.twoTheta[k]) > Math.max(table.window[k], table.breadth[k])) continue;
+      }
+      g[k] += evaluation.lines.intensity[j];
+    }
+    return g;
+  });
+}
+
+/** Unmatched lines within this many integral breadths of a fitted group's peaks are part of its area. */
+const INSIDE_BREADTHS = 1;
+/** Unmatched lines a little further out (up to this many breadths) may or may not be part of it. */
+const NEAR_BREADTHS = 2.5;
+
+/**
+ * The measured areas and each phase's reference intensity per group of peaks fitted together (the
+ * fit's split of an overlapped group between its peaks is arbitrary; their sum is not). A phase's
+ * intensity in a group is that of its matched lines plus its unmatched lines within a breadth of the
+ * group's peaks (not resolved from them, so in the measured area); unmatched lines a little further
+ * out are listed apart (their share of the area is unknown). Peaks no present phase matches are
+ * left out of the areas.
+ */
+function groupIntensities(evaluations: readonly PhaseEvaluation[], table: PeakTable): GroupIntensities {
+  // Neighbouring peaks of one fitted group, split where they lie clearly apart (a peak list from elsewhere may put all in one group).
+  const groupOf = new Int32Array(table.count);
+  let groups = 0;
+  for (let k = 0; k < table.count; k++) {
+    const apart =
+      k === 0 ||
+      table.peaks[k].group !== table.peaks[k - 1].group ||
+      table.twoTheta[k] - table.twoTheta[k - 1] > NEAR_BREADTHS * Math.max(table.breadth[k], table.breadth[k - 1]);
+    if (apart) groups++;
+    groupOf[k] = groups - 1;
+  }
+  const areas = new Float64Array(groups);
+  const matchedPeak = new Uint8Array(table.count);
+  const reach = (tt: number, breadths: number, g: number): boolean => {
+    const k = nearestPeak(table, tt);
+    for (let q = Math.max(0, k - 2); q <= Math.min(table.count - 1, k + 2); q++) {
+      if (groupOf[q] === g && Math.abs(tt - table.twoTheta[q]) <= breadths * table.breadth[q]) return true;
+    }
+    return false;
+  };
+  const matched: Float64Array[] = [];
+  const uncertain: Float64Array[] = [];
+  for (const evaluation of evaluations) {
+    const m = new Float64Array(groups);
+    const u = new Float64Array(groups);
+    for (let j = 0; j < evaluation.lines.count; j++) {
+      const intensity = evaluation.lines.intensity[j];
+      const k = evaluation.peakOf[j];
+      if (k >= 0) {
+        m[groupOf[k]] += intensity;
+        matchedPeak[k] = 1;
+        continue;
+      }
+      const tt = shiftedTwoTheta(evaluation, j);
+      const nearest = nearestPeak(table, tt);
+      if (nearest < 0) continue;
+      const g = groupOf[nearest];
+      if (reach(tt, INSIDE_BREADTHS, g)) m[g] += intensity;
+      else if (reach(tt, NEAR_BREADTHS, g)) u[g] += intensity;
+    }
+    matched.push(m);
+    uncertain.push(u);
+  }
+  for (let k = 0; k < table.count; k++) if (matchedPeak[k]) areas[groupOf[k]] += table.area[k];
+  return { areas, matched, unmatched: uncertain };
+}
+
+/** Share of the measured peak area on peaks only this phase (of the present ones) has lines on. */
+function exclusiveAreaShares(contributions: readonly Float64Array[], table: PeakTable): number[] {
+  return contributions.map((mine) => {
+    let area = 0;
+    for (let k = 0; k < table.count; k++) if (mine[k] > 0 && contributions.every((other) => other === mine || other[k] === 0)) area += table.area[k];
+    return table.totalArea > 0 ? area / table.totalArea : 0;
+  });
+}
+
+interface NewPeakCount {
+  clear: number;
+  all: number;
+}
+
+/** Significant new peaks: one clear peak, or three peaks the peak search found (three coincidences are unlikely). */
+function explainsSignificantPeaks(count: NewPeakCount): boolean {
+  return count.clear >= 1 || count.all >= CONFIRMING_LINES;
+}
+
+/**
+ * New peaks that count as evidence for a candidate. For a candidate whose matched peaks are mostly
+ * (LOOK_ALIKE_SHARED_SHARE) explained already (a look-alike of an accepted phase), a new peak within twice its window of an
+ * accepted phase's line is more likely that phase's line measured a little off, and does not count.
+ */
+function distinctNewPeaks(evaluation: PhaseEvaluation, accepted: Array<{ evaluation: PhaseEvaluation }>, table: PeakTable): NewPeakCount {
+  const matchedPeaks = new Set<number>();
+  for (const k of evaluation.peakOf) if (k >= 0) matchedPeaks.add(k);
+  const lookAlike = accepted.length > 0 && evaluation.sharedPeaks >= LOOK_ALIKE_SHARED_SHARE * matchedPeaks.size;
+  const count: NewPeakCount = { clear: 0, all: 0 };
+  for (const k of evaluation.newPeaks) {
+    const near =
+      lookAlike &&
+      accepted.some(({ evaluation: a }) => {
+        for (let j = 0; j < a.lines.count; j++) {
+          const tt = a.lines.twoTheta[j] + a.shift.zeroDeg + a.shift.displacementCosDeg * a.lines.cosTheta[j];
+          if (Math.abs(tt - table.twoTheta[k]) <= 2 * table.window[k]) return true;
+        }
+        return false;
+      });
+    if (near) continue;
+    count.all++;
+    if (table.clear[k]) count.clear++;
+  }
+  return count;
+}
+
+/** Share of a's matched peaks that b matches too. */
+function sharedPeakShare(a: PhaseEvaluation, b: PhaseEvaluation): number {
+  const mine = new Set<number>();
+  for (const k of a.peakOf) if (k >= 0) mine.add(k);
+  if (mine.size === 0) return 0;
+  let both = 0;
+  const seen = new Set<number>();
+  for (const k of b.peakOf) if (k >= 0 && mine.has(k) && !seen.has(k)) {
+    seen.add(k);
+    both++;
+  }
+  return both / mine.size;
+}
+
+function requiredLines(evaluation: PhaseEvaluation): number {
+  return Math.min(CONFIRMING_LINES, evaluation.lines.count);
+}
+
+function acceptedVerdict(evaluation: PhaseEvaluation): Verdict {
+  return evaluation.score >= CONFIRMED_SCORE && evaluation.clearMatchedCount >= requiredLines(evaluation) ? 'confirmed' : 'possible';
+}
+
+/** A phase left out of the explanation: possible when it cannot be told from the phase that took its peaks, else absent. */
+function notNeededVerdict(
+  final: PhaseEvaluation,
+  first: PhaseEvaluation | undefined,
+  claims: Claims,
+  accepted: Array<{ ref: number; evaluation: PhaseEvaluation }>,
+): { verdict: Verdict; rival: PhaseEvaluation | null } {
+  const rivalNumber = mostSharedPhase(final, claims);
+  const rival = rivalNumber >= 0 ? accepted[rivalNumber].evaluation : null;
+  if (rival && first && final.score >= POSSIBLE_SCORE && first.score >= rival.score - LOOK_ALIKE_MARGIN && final.newClearPeaks === 0) return { verdict: 'possible', rival };
+  return { verdict: 'absent', rival };
+}
+
+/** The accepted phase that explains most of this phase's matched peaks, or -1. */
+function mostSharedPhase(evaluation: PhaseEvaluation, claims: Claims): number {
+  const counts = new Map<number, number>();
+  for (let j = 0; j < evaluation.lines.count; j++) {
+    const k = evaluation.peakOf[j];
+    if (k >= 0 && claims.claimed[k] >= 0) counts.set(claims.claimed[k], (counts.get(claims.claimed[k]) ?? 0) + 1);
+  }
+  let best = -1;
+  let bestCount = 0;
+  for (const [phase, count] of counts) if (count > bestCount) [best, bestCount] = [phase, count];
+  return best;
+}
+
+function describePhase(
+  evaluation: PhaseEvaluation,
+  verdict: Verdict,
+  claims: Claims,
+  accepted: Array<{ ref: number; evaluation: PhaseEvaluation }>,
+  table: PeakTable,
+  weightFraction: number | null,
+  unquantified: string[],
+  rival: PhaseEvaluation | null,
+  exclusiveAreaShare: number,
+): PhaseMatch {
+  const { lines, parts } = evaluation;
+  const reference = lines.reference;
+  const number = accepted.findIndex((a) => a.evaluation === evaluation);
+  const matched: MatchedLine[] = [];
+  for (let j = 0; j < lines.count; j++) {
+    const k = evaluation.peakOf[j];
+    if (k < 0) continue;
+    const line = reference.lines[lines.lineIndex[j]];
+    const owner = claims.claimed[k];
+    matched.push({
+      d: line.d,
+      intensity: line.intensity,
+      ...(line.hkl ? { hkl: line.hkl } : {}),
+      twoThetaExpected: round(table.twoTheta[k] - evaluation.residual[j], 4),
+      twoThetaMeasured: round(table.twoTheta[k], 4),
+      shared: owner >= 0 && owner !== number,
+    });
+  }
+  let explainedArea = 0;
+  const seen = new Set<number>();
+  for (let j = 0; j < lines.count; j++) {
+    const k = evaluation.peakOf[j];
+    if (k >= 0 && !seen.has(k)) {
+      seen.add(k);
+      explainedArea += table.area[k];
+    }
+  }
+
+  const reasons: string[] = [];
+  reasons.push(
+    `${evaluation.matchedCount} of ${evaluation.visibleCount} lines that should be visible matched within the tolerance ` +
+      `(mean |Δ2θ| ${fmt(evaluation.meanResidualDeg, 3)}° after the shift); ${pct(parts.intensityFound)} of their reference intensity found`,
+  );
+  if (evaluation.missingStrong.length > 0) {
+    const listedMissing = evaluation.missingStrong
+      .slice(0, 5)
+      .map((m) => `d ${fmt(m.d, 3)} Å (${Math.round(m.intensity)} %) at ${fmt(m.twoTheta, 2)}° expected ${fmt(m.visibility, 1)}× the detection level`)
+      .join('; ');
+    reasons.push(`strong lines missing although they would be visible: ${listedMissing}`);
+  } else if (evaluation.matchedCount > 0) reasons.push('no strong line that would be visible is missing');
+  if (lines.intensitiesKnown && evaluation.matchedCount > 0) {
+    reasons.push(`measured relative intensities differ from the reference by a factor ${fmt(evaluation.meanIntensityFactor, 2)} on average (up to about 3 is tolerated as preferred orientation)`);
+  } else if (!lines.intensitiesKnown) reasons.push('the reference gives no intensities: judged on positions only');
+  reasons.push(
+    `its lines fall on ${pct(table.totalArea > 0 ? explainedArea / table.totalArea : 0)} of the measured peak area` +
+      (evaluation.sharedPeaks > 0 ? `; ${evaluation.sharedPeaks} peak(s) shared with a phase accepted before it, counted once` : '') +
+      (number >= 0 ? `; ${pct(exclusiveAreaShare)} is on peaks no other present phase has lines on` : ''),
+  );
+
+  const required = requiredLines(evaluation);
+  if (verdict === 'confirmed') reasons.push(`confirmed: score ${fmt(evaluation.score, 2)} ≥ ${CONFIRMED_SCORE} with ${evaluation.clearMatchedCount} lines on clear peaks`);
+  else if (verdict === 'possible' && number >= 0) {
+    const why: string[] = [];
+    if (evaluation.score < CONFIRMED_SCORE) why.push(`score ${fmt(evaluation.score, 2)} below ${CONFIRMED_SCORE}`);
+    if (evaluation.clearMatchedCount < required) why.push(`only ${evaluation.clearMatchedCount} line(s) on clear peaks (${required} needed)`);
+    reasons.push(`possible: it explains peaks nothing else explains, but ${why.join(' and ')}`);
+  } else if (verdict === 'possible' && rival) {
+    reasons.push(`possible: its lines fall on the peaks of ${rival.lines.reference.name}, which fits about as well (mean |Δ2θ| ${fmt(rival.meanResidualDeg, 3)}° against ${fmt(evaluation.meanResidualDeg, 3)}°); the two cannot be told apart here`);
+  } else {
+    const why: string[] = [];
+    if (evaluation.matchedCount === 0) why.push('no line matches a measured peak');
+    if (evaluation.missingStrong.length > 0) why.push('strong lines are missing');
+    if (rival && evaluation.newClearPeaks === 0) why.push(`every matched peak is explained by ${rival.lines.reference.name}, which fits better (mean |Δ2θ| ${fmt(rival.meanResidualDeg, 3)}°)`);
+    else if (evaluation.newClearPeaks === 0 && evaluation.matchedCount > 0) why.push('it explains no clear peak');
+    if (evaluation.score < POSSIBLE_SCORE) why.push(`score ${fmt(evaluation.score, 2)} below ${POSSIBLE_SCORE}`);
+    reasons.push(`absent: ${why.join('; ') || 'not needed to explain the pattern'} (absence holds only above the detection limit)`);
+  }
+  const present = number >= 0;
+  if (present && weightFraction !== null) {
+    reasons.push(`weight fraction ${fmt(weightFraction, 3)} by Chung's matrix flushing with RIR ${reference.rir}` + (unquantified.length ? ` (among quantified phases only; not quantified: ${unquantified.join(', ')})` : ''));
+  } else if (present) reasons.push('not quantified: the reference has no reference intensity ratio (RIR)');
+
+  return {
+    name: reference.name,
+    formula: reference.formula,
+    tags: reference.tags,
+    score: round(evaluation.score, 4),
+    verdict,
+    matchedLines: evaluation.matchedCount,
+    missingStrongLines: evaluation.missingStrong.map((m) => ({
+      d: m.d,
+      intensity: m.intensity,
+      twoTheta: round(m.twoTheta, 4),
+      expectedHeight: round(m.expectedHeight, 1),
+      visibility: round(m.visibility, 2),
+    })),
+    weightFraction: weightFraction === null ? null : round(weightFraction, 4),
+    quantification: weightFraction === null ? 'not quantified' : 'quantified',
+    parts: {
+      position: round(parts.position, 4),
+      intensityFound: round(parts.intensityFound, 4),
+      missingStrong: round(parts.missingStrong, 4),
+      relativeIntensity: round(parts.relativeIntensity, 4),
+      explained: round(parts.explained, 4),
+    },
+    scale: evaluation.scale,
+    explainedAreaShare: round(table.totalArea > 0 ? explainedArea / table.totalArea : 0, 4),
+    exclusiveAreaShare: round(exclusiveAreaShare, 4),
+    inExplanation: number >= 0,
+    shift: { zeroDeg: round(evaluation.shift.zeroDeg, 5), displacementCosDeg: round(evaluation.shift.displacementCosDeg, 5) },
+    meanResidualDeg: round(evaluation.meanResidualDeg, 5),
+    lines: matched,
+    reasons,
+  };
+}
+
+function unexplainedPeaks(
+  table: PeakTable,
+  claims: Claims,
+  lowAngleLimit: number,
+  refs: readonly StoredReference[],
+  lambda: number,
+  shift: MatchShift,
+  tol: number,
+): UnexplainedPeak[] {
+  const decomposition = refs
+    .filter((r) => r.tags.includes(DECOMPOSITION_TAG))
+    .map((r) => phaseLines(r, lambda, table.rangeMin, table.rangeMax));
+  const out: UnexplainedPeak[] = [];
+  for (let k = 0; k < table.count; k++) {
+    if (claims.claimed[k] >= 0) continue;
+    const tt = table.twoTheta[k];
+    const possibleSources = decomposition
+      .filter((lines) => {
+        for (let j = 0; j < lines.count; j++) {
+          const expected = lines.twoTheta[j] + shift.zeroDeg + shift.displacementCosDeg * lines.cosTheta[j];
+          if (Math.abs(expected - tt) <= tol) return true;
+        }
+        return false;
+      })
+      .map((lines) => lines.reference.name);
+    out.push({ twoTheta: round(tt, 4), d: round(table.peaks[k].d, 4), height: round(table.height[k], 1), lowAngle: tt < lowAngleLimit, possibleSources });
+  }
+  return out;
+}
+
+function patternReasons(
+  table: PeakTable,
+  featureless: boolean,
+  clearPeaks: number,
+  accepted: Array<{ ref: number; evaluation: PhaseEvaluation }>,
+  refs: readonly StoredReference[],
+  shift: MatchShift,
+  bounds: ShiftBounds,
+  unexplained: UnexplainedPeak[],
+  unexplainedAreaShare: number,
+  firstLine: PhaseEvaluation | undefined,
+): string[] {
+  const reasons: string[] = [];
+  if (featureless) {
+    reasons.push(
+      table.count === 0
+        ? 'No peaks were found: the pattern is featureless and supports no phase claim (an attenuating film or tape, amorphous matter, or too little sample can cause this).'
+        : `No peak stands clearly above the noise (${table.count} weak peak(s) only): the pattern supports no phase claim (an attenuating film or tape, amorphous matter, or too little sample can cause this).`,
+    );
+    return reasons;
+  }
+  if (clearPeaks < CONFIRMING_LINES) reasons.push(`Only ${clearPeaks} clear peak(s): too few to confirm a phase.`);
+  if (accepted.length > 0) {
+    const first = accepted[0].evaluation;
+    reasons.push(
+      `Shift refined on ${first.matchedCount} lines of ${refs[accepted[0].ref].name}: zero offset ${signed(shift.zeroDeg)}°, ` +
+        `sample displacement ${signed(shift.displacementCosDeg)}°·cosθ (bounds ±${bounds.maxZeroDeg}° and ±${bounds.maxDisplacementDeg}°).`,
+    );
+    reasons.push(`Explained with ${accepted.map((a) => refs[a.ref].name).join(', then ')}; overlapping lines are shared, not counted twice.`);
+  } else reasons.push('No reference explains the measured peaks.');
+  if (unexplained.length > 0) {
+    const low = unexplained.filter((u) => u.lowAngle).length;
+    reasons.push(
+      `${unexplained.length} peak(s) carrying ${pct(unexplainedAreaShare)} of the measured peak area are not explained` +
+        (low > 0 && firstLine ? `; ${low} lie below the first line of ${firstLine.lines.reference.name} (low-angle: typical of hydrolysis or hydration products with an expanded layer spacing)` : '') +
+        '.',
+    );
+  } else if (table.count > 0) reasons.push('Every measured peak is explained.');
+  reasons.push('A phase judged absent may still be present below the detection limit (about 1–5 wt % for lab PXRD), and amorphous matter is not seen.');
+  return reasons;
+}
+
+function signed(value: number): string {
+  return `${value >= 0 ? '+' : ''}${value.toFixed(4)}`;
+}
+
+function round(value: number, digits: number): number {
+  const f = 10 ** digits;
+  return Math.round(value * f) / f;
+}
+

@@ -1,0 +1,160 @@
+import type { StoredReference } from '../model/reference.js';
+import { dFromTwoTheta } from '../model/units.js';
+import { lowerBound } from '../model/sorted.js';
+
+/** Intensity given to a line whose intensity is unknown (positions computed from a cell alone). */
+export const UNKNOWN_LINE_INTENSITY = 10;
+
+/**
+ * All reference lines of a library in one d-sorted table (typed arrays), for screening candidates:
+ * one pass over the lines under each measured peak finds every reference with a line there.
+ */
+export interface ReferenceIndex {
+  references: readonly StoredReference[];
+  /** Line d-spacings, Å, ascending. */
+  d: Float64Array;
+  /** Which reference each line belongs to (index into `references`). */
+  referenceOf: Int32Array;
+  /** Relative intensity of each line (unknown intensities count as UNKNOWN_LINE_INTENSITY). */
+  intensity: Float32Array;
+}
+
+export function lineIntensity(value: number | null): number {
+  return value === null ? UNKNOWN_LINE_INTENSITY : value;
+}
+
+/** Build the d-sorted index over every line of every reference. */
+export function buildReferenceIndex(references: readonly StoredReference[]): ReferenceIndex {
+  let total = 0;
+  for (const ref of references) total += ref.lines.length;
+  const dRaw = new Float64Array(total);
+  const refRaw = new Int32Array(total);
+  const intensityRaw = new Float32Array(total);
+  let n = 0;
+  references.forEach((ref, r) => {
+    for (const line of ref.lines) {
+      if (!(line.d > 0)) continue;
+      dRaw[n] = line.d;
+      refRaw[n] = r;
+      intensityRaw[n] = lineIntensity(line.intensity);
+      n++;
+    }
+  });
+  const order = sortedOrder(dRaw.subarray(0, n));
+  const d = new Float64Array(n);
+  const referenceOf = new Int32Array(n);
+  const intensity = new Float32Array(n);
+  for (let i = 0; i < n; i++) {
+    const k = order[i];
+    d[i] = dRaw[k];
+    referenceOf[i] = refRaw[k];
+    intensity[i] = intensityRaw[k];
+  }
+  return { references, d, referenceOf, intensity };
+}
+
+/**
+ * Permutation that sorts positive values ascending: a counting sort on a logarithmic key (about
+ * four values per bucket), then insertion sort inside each bucket. Linear time for millions of lines.
+ */
+function sortedOrder(values: Float64Array): Uint32Array {
+  const n = values.length;
+  const order = new Uint32Array(n);
+  if (n === 0) return order;
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (let i = 0; i < n; i++) {
+    const v = Math.log(values[i]);
+    if (v < lo) lo = v;
+    if (v > hi) hi = v;
+  }
+  const buckets = Math.max(1, n >> 2);
+  const width = (hi - lo) / buckets || 1;
+  const key = new Uint32Array(n);
+  const start = new Uint32Array(buckets + 1);
+  for (let i = 0; i < n; i++) {
+    const b = Math.min(buckets - 1, Math.floor((Math.log(values[i]) - lo) / width));
+    key[i] = b;
+    start[b + 1]++;
+  }
+  for (let b = 0; b < buckets; b++) start[b + 1] += start[b];
+  const fill = start.slice(0, buckets);
+  for (let i = 0; i < n; i++) order[fill[key[i]]++] = i;
+  for (let b = 0; b < buckets; b++) {
+    for (let i = start[b] + 1; i < start[b + 1]; i++) {
+      const item = order[i];
+      const v = values[item];
+      let j = i - 1;
+      while (j >= start[b] && values[order[j]] > v) {
+        order[j + 1] = order[j];
+        j--;
+      }
+      order[j + 1] = item;
+    }
+  }
+  return order;
+}
+
+
+export interface ScreenQuery {
+  /** Measured peak positions (2θ, degrees, ascending) to screen with. */
+  twoTheta: Float64Array;
+  /** Wavelength (Å) that turns 2θ into d. */
+  lambda: number;
+  /** Half-width of the window around each peak, degrees 2θ (tolerance plus the largest shift). */
+  windowDeg: number;
+  /** d range of the measured pattern, Å. */
+  dMin: number;
+  dMax: number;
+  /** How many references to return. */
+  count: number;
+}
+
+/** Summed line intensity of each reference within a d range (the denominator of the screening share). */
+export function rangeTotals(index: ReferenceIndex, dMin: number, dMax: number): Float64Array {
+  const total = new Float64Array(index.references.length);
+  const stop = lowerBound(index.d, dMax);
+  for (let i = lowerBound(index.d, dMin); i < stop; i++) total[index.referenceOf[i]] += index.intensity[i];
+  return total;
+}
+
+/**
+ * Rank references by the share of their in-range intensity that falls under the given peaks
+ * (each line counted once even where windows overlap). Returns reference indices, best first.
+ */
+export function screenReferences(index: ReferenceIndex, query: ScreenQuery, totals: Float64Array = rangeTotals(index, query.dMin, query.dMax)): number[] {
+  const nRefs = index.references.length;
+  const found = new Float64Array(nRefs);
+  const total = totals;
+  const { d, referenceOf, intensity } = index;
+  const start = lowerBound(d, query.dMin);
+  const stop = lowerBound(d, query.dMax);
+
+  // Peaks ascend in 2θ, so their d windows descend: walk them from the last peak (smallest d).
+  let done = 0;
+  for (let k = query.twoTheta.length - 1; k >= 0; k--) {
+    const tt = query.twoTheta[k];
+    const lo = Math.max(lowerBound(d, dFromTwoTheta(tt + query.windowDeg, query.lambda)), done, start);
+    const hi = Math.min(lowerBound(d, dFromTwoTheta(Math.max(tt - query.windowDeg, 1e-3), query.lambda)), stop);
+    for (let i = lo; i < hi; i++) found[referenceOf[i]] += intensity[i];
+    if (hi > done) done = hi;
+  }
+
+  // Keep the best `count` in a small sorted list (descending share).
+  const best: number[] = [];
+  const bestShare: number[] = [];
+  for (let r = 0; r < nRefs; r++) {
+    if (!(found[r] > 0) || !(total[r] > 0)) continue;
+    const share = found[r] / total[r];
+    if (best.length === query.count && share <= bestShare[best.length - 1]) continue;
+    let pos = best.length;
+    while (pos > 0 && bestShare[pos - 1] < share) pos--;
+    best.splice(pos, 0, r);
+    bestShare.splice(pos, 0, share);
+    if (best.length > query.count) {
+      best.pop();
+      bestShare.pop();
+    }
+  }
+  return best;
+}

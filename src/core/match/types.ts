@@ -1,0 +1,124 @@
+import type { Wavelength } from '../model/wavelengths.js';
+import type { ReferenceIndex } from './reference-index.js';
+
+/** Options of `matchPhases`; every one but the wavelength has a documented default. */
+export interface MatchOptions {
+  /** The wavelength the peaks were measured with (their 2θ are Kα1 positions). */
+  wavelength: Wavelength;
+  /** Half-width of the matching window, degrees 2θ, converted to a d window per line (default 0.1). */
+  toleranceDeg?: number;
+  /** Name of the phase the chemist expects; it explains the pattern first when it fits about as well as the best. */
+  target?: string;
+  /**
+   * Background under the peaks (counts on 2θ), to judge whether a missing line would have been visible;
+   * sigma, when given, is the noise at each point (default √background, for counts).
+   */
+  background?: { x: Float64Array; y: Float64Array; sigma?: Float64Array };
+  /** Measured 2θ range, degrees; default: the background's x range, else the span of the peaks. */
+  twoThetaRangeDeg?: { min: number; max: number };
+  /** Largest zero offset the refinement may use, degrees 2θ (default 0.15). */
+  maxZeroDeg?: number;
+  /** Largest sample-displacement coefficient (Δ2θ = D·cosθ), degrees 2θ (default 0.15). */
+  maxDisplacementDeg?: number;
+  /** A prebuilt d-sorted index of the references (see buildReferenceIndex); saves rebuilding it per pattern. */
+  index?: ReferenceIndex;
+  /** How many screened candidates get the full score per round (default 40). */
+  candidates?: number;
+  /** Most phases the explanation may use (default 5). */
+  maxPhases?: number;
+  /** How many phases judged absent are listed after the present ones (default 5). */
+  listAbsent?: number;
+}
+
+/** The refined shift applied to every reference line: Δ2θ = zeroDeg + displacementCosDeg·cosθ. */
+export interface MatchShift {
+  zeroDeg: number;
+  displacementCosDeg: number;
+}
+
+export type Verdict = 'confirmed' | 'possible' | 'absent';
+
+/** The five parts of a phase's score, each in 0–1 (the formula is documented in score.ts). */
+export interface ScoreParts {
+  position: number;
+  intensityFound: number;
+  missingStrong: number;
+  relativeIntensity: number;
+  explained: number;
+}
+
+export interface MatchedLine {
+  d: number;
+  intensity: number | null;
+  hkl?: [number, number, number];
+  /** Expected Kα1 position after the shift, degrees 2θ. */
+  twoThetaExpected: number;
+  /** Position of the measured peak it was matched to, degrees 2θ. */
+  twoThetaMeasured: number;
+  /** True when the peak is also claimed by a phase accepted earlier (shared, not counted twice). */
+  shared: boolean;
+}
+
+export interface MissingLine {
+  d: number;
+  intensity: number;
+  twoTheta: number;
+  /** Height the line would have had at the phase's measured scale, counts. */
+  expectedHeight: number;
+  /** That height in units of the detection level (3·√background); above 1 it would have been seen. */
+  visibility: number;
+}
+
+export interface PhaseMatch {
+  name: string;
+  formula: string;
+  tags: string[];
+  score: number;
+  verdict: Verdict;
+  matchedLines: number;
+  missingStrongLines: MissingLine[];
+  /** Chung's matrix-flushing weight fraction, or null where the phase is not quantified. */
+  weightFraction: number | null;
+  /** "quantified" or "not quantified" (no reference intensity ratio, or phase not present). */
+  quantification: 'quantified' | 'not quantified';
+  parts: ScoreParts;
+  /** Measured integrated intensity per unit of reference intensity (counts·degrees per 1 % line). */
+  scale: number;
+  /** Share of the measured peak area on the peaks this phase's lines match, 0–1 (peaks shared with other phases included). */
+  explainedAreaShare: number;
+  /**
+   * Share of the measured peak area on peaks that only this phase, of the phases taken into the
+   * explanation, has lines on (matched or hidden under the peak), 0–1; 0 for a phase not taken in.
+   */
+  exclusiveAreaShare?: number;
+  /** True when the phase was taken into the explanation of the pattern (a phase only listed is not needed to explain it). */
+  inExplanation?: boolean;
+  /** The shift this phase was judged with (each phase refines its own within the bounds; the pattern's is the first phase's). */
+  shift: MatchShift;
+  /** Mean |Δ2θ| of the matched lines after the shift, degrees. */
+  meanResidualDeg: number;
+  lines: MatchedLine[];
+  reasons: string[];
+}
+
+export interface UnexplainedPeak {
+  twoTheta: number;
+  d: number;
+  height: number;
+  /** Below the target's first line (or the best phase's, with no target). */
+  lowAngle: boolean;
+  /** References tagged as decomposition products with a line within tolerance (not enough to accept them). */
+  possibleSources: string[];
+}
+
+export interface MatchResult {
+  shift: MatchShift;
+  phases: PhaseMatch[];
+  unexplained: UnexplainedPeak[];
+  /** Share of the measured peak area no present phase explains, 0–1. */
+  unexplainedAreaShare: number;
+  /** True when the pattern shows too little to support any phase claim. */
+  featureless: boolean;
+  toleranceDeg: number;
+  reasons: string[];
+}

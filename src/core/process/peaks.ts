@@ -1,0 +1,301 @@
+import { InputError } from '../errors.js';
+import type { Pattern } from '../model/pattern.js';
+import type { Wavelength } from '../model/wavelengths.js';
+import { fitPeakGroups } from './fit.js';
+import { partnerTwoThetaDeg, strippedVariance, stripKAlpha2 } from './kalpha2.js';
+import { findLocalMaxima } from './local-maxima.js';
+import { savitzkyGolay } from './savitzky-golay.js';
+import { DEFAULT_CLIPPING_HALF_WIDTH_DEG, liftToNoiseMedian, snipBackground } from './snip.js';
+import type { NoiseModel, PeakGuess, PeakSearchOptions, PeakSearchResult } from '../model/peak.js';
+
+/**
+ * Peak search and fit. The pattern is smoothed (Savitzky–Golay), its background taken by SNIP, the
+ * Kα2 part of the net signal stripped (Rachinger); every local maximum that stands at least
+ * thresholdSigma·σ above the background (σ from counting statistics) and as many σ of its own level above
+ * its surroundings becomes a candidate (at low angle, where the Kα2 partner lies within a peak's width, the
+ * unstripped net signal is searched too). The candidates are then fitted in groups on the raw data
+ * (Kα2 modelled), and a fitted peak is kept only if its height is at least thresholdSigma standard
+ * uncertainties and it is broader than a spike.
+ */
+export const DEFAULT_THRESHOLD_SIGMA = 3;
+const DEFAULT_SMOOTH_WINDOW_DEG = 0.05;
+const MIN_SMOOTH_WINDOW_POINTS = 5;
+const MAX_SMOOTH_WINDOW_POINTS = 25;
+/** The background is clipped from data smoothed over this many search windows (measured: fewer noise peaks). */
+const BACKGROUND_SMOOTHING = 5;
+/** A fitted peak narrower than this many steps cannot be told from a spike (common practice). */
+const MIN_FWHM_STEPS = 1.5;
+/** Median of a χ² variable with one degree of freedom (turns a median of squares into a variance). */
+const CHI2_1_MEDIAN = 0.454936;
+/** Measured scatter below this fraction of counting noise means the data carry no noise to measure. */
+const NOISE_FREE_SCALE = 0.05;
+/**
+ * With no width given, the SNIP clipping half-width is at least this many FWHM of the broad peaks: the
+ * 1° default is about this many FWHM of sharp laboratory peaks, and Lorentzian tails of broad peaks
+ * (crystallites of a few nm) need as many to reach the background (measured on simulated 5–120 nm patterns).
+ */
+const CLIPPING_WIDTHS_PER_FWHM = 10;
+/** Upper bound of the automatic clipping half-width, degrees 2θ (and at most a quarter of the pattern). */
+const MAX_AUTO_HALF_WIDTH_DEG = 30;
+/** Widen the window only when the peaks ask for this factor more (and at most this many times before fitting). */
+const WIDEN_MARGIN = 1.2;
+const MAX_WIDENINGS = 3;
+/** …and search for peaks again only when it grows by more than this factor. */
+const SEARCH_AGAIN_FACTOR = 2;
+/** After the fit, search and fit again only when the fitted widths ask for this factor more. */
+const REFIT_MARGIN = 1.5;
+/** Height-weighted quantile of the peak widths that the window is sized for. */
+const BROAD_WIDTH_QUANTILE = 0.75;
+/** SNIP is clipped on block means when its window would span more points than this (speed; measured). */
+const SNIP_MAX_WINDOW_POINTS = 48;
+/** A search fit has converged when a step lowers χ² by less than this (parameters within about σ/10). */
+const CONVERGED_CHI2_CHANGE = 0.01;
+
+export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSearchResult {
+  const { x, y } = pattern;
+  const n = x.length;
+  const file = pattern.source.file;
+  if (n < 2 * MIN_SMOOTH_WINDOW_POINTS) {
+    throw new InputError(`${n} points are too few to search for peaks; a pattern needs at least ${2 * MIN_SMOOTH_WINDOW_POINTS}`, { file });
+  }
+  for (let i = 1; i < n; i++) {
+    if (!(x[i] > x[i - 1])) throw new InputError(`2θ does not increase at point ${i + 1} (${x[i]}°); the pattern must be sorted by 2θ`, { file });
+  }
+  const meanStep = (x[n - 1] - x[0]) / (n - 1);
+  const thresholdSigma = options.thresholdSigma ?? DEFAULT_THRESHOLD_SIGMA;
+  if (!(thresholdSigma > 0)) throw new InputError(`threshold of ${thresholdSigma} σ: give a positive number (3 is usual)`);
+
+  const windowPoints = options.smoothWindowPoints ?? defaultSmoothWindow(meanStep, n);
+  const smoothed = savitzkyGolay(y, { windowPoints, polyOrder: options.smoothPolyOrder ?? Math.min(3, windowPoints - 1) });
+  // The background is clipped from a more strongly smoothed copy, so that it follows the noise less: a
+  // moving average (order 0), whose weights are all positive, so no ringing beside sharp peaks drags it down.
+  const forBackground = savitzkyGolay(y, { windowPoints: oddAtMost(BACKGROUND_SMOOTHING * windowPoints, n), polyOrder: 0 });
+  const noise = options.noise ?? 'auto';
+  const automatic = options.backgroundHalfWidthDeg === undefined;
+  const widestAuto = Math.min(MAX_AUTO_HALF_WIDTH_DEG, (x[n - 1] - x[0]) / 4);
+  let halfWidthDeg = options.backgroundHalfWidthDeg ?? DEFAULT_CLIPPING_HALF_WIDTH_DEG;
+  let level = backgroundAt(pattern, smoothed, forBackground, halfWidthDeg, noise);
+  let guesses = candidates(pattern, options, smoothed, level, thresholdSigma);
+  // Broad peaks (crystallites of a few nm) would be partly clipped into a background narrower than their
+  // tails: with no width given, widen the clipping window to the peaks found (and search them again when
+  // the window grows much: shoulders the narrow one clipped away may hold more peaks).
+  for (let round = 0; automatic && round < MAX_WIDENINGS; round++) {
+    const wanted = Math.min(CLIPPING_WIDTHS_PER_FWHM * typicalBroadWidth(guesses), widestAuto);
+    if (!(wanted > WIDEN_MARGIN * halfWidthDeg)) break;
+    const searchAgain = wanted > SEARCH_AGAIN_FACTOR * halfWidthDeg;
+    halfWidthDeg = wanted;
+    level = backgroundAt(pattern, smoothed, forBackground, halfWidthDeg, noise);
+    if (!searchAgain) break;
+    guesses = candidates(pattern, options, smoothed, level, thresholdSigma);
+  }
+  const { snip, noiseSigma } = level;
+  const fit = fitPeakGroups(
+    pattern,
+    snip,
+    guesses,
+    { ...options, pruneBelowSigma: options.pruneBelowSigma ?? thresholdSigma, minFwhmDeg: options.minFwhmDeg ?? MIN_FWHM_STEPS * meanStep },
+    { thresholdSigma, noiseSigma, weightSigma: noise === 'pattern' ? undefined : smoothedSigma(smoothed, snip, noiseSigma), convergedChi2Change: CONVERGED_CHI2_CHANGE },
+  );
+  // The fitted widths are better than the search's: if they ask for a much wider window, search and fit again.
+  if (automatic) {
+    const wanted = Math.min(CLIPPING_WIDTHS_PER_FWHM * typicalBroadWidth(fit.peaks.filter((p) => !p.overlapped)), widestAuto);
+    if (wanted > REFIT_MARGIN * halfWidthDeg) return findPeaks(pattern, { ...options, backgroundHalfWidthDeg: wanted });
+  }
+  return {
+    peaks: fit.peaks,
+    background: fit.background,
+    model: fit.model,
+    wavelength: options.wavelength,
+    points: n,
+    smoothed,
+    noiseSigma,
+  };
+}
+
+interface BackgroundLevel {
+  snip: Float64Array;
+  noiseSigma: Float64Array;
+}
+
+/** Background by SNIP with the given clipping half-width (lifted to the middle of the noise), and its σ. */
+function backgroundAt(pattern: Pattern, smoothed: Float64Array, forBackground: Float64Array, halfWidthDeg: number, noise: NoiseModel): BackgroundLevel {
+  const { x } = pattern;
+  const clipped = snipBackground(x, forBackground, { clippingHalfWidthDeg: halfWidthDeg, maxWindowPoints: SNIP_MAX_WINDOW_POINTS });
+  const snip = liftToNoiseMedian(x, smoothed, clipped, backgroundSigma(pattern, clipped, noise), 2 * halfWidthDeg);
+  return { snip, noiseSigma: backgroundSigma(pattern, snip, noise) };
+}
+
+/** The local maxima of the Kα2-stripped net signal that stand clear of the background and of their surroundings. */
+function candidates(pattern: Pattern, options: PeakSearchOptions, smoothed: Float64Array, level: BackgroundLevel, thresholdSigma: number): PeakGuess[] {
+  const { x } = pattern;
+  const { snip, noiseSigma } = level;
+  const n = x.length;
+  const net = new Float64Array(n);
+  for (let i = 0; i < n; i++) net[i] = smoothed[i] - snip[i];
+  const kAlpha1 = stripKAlpha2(x, net, options.wavelength);
+  // Above its surroundings, a peak is judged against the noise at its own level (all counts there, and
+  // the noise the Kα2 stripping carried over from the Kα1 intensity it subtracted).
+  const levelVariance = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const level = snip[i] > 0 ? Math.max(smoothed[i], snip[i]) / snip[i] : 1;
+    levelVariance[i] = noiseSigma[i] * noiseSigma[i] * level;
+  }
+  const strippedLevelVariance = strippedVariance(x, levelVariance, options.wavelength);
+  const minHeight = new Float64Array(n);
+  const minProminence = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    minHeight[i] = thresholdSigma * noiseSigma[i];
+    minProminence[i] = thresholdSigma * Math.sqrt(strippedLevelVariance[i]);
+  }
+  const maxima = findLocalMaxima(kAlpha1, { minHeight, minProminence });
+  const guesses: PeakGuess[] = [];
+  for (let m = 0; m < maxima.indices.length; m++) {
+    // The stripping adds the noise of the subtracted point; the peak must clear 3σ before stripping too.
+    if (net[maxima.indices[m]] < minHeight[maxima.indices[m]]) continue;
+    guesses.push(guessAt(x, kAlpha1, maxima.indices[m], maxima.leftBases[m], maxima.rightBases[m]));
+  }
+  return withUnresolvedDoublets(x, net, levelVariance, minHeight, thresholdSigma, options.wavelength, guesses);
+}
+
+/**
+ * At low angle the Kα2 partner lies well within the peak's width: stripping then leaves only 1/(1 + ratio)
+ * of the peak while adding noise, so a weak peak that clears 3σ in the data may not in the stripped signal,
+ * or shows there only as a narrow noise wiggle on its top. Such peaks are searched in the unstripped net
+ * signal too (against the noise at their level), where the partner lies within the peak's half width at
+ * half maximum; one replaces the stripped-signal candidates on its top that look less than half as broad.
+ */
+function withUnresolvedDoublets(
+  x: Float64Array,
+  net: Float64Array,
+  levelVariance: Float64Array,
+  minHeight: Float64Array,
+  thresholdSigma: number,
+  wavelength: Wavelength,
+  guesses: PeakGuess[],
+): PeakGuess[] {
+  if (wavelength.lambda2 === null || !(wavelength.ratio > 0)) return guesses;
+  const n = x.length;
+  const minProminence = new Float64Array(n);
+  for (let i = 0; i < n; i++) minProminence[i] = thresholdSigma * Math.sqrt(levelVariance[i]);
+  const maxima = findLocalMaxima(net, { minHeight, minProminence });
+  const share = wavelength.ratio / (1 + wavelength.ratio);
+  let out = guesses;
+  for (let m = 0; m < maxima.indices.length; m++) {
+    const doublet = guessAt(x, net, maxima.indices[m], maxima.leftBases[m], maxima.rightBases[m]);
+    const fwhm = doublet.fwhm as number;
+    const separation = partnerTwoThetaDeg(doublet.twoTheta, wavelength.lambda1, wavelength.lambda2) - doublet.twoTheta;
+    if (!(separation < fwhm / 2)) continue;
+    const onTop = (g: PeakGuess) => Math.abs(g.twoTheta - doublet.twoTheta) < fwhm / 2;
+    if (out.some((g) => onTop(g) && (g.fwhm as number) >= fwhm / 2)) continue;
+    // The doublet's top lies about ratio/(1 + ratio) of the separation above the Kα1 line.
+    out = out.filter((g) => !onTop(g));
+    out.push({ twoTheta: doublet.twoTheta - share * separation, height: (doublet.height as number) / (1 + wavelength.ratio), fwhm });
+  }
+  return out === guesses ? guesses : out.sort((p, q) => p.twoTheta - q.twoTheta);
+}
+
+/**
+ * The width the background window must clear: the height-weighted upper quartile of the peaks' FWHMs
+ * (weighted, so that a few small noise bumps do not decide; an upper quantile, as widths grow with 2θ).
+ */
+function typicalBroadWidth(peaks: ReadonlyArray<{ height?: number; fwhm?: number }>): number {
+  const items = peaks.filter((p) => (p.fwhm ?? 0) > 0 && (p.height ?? 0) > 0).sort((p, q) => (p.fwhm as number) - (q.fwhm as number));
+  let total = 0;
+  for (const p of items) total += p.height as number;
+  let sum = 0;
+  for (const p of items) {
+    sum += p.height as number;
+    if (sum >= BROAD_WIDTH_QUANTILE * total) return p.fwhm as number;
+  }
+  return 0;
+}
+
+function oddAtMost(points: number, n: number): number {
+  const w = Math.min(points, n);
+  return w % 2 === 1 ? w : w - 1;
+}
+
+/** An odd window of about 0.05° 2θ, 5 to 25 points, never longer than the pattern. */
+function defaultSmoothWindow(meanStep: number, n: number): number {
+  let w = Math.round(DEFAULT_SMOOTH_WINDOW_DEG / meanStep);
+  return oddAtMost(Math.min(Math.max(w, MIN_SMOOTH_WINDOW_POINTS), MAX_SMOOTH_WINDOW_POINTS), n);
+}
+
+/**
+ * σ of the background counts at each point: √background for counts; the pattern's own sigma; or, for
+ * intensities that are not whole counts, √background times a scale measured from the point-to-point
+ * scatter (second differences: variance 6σ² for white noise).
+ */
+export function backgroundSigma(pattern: Pattern, background: Float64Array, noise: NoiseModel): Float64Array {
+  const { y } = pattern;
+  const n = y.length;
+  const sigma = new Float64Array(n);
+  if (noise === 'pattern') {
+    sigma.set(pattern.sigma);
+    return sigma;
+  }
+  let counts = noise === 'counts';
+  if (noise === 'auto') {
+    counts = true;
+    for (let i = 0; i < n && counts; i++) counts = Number.isInteger(y[i]) && y[i] >= 0;
+  }
+  let positive = 0;
+  for (let i = 0; i < n; i++) if (background[i] > positive) positive = background[i];
+  const floor = counts ? 1 : Math.max(positive * 1e-3, Number.MIN_VALUE);
+  let scale = 1;
+  if (!counts) {
+    const ratios = new Float64Array(n - 2);
+    for (let i = 1; i < n - 1; i++) {
+      const second = y[i - 1] - 2 * y[i] + y[i + 1];
+      ratios[i - 1] = (second * second) / 6 / Math.max(background[i], floor);
+    }
+    ratios.sort();
+    scale = Math.sqrt(ratios[ratios.length >> 1] / CHI2_1_MEDIAN);
+    // Next to no scatter at all (a noise-free simulation, say): fall back to counting statistics.
+    if (!(scale > NOISE_FREE_SCALE)) scale = 1;
+  }
+  for (let i = 0; i < n; i++) sigma[i] = scale * Math.sqrt(Math.max(background[i], floor));
+  return sigma;
+}
+
+/** σ of each point from the smoothed intensity, on the same noise scale as the background's σ. */
+function smoothedSigma(smoothed: Float64Array, background: Float64Array, noiseSigma: Float64Array): Float64Array {
+  const sigma = new Float64Array(smoothed.length);
+  for (let i = 0; i < smoothed.length; i++) {
+    const level = background[i] > 0 ? Math.max(smoothed[i], background[i]) / background[i] : 1;
+    sigma[i] = noiseSigma[i] * Math.sqrt(level);
+  }
+  return sigma;
+}
+
+/** Starting values from the Kα2-stripped net signal: parabolic top, height, width at half height. */
+function guessAt(x: Float64Array, signal: Float64Array, i: number, leftBase: number, rightBase: number): PeakGuess {
+  const height = signal[i];
+  let twoTheta = x[i];
+  if (i > 0 && i < x.length - 1) {
+    const curvature = signal[i - 1] - 2 * signal[i] + signal[i + 1];
+    if (curvature < 0) {
+      const offset = (0.5 * (signal[i - 1] - signal[i + 1])) / curvature;
+      if (Math.abs(offset) < 1) twoTheta = x[i] + offset * (offset > 0 ? x[i + 1] - x[i] : x[i] - x[i - 1]);
+    }
+  }
+  const half = height / 2;
+  let left = i;
+  while (left > leftBase && signal[left] > half) left--;
+  let right = i;
+  while (right < rightBase && signal[right] > half) right++;
+  const leftEdge = crossing(x, signal, left, left + 1, half);
+  const rightEdge = crossing(x, signal, right - 1, right, half);
+  const leftHalf = x[i] - leftEdge;
+  const rightHalf = rightEdge - x[i];
+  // Where one side runs into a neighbour before half height, trust the other side.
+  const fwhm = signal[left] > half ? 2 * rightHalf : signal[right] > half ? 2 * leftHalf : leftHalf + rightHalf;
+  return { twoTheta, height, fwhm: fwhm > 0 ? fwhm : x[Math.min(i + 1, x.length - 1)] - x[Math.max(i - 1, 0)] };
+}
+
+/** x where the line through (x[a], s[a]) and (x[b], s[b]) reaches level. */
+function crossing(x: Float64Array, s: Float64Array, a: number, b: number, level: number): number {
+  const ds = s[b] - s[a];
+  if (ds === 0) return 0.5 * (x[a] + x[b]);
+  return x[a] + ((level - s[a]) / ds) * (x[b] - x[a]);
+}

@@ -1,0 +1,194 @@
+/**
+ * Many patterns, one process: a pool of worker threads runs analyzePattern over a file list.
+ * The references, their line index and the instrument profile are sent once at start (the index in
+ * SharedArrayBuffers, read-only); each worker then reads its files itself and answers with the result
+ * already as JSON text, so output is byte-identical whatever the number of workers.
+ */
+import { existsSync } from 'node:fs';
+import { availableParallelism } from 'node:os';
+import { fileURLToPath, pathToFileURL } from 'node:url';
+import { Worker } from 'node:worker_threads';
+import type { StoredReference } from '../core/model/reference.js';
+import { buildReferenceIndex, type ReferenceIndex } from '../core/match/reference-index.js';
+import type { InstrumentProfile } from '../core/size/instrument.js';
+import { checkTarget, createAnalysisContext, type AnalysisContext, type AnalysisSettings } from '../core/analysis/analyse.js';
+
+/** What a batch needs besides the files. */
+export interface BatchSetup {
+  references: readonly StoredReference[];
+  instrument: InstrumentProfile | null;
+  settings: Partial<AnalysisSettings>;
+}
+
+/** The outcome of one file: its result as JSON text, or its error. */
+export interface BatchFileOutcome {
+  /** Position of the file in the input list. */
+  index: number;
+  file: string;
+  json: string | null;
+  error: string | null;
+  /** 'input': the file (or a setting) is at fault; 'internal': a fault of the program. */
+  errorKind: 'input' | 'internal' | null;
+}
+
+export interface BatchOptions {
+  /** Worker threads (default: the number of cores, at most one per file). */
+  workers?: number;
+  /** Called as each file finishes (completion order, not input order). */
+  onOutcome?: (outcome: BatchFileOutcome) => void;
+  /** Keep every result's JSON in the returned list (default true; false when streaming). */
+  keepJson?: boolean;
+  /** The worker module (default: batch-worker.js beside this module, or its compiled copy in dist/). */
+  workerScript?: URL;
+}
+
+/** The setup as it crosses into a worker: plain data and shared buffers only. */
+export interface SharedSetup {
+  references: readonly StoredReference[];
+  instrument: InstrumentProfile | null;
+  settings: Partial<AnalysisSettings>;
+  index: { d: SharedArrayBuffer; referenceOf: SharedArrayBuffer; intensity: SharedArrayBuffer };
+}
+
+export interface WorkerTask {
+  index: number;
+  file: string;
+}
+
+/** A worker says it is ready once its context is built, then answers each task with an outcome. */
+export type WorkerMessage = { ready: true } | BatchFileOutcome;
+
+/** Files a worker holds at once: the next one waits in its queue while it works on the current one. */
+const TASKS_PER_WORKER = 2;
+
+export function defaultWorkerCount(): number {
+  return Math.max(1, availableParallelism());
+}
+
+function shareTyped<T extends Float64Array | Int32Array | Float32Array>(array: T): SharedArrayBuffer {
+  const buffer = new SharedArrayBuffer(array.byteLength);
+  new Uint8Array(buffer).set(new Uint8Array(array.buffer, array.byteOffset, array.byteLength));
+  return buffer;
+}
+
+/** Index the references once and put the index where every worker can read it without a copy. */
+export function shareSetup(setup: BatchSetup): SharedSetup {
+  const index = buildReferenceIndex(setup.references);
+  return {
+    references: setup.references,
+    instrument: setup.instrument,
+    settings: setup.settings,
+    index: { d: shareTyped(index.d), referenceOf: shareTyped(index.referenceOf), intensity: shareTyped(index.intensity) },
+  };
+}
+
+/** The analysis context inside a worker, on the shared index. */
+export function contextFromShared(shared: SharedSetup): AnalysisContext {
+  const index: ReferenceIndex = {
+    references: shared.references,
+    d: new Float64Array(shared.index.d),
+    referenceOf: new Int32Array(shared.index.referenceOf),
+    intensity: new Float32Array(shared.index.intensity),
+  };
+  return createAnalysisContext(shared.references, shared.instrument, shared.settings, index);
+}
+
+/** batch-worker.js beside this module; when running from TypeScript sources, the compiled one in dist/. */
+export function defaultWorkerScript(): URL {
+  const here = new URL('./batch-worker.js', import.meta.url);
+  if (existsSync(fileURLToPath(here))) return here;
+  const source = fileURLToPath(import.meta.url);
+  const compiled = source.replace(/([\\/])src([\\/]node[\\/])batch\.ts$/, '$1dist$1src$2batch-worker.js');
+  return pathToFileURL(compiled);
+}
+
+/**
+ * Analyse every file on a pool of worker threads. Resolves with one outcome per file in input order;
+ * a bad file gives an outcome with its error and the others go on. Rejects only when the workers
+ * cannot start at all.
+ */
+export function analyzeFiles(files: readonly string[], setup: BatchSetup, options: BatchOptions = {}): Promise<BatchFileOutcome[]> {
+  if (files.length === 0) return Promise.resolve([]);
+  // Checked here, in the calling thread, so a bad target fails once and not once per file.
+  checkTarget(setup.references, setup.settings.target ?? null);
+  const shared = shareSetup(setup);
+  const poolSize = Math.max(1, Math.min(options.workers ?? defaultWorkerCount(), files.length));
+  const script = options.workerScript ?? defaultWorkerScript();
+  const keepJson = options.keepJson ?? true;
+  const outcomes: BatchFileOutcome[] = new Array(files.length);
+  let next = 0;
+  let finished = 0;
+  const running = new Set<Worker>();
+
+  return new Promise((resolve, reject) => {
+    let settled = false;
+    const settle = (error: Error | null): void => {
+      if (settled) return;
+      settled = true;
+      for (const worker of running) void worker.terminate();
+      running.clear();
+      if (error) reject(error);
+      else resolve(outcomes);
+    };
+    const record = (outcome: BatchFileOutcome): void => {
+      if (settled) return;
+      options.onOutcome?.(outcome);
+      outcomes[outcome.index] = keepJson ? outcome : { ...outcome, json: null };
+      finished++;
+      if (finished === files.length) settle(null);
+    };
+
+    const startWorker = (): void => {
+      const worker = new Worker(script, { workerData: shared });
+      running.add(worker);
+      const inFlight = new Set<number>();
+      let ready = false;
+      let lost = false;
+      // A second file waits in a worker's queue only while there are more files left than workers,
+      // so no worker sits idle at the end while another still has a file queued.
+      const feed = (): void => {
+        while (next < files.length && (inFlight.size === 0 || (inFlight.size < TASKS_PER_WORKER && files.length - next > running.size))) {
+          const task: WorkerTask = { index: next, file: files[next] };
+          next++;
+          inFlight.add(task.index);
+          worker.postMessage(task);
+        }
+        if (inFlight.size === 0) {
+          running.delete(worker);
+          void worker.terminate();
+        }
+      };
+      const onLost = (reason: string): void => {
+        if (lost || settled) return;
+        lost = true;
+        running.delete(worker);
+        if (!ready) {
+          settle(new Error(`the analysis worker could not start (${script.href}): ${reason}`));
+          return;
+        }
+        for (const index of inFlight) {
+          record({ index, file: files[index], json: null, error: `internal fault: ${reason}`, errorKind: 'internal' });
+        }
+        inFlight.clear();
+        if (next < files.length) startWorker();
+      };
+      worker.on('message', (message: WorkerMessage) => {
+        if ('ready' in message) {
+          ready = true;
+          return;
+        }
+        const outcome = message;
+        inFlight.delete(outcome.index);
+        record(outcome);
+        if (!settled) feed();
+      });
+      worker.on('error', (err) => onLost(err.message));
+      worker.on('exit', (code) => {
+        if (inFlight.size > 0) onLost(`worker stopped with exit code ${code}`);
+      });
+      feed();
+    };
+
+    for (let w = 0; w < poolSize; w++) startWorker();
+  });
+}

@@ -1,0 +1,55 @@
+import { readFileSync } from 'node:fs';
+import { extname } from 'node:path';
+import { InputError } from '../../core/errors.js';
+import type { Wavelength } from '../../core/model/wavelengths.js';
+import { parseReferenceCsv, type CsvReferenceMeta } from '../../core/library/csv-format.js';
+import { referenceFromCif } from '../../core/library/from-crystal.js';
+import { parseReferenceJson } from '../../core/library/json-format.js';
+import type { Reference } from '../../core/model/reference.js';
+
+export interface ReferenceFileOptions {
+  /** CIF: radiation of the computed intensities (default Cu Kα1). CSV: wavelength of a 2θ column. */
+  wavelength?: Wavelength;
+  /** Details a CSV peak list cannot hold in its columns. */
+  csv?: CsvReferenceMeta;
+}
+
+export type ReferenceFileKind = 'json' | 'csv' | 'cif';
+
+/** The kind of a reference file, by its extension, else by its first characters. */
+export function referenceFileKind(text: string, fileName: string): ReferenceFileKind {
+  const ext = extname(fileName).toLowerCase();
+  if (ext === '.json') return 'json';
+  if (ext === '.cif') return 'cif';
+  if (ext === '.csv' || ext === '.txt' || ext === '.tsv') return 'csv';
+  const start = text.replace(/^\uFEFF/, '').trimStart();
+  if (start.startsWith('{') || start.startsWith('[')) return 'json';
+  if (/^(#.*\n\s*)*data_/m.test(start)) return 'cif';
+  return 'csv';
+}
+
+/** References in a file's text: the reference JSON format, a CSV peak list, or a structure CIF. */
+export function parseReferenceFile(text: string, fileName: string, options: ReferenceFileOptions = {}): Reference[] {
+  switch (referenceFileKind(text, fileName)) {
+    case 'json':
+      return parseReferenceJson(text, fileName);
+    case 'cif':
+      return [referenceFromCif(text, fileName, options.wavelength ? { wavelength: options.wavelength } : {})];
+    case 'csv': {
+      const meta: CsvReferenceMeta = { ...options.csv };
+      if (options.wavelength && meta.wavelengthAngstrom === undefined) meta.wavelengthAngstrom = options.wavelength.lambda1;
+      return [parseReferenceCsv(text, fileName, meta)];
+    }
+  }
+}
+
+export function readReferenceFile(path: string, options: ReferenceFileOptions = {}): Reference[] {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (err) {
+    const code = (err as { code?: string }).code;
+    throw new InputError(code === 'ENOENT' ? 'no such file' : `cannot read the file (${code ?? String(err)})`, { file: path });
+  }
+  return parseReferenceFile(text, path, options);
+}

@@ -1,0 +1,78 @@
+import type { Hkl } from '../../core/model/cell.js';
+import type { ReferenceLine } from '../../core/model/reference.js';
+
+/**
+ * Compact storage of a reference's lines, so that loading 100 000 references stays fast:
+ * `values` holds Float64 d[0..n) then intensity[n..2n) (NaN = unknown intensity);
+ * `indices` holds Int32 h, k, l, multiplicity per line (ABSENT where not given), or is null when
+ * no line has any of them. Byte order is the platform's (little-endian on every platform Node ships for).
+ */
+export interface PackedLines {
+  count: number;
+  values: Buffer;
+  indices: Buffer | null;
+}
+
+const ABSENT = -2147483648;
+
+export function packLines(lines: readonly ReferenceLine[]): PackedLines {
+  const n = lines.length;
+  const values = new Float64Array(2 * n);
+  let hasIndices = false;
+  for (let i = 0; i < n; i++) {
+    const line = lines[i]!;
+    values[i] = line.d;
+    values[n + i] = line.intensity ?? Number.NaN;
+    if (line.hkl !== undefined || line.multiplicity !== undefined) hasIndices = true;
+  }
+  let indices: Buffer | null = null;
+  if (hasIndices) {
+    const packed = new Int32Array(4 * n).fill(ABSENT);
+    for (let i = 0; i < n; i++) {
+      const { hkl, multiplicity } = lines[i]!;
+      if (hkl) packed.set(hkl, 4 * i);
+      if (multiplicity !== undefined) packed[4 * i + 3] = multiplicity;
+    }
+    indices = Buffer.from(packed.buffer, packed.byteOffset, packed.byteLength);
+  }
+  return { count: n, values: Buffer.from(values.buffer, values.byteOffset, values.byteLength), indices };
+}
+
+/** d and intensity of the packed lines as typed arrays (intensity NaN = unknown). */
+export function unpackValues(values: Uint8Array, count: number): { d: Float64Array; intensity: Float64Array } {
+  const all = viewAs(Float64Array, values, 2 * count);
+  return { d: all.subarray(0, count), intensity: all.subarray(count, 2 * count) };
+}
+
+export function unpackLines(packed: { count: number; values: Uint8Array; indices: Uint8Array | null }): ReferenceLine[] {
+  const { d, intensity } = unpackValues(packed.values, packed.count);
+  const indices = packed.indices ? viewAs(Int32Array, packed.indices, 4 * packed.count) : null;
+  const lines: ReferenceLine[] = new Array(packed.count);
+  for (let i = 0; i < packed.count; i++) {
+    const value = intensity[i]!;
+    const line: ReferenceLine = { d: d[i]!, intensity: Number.isNaN(value) ? null : value };
+    if (indices) {
+      const h = indices[4 * i]!;
+      if (h !== ABSENT) line.hkl = [h, indices[4 * i + 1]!, indices[4 * i + 2]!] as Hkl;
+      const m = indices[4 * i + 3]!;
+      if (m !== ABSENT) line.multiplicity = m;
+    }
+    lines[i] = line;
+  }
+  return lines;
+}
+
+/** A typed view on stored bytes; copies only when SQLite handed back a misaligned buffer. */
+function viewAs<T extends Float64Array | Int32Array>(
+  Kind: { new (buffer: ArrayBufferLike, byteOffset: number, length: number): T; new (length: number): T; BYTES_PER_ELEMENT: number },
+  bytes: Uint8Array,
+  length: number,
+): T {
+  if (bytes.byteLength !== length * Kind.BYTES_PER_ELEMENT) {
+    throw new Error(`stored line data has ${bytes.byteLength} bytes, expected ${length * Kind.BYTES_PER_ELEMENT}`);
+  }
+  if (bytes.byteOffset % Kind.BYTES_PER_ELEMENT === 0) return new Kind(bytes.buffer, bytes.byteOffset, length);
+  const copy = new Uint8Array(bytes.byteLength);
+  copy.set(bytes);
+  return new Kind(copy.buffer, 0, length);
+}

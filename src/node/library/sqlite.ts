@@ -1,0 +1,110 @@
+import Database from 'better-sqlite3';
+import { existsSync } from 'node:fs';
+import { InputError } from '../../core/errors.js';
+
+export type Db = Database.Database;
+
+/** One schema step: runs inside a transaction and moves the file from version index to index + 1. */
+export type Migration = (db: Db) => void;
+
+export interface OpenDatabaseOptions {
+  /** What the file holds, recorded in its meta table ('reference-library', 'project'). */
+  kind: string;
+  /** Schema steps in order; the file's user_version counts how many have run. */
+  migrations: readonly Migration[];
+  /** Run only the first n migrations (tests of upgrading an older file). */
+  upToVersion?: number;
+  /** How long a write waits for another connection (the app and the CLI at once), ms. */
+  busyTimeoutMs?: number;
+}
+
+/** A wait long enough for another process to finish a large import (common practice for shared SQLite files). */
+export const DEFAULT_BUSY_TIMEOUT_MS = 10_000;
+
+/**
+ * Open (or create) a SQLite file of one kind: WAL journal, foreign keys on, busy timeout, and the
+ * schema brought up to date by the migrations (each in its own transaction; PRAGMA user_version
+ * records how many have run).
+ */
+export function openDatabase(path: string, options: OpenDatabaseOptions): Db {
+  const isNew = path === ':memory:' || !existsSync(path);
+  let db: Db;
+  try {
+    db = new Database(path, { timeout: options.busyTimeoutMs ?? DEFAULT_BUSY_TIMEOUT_MS });
+  } catch (err) {
+    throw new InputError(`cannot open ${options.kind} file: ${errorText(err)}`, { file: path });
+  }
+  try {
+    db.pragma('journal_mode = WAL');
+    db.pragma('foreign_keys = ON');
+    db.pragma('synchronous = NORMAL');
+    migrate(db, path, isNew, options);
+    return db;
+  } catch (err) {
+    db.close();
+    if (err instanceof InputError) throw err;
+    if (isSqliteError(err) && /SQLITE_NOTADB|SQLITE_CORRUPT/.test(err.code)) {
+      throw new InputError(`this is not a Crystallog ${options.kind} file (${err.message})`, { file: path });
+    }
+    throw err;
+  }
+}
+
+function migrate(db: Db, path: string, isNew: boolean, options: OpenDatabaseOptions): void {
+  const target = options.upToVersion ?? options.migrations.length;
+  const current = db.pragma('user_version', { simple: true }) as number;
+  if (current === 0 && !isNew) {
+    const tables = db.prepare(`SELECT count(*) AS n FROM sqlite_schema WHERE type = 'table'`).get() as { n: number };
+    if (tables.n > 0) {
+      throw new InputError(`this SQLite file is not a Crystallog ${options.kind} file (it has tables of its own)`, { file: path });
+    }
+  }
+  if (current > 0) {
+    const kind = readMeta(db, 'kind');
+    if (kind !== options.kind) {
+      throw new InputError(`this file is a Crystallog ${kind ?? 'unknown'} file, not a ${options.kind} file`, { file: path });
+    }
+  }
+  if (current > options.migrations.length) {
+    throw new InputError(
+      `this ${options.kind} file has schema version ${current}, newer than this Crystallog understands (${options.migrations.length}); update Crystallog to open it`,
+      { file: path },
+    );
+  }
+  for (let version = current; version < target; version++) {
+    // IMMEDIATE: take the write lock first, so two processes opening a new file cannot both migrate it.
+    db.transaction(() => {
+      const now = db.pragma('user_version', { simple: true }) as number;
+      if (now !== version) return; // another connection ran this step meanwhile
+      options.migrations[version]!(db);
+      if (version === 0) writeMeta(db, 'kind', options.kind);
+      db.pragma(`user_version = ${version + 1}`);
+    }).immediate();
+  }
+}
+
+/** Every kind of file starts with this table (the first migration of each kind creates it). */
+export const CREATE_META_TABLE = `CREATE TABLE meta (key TEXT PRIMARY KEY, value TEXT NOT NULL) STRICT`;
+
+export function readMeta(db: Db, key: string): string | undefined {
+  const hasMeta = db.prepare(`SELECT 1 FROM sqlite_schema WHERE type = 'table' AND name = 'meta'`).get() !== undefined;
+  if (!hasMeta) return undefined;
+  const row = db.prepare('SELECT value FROM meta WHERE key = ?').get(key) as { value: string } | undefined;
+  return row?.value;
+}
+
+export function writeMeta(db: Db, key: string, value: string): void {
+  db.prepare('INSERT INTO meta (key, value) VALUES (?, ?) ON CONFLICT (key) DO UPDATE SET value = excluded.value').run(key, value);
+}
+
+export function schemaVersion(db: Db): number {
+  return db.pragma('user_version', { simple: true }) as number;
+}
+
+function isSqliteError(err: unknown): err is Error & { code: string } {
+  return err instanceof Error && typeof (err as { code?: unknown }).code === 'string';
+}
+
+function errorText(err: unknown): string {
+  return err instanceof Error ? err.message : String(err);
+}

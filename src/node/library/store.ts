@@ -1,0 +1,394 @@
+import type { Statement } from 'better-sqlite3';
+import { InputError } from '../../core/errors.js';
+import { formatReferenceJson, toFileEntry } from '../../core/library/json-format.js';
+import { packLines, unpackLines, unpackValues, type PackedLines } from './packing.js';
+import type { Reference, ReferenceLine, StoredReference } from '../../core/model/reference.js';
+import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from './schema.js';
+import { openDatabase, readMeta, schemaVersion, writeMeta, type Db } from './sqlite.js';
+import { checkReferences, contentHash } from '../../core/library/validate.js';
+
+export { parseReferenceJson, formatReferenceJson } from '../../core/library/json-format.js';
+export { parseReferenceCsv, type CsvReferenceMeta } from '../../core/library/csv-format.js';
+
+/** What an import did, by reference name. */
+export interface ImportSummary {
+  /** New names. */
+  added: string[];
+  /** Names that got a new version (changed content, or re-imported after a delete). */
+  updated: string[];
+  /** Names whose current version already had exactly this content (no new version). */
+  unchanged: string[];
+}
+
+/** One version in a reference's history. */
+export interface ReferenceVersionInfo {
+  id: number;
+  name: string;
+  version: number;
+  createdAt: string;
+  /** What made this version: "import", "edit", "restore of version 2", "seed". */
+  change: string;
+  lineCount: number;
+  /** The version in use (when the reference is not deleted). */
+  current: boolean;
+  /** The reference as a whole is deleted (recoverable with undelete or restore). */
+  deleted: boolean;
+}
+
+export interface ListFilter {
+  /** Part of the name or formula, any case. */
+  search?: string;
+  /** A tag, any case. */
+  tag?: string;
+}
+
+export interface OpenLibraryOptions {
+  /** How long a write waits for another connection to finish, ms. */
+  busyTimeoutMs?: number;
+}
+
+/** A version row in raw (array) form, in the order of VERSION_COLUMNS: faster to read in bulk than objects. */
+type VersionRow = [
+  id: number,
+  version: number,
+  name: string,
+  source: string,
+  details: string,
+  createdAt: string,
+  lineCount: number,
+  lineValues: Buffer,
+  lineIndices: Buffer | null,
+];
+
+/** The fields of a version kept in its `details` JSON. */
+interface VersionDetails {
+  formula: string;
+  tags: string[];
+  notes?: string;
+  rir?: number;
+  cell?: Reference['cell'];
+  intensityBasis?: string;
+}
+
+const VERSION_COLUMNS = `v.entry_id AS id, v.version, v.name, v.source, v.details, v.created_at, v.line_count, v.line_values, v.line_indices`;
+const CURRENT = `FROM reference_entry e JOIN reference_version v ON v.entry_id = e.id AND v.version = e.current_version
+  WHERE e.deleted_at IS NULL`;
+
+/**
+ * The reference library: one SQLite file (WAL, so the app and the CLI can use it at once).
+ * Every change is a new version in one transaction; old versions stay readable and restorable,
+ * and delete only marks the reference, so nothing is ever lost.
+ */
+export class ReferenceLibrary {
+  private readonly statements: ReturnType<typeof prepareStatements>;
+  /** Writes through this connection (another connection's are seen in PRAGMA data_version). */
+  private writes = 0;
+  private cache: { dataVersion: number; writes: number; refs: StoredReference[] } | null = null;
+
+  private constructor(
+    private readonly db: Db,
+    readonly path: string,
+  ) {
+    this.statements = prepareStatements(db);
+  }
+
+  static open(path: string, options: OpenLibraryOptions = {}): ReferenceLibrary {
+    const db = openDatabase(path, { kind: LIBRARY_KIND, migrations: LIBRARY_MIGRATIONS, ...options });
+    return new ReferenceLibrary(db, path);
+  }
+
+  get schemaVersion(): number {
+    return schemaVersion(this.db);
+  }
+
+  /** Store references (all or nothing): new names are added, changed ones get a new version. */
+  importReferences(refs: readonly Reference[], options: { change?: string } = {}): ImportSummary {
+    const checked = checkReferences(refs);
+    const seen = new Set<string>();
+    for (const ref of checked) {
+      const key = ref.name.toLowerCase();
+      if (seen.has(key)) throw new InputError(`the reference "${ref.name}" appears twice in one import; each name may appear once`);
+      seen.add(key);
+    }
+    const change = options.change ?? 'import';
+    return this.write(() => {
+      const summary: ImportSummary = { added: [], updated: [], unchanged: [] };
+      for (const ref of checked) summary[this.storeVersion(ref, change)].push(ref.name);
+      return summary;
+    });
+  }
+
+  /** Change some fields of a reference (not its name): a new version, the old one kept. */
+  edit(name: string, changes: Partial<Omit<Reference, 'name'>>): StoredReference {
+    const current = this.requireCurrent(name);
+    const { id: _id, version: _version, createdAt: _createdAt, ...base } = current;
+    const [next] = checkReferences([{ ...base, lines: current.lines, ...changes, name: current.name }], `edit of "${current.name}"`);
+    this.write(() => this.storeVersion(next!, 'edit'));
+    return this.requireCurrent(name);
+  }
+
+  /** Current versions, sorted by name, optionally filtered by part of the name/formula and by tag. */
+  list(filter: ListFilter = {}): StoredReference[] {
+    const search = filter.search?.trim();
+    const tag = filter.tag?.trim();
+    const pattern = search ? `%${search.replace(/[\\%_]/g, (c) => `\\${c}`)}%` : null;
+    if (tag) return this.statements.listByTag.all({ tag, pattern }).map(storedFromRow);
+    if (pattern) return this.statements.listBySearch.all({ pattern }).map(storedFromRow);
+    return this.all();
+  }
+
+  /**
+   * Every current reference, sorted by name: one query, lines decoded on first use. Kept in memory
+   * until this or another connection changes the library (treat the objects as read-only).
+   */
+  all(): StoredReference[] {
+    const dataVersion = this.db.pragma('data_version', { simple: true }) as number;
+    const cached = this.cache;
+    if (cached && cached.dataVersion === dataVersion && cached.writes === this.writes) return cached.refs.slice();
+    const refs = this.statements.all.all().map(storedFromRow);
+    this.cache = { dataVersion, writes: this.writes, refs };
+    return refs.slice();
+  }
+
+  /**
+   * The current version of a reference, or a given version (readable even after it was replaced
+   * or the reference deleted). null when there is no such reference or version.
+   */
+  get(name: string, version?: number): StoredReference | null {
+    const key = name.trim();
+    const row = version === undefined ? this.statements.current.get(key) : this.statements.versionByName.get(key, version);
+    return row ? storedFromRow(row) : null;
+  }
+
+  /** Whether the name is in the library at all (deleted references included). */
+  exists(name: string): boolean {
+    return this.statements.entryByName.get(name.trim()) !== undefined;
+  }
+
+  /** A version by the reference's id, as recorded with an analysis. */
+  getVersion(id: number, version: number): StoredReference | null {
+    const row = this.statements.versionById.get(id, version);
+    return row ? storedFromRow(row) : null;
+  }
+
+  /** Every version of a reference, oldest first (also for a deleted reference). */
+  history(name: string): ReferenceVersionInfo[] {
+    const entry = this.requireEntry(name);
+    return this.statements.history.all(entry.id).map((row) => ({
+      id: entry.id,
+      name: row.name,
+      version: row.version,
+      createdAt: row.created_at,
+      change: row.change,
+      lineCount: row.line_count,
+      current: row.version === entry.current_version && entry.deleted_at === null,
+      deleted: entry.deleted_at !== null,
+    }));
+  }
+
+  /** Delete a reference (recoverable: undelete or restore brings it back with its history). */
+  remove(name: string): void {
+    const entry = this.requireEntry(name);
+    if (entry.deleted_at !== null) throw new InputError(`the reference "${entry.name}" is already deleted`);
+    this.write(() => this.statements.markDeleted.run(new Date().toISOString(), entry.id));
+  }
+
+  /** Bring back a deleted reference as it was. */
+  undelete(name: string): StoredReference {
+    const entry = this.requireEntry(name);
+    if (entry.deleted_at === null) throw new InputError(`the reference "${entry.name}" is not deleted`);
+    this.write(() => this.statements.markDeleted.run(null, entry.id));
+    return this.requireCurrent(name);
+  }
+
+  /** Make an old version current again, as a new version that copies it (the history stays linear). */
+  restore(name: string, version: number): StoredReference {
+    const old = this.get(name, version);
+    if (!old) {
+      const versions = this.history(name).map((v) => v.version);
+      throw new InputError(`the reference "${name}" has no version ${version}; its versions are ${versions.join(', ')}`);
+    }
+    const { id: _id, version: _version, createdAt: _createdAt, ...content } = old;
+    this.write(() => this.storeVersion({ ...content, lines: old.lines }, `restore of version ${version}`));
+    return this.requireCurrent(name);
+  }
+
+  /** Current references in the reference file format (what `library export` writes). */
+  exportReferences(): Reference[] {
+    return this.all().map(toFileEntry);
+  }
+
+  exportJson(): string {
+    return formatReferenceJson(this.exportReferences());
+  }
+
+  count(): number {
+    return this.statements.count.get()!.n;
+  }
+
+  /** The library's own notes (e.g. whether the seed references were loaded). */
+  getMeta(key: string): string | undefined {
+    return readMeta(this.db, key);
+  }
+
+  setMeta(key: string, value: string): void {
+    this.write(() => writeMeta(this.db, key, value));
+  }
+
+  /** Run several changes as one transaction (writes taken first, so two processes queue cleanly). */
+  transaction<T>(work: () => T): T {
+    return this.write(work);
+  }
+
+  close(): void {
+    if (this.db.open) this.db.close();
+  }
+
+  private write<T>(work: () => T): T {
+    this.writes++;
+    return this.db.transaction(work).immediate();
+  }
+
+  /** Add one checked reference as a new version when its content differs from the current one. */
+  private storeVersion(ref: Reference, change: string): keyof ImportSummary {
+    const s = this.statements;
+    const hash = contentHash(ref);
+    const entry = s.entryByName.get(ref.name);
+    let entryId: number;
+    let version: number;
+    let outcome: keyof ImportSummary;
+    if (!entry) {
+      entryId = Number(s.insertEntry.run(ref.name).lastInsertRowid);
+      version = 1;
+      outcome = 'added';
+    } else {
+      if (entry.deleted_at === null && s.currentHash.get(entry.id)?.content_hash === hash) return 'unchanged';
+      entryId = entry.id;
+      version = s.lastVersion.get(entry.id)!.last + 1;
+      outcome = 'updated';
+    }
+    const packed = packLines(ref.lines);
+    s.insertVersion.run({
+      entry_id: entryId,
+      version,
+      name: ref.name,
+      source: ref.source,
+      details: JSON.stringify(detailsOf(ref)),
+      line_count: packed.count,
+      line_values: packed.values,
+      line_indices: packed.indices,
+      content_hash: hash,
+      change,
+      created_at: new Date().toISOString(),
+    });
+    s.setCurrent.run(version, ref.name, ref.formula, entryId);
+    if (outcome === 'updated') s.clearTags.run(entryId);
+    for (const tag of ref.tags) s.insertTag.run(entryId, tag);
+    return outcome;
+  }
+
+  private requireEntry(name: string): EntryRow {
+    const entry = this.statements.entryByName.get(name.trim());
+    if (!entry) throw new InputError(`there is no reference named "${name}" in the library`);
+    return entry;
+  }
+
+  private requireCurrent(name: string): StoredReference {
+    const entry = this.requireEntry(name);
+    if (entry.deleted_at !== null) throw new InputError(`the reference "${entry.name}" is deleted; undelete or restore it first`);
+    return this.get(name)!;
+  }
+}
+
+interface EntryRow {
+  id: number;
+  name: string;
+  current_version: number;
+  deleted_at: string | null;
+}
+
+function prepareStatements(db: Db) {
+  const rows = (sql: string) => (db.prepare(sql) as Statement<unknown[], VersionRow>).raw();
+  return {
+    all: rows(`SELECT ${VERSION_COLUMNS} ${CURRENT} ORDER BY e.name`),
+    listBySearch: rows(`SELECT ${VERSION_COLUMNS} ${CURRENT} AND (e.name LIKE @pattern ESCAPE '\\' OR e.formula LIKE @pattern ESCAPE '\\') ORDER BY e.name`),
+    listByTag: rows(`SELECT ${VERSION_COLUMNS} FROM reference_tag t JOIN reference_entry e ON e.id = t.entry_id
+      JOIN reference_version v ON v.entry_id = e.id AND v.version = e.current_version
+      WHERE t.tag = @tag AND e.deleted_at IS NULL AND (@pattern IS NULL OR e.name LIKE @pattern ESCAPE '\\' OR e.formula LIKE @pattern ESCAPE '\\')
+      ORDER BY e.name`),
+    current: rows(`SELECT ${VERSION_COLUMNS} ${CURRENT} AND e.name = ?`),
+    versionByName: rows(`SELECT ${VERSION_COLUMNS} FROM reference_entry e JOIN reference_version v ON v.entry_id = e.id
+      WHERE e.name = ? AND v.version = ?`),
+    versionById: rows(`SELECT ${VERSION_COLUMNS} FROM reference_version v WHERE v.entry_id = ? AND v.version = ?`),
+    history: db.prepare(`SELECT version, name, change, line_count, created_at FROM reference_version WHERE entry_id = ? ORDER BY version`) as Statement<
+      [number],
+      { version: number; name: string; change: string; line_count: number; created_at: string }
+    >,
+    count: db.prepare(`SELECT count(*) AS n FROM reference_entry WHERE deleted_at IS NULL`) as Statement<[], { n: number }>,
+    entryByName: db.prepare(`SELECT id, name, current_version, deleted_at FROM reference_entry WHERE name = ?`) as Statement<[string], EntryRow>,
+    currentHash: db.prepare(`SELECT v.content_hash FROM reference_entry e JOIN reference_version v
+      ON v.entry_id = e.id AND v.version = e.current_version WHERE e.id = ?`) as Statement<[number], { content_hash: string }>,
+    lastVersion: db.prepare(`SELECT max(version) AS last FROM reference_version WHERE entry_id = ?`) as Statement<[number], { last: number }>,
+    insertEntry: db.prepare(`INSERT INTO reference_entry (name, current_version) VALUES (?, 1)`),
+    insertVersion: db.prepare(`INSERT INTO reference_version (entry_id, version, name, source, details, line_count, line_values,
+      line_indices, content_hash, change, created_at) VALUES (@entry_id, @version, @name, @source, @details, @line_count,
+      @line_values, @line_indices, @content_hash, @change, @created_at)`),
+    setCurrent: db.prepare(`UPDATE reference_entry SET current_version = ?, name = ?, formula = ?, deleted_at = NULL WHERE id = ?`),
+    markDeleted: db.prepare(`UPDATE reference_entry SET deleted_at = ? WHERE id = ?`),
+    clearTags: db.prepare(`DELETE FROM reference_tag WHERE entry_id = ?`),
+    insertTag: db.prepare(`INSERT OR IGNORE INTO reference_tag (entry_id, tag) VALUES (?, ?)`),
+  };
+}
+
+function detailsOf(ref: Reference): VersionDetails {
+  const details: VersionDetails = { formula: ref.formula, tags: ref.tags };
+  if (ref.notes !== undefined) details.notes = ref.notes;
+  if (ref.rir !== undefined && ref.rir !== null) details.rir = ref.rir;
+  if (ref.cell) details.cell = ref.cell;
+  if (ref.intensityBasis !== undefined) details.intensityBasis = ref.intensityBasis;
+  return details;
+}
+
+/** Packed lines of references read from a store, for `lineArrays` (no per-line objects needed). */
+const packedOf = new WeakMap<object, PackedLines>();
+
+/**
+ * A stored reference from its row. Its `lines` are decoded from the packed arrays on first use,
+ * so loading many references for a screen that reads only their typed arrays stays fast.
+ */
+function storedFromRow([id, version, name, source, detailsJson, createdAt, count, values, indices]: VersionRow): StoredReference {
+  const packed: PackedLines = { count, values, indices };
+  const details = JSON.parse(detailsJson) as VersionDetails;
+  let lines: ReferenceLine[] | null = null;
+  const ref: StoredReference = {
+    id,
+    version,
+    createdAt,
+    name,
+    formula: details.formula,
+    tags: details.tags,
+    source,
+    get lines(): ReferenceLine[] {
+      return (lines ??= unpackLines(packed));
+    },
+    set lines(value: ReferenceLine[]) {
+      lines = value;
+      packedOf.delete(ref);
+    },
+  };
+  if (details.notes !== undefined) ref.notes = details.notes;
+  if (details.rir !== undefined) ref.rir = details.rir;
+  if (details.cell) ref.cell = details.cell;
+  if (details.intensityBasis !== undefined) ref.intensityBasis = details.intensityBasis;
+  packedOf.set(ref, packed);
+  return ref;
+}
+
+/**
+ * d (Å) and relative intensity (NaN = unknown) of a reference's lines as typed arrays; views on the
+ * stored bytes for references loaded from a library (no copy, no per-line objects).
+ */
+export function lineArrays(ref: Reference): { d: Float64Array; intensity: Float64Array } {
+  const packed = packedOf.get(ref) ?? packLines(ref.lines);
+  return unpackValues(packed.values, packed.count);
+}
