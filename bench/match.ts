@@ -84,7 +84,7 @@ function timeMatches(patterns: PreparedPattern[], index: ReferenceIndex, withTar
         ...(withTarget ? { target: p.target } : {}),
       });
       times.push(performance.now() - start);
-      if (repeat === 0 && result.phases.some((ph) => ph.name === p.target && ph.verdict === 'confirmed')) confirmedTargets++;
+      if (repeat === 0 && result.phases.some((ph) => ph.name === p.target && ph.verdict === 'present')) confirmedTargets++;
     }
   }
   return { times, confirmedTargets };

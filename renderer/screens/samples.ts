@@ -32,7 +32,7 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
   const detail = await sampleDetail(id);
   const overlays: SampleDetail[] = [];
   for (const other of app.overlays) if (other !== id && project.samples.some((s) => s.id === other)) overlays.push(await sampleDetail(other));
-  const presentPhases = (detail.match?.phases ?? []).filter((p) => p.verdict !== 'absent').map((p) => p.name);
+  const presentPhases = (detail.match?.phases ?? []).filter((p) => p.verdict !== 'not-seen').map((p) => p.name);
   const checked = app.checked ?? new Set(presentPhases);
   const refLines = checked.size ? await call('library.lines', { names: [...checked] }) : [];
 
@@ -102,7 +102,7 @@ function marks(detail: SampleDetail): PeakMark[] {
   const bg = detail.background ? decodeFloats(detail.background) : y;
   const out: PeakMark[] = [];
   const lowAngleOfPhase = new Map(detail.lowAnglePeaks.filter((p) => p.phase !== null).map((p) => [p.twoTheta, p.phase!]));
-  for (const phase of detail.match.phases.filter((p) => p.verdict !== 'absent')) {
+  for (const phase of detail.match.phases.filter((p) => p.verdict !== 'not-seen')) {
     for (const line of phase.lines) {
       const low = lowAngleOfPhase.get(line.twoThetaMeasured) === phase.name;
       out.push({ twoTheta: line.twoThetaMeasured, y: y[nearestIndex(x, line.twoThetaMeasured)]!, kind: low ? 'low-angle' : 'matched', label: `${low ? 'Low-angle peak of ' : ''}${phase.name} ${hklText(line.hkl)} at ${line.twoThetaMeasured.toFixed(3)}°` });

@@ -34,7 +34,7 @@ export function buildSeriesView(workspace: Workspace, by: 'variant' | 'time'): S
     notes.push(`${err.message}. Re-analyse the samples (Settings → Save and re-analyse) to compare them.`);
   }
   const rows: SeriesRowView[] = members.map(({ record, summary, result }, i) => {
-    const targetPhase = target ? result!.match.phases.find((p) => p.name.toLowerCase() === target.toLowerCase() && p.verdict !== 'absent') : undefined;
+    const targetPhase = target ? result!.match.phases.find((p) => p.name.toLowerCase() === target.toLowerCase() && p.verdict !== 'not-seen') : undefined;
     const others = series?.rows[i]?.otherPhases ?? [];
     return {
       sampleId: record.id,

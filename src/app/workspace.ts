@@ -278,7 +278,7 @@ export class Workspace {
     const result = saved?.result ?? null;
     const curves = result ? this.curvesOf(id, pattern, result) : null;
     const lowAngleList = result ? lowAnglePeaks(result.match, this.project().doc.analysis.target) : [];
-    const linesOfPresent = (result?.match.phases ?? []).filter((p) => p.verdict !== 'absent').flatMap((p) => p.lines.map((l) => ({ at: l.twoThetaMeasured, phase: p.name })));
+    const linesOfPresent = (result?.match.phases ?? []).filter((p) => p.verdict !== 'not-seen').flatMap((p) => p.lines.map((l) => ({ at: l.twoThetaMeasured, phase: p.name })));
     // The match reports positions rounded to 0.0001°: a peak and a line are the same within that.
     const near = (a: number, b: number): boolean => Math.abs(a - b) < 6e-4;
     const peaks: PeakView[] = (result?.peaks ?? []).map((p) => ({

@@ -6,7 +6,7 @@ import { renderCsvReport, renderHtmlReport, type ReportInput } from '../../src/c
 
 function phase(name: string, verdict: PhaseMatch['verdict'], lines: Array<[number, boolean?]>): PhaseMatch {
   return {
-    name, formula: name, tags: [], score: verdict === 'absent' ? 0.1 : 0.9, verdict, matchedLines: lines.length, missingStrongLines: [], weightFraction: null,
+    name, formula: name, tags: [], score: verdict === 'not-seen' ? 0.1 : 0.9, verdict, matchedLines: lines.length, missingStrongLines: [], weightFraction: null,
     quantification: 'not quantified', parts: { position: 1, intensityFound: 1, missingStrong: 1, relativeIntensity: 1, explained: 1 }, scale: 1, explainedAreaShare: 0.5, meanResidualDeg: 0.01,
     lines: lines.map(([tt, shared]) => ({ d: 1, intensity: 50, twoThetaExpected: tt, twoThetaMeasured: tt, shared: shared ?? false })), reasons: [],
   };
@@ -18,24 +18,24 @@ function match(phases: PhaseMatch[], extra: Partial<MatchResult> = {}): MatchRes
 
 describe('the verdict at a glance', () => {
   it('is "target" when the target is present and nothing else is', () => {
-    expect(sampleVerdict(match([phase('A', 'confirmed', [[14], [28]])]), 'A').verdict).toBe('target');
+    expect(sampleVerdict(match([phase('A', 'present', [[14], [28]])]), 'A').verdict).toBe('target');
   });
 
   it('notices another phase with peaks of its own', () => {
-    expect(sampleVerdict(match([phase('A', 'confirmed', [[14]]), phase('B', 'possible', [[8.5]])]), 'A').verdict).toBe('target with extra peaks');
+    expect(sampleVerdict(match([phase('A', 'present', [[14]]), phase('B', 'uncertain', [[8.5]])]), 'A').verdict).toBe('target with extra peaks');
   });
 
   it('does not count a phase whose every line is shared with the target', () => {
-    expect(sampleVerdict(match([phase('A', 'confirmed', [[14]]), phase('A twin', 'confirmed', [[14, true]])]), 'A').verdict).toBe('target');
+    expect(sampleVerdict(match([phase('A', 'present', [[14]]), phase('A twin', 'present', [[14, true]])]), 'A').verdict).toBe('target');
   });
 
   it('is "not the target" when the target is judged absent, and "featureless" when nothing shows', () => {
-    expect(sampleVerdict(match([phase('A', 'absent', [])]), 'A').verdict).toBe('not the target');
+    expect(sampleVerdict(match([phase('A', 'not-seen', [])]), 'A').verdict).toBe('not the target');
     expect(sampleVerdict(match([], { featureless: true }), 'A').verdict).toBe('featureless');
   });
 
   it('counts peaks of other phases below the target’s first line as low-angle', () => {
-    const m = match([phase('A', 'confirmed', [[14], [28]]), phase('hydrate', 'confirmed', [[8.5], [30]])], { unexplained: [{ twoTheta: 6, d: 14.7, height: 50, lowAngle: true, possibleSources: [] }] });
+    const m = match([phase('A', 'present', [[14], [28]]), phase('hydrate', 'present', [[8.5], [30]])], { unexplained: [{ twoTheta: 6, d: 14.7, height: 50, lowAngle: true, possibleSources: [] }] });
     expect(lowAnglePeaks(m, 'A')).toEqual([
       { twoTheta: 6, d: 14.7, phase: null },
       { twoTheta: 8.5, d: 1, phase: 'hydrate' },
@@ -57,7 +57,7 @@ describe('reports', () => {
   const input: ReportInput = {
     appVersion: '9.9.9', createdAt: '2026-01-02T03:04:05.000Z', projectName: 'Batch "7", <wet>', demo: false, truth: null,
     settings: [['wavelength', 'Cu']], instrument: null, references: [{ name: 'A', version: 3 }],
-    samples: [{ name: 'a,b', fileName: 'a.xy', sha256: 'f'.repeat(64), variant: 'washed', hours: null, simulated: false, verdict: 'target', phase: 'A', phaseVerdict: 'confirmed', score: 0.9, lowAngle: [], unexplainedCount: 0, sizeNm: 40, sizeSigmaNm: 2, sizeLimit: null, whSizeNm: null, whStrain: null, wavelength: 'Cu', reasons: ['<b>'], warnings: [] }],
+    samples: [{ name: 'a,b', fileName: 'a.xy', sha256: 'f'.repeat(64), variant: 'washed', hours: null, simulated: false, verdict: 'target', phase: 'A', phaseVerdict: 'present', score: 0.9, lowAngle: [], unexplainedCount: 0, sizeNm: 40, sizeSigmaNm: 2, sizeLimit: null, whSizeNm: null, whStrain: null, wavelength: 'Cu', reasons: ['<b>'], warnings: [] }],
     variants: [], exposure: [], comparisons: [], growth: [], cautions: ['careful'],
   };
 

@@ -34,10 +34,10 @@ const pattern = simulatePattern({
 describe('analyzePattern', () => {
   it('finds the target and the extra phase, sizes the target, and records the settings and reference versions', () => {
     const result = analyzePattern(pattern, createAnalysisContext(references, null, { target: 'product' }));
-    const verdict = (name: string) => result.match.phases.find((p) => p.name === name)?.verdict ?? 'absent';
-    expect(verdict('product')).toBe('confirmed');
-    expect(verdict('hydrate')).not.toBe('absent');
-    expect(verdict('unrelated')).toBe('absent');
+    const verdict = (name: string) => result.match.phases.find((p) => p.name === name)?.verdict ?? 'not-seen';
+    expect(verdict('product')).toBe('present');
+    expect(verdict('hydrate')).not.toBe('not-seen');
+    expect(verdict('unrelated')).toBe('not-seen');
     expect(result.points).toBe(pattern.x.length);
     expect(result.settings).toMatchObject({ target: 'product', sizePhase: 'product', toleranceDeg: 0.1, k: 0.9, breadth: 'fwhm', instrument: null });
     expect(result.size.settings.phase).toEqual({ name: 'product', version: 3 });

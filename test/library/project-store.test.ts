@@ -52,13 +52,13 @@ describe('the project file', () => {
     expect(store.getSettings()).toEqual({ wavelength: 'Cu', toleranceDeg: 0.1 });
 
     const { id } = store.addSample({ fileName: 'a.xy', bytes: new Uint8Array([1]) });
-    store.saveResult(id, { verdict: 'possible', background: new Float64Array([1.5, 2]) }, [used]);
-    const second = store.saveResult(id, { verdict: 'confirmed' }, [used]);
+    store.saveResult(id, { verdict: 'uncertain', background: new Float64Array([1.5, 2]) }, [used]);
+    const second = store.saveResult(id, { verdict: 'present' }, [used]);
     const latest = store.latestResult(id)!;
-    expect(latest.result).toEqual({ verdict: 'confirmed' });
+    expect(latest.result).toEqual({ verdict: 'present' });
     expect(latest.referencesUsed).toEqual([{ id: used.id, version: 1, name: 'target phase' }]);
     expect(latest.id).toBe(second.id);
-    expect(store.resultHistory(id).map((r) => r.result)).toEqual([{ verdict: 'possible', background: [1.5, 2] }, { verdict: 'confirmed' }]);
+    expect(store.resultHistory(id).map((r) => r.result)).toEqual([{ verdict: 'uncertain', background: [1.5, 2] }, { verdict: 'present' }]);
     expect(() => store.saveResult(999, {})).toThrow(/no sample 999/);
     store.removeSample(id);
     expect(store.latestResult(id)).toBeNull();

@@ -26,7 +26,7 @@ describe('seed references', () => {
 
   it('reads every JSON file of the folder in name order and none when the folder is missing', () => {
     expect(loadSeedReferences(seedDir()).map((r) => r.name)).toEqual(['alpha', 'beta', 'silicon']);
-    expect(loadSeedReferences(join(tempDir(), 'absent'))).toEqual([]);
+    expect(loadSeedReferences(join(tempDir(), 'not-seen'))).toEqual([]);
   });
 
   it('refuses the same name in two seed files, naming the second', () => {

@@ -29,9 +29,9 @@ describe('look-alike pairs', () => {
       const result = runCase(c, library);
       const found = result.phases.find((p) => p.name === truth.reference.name);
       const rival = result.phases.find((p) => p.name === other.reference.name);
-      const apart = found?.verdict === 'confirmed' && rival?.verdict !== 'confirmed' && (rival === undefined || rival.score < found.score);
+      const apart = found?.verdict === 'present' && rival?.verdict !== 'present' && (rival === undefined || rival.score < found.score);
       if (apart) toldApart++;
-      if (apart && (rival === undefined || rival.verdict === 'absent')) strict++;
+      if (apart && (rival === undefined || rival.verdict === 'not-seen')) strict++;
       if (!apart) {
         failures.push(
           `case ${i}: ${truth.reference.name} ${c.phases[0].sizeNm}nm r${c.phases[0].marchDollaseR} zero ${c.zeroDeg.toFixed(3)} disp ${c.displacementCosDeg.toFixed(3)} counts ${c.peakCounts} → ` +

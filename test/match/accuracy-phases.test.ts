@@ -39,16 +39,16 @@ describe('phase verdicts on simulated mixtures', () => {
       const c: SimulatedCase = { phases: casePhases, ...draw.shift(), peakCounts: draw.counts(), seed: 9000 + i };
       const target = order[0].reference.name;
       const result = runCase(c, library, target);
-      const verdict = (name: string): string => result.phases.find((p) => p.name === name)?.verdict ?? 'absent';
+      const verdict = (name: string): string => result.phases.find((p) => p.name === name)?.verdict ?? 'not-seen';
       const describeCase = (): string =>
         `case ${i}: ${casePhases.map((p) => `${p.phase.reference.name} ${(100 * p.weightFraction).toFixed(0)}% ${p.sizeNm}nm r${p.marchDollaseR}`).join(' + ')}, ` +
         `zero ${c.zeroDeg.toFixed(3)} disp ${c.displacementCosDeg.toFixed(3)} counts ${c.peakCounts} → ` +
         result.phases.map((p) => `${p.name}:${p.verdict}:${p.score.toFixed(2)}`).join(' ');
       targetCases++;
-      if (verdict(target) === 'confirmed') targetConfirmed++;
+      if (verdict(target) === 'present') targetConfirmed++;
       else failures.push(`target not confirmed, ${describeCase()}`);
       minors.forEach((m, k) => {
-        const present = verdict(m.phase.reference.name) !== 'absent';
+        const present = verdict(m.phase.reference.name) !== 'not-seen';
         if (m.w >= 0.05) {
           minorAllCases++;
           if (present) minorAllFound++;
@@ -56,7 +56,7 @@ describe('phase verdicts on simulated mixtures', () => {
           minorCases++;
           if (present) minorFound++;
           else failures.push(`minor missed, ${describeCase()}`);
-          if (verdict(m.phase.reference.name) === 'confirmed') minorConfirmed++;
+          if (verdict(m.phase.reference.name) === 'present') minorConfirmed++;
         } else {
           minor2Cases++;
           if (present) minor2Found++;
@@ -66,11 +66,11 @@ describe('phase verdicts on simulated mixtures', () => {
       for (const p of library) {
         if (inCase.has(p.name)) continue;
         absentJudgements++;
-        if (verdict(p.name) === 'confirmed') {
+        if (verdict(p.name) === 'present') {
           absentConfirmed++;
           failures.push(`absent phase ${p.name} confirmed, ${describeCase()}`);
         }
-        if (verdict(p.name) === 'possible') absentPossible++;
+        if (verdict(p.name) === 'uncertain') absentPossible++;
       }
     }
     const lines = [
@@ -106,7 +106,7 @@ describe('phase verdicts on simulated mixtures', () => {
         seed: 12000 + i,
       };
       const result = runCase(c, library, phase.reference.name);
-      if (result.phases.some((p) => p.verdict === 'confirmed')) confirmed++;
+      if (result.phases.some((p) => p.verdict === 'present')) confirmed++;
       expect(result.reasons.join(' ')).toMatch(/no phase claim|too few to confirm|No reference explains/);
     }
     console.log(`featureless or attenuated patterns with a phase confirmed: ${rate(confirmed, cases)} (target 0)`);

@@ -61,10 +61,10 @@ describe('crystallog match', () => {
     expect(names).toEqual(expect.arrayContaining(['zno', 'rutile']));
     for (const p of result.phases) {
       expect(Object.keys(p)).toEqual(expect.arrayContaining(['name', 'score', 'verdict', 'matchedLines', 'missingStrongLines', 'weightFraction', 'reasons']));
-      expect(['confirmed', 'possible', 'absent']).toContain(p.verdict);
+      expect(['present', 'uncertain', 'not-seen']).toContain(p.verdict);
     }
     const zincite = result.phases.find((p: { name: string }) => p.name === 'zno');
-    expect(zincite.verdict).toBe('confirmed');
+    expect(zincite.verdict).toBe('present');
     expect(zincite.weightFraction).toBeGreaterThan(0.8);
     expect(Array.isArray(result.unexplained)).toBe(true);
     for (const u of result.unexplained) expect(Object.keys(u)).toEqual(expect.arrayContaining(['twoTheta', 'd', 'height', 'lowAngle']));

@@ -29,18 +29,18 @@ describe('a single phase', () => {
     const peaks = peaksOf([{ lines: target.lines, scale: 10 }], L);
     const result = matchPhases(peaks, library, { wavelength: cu, background });
     expect(result.phases[0].name).toBe('target-A');
-    expect(result.phases[0].verdict).toBe('confirmed');
+    expect(result.phases[0].verdict).toBe('present');
     expect(result.phases[0].matchedLines).toBe(12);
     expect(result.phases[0].missingStrongLines).toEqual([]);
     expect(result.unexplained).toEqual([]);
-    expect(verdictOf(result, 'stranger-C') ?? 'absent').toBe('absent');
+    expect(verdictOf(result, 'stranger-C') ?? 'not-seen').toBe('not-seen');
     expect(result.phases.every((p, i) => i === 0 || p.score <= result.phases[i - 1].score)).toBe(true);
   });
 
   it('refines a zero offset of 0.08° and reports it', () => {
     const peaks = peaksOf([{ lines: target.lines, scale: 10 }], L, { zeroDeg: 0.08 });
     const result = matchPhases(peaks, library, { wavelength: cu, background });
-    expect(verdictOf(result, 'target-A')).toBe('confirmed');
+    expect(verdictOf(result, 'target-A')).toBe('present');
     // The total shift across the range is what matters; zero and cosθ terms are nearly collinear.
     const total = result.shift.zeroDeg + result.shift.displacementCosDeg * Math.cos((30 * Math.PI) / 360);
     expect(total).toBeCloseTo(0.08, 2);
@@ -58,7 +58,7 @@ describe('a single phase', () => {
   it('refines a sample-displacement shift of the cosθ form beyond the tolerance', () => {
     const peaks = peaksOf([{ lines: target.lines, scale: 10 }], L, { displacementCosDeg: -0.14 });
     const result = matchPhases(peaks, library, { wavelength: cu, background, toleranceDeg: 0.05 });
-    expect(verdictOf(result, 'target-A')).toBe('confirmed');
+    expect(verdictOf(result, 'target-A')).toBe('present');
     expect(result.phases[0].matchedLines).toBe(12);
     expect(result.phases[0].meanResidualDeg).toBeLessThan(0.01);
   });
@@ -67,7 +67,7 @@ describe('a single phase', () => {
     const peaks = peaksOf([{ lines: target.lines, scale: 10 }], mo.lambda1, { rangeDeg: [3, 40] });
     const result = matchPhases(peaks, library, { wavelength: mo, background: flatBackground(100, 3, 40) });
     expect(result.phases[0].name).toBe('target-A');
-    expect(result.phases[0].verdict).toBe('confirmed');
+    expect(result.phases[0].verdict).toBe('present');
   });
 });
 
@@ -78,7 +78,7 @@ describe('evidence against a phase', () => {
     const peaks = peaksOf([{ lines: target.lines, scale: 10 }], L);
     const result = matchPhases(peaks, [...library, decoy], { wavelength: cu, background });
     const phase = result.phases.find((p) => p.name === 'decoy-E');
-    expect(phase?.verdict).toBe('absent');
+    expect(phase?.verdict).toBe('not-seen');
     expect(phase?.missingStrongLines.map((m) => Math.round(m.intensity))).toEqual(expect.arrayContaining([95, 80, 60]));
     expect(phase?.reasons.join(' ')).toMatch(/strong lines missing/);
   });
@@ -86,8 +86,8 @@ describe('evidence against a phase', () => {
   it('never confirms a phase in a featureless pattern and says why', () => {
     const result = matchPhases([], library, { wavelength: cu, background, target: 'target-A' });
     expect(result.featureless).toBe(true);
-    expect(result.phases.some((p) => p.verdict === 'confirmed')).toBe(false);
-    expect(result.phases.find((p) => p.name === 'target-A')?.verdict).toBe('absent');
+    expect(result.phases.some((p) => p.verdict === 'present')).toBe(false);
+    expect(result.phases.find((p) => p.name === 'target-A')?.verdict).toBe('not-seen');
     expect(result.reasons[0]).toMatch(/featureless/);
   });
 
@@ -95,7 +95,7 @@ describe('evidence against a phase', () => {
     // Scale so small that the strongest line stands about 4 noise levels high (noise √100 = 10).
     const peaks = peaksOf([{ lines: target.lines, scale: 0.004 * 1000 / 100 }], L, { minArea: 1.5 });
     const result = matchPhases(peaks, library, { wavelength: cu, background });
-    expect(result.phases.some((p) => p.verdict === 'confirmed')).toBe(false);
+    expect(result.phases.some((p) => p.verdict === 'present')).toBe(false);
     expect(result.reasons.join(' ')).toMatch(/no phase claim|too few/i);
   });
 });
@@ -104,8 +104,8 @@ describe('several phases', () => {
   it('explains the target first, then the impurity, sharing the overlapping line', () => {
     const peaks = peaksOf([{ lines: target.lines, scale: 10 }, { lines: impurity.lines, scale: 1.5 }], L, { minArea: 3 });
     const result = matchPhases(peaks, library, { wavelength: cu, background, target: 'target-A' });
-    expect(verdictOf(result, 'target-A')).toBe('confirmed');
-    expect(['confirmed', 'possible']).toContain(verdictOf(result, 'impurity-B'));
+    expect(verdictOf(result, 'target-A')).toBe('present');
+    expect(['present', 'uncertain']).toContain(verdictOf(result, 'impurity-B'));
     const b = result.phases.find((p) => p.name === 'impurity-B')!;
     // Line 36.42° of B falls on A's 36.4° peak: shared, and claimed by A only.
     expect(b.lines.find((l) => Math.abs(l.twoThetaExpected - 36.42) < 0.05)?.shared).toBe(true);
@@ -127,7 +127,7 @@ describe('several phases', () => {
     const peaks = peaksOf([{ lines: target.lines, scale: 10 }, { lines: hydrate.lines, scale: 3 }], L, { minArea: 3 });
     const result = matchPhases(peaks, library, { wavelength: cu, background, target: 'target-A' });
     const d = result.phases.find((p) => p.name === 'hydrate-D')!;
-    expect(d.verdict).not.toBe('absent');
+    expect(d.verdict).not.toBe('not-seen');
     expect(d.weightFraction).toBeNull();
     expect(d.quantification).toBe('not quantified');
     expect(d.reasons.join(' ')).toMatch(/not quantified/);
@@ -153,7 +153,7 @@ describe('unexplained peaks', () => {
     const rival = stored('rival-F', linesAt(L, [[8.9, 100], [17.85, 30], [21.3, 25]]));
     const peaks = peaksOf([{ lines: target.lines, scale: 10 }, { lines: hydrate.lines, scale: 2 }], L, { minArea: 3 });
     const result = matchPhases(peaks, [...library, rival], { wavelength: cu, background, target: 'target-A' });
-    expect(verdictOf(result, 'hydrate-D')).not.toBe('absent');
+    expect(verdictOf(result, 'hydrate-D')).not.toBe('not-seen');
     expect(result.unexplained.filter((u) => u.lowAngle)).toEqual([]);
   });
 });
@@ -168,14 +168,14 @@ describe('look-alikes and the target', () => {
     const peaks = peaksOf([{ lines: target.lines, scale: 10 }], L);
     const result = matchPhases(peaks, [...library, lookAlike], { wavelength: cu, background });
     expect(result.phases[0].name).toBe('target-A');
-    expect(verdictOf(result, 'look-alike-A2')).not.toBe('confirmed');
+    expect(verdictOf(result, 'look-alike-A2')).not.toBe('present');
   });
 
   it('does not force a wrong target onto the pattern when another phase fits clearly better', () => {
     const peaks = peaksOf([{ lines: target.lines, scale: 10 }], L);
     const result = matchPhases(peaks, [...library, lookAlike], { wavelength: cu, background, target: 'look-alike-A2' });
-    expect(verdictOf(result, 'target-A')).toBe('confirmed');
-    expect(verdictOf(result, 'look-alike-A2')).not.toBe('confirmed');
+    expect(verdictOf(result, 'target-A')).toBe('present');
+    expect(verdictOf(result, 'look-alike-A2')).not.toBe('present');
   });
 });
 

@@ -60,7 +60,7 @@ describe('monohydrate share over exposure time (simulated, known wt %)', () => {
 
 describe('shares from match results', () => {
   const phase = (name: string, extra: Partial<PhaseMatch>): PhaseMatch => ({
-    name, formula: name, tags: [], score: 0.8, verdict: 'confirmed', matchedLines: 5, missingStrongLines: [], weightFraction: null,
+    name, formula: name, tags: [], score: 0.8, verdict: 'present', matchedLines: 5, missingStrongLines: [], weightFraction: null,
     quantification: 'not quantified', parts: { position: 1, intensityFound: 1, missingStrong: 1, relativeIntensity: 1, explained: 1 },
     scale: 1, explainedAreaShare: 0.5, exclusiveAreaShare: 0.1, inExplanation: true, shift: { zeroDeg: 0, displacementCosDeg: 0 },
     meanResidualDeg: 0.01, lines: [], reasons: [], ...extra,
@@ -72,7 +72,7 @@ describe('shares from match results', () => {
     const quantified = { weightFraction: 0.12, quantification: 'quantified' as const };
     const samples = seriesSamplesFromAnalyses(
       [
-        analysis('a', [phase('target', {}), phase('impurity', { verdict: 'possible', inExplanation: false, explainedAreaShare: 0.5, exclusiveAreaShare: 0 })]),
+        analysis('a', [phase('target', {}), phase('impurity', { verdict: 'uncertain', inExplanation: false, explainedAreaShare: 0.5, exclusiveAreaShare: 0 })]),
         analysis('b', [phase('target', {}), phase('impurity', quantified)]),
       ],
       { target: 'target' },

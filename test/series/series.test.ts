@@ -22,7 +22,7 @@ function sample(label: string, sizeNm: number, seed: number, extra: Partial<Seri
   return {
     label,
     file: `${label}.xy`,
-    verdict: 'confirmed',
+    verdict: 'present',
     lowAnglePeaks: [],
     otherPhases: [],
     size: crystalliteSizes(peaks, { wavelength: CU, instrument, phase, ...options }),

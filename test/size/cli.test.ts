@@ -64,7 +64,7 @@ describe('crystallog instrument / size / series commands', () => {
   it('series gives a row per file and the pairwise comparison with its test', async () => {
     const r = await seriesCommand([sampleA, sampleB], { labels: 'as made,ground', library: libraryPath, target: phase.name, instrument: profilePath });
     expect(r.rows.map((row) => row.label)).toEqual(['as made', 'ground']);
-    expect(r.rows[0].verdict).toBe('confirmed');
+    expect(r.rows[0].verdict).toBe('present');
     expect(r.comparison.pairs).toHaveLength(1);
     expect(typeof r.comparison.pairs[0].differs).toBe('boolean');
     expect(r.comparison.test).toMatch(/z-test/);

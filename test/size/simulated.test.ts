@@ -86,7 +86,7 @@ describe('series of simulated variants', () => {
   const sample = (label: string, sizeNm: number, seed: number) => ({
     label,
     file: `${label} (simulated)`,
-    verdict: 'confirmed',
+    verdict: 'present',
     lowAnglePeaks: [],
     otherPhases: [],
     size: sizesOf(sizeNm, seed),

@@ -139,7 +139,7 @@ export function analyzePattern(pattern: Pattern, context: AnalysisContext): Anal
     index: context.index,
   });
 
-  const present = match.phases.filter((p) => p.verdict !== 'absent');
+  const present = match.phases.filter((p) => p.verdict !== 'not-seen');
   const targetName = settings.target?.toLowerCase();
   const sizePhaseMatch = present.find((p) => p.name.toLowerCase() === targetName) ?? present[0] ?? null;
   const byName = context.referenceByName;

@@ -53,7 +53,7 @@ export function seriesSamplesFromAnalyses(results: readonly AnalysisResult[], la
       file: r.file,
       sha256: r.sha256,
       exposureHours: hours ? hours[i] : null,
-      verdict: target === null ? null : (targetMatch?.verdict ?? 'absent'),
+      verdict: target === null ? null : (targetMatch?.verdict ?? 'not-seen'),
       lowAnglePeaks: r.match.unexplained.filter((u) => u.lowAngle).map((u) => ({ twoTheta: u.twoTheta, d: u.d, height: u.height })),
       otherPhases,
       unexplainedShare: r.match.unexplainedAreaShare,
@@ -65,6 +65,6 @@ export function seriesSamplesFromAnalyses(results: readonly AnalysisResult[], la
 
 /** Was the phase taken into the sample's explanation? (Results saved before the flag existed: quantified or confirmed.) */
 function explains(p: PhaseMatch): boolean {
-  if (p.verdict === 'absent') return false;
-  return p.inExplanation ?? (p.weightFraction !== null || p.verdict === 'confirmed');
+  if (p.verdict === 'not-seen') return false;
+  return p.inExplanation ?? (p.weightFraction !== null || p.verdict === 'present');
 }

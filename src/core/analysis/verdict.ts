@@ -12,12 +12,12 @@ const EXTRA_AREA_SHARE = 0.02;
  * than 2 % of the peak area unexplained.
  */
 export function sampleVerdict(match: MatchResult, target: string | null): { verdict: SampleVerdict; phase: PhaseMatch | null } {
-  const present = match.phases.filter((p) => p.verdict !== 'absent');
+  const present = match.phases.filter((p) => p.verdict !== 'not-seen');
   if (match.featureless) return { verdict: 'featureless', phase: null };
   if (!target) return { verdict: 'no target set', phase: present[0] ?? match.phases[0] ?? null };
   const key = target.toLowerCase();
   const phase = match.phases.find((p) => p.name.toLowerCase() === key) ?? null;
-  if (!phase || phase.verdict === 'absent') return { verdict: 'not the target', phase: phase ?? present[0] ?? null };
+  if (!phase || phase.verdict === 'not-seen') return { verdict: 'not the target', phase: phase ?? present[0] ?? null };
   // Another phase counts as extra only when it explains a peak of its own (not only lines shared with the target).
   const extra =
     present.some((p) => p !== phase && p.lines.some((l) => !l.shared)) || match.unexplained.some((u) => u.lowAngle) || match.unexplainedAreaShare > EXTRA_AREA_SHARE;
@@ -37,7 +37,7 @@ export interface LowAnglePeak {
  * hydrolysis product usually shows up there first.
  */
 export function lowAnglePeaks(match: MatchResult, target: string | null): LowAnglePeak[] {
-  const present = match.phases.filter((p) => p.verdict !== 'absent');
+  const present = match.phases.filter((p) => p.verdict !== 'not-seen');
   const key = target?.toLowerCase();
   const main = (key ? present.find((p) => p.name.toLowerCase() === key) : undefined) ?? present[0];
   const out: LowAnglePeak[] = match.unexplained.filter((u) => u.lowAngle).map((u) => ({ twoTheta: u.twoTheta, d: u.d, phase: null }));

@@ -12,15 +12,15 @@ import type { MatchOptions, MatchResult, MatchShift, MatchedLine, PhaseMatch, Un
 export const DEFAULT_TOLERANCE_DEG = 0.1;
 export const DEFAULT_MAX_ZERO_DEG = 0.15;
 export const DEFAULT_MAX_DISPLACEMENT_DEG = 0.15;
-/** Score from which a phase that explains new clear peaks is taken into the explanation (and called possible). */
-export const POSSIBLE_SCORE = 0.4;
-/** Score from which a present phase with enough clear lines is confirmed. */
-export const CONFIRMED_SCORE = 0.55;
+/** Score from which a phase that explains new clear peaks is taken into the explanation (and called uncertain). */
+export const UNCERTAIN_SCORE = 0.4;
+/** Score from which a phase with enough clear lines is called present. */
+export const PRESENT_SCORE = 0.55;
 /** Clear matched lines needed to confirm a phase (fewer if the phase has fewer lines in range). */
 export const CONFIRMING_LINES = 3;
 /** A look-alike goes before the target only when it scores more than this above it. */
 const TARGET_MARGIN = 0.05;
-/** A phase not needed for the explanation stays "possible" when its first score was this close to the phase that took its peaks. */
+/** A phase not needed for the explanation stays "uncertain" when its first score was this close to the phase that took its peaks. */
 const LOOK_ALIKE_MARGIN = 0.03;
 /** Lines weaker than this share of the strongest do not define a phase's "first line" for the low-angle flag. */
 const FIRST_LINE_SHARE = 0.01;
@@ -208,7 +208,7 @@ function choosePhase(
   lowAngleOpen: Set<number>,
   distinctNew: (evaluation: PhaseEvaluation) => NewPeakCount,
 ): { ref: number; evaluation: PhaseEvaluation } | null {
-  const eligible = evaluations.filter((e) => e.evaluation.score >= POSSIBLE_SCORE && explainsSignificantPeaks(distinctNew(e.evaluation)));
+  const eligible = evaluations.filter((e) => e.evaluation.score >= UNCERTAIN_SCORE && explainsSignificantPeaks(distinctNew(e.evaluation)));
   if (eligible.length === 0) return null;
   eligible.sort((a, b) => b.evaluation.score - a.evaluation.score);
   const target = eligible.find((e) => e.ref === targetIndex);
@@ -379,10 +379,10 @@ function requiredLines(evaluation: PhaseEvaluation): number {
 }
 
 function acceptedVerdict(evaluation: PhaseEvaluation): Verdict {
-  return evaluation.score >= CONFIRMED_SCORE && evaluation.clearMatchedCount >= requiredLines(evaluation) ? 'confirmed' : 'possible';
+  return evaluation.score >= PRESENT_SCORE && evaluation.clearMatchedCount >= requiredLines(evaluation) ? 'present' : 'uncertain';
 }
 
-/** A phase left out of the explanation: possible when it cannot be told from the phase that took its peaks, else absent. */
+/** A phase left out of the explanation: uncertain when it cannot be told from the phase that took its peaks, else not seen. */
 function notNeededVerdict(
   final: PhaseEvaluation,
   first: PhaseEvaluation | undefined,
@@ -391,8 +391,8 @@ function notNeededVerdict(
 ): { verdict: Verdict; rival: PhaseEvaluation | null } {
   const rivalNumber = mostSharedPhase(final, claims);
   const rival = rivalNumber >= 0 ? accepted[rivalNumber].evaluation : null;
-  if (rival && first && final.score >= POSSIBLE_SCORE && first.score >= rival.score - LOOK_ALIKE_MARGIN && final.newClearPeaks === 0) return { verdict: 'possible', rival };
-  return { verdict: 'absent', rival };
+  if (rival && first && final.score >= UNCERTAIN_SCORE && first.score >= rival.score - LOOK_ALIKE_MARGIN && final.newClearPeaks === 0) return { verdict: 'uncertain', rival };
+  return { verdict: 'not-seen', rival };
 }
 
 /** The accepted phase that explains most of this phase's matched peaks, or -1. */
@@ -469,22 +469,22 @@ function describePhase(
   );
 
   const required = requiredLines(evaluation);
-  if (verdict === 'confirmed') reasons.push(`confirmed: score ${fmt(evaluation.score, 2)} ≥ ${CONFIRMED_SCORE} with ${evaluation.clearMatchedCount} lines on clear peaks`);
-  else if (verdict === 'possible' && number >= 0) {
+  if (verdict === 'present') reasons.push(`present: score ${fmt(evaluation.score, 2)} ≥ ${PRESENT_SCORE} with ${evaluation.clearMatchedCount} lines on clear peaks`);
+  else if (verdict === 'uncertain' && number >= 0) {
     const why: string[] = [];
-    if (evaluation.score < CONFIRMED_SCORE) why.push(`score ${fmt(evaluation.score, 2)} below ${CONFIRMED_SCORE}`);
+    if (evaluation.score < PRESENT_SCORE) why.push(`score ${fmt(evaluation.score, 2)} below ${PRESENT_SCORE}`);
     if (evaluation.clearMatchedCount < required) why.push(`only ${evaluation.clearMatchedCount} line(s) on clear peaks (${required} needed)`);
-    reasons.push(`possible: it explains peaks nothing else explains, but ${why.join(' and ')}`);
-  } else if (verdict === 'possible' && rival) {
-    reasons.push(`possible: its lines fall on the peaks of ${rival.lines.reference.name}, which fits about as well (mean |Δ2θ| ${fmt(rival.meanResidualDeg, 3)}° against ${fmt(evaluation.meanResidualDeg, 3)}°); the two cannot be told apart here`);
+    reasons.push(`uncertain: it explains peaks nothing else explains, but ${why.join(' and ')}`);
+  } else if (verdict === 'uncertain' && rival) {
+    reasons.push(`uncertain: its lines fall on the peaks of ${rival.lines.reference.name}, which fits about as well (mean |Δ2θ| ${fmt(rival.meanResidualDeg, 3)}° against ${fmt(evaluation.meanResidualDeg, 3)}°); the two cannot be told apart here`);
   } else {
     const why: string[] = [];
     if (evaluation.matchedCount === 0) why.push('no line matches a measured peak');
     if (evaluation.missingStrong.length > 0) why.push('strong lines are missing');
     if (rival && evaluation.newClearPeaks === 0) why.push(`every matched peak is explained by ${rival.lines.reference.name}, which fits better (mean |Δ2θ| ${fmt(rival.meanResidualDeg, 3)}°)`);
     else if (evaluation.newClearPeaks === 0 && evaluation.matchedCount > 0) why.push('it explains no clear peak');
-    if (evaluation.score < POSSIBLE_SCORE) why.push(`score ${fmt(evaluation.score, 2)} below ${POSSIBLE_SCORE}`);
-    reasons.push(`absent: ${why.join('; ') || 'not needed to explain the pattern'} (absence holds only above the detection limit)`);
+    if (evaluation.score < UNCERTAIN_SCORE) why.push(`score ${fmt(evaluation.score, 2)} below ${UNCERTAIN_SCORE}`);
+    reasons.push(`not seen: ${why.join('; ') || 'not needed to explain the pattern'} (absence holds only above the detection limit)`);
   }
   const present = number >= 0;
   if (present && weightFraction !== null) {
@@ -593,7 +593,7 @@ function patternReasons(
         '.',
     );
   } else if (table.count > 0) reasons.push('Every measured peak is explained.');
-  reasons.push('A phase judged absent may still be present below the detection limit (about 1–5 wt % for lab PXRD), and amorphous matter is not seen.');
+  reasons.push('A phase not seen may still be there below the detection limit (about 1–5 wt % for lab PXRD), and amorphous matter is not seen.');
   return reasons;
 }
 

@@ -36,7 +36,7 @@ export interface MatchShift {
   displacementCosDeg: number;
 }
 
-export type Verdict = 'confirmed' | 'possible' | 'absent';
+export type Verdict = 'present' | 'uncertain' | 'not-seen';
 
 /** The five parts of a phase's score, each in 0–1 (the formula is documented in score.ts). */
 export interface ScoreParts {
