@@ -2,6 +2,7 @@ import { z } from 'zod';
 import type { MatchResult, Verdict } from '../core/match/types.js';
 export type { MatchResult, PhaseMatch, Verdict } from '../core/match/types.js';
 import type { StoredReference } from '../core/model/reference.js';
+import { settingNumber } from '../core/analysis/settings.js';
 
 /**
  * The one API of the app: every method's input schema (checked at runtime wherever a call crosses
@@ -16,15 +17,15 @@ export const settingsSchema = z
   .object({
     /** Anode symbol (Cu, Co, Fe, Cr, Mo, Ag) or a wavelength in Å. */
     wavelength: z.string().trim().min(1).max(20),
-    toleranceDeg: finite.min(0.005).max(1),
-    scherrerK: finite.min(0.5).max(1.5),
+    toleranceDeg: settingNumber('toleranceDeg'),
+    scherrerK: settingNumber('scherrerK'),
     breadth: z.enum(['fwhm', 'integral']),
     correction: z.enum(['voigt', 'lorentzian', 'gaussian']),
     /**
      * Background: SNIP clipping half-width, degrees 2θ (wider follows less of the peaks); null for
      * automatic (1° widened to the broad peaks found).
      */
-    backgroundHalfWidthDeg: finite.min(0.1).max(20).nullable(),
+    backgroundHalfWidthDeg: settingNumber('backgroundHalfWidthDeg').nullable(),
     /** Phase the chemist expects, by library name; null for none. */
     target: z.string().max(200).nullable(),
   })

@@ -2,6 +2,7 @@ import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { z } from 'zod';
 import { isInputError } from '../core/errors.js';
+import { NUMBER_SETTINGS } from '../core/analysis/settings.js';
 import { packageRoot } from '../node/library/seed.js';
 import { findChromium } from '../node/browser.js';
 import { buildCsvReport, buildHtmlReport } from './report-input.js';
@@ -146,6 +147,8 @@ export function sentence(text: string): string {
 function describeIssues(error: z.ZodError): string {
   const issue = error.issues[0];
   if (!issue) return 'The request was not understood.';
-  const where = issue.path.length ? `${issue.path.join(' → ')}: ` : '';
+  // The settings table's own sentences name the setting in the chemist's words; field paths would not help.
+  const ownSentence = Object.keys(NUMBER_SETTINGS).some((name) => issue.path[issue.path.length - 1] === name || (name === 'scherrerK' && issue.path.at(-1) === 'k'));
+  const where = issue.path.length && !ownSentence ? `${issue.path.join(' → ')}: ` : '';
   return sentence(`${where}${issue.message}`);
 }

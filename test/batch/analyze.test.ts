@@ -132,7 +132,7 @@ describe('crystallog analyze over many files', () => {
     expect(a.settings.backgroundHalfWidthDeg).toBe(0.5);
     expect(b.settings.backgroundHalfWidthDeg).toBeNull();
     expect(a.peaks.map((p) => p.area)).not.toEqual(b.peaks.map((p) => p.area));
-    await expect(run({ background: '-1' })).rejects.toThrow(/option --background -1: give a half-width/);
+    await expect(run({ background: '-1' })).rejects.toThrow(/option --background -1: background clipping half-width must be between 0.1 and 20 ° 2θ/);
   }, 60_000);
 
   it('refuses a target that is not in the library before starting any worker', async () => {

@@ -117,7 +117,8 @@ describe('crystallog library (the command itself)', () => {
 
     const failed = run('import', bad, '--library', library, '--json');
     expect(failed.status).toBe(2);
-    expect(failed.stdout).toBe('');
+    // With --json a failure is also one JSON document on stdout (../shared/CLI.md).
+    expect(JSON.parse(failed.stdout).error).toMatchObject({ file: bad, line: 4, message: expect.stringMatching(/d must be a positive number/) });
     expect(failed.stderr).toMatch(/^crystallog: .*bad\.json, line 4: .*d must be a positive number/);
 
     const exported = run('export', '--library', library);

@@ -74,7 +74,8 @@ describe('crystallog match', () => {
   it('exits with 2 and one line on stderr for an unknown target or a missing library', async () => {
     const unknown = await run(['match', file, '--library', db, '--target', 'unobtainium', '--json']);
     expect(unknown.code).toBe(2);
-    expect(unknown.stdout).toBe('');
+    // With --json a failure is also one JSON document on stdout (../shared/CLI.md).
+    expect(JSON.parse(unknown.stdout).error).toMatchObject({ message: expect.stringMatching(/unobtainium/), file: null, line: null });
     expect(unknown.stderr.trim().split('\n')).toHaveLength(1);
     const missing = await run(['match', file, '--library', join(dir, 'nope.sqlite'), '--json']);
     expect(missing.code).toBe(2);

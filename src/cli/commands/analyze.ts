@@ -3,12 +3,10 @@ import { existsSync, readFileSync } from 'node:fs';
 import { analyzeFiles, defaultWorkerCount, type BatchFileOutcome } from '../../node/batch.js';
 import type { AnalysisResult, AnalysisSettings } from '../../core/analysis/analyse.js';
 import { InputError } from '../../core/errors.js';
-import { parseWavelength } from '../../core/model/wavelengths.js';
 import { parseInstrumentProfile, type InstrumentProfile } from '../../core/size/instrument.js';
-import { resolveScherrerK } from '../../core/size/scherrer.js';
-import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../../core/size/voigt.js';
 import { loadAllReferences } from '../common/io.js';
-import { BACKGROUND_OPTION_HELP, backgroundOption, numberOption, runCommand } from '../common/run-command.js';
+import { settingsFromFlags } from '../common/settings-flags.js';
+import { BACKGROUND_OPTION_HELP, numberOption, runCommand } from '../common/run-command.js';
 
 export interface AnalyzeCommandOptions {
   library: string;
@@ -68,7 +66,7 @@ export function registerAnalyze(program: Command): void {
         readStdin: () => readFileSync(0, 'utf8'),
       };
       await runCommand(
-        false,
+        Boolean(o.json),
         async () => {
           const exitCode = await analyzeCommand(files, o, io);
           if (exitCode !== 0) process.exitCode = exitCode;
@@ -120,24 +118,8 @@ function readFileList(list: string, io: AnalyzeIo): string[] {
     .filter((line) => line !== '' && !line.startsWith('#'));
 }
 
-function settingsFromOptions(o: AnalyzeCommandOptions): Partial<AnalysisSettings> {
-  const settings: Partial<AnalysisSettings> = {};
-  if (o.wavelength) settings.wavelength = parseWavelength(o.wavelength);
-  const toleranceDeg = numberOption('--tolerance', o.tolerance, (v) => v > 0 && v <= 2, 'give the tolerance in degrees 2θ, above 0 and at most 2 (typical 0.05–0.2)');
-  if (toleranceDeg !== undefined) settings.toleranceDeg = toleranceDeg;
-  if (o.k !== undefined) settings.k = resolveScherrerK(o.k).k;
-  if (o.breadth !== undefined) settings.breadth = oneOf('--breadth', o.breadth, BREADTH_KINDS);
-  if (o.correction !== undefined) settings.correction = oneOf('--correction', o.correction, CORRECTION_KINDS);
-  if (o.target !== undefined) settings.target = o.target;
-  const backgroundHalfWidthDeg = backgroundOption(o.background);
-  if (backgroundHalfWidthDeg !== undefined) settings.backgroundHalfWidthDeg = backgroundHalfWidthDeg;
-  return settings;
-}
-
-function oneOf<T extends BreadthKind | CorrectionKind>(option: string, value: string, allowed: readonly T[]): T {
-  const found = allowed.find((a) => a === value.trim().toLowerCase());
-  if (!found) throw new InputError(`option ${option} ${value}: give one of ${allowed.join(', ')}`);
-  return found;
+function settingsFromOptions(o: AnalyzeCommandOptions): AnalysisSettings {
+  return settingsFromFlags(o);
 }
 
 function loadInstrument(path: string): InstrumentProfile {

@@ -3,10 +3,11 @@ import { existsSync, readFileSync } from 'node:fs';
 import { InputError } from '../../core/errors.js';
 import { ReferenceLibrary } from '../../node/library/store.js';
 import { readPatternFile } from '../../node/files.js';
-import { findPeaks } from '../../core/process/peaks.js';
-import { fitInstrumentProfile, instrumentProfileToJson, parseInstrumentProfile, type InstrumentProfile } from '../../core/size/instrument.js';
-import { chooseWavelength, withLibrary, writeFileAtomically } from '../common/io.js';
-import { numberOption, runCommand } from '../common/run-command.js';
+import { fitInstrumentFromStandard } from '../../core/analysis/instrument.js';
+import { instrumentProfileToJson, parseInstrumentProfile, type InstrumentProfile } from '../../core/size/instrument.js';
+import { printWarnings, withLibrary, writeFileAtomically } from '../common/io.js';
+import { runCommand } from '../common/run-command.js';
+import { settingsFromFlags } from '../common/settings-flags.js';
 
 interface InstrumentCommandOptions {
   standard: string;
@@ -46,27 +47,22 @@ export function registerInstrument(program: Command): void {
 }
 
 export function instrumentCommand(file: string, o: InstrumentCommandOptions): InstrumentCommandResult {
-  const toleranceDeg = numberOption('--tolerance', o.tolerance, (v) => v > 0 && v <= 1, 'give the tolerance in degrees 2θ, above 0 and at most 1');
+  const settings = settingsFromFlags(o);
   if (o.date !== undefined && Number.isNaN(Date.parse(o.date))) throw new InputError(`option --date ${o.date}: give a date such as 2025-03-14`);
   const pattern = readPatternFile(file);
-  const wavelength = chooseWavelength(o.wavelength, pattern);
   return withLibrary(o.library, (library) => {
     const standard = library.get(o.standard);
     if (!standard) throw new InputError(`the standard "${o.standard}" is not in the library ${o.library}; import it first`);
-    const search = findPeaks(pattern, { wavelength });
     const name = o.name ?? o.out.replace(/^.*[\\/]/, '').replace(/\.json$/i, '');
-    const profile = fitInstrumentProfile(search.peaks, standard, {
-      wavelength,
+    const profile = fitInstrumentFromStandard(pattern, standard, settings, {
       name,
+      file,
       ...(o.date !== undefined ? { date: new Date(o.date).toISOString() } : {}),
-      ...(toleranceDeg !== undefined ? { toleranceDeg } : {}),
-      standardFile: { file, sha256: pattern.source.sha256 },
-      standardVersion: standard.version,
     });
     writeFileAtomically(o.out, instrumentProfileToJson(profile));
     const libraryKey = LIBRARY_KEY_PREFIX + profile.name;
     library.setMeta(libraryKey, JSON.stringify(profile));
-    for (const w of profile.warnings) process.stderr.write(`crystallog: warning: ${w}\n`);
+    printWarnings(profile.warnings);
     return { ...profile, file, out: o.out, libraryKey };
   });
 }

@@ -1,10 +1,10 @@
 import type { Command } from 'commander';
-import { matchPhases } from '../../core/match/match.js';
+import { analyzePattern, createAnalysisContext } from '../../core/analysis/analyse.js';
 import type { MatchResult } from '../../core/match/types.js';
 import { readPatternFile } from '../../node/files.js';
-import { findPeaks } from '../../core/process/peaks.js';
-import { chooseWavelength, loadAllReferences } from '../common/io.js';
-import { numberOption, runCommand } from '../common/run-command.js';
+import { loadAllReferences, printWarnings } from '../common/io.js';
+import { runCommand } from '../common/run-command.js';
+import { settingsFromFlags } from '../common/settings-flags.js';
 
 interface MatchCommandOptions {
   library: string;
@@ -35,25 +35,19 @@ export function registerMatch(program: Command): void {
     .action((file: string, o: MatchCommandOptions) => runCommand(Boolean(o.json), () => matchCommand(file, o), matchText));
 }
 
+/** The match part of the one analysis of the pattern (peaks → match → sizes), as `analyze` gives it. */
 export function matchCommand(file: string, o: MatchCommandOptions): MatchCommandResult {
-  const toleranceDeg = numberOption('--tolerance', o.tolerance, (v) => v > 0 && v <= 2, 'give the tolerance in degrees 2θ, above 0 and at most 2 (typical 0.05–0.2)');
+  const settings = settingsFromFlags(o);
   const references = loadAllReferences(o.library);
-  const pattern = readPatternFile(file);
-  const wavelength = chooseWavelength(o.wavelength, pattern);
-  const search = findPeaks(pattern, { wavelength });
-  const result = matchPhases(search.peaks, references, {
-    wavelength,
-    ...(toleranceDeg !== undefined ? { toleranceDeg } : {}),
-    ...(o.target !== undefined ? { target: o.target } : {}),
-    background: { x: pattern.x, y: search.background, sigma: search.noiseSigma },
-    twoThetaRangeDeg: { min: pattern.x[0], max: pattern.x[pattern.x.length - 1] },
-  });
+  const analysis = analyzePattern(readPatternFile(file), createAnalysisContext(references, null, settings));
+  printWarnings(analysis.warnings);
+  const { wavelength } = analysis;
   return {
     file,
     wavelength: { label: wavelength.label, lambda1: wavelength.lambda1, lambda2: wavelength.lambda2, ratio: wavelength.ratio },
     library: o.library,
     references: references.length,
-    ...result,
+    ...analysis.match,
   };
 }
 

@@ -1,9 +1,10 @@
 import type { Command } from 'commander';
 import { readPatternFile } from '../../node/files.js';
-import { anodeWavelength, parseWavelength, type Wavelength } from '../../core/model/wavelengths.js';
-import { findPeaks } from '../../core/process/peaks.js';
+import { searchPeaks } from '../../core/analysis/analyse.js';
+import { effectiveWavelength } from '../../core/analysis/settings.js';
 import type { FittedPeak } from '../../core/model/peak.js';
-import { BACKGROUND_OPTION_HELP, backgroundOption, numberOption, runCommand } from '../common/run-command.js';
+import { BACKGROUND_OPTION_HELP, runCommand } from '../common/run-command.js';
+import { settingsFromFlags } from '../common/settings-flags.js';
 
 export interface PeaksCommandOptions {
   wavelength?: string;
@@ -45,23 +46,14 @@ export function registerPeaks(program: Command): void {
     });
 }
 
+/** The peak part of the analysis: the same search, with the same settings, that `analyze` runs. */
 export function peaksReport(file: string, options: PeaksCommandOptions): PeaksReport {
-  const thresholdSigma = numberOption('--threshold', options.threshold, (v) => v > 0 && v <= 100, 'give a positive number of σ, such as 3') ?? 3;
-  const backgroundHalfWidthDeg = backgroundOption(options.background);
+  const settings = settingsFromFlags(options);
   const pattern = readPatternFile(file);
-  let wavelength: Wavelength;
-  let source: PeaksReport['wavelength']['source'];
-  if (options.wavelength !== undefined) {
-    wavelength = parseWavelength(options.wavelength);
-    source = 'option';
-  } else if (pattern.wavelength) {
-    wavelength = pattern.wavelength;
-    source = 'file';
-  } else {
-    wavelength = anodeWavelength('Cu');
-    source = 'default';
-  }
-  const result = findPeaks(pattern, { wavelength, thresholdSigma, backgroundHalfWidthDeg });
+  const wavelength = effectiveWavelength(settings, pattern.wavelength);
+  const source: PeaksReport['wavelength']['source'] = settings.wavelength ? 'option' : pattern.wavelength ? 'file' : 'default';
+  const { thresholdSigma } = settings;
+  const result = searchPeaks(pattern, settings, wavelength);
   const notes = [...pattern.readerNotes];
   if (source === 'default') notes.push('no wavelength in the file or on the command line: Cu Kα1/Kα2 assumed');
   if (result.peaks.length === 0) notes.push('no peak stands clear of the noise: a featureless pattern supports no phase claim');

@@ -1,15 +1,14 @@
 import type { Command } from 'commander';
 import { analyzeFiles } from '../../node/batch.js';
-import { analyzePattern, createAnalysisContext, type AnalysisResult, type AnalysisSettings } from '../../core/analysis/analyse.js';
+import { analyzePattern, createAnalysisContext, type AnalysisResult } from '../../core/analysis/analyse.js';
 import { InputError } from '../../core/errors.js';
 import { readPatternFile } from '../../node/files.js';
-import { parseWavelength } from '../../core/model/wavelengths.js';
 import { seriesSamplesFromAnalyses } from '../../core/analysis/series-from-analysis.js';
 import { analyzeSeries, type SeriesResult } from '../../core/series/series.js';
 import { loadAllReferences } from '../common/io.js';
 import { numberOption, runCommand } from '../common/run-command.js';
+import { settingsFromFlags } from '../common/settings-flags.js';
 import { loadInstrumentProfile } from './instrument.js';
-import { parseBreadth, parseCorrection } from './size.js';
 
 interface SeriesCommandOptions {
   labels?: string;
@@ -60,10 +59,8 @@ function splitList(text: string | undefined): string[] | undefined {
 const POOL_FROM_FILES = 6;
 
 export async function seriesCommand(files: string[], o: SeriesCommandOptions): Promise<SeriesCommandResult> {
-  const toleranceDeg = numberOption('--tolerance', o.tolerance, (v) => v > 0 && v <= 1, 'give the tolerance in degrees 2θ, above 0 and at most 1');
   const alpha = numberOption('--alpha', o.alpha, (v) => v > 0 && v < 0.5, 'give a significance level between 0 and 0.5, such as 0.05');
-  const breadth = parseBreadth(o.breadth);
-  const correction = parseCorrection(o.correction);
+  const settings = settingsFromFlags(o);
   const labels = splitList(o.labels);
   const hours = splitList(o.hours)?.map((h, i) => {
     const value = Number(h.replace(',', '.'));
@@ -72,14 +69,6 @@ export async function seriesCommand(files: string[], o: SeriesCommandOptions): P
   });
   const references = loadAllReferences(o.library);
   const instrument = o.instrument !== undefined ? loadInstrumentProfile(o.instrument, o.library) : null;
-  const settings: Partial<AnalysisSettings> = {
-    target: o.target,
-    ...(o.wavelength ? { wavelength: parseWavelength(o.wavelength) } : {}),
-    ...(toleranceDeg !== undefined ? { toleranceDeg } : {}),
-    ...(o.k !== undefined ? { k: o.k } : {}),
-    ...(breadth ? { breadth } : {}),
-    ...(correction ? { correction } : {}),
-  };
   const analyses = files.length >= POOL_FROM_FILES ? await analyzeOnPool(files, { references, instrument, settings }) : analyzeInTurn(files, createAnalysisContext(references, instrument, settings));
   const samples = seriesSamplesFromAnalyses(analyses, { ...(labels ? { labels } : {}), ...(hours ? { exposureHours: hours } : {}), target: o.target });
   const result = analyzeSeries(samples, alpha !== undefined ? { alpha } : {});

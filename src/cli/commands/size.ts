@@ -1,16 +1,17 @@
 import type { Command } from 'commander';
+import { analyzePattern, createAnalysisContext } from '../../core/analysis/analyse.js';
 import { InputError } from '../../core/errors.js';
+import type { SizeResult } from '../../core/size/sizes.js';
 import { readPatternFile } from '../../node/files.js';
-import { findPeaks } from '../../core/process/peaks.js';
-import { crystalliteSizes, type SizeResult } from '../../core/size/sizes.js';
-import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../../core/size/voigt.js';
-import { chooseWavelength, withLibrary } from '../common/io.js';
-import { numberOption, runCommand } from '../common/run-command.js';
+import { loadAllReferences, printWarnings } from '../common/io.js';
+import { runCommand } from '../common/run-command.js';
+import { settingsFromFlags } from '../common/settings-flags.js';
 import { loadInstrumentProfile } from './instrument.js';
 
 export interface SizeCommandOptions {
   instrument?: string;
   phase?: string;
+  target?: string;
   library?: string;
   k?: string;
   breadth?: string;
@@ -32,6 +33,7 @@ export function registerSize(program: Command): void {
     .argument('<file>', 'pattern file (xy text, CSV or pdCIF)')
     .option('--instrument <profile>', 'instrument profile JSON from "crystallog instrument" (or its name in the library)')
     .option('--phase <name>', 'use only the lines of this phase (needs --library)')
+    .option('--target <name>', 'the phase you expect: its lines give the size when it is found (needs --library)')
     .option('--library <db>', 'reference library file')
     .option('--k <k>', 'Scherrer K: a number or spheres, cubes, column-length, sphere-fwhm, sphere-integral (default 0.9)')
     .option('--breadth <kind>', 'fwhm or integral (default fwhm)')
@@ -42,45 +44,16 @@ export function registerSize(program: Command): void {
     .action((file: string, o: SizeCommandOptions) => runCommand(Boolean(o.json), () => sizeCommand(file, o), sizeText));
 }
 
-export function parseBreadth(text: string | undefined): BreadthKind | undefined {
-  if (text === undefined) return undefined;
-  const v = text.toLowerCase() as BreadthKind;
-  if (!BREADTH_KINDS.includes(v)) throw new InputError(`option --breadth ${text}: give fwhm or integral`);
-  return v;
-}
-
-export function parseCorrection(text: string | undefined): CorrectionKind | undefined {
-  if (text === undefined) return undefined;
-  const v = text.toLowerCase() as CorrectionKind;
-  if (!CORRECTION_KINDS.includes(v)) throw new InputError(`option --correction ${text}: give voigt, lorentzian or gaussian`);
-  return v;
-}
-
+/** The size part of the one analysis of the pattern (peaks → match → sizes), as `analyze` gives it. */
 export function sizeCommand(file: string, o: SizeCommandOptions): SizeCommandResult {
-  const toleranceDeg = numberOption('--tolerance', o.tolerance, (v) => v > 0 && v <= 1, 'give the tolerance in degrees 2θ, above 0 and at most 1');
-  const breadth = parseBreadth(o.breadth);
-  const correction = parseCorrection(o.correction);
   if (o.phase !== undefined && o.library === undefined) throw new InputError('option --phase needs --library to find the phase\'s lines');
+  const settings = settingsFromFlags(o);
   const instrument = o.instrument !== undefined ? loadInstrumentProfile(o.instrument, o.library) : null;
-  let phase = null;
-  if (o.phase !== undefined && o.library !== undefined) {
-    phase = withLibrary(o.library, (library) => library.get(o.phase!));
-    if (!phase) throw new InputError(`the phase "${o.phase}" is not in the library ${o.library}; check the name with "crystallog library list"`);
-  }
-  const pattern = readPatternFile(file);
-  const wavelength = chooseWavelength(o.wavelength, pattern);
-  const search = findPeaks(pattern, { wavelength });
-  const result = crystalliteSizes(search.peaks, {
-    wavelength,
-    instrument,
-    ...(o.k !== undefined ? { k: o.k } : {}),
-    ...(breadth ? { breadth } : {}),
-    ...(correction ? { correction } : {}),
-    phase: phase ? { name: phase.name, version: phase.version, lines: phase.lines } : null,
-    ...(toleranceDeg !== undefined ? { toleranceDeg } : {}),
-  });
-  for (const w of result.warnings) process.stderr.write(`crystallog: warning: ${w}\n`);
-  return { file, ...result };
+  const references = o.library !== undefined ? loadAllReferences(o.library) : [];
+  const context = createAnalysisContext(references, instrument, settings);
+  const analysis = analyzePattern(readPatternFile(file), context);
+  printWarnings(analysis.warnings);
+  return { file, ...analysis.size };
 }
 
 function sizeText(r: SizeCommandResult): string {

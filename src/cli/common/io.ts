@@ -2,8 +2,6 @@ import { existsSync, renameSync, rmSync, writeFileSync } from 'node:fs';
 import { InputError } from '../../core/errors.js';
 import type { StoredReference } from '../../core/model/reference.js';
 import { ReferenceLibrary } from '../../node/library/store.js';
-import type { Pattern } from '../../core/model/pattern.js';
-import { anodeWavelength, parseWavelength, type Wavelength } from '../../core/model/wavelengths.js';
 
 /**
  * Open the library file named by --library for one piece of work, and always close it. Only an
@@ -26,11 +24,6 @@ export function loadAllReferences(path: string): StoredReference[] {
   return references;
 }
 
-/** The wavelength to use: the --wavelength option, else the one named in the file, else Cu Kα1/Kα2. */
-export function chooseWavelength(option: string | undefined, pattern: Pattern): Wavelength {
-  return option ? parseWavelength(option) : (pattern.wavelength ?? anodeWavelength('Cu'));
-}
-
 /** Write a whole file or nothing: a temporary file beside it, flushed, then renamed over it. */
 export function writeFileAtomically(path: string, text: string): void {
   const temporary = `${path}.${process.pid}.tmp`;
@@ -41,4 +34,9 @@ export function writeFileAtomically(path: string, text: string): void {
     rmSync(temporary, { force: true });
     throw new InputError(`cannot write this file (${(err as { code?: string }).code ?? String(err)})`, { file: path });
   }
+}
+
+/** Warnings go to stderr, each once, so that stdout holds only the result. */
+export function printWarnings(warnings: readonly string[]): void {
+  for (const w of new Set(warnings)) process.stderr.write(`crystallog: warning: ${w}\n`);
 }

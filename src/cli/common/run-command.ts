@@ -11,17 +11,26 @@ export async function runCommand<T>(
 ): Promise<void> {
   try {
     const result = await work();
-    process.stdout.write(json ? JSON.stringify(result, null, 2) + '\n' : toText(result));
+    // A command that streams its own output (analyze) returns nothing to print.
+    if (result !== undefined) process.stdout.write(json ? JSON.stringify(result, null, 2) + '\n' : toText(result));
   } catch (err) {
-    if (isInputError(err)) {
-      process.stderr.write(`crystallog: ${oneLine(err.message)}\n`);
-      process.exitCode = 2;
-    } else {
-      const message = err instanceof Error ? err.message : String(err);
-      process.stderr.write(`crystallog: internal fault: ${oneLine(message)}\n`);
-      if (process.env.CRYSTALLOG_DEBUG && err instanceof Error) process.stderr.write(`${err.stack}\n`);
-      process.exitCode = 1;
-    }
+    reportFailure(err, json);
+  }
+}
+
+/**
+ * A failure: a one-line reason on stderr, exit 2 for the user's mistake and 1 for an internal fault;
+ * with --json also one JSON document `{ "error": { "message", "file", "line" } }` on stdout.
+ */
+export function reportFailure(err: unknown, json: boolean): void {
+  const input = isInputError(err);
+  const message = oneLine(err instanceof Error ? err.message : String(err));
+  process.stderr.write(input ? `crystallog: ${message}\n` : `crystallog: internal fault: ${message}\n`);
+  if (!input && process.env.CRYSTALLOG_DEBUG && err instanceof Error) process.stderr.write(`${err.stack}\n`);
+  process.exitCode = input ? 2 : 1;
+  if (json) {
+    const error = { message: input ? message : `internal fault: ${message}`, file: input ? (err.file ?? null) : null, line: input ? (err.line ?? null) : null };
+    process.stdout.write(JSON.stringify({ error }, null, 2) + '\n');
   }
 }
 
@@ -41,6 +50,3 @@ export function numberOption(name: string, text: string | undefined, check: (v: 
 
 /** The shared --background option: the SNIP clipping half-width in degrees 2θ, or undefined for automatic. */
 export const BACKGROUND_OPTION_HELP = 'background clipping half-width, degrees 2θ (default: automatic, 1.0 widened to broad peaks)';
-export function backgroundOption(text: string | undefined): number | undefined {
-  return numberOption('--background', text, (v) => v > 0 && v <= 20, 'give a half-width in degrees 2θ between 0 and 20, such as 1');
-}

@@ -11,8 +11,10 @@ import { matchPhases } from '../match/match.js';
 import { type MatchResult } from '../match/types.js';
 import type { MatchedLine, PhaseMatch } from '../match/types.js';
 import type { Pattern } from '../model/pattern.js';
-import { anodeWavelength, type Wavelength } from '../model/wavelengths.js';
+import type { Wavelength } from '../model/wavelengths.js';
+import { DEFAULT_ANALYSIS_SETTINGS, effectiveWavelength, type AnalysisSettings } from './settings.js';
 import { findPeaks } from '../process/peaks.js';
+import type { PeakSearchResult } from '../model/peak.js';
 import { twoThetaFromD } from '../model/units.js';
 import type { FittedPeak } from '../model/peak.js';
 import type { OtherPhaseLine } from '../size/assign.js';
@@ -21,30 +23,7 @@ import { median } from '../numeric/numeric.js';
 import { crystalliteSizes, type SizeResult } from '../size/sizes.js';
 import type { BreadthKind, CorrectionKind } from '../size/voigt.js';
 
-export interface AnalysisSettings {
-  /** The user's wavelength; null means the one named in the file, else Cu Kα1/Kα2. */
-  wavelength: Wavelength | null;
-  /** Matching tolerance, degrees 2θ (default 0.1). */
-  toleranceDeg: number;
-  /** Scherrer K as a number or preset name (default 0.9). */
-  k: number | string;
-  breadth: BreadthKind;
-  correction: CorrectionKind;
-  /** Name of the expected phase, or null. */
-  target: string | null;
-  /** Background clipping half-width, degrees 2θ; null for automatic (see findPeaks). */
-  backgroundHalfWidthDeg: number | null;
-}
-
-export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
-  wavelength: null,
-  toleranceDeg: 0.1,
-  k: 0.9,
-  breadth: 'fwhm',
-  correction: 'voigt',
-  target: null,
-  backgroundHalfWidthDeg: null,
-};
+export type { AnalysisSettings } from './settings.js';
 
 /** What every analysis of a batch shares, loaded once and only read. */
 export interface AnalysisContext {
@@ -98,6 +77,7 @@ export function createAnalysisContext(
 ): AnalysisContext {
   const full: AnalysisSettings = { ...DEFAULT_ANALYSIS_SETTINGS, ...settings };
   checkTarget(references, full.target);
+  checkPhaseNamed(references, full.sizePhase, 'the phase to size');
   return {
     references,
     index: index ?? buildReferenceIndex(references),
@@ -110,9 +90,18 @@ export function createAnalysisContext(
 
 /** A named target must be in the library (names compare without regard to case). */
 export function checkTarget(references: readonly StoredReference[], target: string | null): void {
-  if (target !== null && !references.some((r) => r.name.toLowerCase() === target.toLowerCase())) {
-    throw new InputError(`the target "${target}" is not in the library; import it first or check the name with "crystallog library list"`);
+  checkPhaseNamed(references, target, 'the target');
+}
+
+function checkPhaseNamed(references: readonly StoredReference[], name: string | null, role: string): void {
+  if (name !== null && !findByName(references, name)) {
+    throw new InputError(`${role} "${name}" is not in the library; import it first or check the name in the library list`);
   }
+}
+
+function findByName(references: readonly StoredReference[], name: string): StoredReference | undefined {
+  const key = name.toLowerCase();
+  return references.find((r) => r.name.toLowerCase() === key);
 }
 
 export function libraryDigest(references: readonly StoredReference[]): string {
@@ -121,14 +110,19 @@ export function libraryDigest(references: readonly StoredReference[]): string {
   return hash.hex();
 }
 
+/** The first stage of every analysis: the peak search with the settings' threshold and background. */
+export function searchPeaks(pattern: Pattern, settings: AnalysisSettings, wavelength: Wavelength): PeakSearchResult {
+  return findPeaks(pattern, { wavelength, thresholdSigma: settings.thresholdSigma, backgroundHalfWidthDeg: settings.backgroundHalfWidthDeg ?? undefined });
+}
+
 /** Peaks, phase verdicts and crystallite sizes of one pattern. */
 export function analyzePattern(pattern: Pattern, context: AnalysisContext): AnalysisResult {
   const { settings, references } = context;
   const warnings: string[] = [...pattern.readerNotes];
-  const wavelength = settings.wavelength ?? pattern.wavelength ?? anodeWavelength('Cu');
+  const wavelength = effectiveWavelength(settings, pattern.wavelength);
   if (!settings.wavelength && !pattern.wavelength) warnings.push('the file names no wavelength; Cu Kα1/Kα2 assumed');
 
-  const search = findPeaks(pattern, { wavelength, backgroundHalfWidthDeg: settings.backgroundHalfWidthDeg ?? undefined });
+  const search = searchPeaks(pattern, settings, wavelength);
   const peaks = search.peaks;
   const match = matchPhases(peaks, references, {
     wavelength,
@@ -141,10 +135,13 @@ export function analyzePattern(pattern: Pattern, context: AnalysisContext): Anal
 
   const present = match.phases.filter((p) => p.verdict !== 'not-seen');
   const targetName = settings.target?.toLowerCase();
-  const sizePhaseMatch = present.find((p) => p.name.toLowerCase() === targetName) ?? present[0] ?? null;
   const byName = context.referenceByName;
-  const sizeReference = sizePhaseMatch ? (byName.get(sizePhaseMatch.name) ?? null) : null;
-  const otherLines = present.filter((p) => p !== sizePhaseMatch).flatMap((p) => otherPhaseLines(p, byName.get(p.name), peaks, wavelength));
+  const chosen = settings.sizePhase !== null ? (findByName(references, settings.sizePhase) ?? null) : null;
+  const sizePhaseMatch = chosen
+    ? (match.phases.find((p) => p.name === chosen.name) ?? null)
+    : (present.find((p) => p.name.toLowerCase() === targetName) ?? present[0] ?? null);
+  const sizeReference = chosen ?? (sizePhaseMatch ? (byName.get(sizePhaseMatch.name) ?? null) : null);
+  const otherLines = present.filter((p) => p.name !== sizeReference?.name).flatMap((p) => otherPhaseLines(p, byName.get(p.name), peaks, wavelength));
   const size = crystalliteSizes(peaks, {
     wavelength,
     instrument: context.instrument,

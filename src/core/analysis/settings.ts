@@ -1,0 +1,122 @@
+/**
+ * The one table of analysis settings: names with units, ranges, defaults and the sentence a chemist
+ * reads when a value is out of range. The CLI flags, the app's project settings and the batch all
+ * check their values here, so one option has one set of limits wherever it is given.
+ */
+import { z } from 'zod';
+import { InputError } from '../errors.js';
+import { anodeWavelength, parseWavelength, type Wavelength } from '../model/wavelengths.js';
+import { SCHERRER_K_PRESETS } from '../size/scherrer.js';
+import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../size/voigt.js';
+
+interface NumberSetting {
+  /** What the chemist calls it. */
+  label: string;
+  min: number;
+  max: number;
+  unit: string;
+  /** An everyday value, for the message. */
+  example: number;
+}
+
+/** Ranges of the numeric settings (typical matching tolerances 0.05–0.2° 2θ: common practice). */
+export const NUMBER_SETTINGS = {
+  toleranceDeg: { label: 'matching tolerance', min: 0.005, max: 1, unit: '° 2θ', example: 0.1 },
+  backgroundHalfWidthDeg: { label: 'background clipping half-width', min: 0.1, max: 20, unit: '° 2θ', example: 1 },
+  scherrerK: { label: 'Scherrer K', min: 0.5, max: 2, unit: '', example: 0.9 },
+  thresholdSigma: { label: 'peak detection threshold', min: 1, max: 100, unit: 'σ above the background', example: 3 },
+} as const satisfies Record<string, NumberSetting>;
+
+export type NumberSettingName = keyof typeof NUMBER_SETTINGS;
+
+/** The sentence for a value out of range: "matching tolerance must be between 0.005 and 1 ° 2θ". */
+export function rangeMessage(name: NumberSettingName): string {
+  const s: NumberSetting = NUMBER_SETTINGS[name];
+  const unit = s.unit ? ` ${s.unit}` : '';
+  return `${s.label} must be between ${s.min} and ${s.max}${unit} (such as ${s.example})`;
+}
+
+/** A zod number within the table's range, with the table's sentence as its error. */
+export function settingNumber(name: NumberSettingName): z.ZodNumber {
+  const s = NUMBER_SETTINGS[name];
+  const error = rangeMessage(name);
+  return z.number({ error }).finite({ error }).min(s.min, { error }).max(s.max, { error });
+}
+
+export interface AnalysisSettings {
+  /** The user's wavelength; null means the one named in the file, else Cu Kα1/Kα2. */
+  wavelength: Wavelength | null;
+  /** Matching tolerance, degrees 2θ. */
+  toleranceDeg: number;
+  /** Scherrer K as a number or preset name. */
+  k: number | string;
+  breadth: BreadthKind;
+  correction: CorrectionKind;
+  /** Name of the expected phase, or null. */
+  target: string | null;
+  /** Background clipping half-width, degrees 2θ; null for automatic (see findPeaks). */
+  backgroundHalfWidthDeg: number | null;
+  /** A peak must stand this many σ above the background. */
+  thresholdSigma: number;
+  /** Size only from the lines of this phase (by library name), whatever the match finds; null: the target or best phase present. */
+  sizePhase: string | null;
+}
+
+export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
+  wavelength: null,
+  toleranceDeg: 0.1,
+  k: 0.9,
+  breadth: 'fwhm',
+  correction: 'voigt',
+  target: null,
+  backgroundHalfWidthDeg: null,
+  thresholdSigma: 3,
+  sizePhase: null,
+};
+
+const presetIds = SCHERRER_K_PRESETS.map((p) => p.id);
+const kMessage = `${rangeMessage('scherrerK')}, or one of ${presetIds.join(', ')}`;
+
+/** Settings as they arrive from a flag, a form or a file: every field optional, names as above. */
+export const analysisSettingsInput = z
+  .object({
+    wavelength: z.string().trim().min(1).max(20).nullable(),
+    toleranceDeg: settingNumber('toleranceDeg'),
+    k: z.union([settingNumber('scherrerK'), z.string().trim().toLowerCase().refine((v) => presetIds.includes(v))], { error: kMessage }),
+    breadth: z.enum(BREADTH_KINDS as [BreadthKind, ...BreadthKind[]], { error: `breadth must be ${BREADTH_KINDS.join(' or ')}` }),
+    correction: z.enum(CORRECTION_KINDS as [CorrectionKind, ...CorrectionKind[]], { error: `correction must be ${CORRECTION_KINDS.join(', ')}` }),
+    target: z.string().trim().min(1).max(200).nullable(),
+    backgroundHalfWidthDeg: settingNumber('backgroundHalfWidthDeg').nullable(),
+    thresholdSigma: settingNumber('thresholdSigma'),
+    sizePhase: z.string().trim().min(1).max(200).nullable(),
+  })
+  .partial()
+  .strict();
+
+export type AnalysisSettingsInput = z.input<typeof analysisSettingsInput>;
+
+/**
+ * Check settings and fill in the defaults. `names` says what each field is called where the user gave
+ * it (a flag such as "--tolerance"), so the message points at the thing they typed.
+ */
+export function resolveAnalysisSettings(input: unknown, names: Partial<Record<keyof AnalysisSettings, string>> = {}): AnalysisSettings {
+  const parsed = analysisSettingsInput.safeParse(input);
+  if (!parsed.success) {
+    const issue = parsed.error.issues[0]!;
+    const field = String(issue.path[0] ?? '') as keyof AnalysisSettings;
+    const where = names[field] ? `${names[field]}: ` : '';
+    throw new InputError(`${where}${issue.message}`);
+  }
+  const { wavelength, ...rest } = parsed.data;
+  const defined = Object.fromEntries(Object.entries(rest).filter(([, v]) => v !== undefined));
+  return {
+    ...DEFAULT_ANALYSIS_SETTINGS,
+    ...defined,
+    wavelength: wavelength ? parseWavelength(wavelength) : null,
+  };
+}
+
+/** The wavelength an analysis uses: the setting, else the one named in the file, else Cu Kα1/Kα2. */
+export function effectiveWavelength(settings: Pick<AnalysisSettings, 'wavelength'>, fromFile: Wavelength | null | undefined): Wavelength {
+  return settings.wavelength ?? fromFile ?? anodeWavelength('Cu');
+}
