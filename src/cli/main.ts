@@ -9,7 +9,8 @@ export async function main(argv: string[]): Promise<void> {
     .description('Powder X-ray diffraction checks: peaks, phase verdicts, crystallite sizes, series.')
     .showHelpAfterError()
     .exitOverride();
-  registerCommands(program);
+  // argv: node, script, then the command name (options come after it).
+  await registerCommands(program, argv[2]);
   try {
     await program.parseAsync(argv);
   } catch (err) {

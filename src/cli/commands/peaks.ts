@@ -1,6 +1,6 @@
 import type { Command } from 'commander';
 import { readPatternFile } from '../../node/files.js';
-import { searchPeaks } from '../../core/analysis/analyse.js';
+import { searchPeaks } from '../../core/analysis/search.js';
 import { effectiveWavelength } from '../../core/analysis/settings.js';
 import type { FittedPeak } from '../../core/model/peak.js';
 import { BACKGROUND_OPTION_HELP, runCommand } from '../common/run-command.js';

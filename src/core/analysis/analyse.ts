@@ -13,8 +13,7 @@ import type { MatchedLine, PhaseMatch } from '../match/types.js';
 import type { Pattern } from '../model/pattern.js';
 import type { Wavelength } from '../model/wavelengths.js';
 import { DEFAULT_ANALYSIS_SETTINGS, effectiveWavelength, type AnalysisSettings } from './settings.js';
-import { findPeaks } from '../process/peaks.js';
-import type { PeakSearchResult } from '../model/peak.js';
+import { searchPeaks } from './search.js';
 import { twoThetaFromD } from '../model/units.js';
 import type { FittedPeak } from '../model/peak.js';
 import type { OtherPhaseLine } from '../size/assign.js';
@@ -108,11 +107,6 @@ export function libraryDigest(references: readonly StoredReference[]): string {
   const hash = sha256Stream();
   for (const r of references) hash.update(`${r.name}\u0000${r.version}\u0000`);
   return hash.hex();
-}
-
-/** The first stage of every analysis: the peak search with the settings' threshold and background. */
-export function searchPeaks(pattern: Pattern, settings: AnalysisSettings, wavelength: Wavelength): PeakSearchResult {
-  return findPeaks(pattern, { wavelength, thresholdSigma: settings.thresholdSigma, backgroundHalfWidthDeg: settings.backgroundHalfWidthDeg ?? undefined });
 }
 
 /** Peaks, phase verdicts and crystallite sizes of one pattern. */
