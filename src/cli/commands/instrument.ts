@@ -64,7 +64,7 @@ export function instrumentCommand(file: string, o: InstrumentCommandOptions): In
     library.setMeta(libraryKey, JSON.stringify(profile));
     printWarnings(profile.warnings);
     return { ...profile, file, out: o.out, libraryKey };
-  });
+  }, 'write');
 }
 
 /**
@@ -74,7 +74,7 @@ export function instrumentCommand(file: string, o: InstrumentCommandOptions): In
 export function loadInstrumentProfile(fileOrName: string, libraryPath?: string): InstrumentProfile {
   if (existsSync(fileOrName)) return parseInstrumentProfile(readFileSync(fileOrName, 'utf8'), fileOrName);
   if (libraryPath && existsSync(libraryPath)) {
-    const library = ReferenceLibrary.open(libraryPath);
+    const library = ReferenceLibrary.open(libraryPath, { readOnly: true });
     try {
       const stored = library.getMeta(LIBRARY_KEY_PREFIX + fileOrName);
       if (stored !== undefined) return parseInstrumentProfile(stored, `${libraryPath} (profile "${fileOrName}")`);

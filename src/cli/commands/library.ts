@@ -140,9 +140,7 @@ export function importCommand(files: string[], o: ImportOptions): ImportResult {
     (lib) => {
       const summary = lib.importReferences(all, { change: `import from ${files.length === 1 ? files[0] : `${files.length} files`}` });
       return { library: o.library, files: read.map(({ file, refs }) => ({ file, references: refs.map((r) => r.name) })), ...summary };
-    },
-    true,
-  );
+    }, 'create');
 }
 
 function importText(r: ImportResult): string {
@@ -205,7 +203,7 @@ export function removeCommand(name: string, o: LibraryOption): { library: string
     if (!current) throw new InputError(`there is no reference named "${name}" in the library`, { file: o.library });
     lib.remove(name);
     return { library: o.library, removed: current.name, version: current.version };
-  });
+  }, 'write');
 }
 
 export function historyCommand(name: string, o: LibraryOption): { library: string; name: string; versions: ReferenceVersionInfo[] } {
@@ -228,10 +226,10 @@ export function restoreCommand(name: string, o: LibraryOption & { version: strin
   return withLibrary(o.library, (lib) => {
     const restored = lib.restore(name, version);
     return { library: o.library, name: restored.name, version: restored.version, restoredFrom: version };
-  });
+  }, 'write');
 }
 
 export function seedCommand(o: LibraryOption): { library: string; added: string[]; alreadySeeded: boolean } {
-  return withLibrary(o.library, (lib) => ({ library: o.library, ...ensureSeeded(lib) }), true);
+  return withLibrary(o.library, (lib) => ({ library: o.library, ...ensureSeeded(lib) }), 'create');
 }
 

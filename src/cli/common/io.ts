@@ -3,13 +3,17 @@ import { InputError } from '../../core/errors.js';
 import type { StoredReference } from '../../core/model/reference.js';
 import { ReferenceLibrary } from '../../node/library/store.js';
 
+/** How a command uses the library: reading never writes a byte; only creating may make the file. */
+export type LibraryUse = 'read' | 'write' | 'create';
+
 /**
  * Open the library file named by --library for one piece of work, and always close it. Only an
- * import may create the file (createIfMissing); every other command needs it to exist.
+ * import may create the file; commands that only read open it read-only.
  */
-export function withLibrary<T>(path: string, work: (library: ReferenceLibrary) => T, createIfMissing = false): T {
-  if (!createIfMissing && !existsSync(path)) throw new InputError(`library file ${path} does not exist; create it with: crystallog library import FILE --library ${path}`);
-  const library = ReferenceLibrary.open(path);
+export function withLibrary<T>(path: string, work: (library: ReferenceLibrary) => T, use: LibraryUse = 'read'): T {
+  if (use !== 'create' && !existsSync(path)) throw new InputError(`library file ${path} does not exist; create it with: crystallog library import FILE --library ${path}`);
+  const library = ReferenceLibrary.open(path, { readOnly: use === 'read' });
+  printWarnings(library.openNotes);
   try {
     return work(library);
   } finally {

@@ -1,5 +1,5 @@
 import Database from 'better-sqlite3';
-import { existsSync } from 'node:fs';
+import { existsSync, statSync } from 'node:fs';
 import { InputError } from '../../core/errors.js';
 
 export type Db = Database.Database;
@@ -16,6 +16,13 @@ export interface OpenDatabaseOptions {
   upToVersion?: number;
   /** How long a write waits for another connection (the app and the CLI at once), ms. */
   busyTimeoutMs?: number;
+  /** Open for reading only: nothing is written to the file, not even its journal mode. */
+  readOnly?: boolean;
+}
+
+/** What opening found and did that the user should hear of (an unclean shutdown checked, say). */
+export interface OpenNotes {
+  notes: string[];
 }
 
 /** A wait long enough for another process to finish a large import (common practice for shared SQLite files). */
@@ -24,10 +31,16 @@ export const DEFAULT_BUSY_TIMEOUT_MS = 10_000;
 /**
  * Open (or create) a SQLite file of one kind: WAL journal, foreign keys on, busy timeout, and the
  * schema brought up to date by the migrations (each in its own transaction; PRAGMA user_version
- * records how many have run).
+ * records how many have run). An existing file is first inspected through a read-only connection, so
+ * a file that is refused (another program's database, a newer schema, damage) is never changed.
  */
-export function openDatabase(path: string, options: OpenDatabaseOptions): Db {
+export function openDatabase(path: string, options: OpenDatabaseOptions, found: OpenNotes = { notes: [] }): Db {
   const isNew = path === ':memory:' || !existsSync(path);
+  if (!isNew) inspectExisting(path, options, found);
+  if (options.readOnly) {
+    if (isNew) throw new InputError(`the ${options.kind} file does not exist`, { file: path });
+    return openReadOnly(path, options);
+  }
   let db: Db;
   try {
     db = new Database(path, { timeout: options.busyTimeoutMs ?? DEFAULT_BUSY_TIMEOUT_MS });
@@ -42,28 +55,71 @@ export function openDatabase(path: string, options: OpenDatabaseOptions): Db {
     return db;
   } catch (err) {
     db.close();
-    if (err instanceof InputError) throw err;
-    if (isSqliteError(err) && /SQLITE_NOTADB|SQLITE_CORRUPT/.test(err.code)) {
-      throw new InputError(`this is not a Crystallog ${options.kind} file (${err.message})`, { file: path });
-    }
-    throw err;
+    throw asInputError(err, path, options.kind);
   }
 }
 
-function migrate(db: Db, path: string, isNew: boolean, options: OpenDatabaseOptions): void {
-  const target = options.upToVersion ?? options.migrations.length;
+function openReadOnly(path: string, options: OpenDatabaseOptions): Db {
+  try {
+    const db = new Database(path, { readonly: true, fileMustExist: true, timeout: options.busyTimeoutMs ?? DEFAULT_BUSY_TIMEOUT_MS });
+    db.pragma('foreign_keys = ON');
+    return db;
+  } catch (err) {
+    throw asInputError(err, path, options.kind);
+  }
+}
+
+/**
+ * Look at an existing file without writing to it: is it one of ours, of a schema this build knows, and
+ * (when a write-ahead log was left beside it by an unclean shutdown) still whole?
+ */
+function inspectExisting(path: string, options: OpenDatabaseOptions, found: OpenNotes): void {
+  const db = openReadOnly(path, options);
+  try {
+    checkKindAndVersion(db, path, options);
+    const wal = `${path}-wal`;
+    if (existsSync(wal) && statSync(wal).size > 0) {
+      const verdict = db.pragma('quick_check', { simple: true }) as string;
+      if (verdict !== 'ok') {
+        throw new InputError(`this ${options.kind} file is damaged (${verdict}); restore it from a backup or export what can be read`, { file: path });
+      }
+      found.notes.push(`${path}: a write-ahead log was left beside it (an earlier session ended without closing it); the file was checked and is whole, its committed changes kept`);
+    }
+    if (options.readOnly && schemaVersion(db) < options.migrations.length && schemaVersion(db) > 0) {
+      throw new InputError(`this ${options.kind} file has an older schema (version ${schemaVersion(db)}); open it once with a command that writes (an import) to bring it up to date`, { file: path });
+    }
+  } catch (err) {
+    throw asInputError(err, path, options.kind);
+  } finally {
+    db.close();
+  }
+}
+
+/** SQLite's own failures, said as the user's problem with the file where they are. */
+function asInputError(err: unknown, path: string, kind: string): unknown {
+  if (err instanceof InputError || !isSqliteError(err)) return err;
+  if (/SQLITE_NOTADB|SQLITE_CORRUPT/.test(err.code)) return new InputError(`this is not a Crystallog ${kind} file (${err.message})`, { file: path });
+  if (/SQLITE_READONLY|SQLITE_CANTOPEN|SQLITE_PERM|SQLITE_AUTH/.test(err.code)) {
+    return new InputError(`cannot write to this ${kind} file: it or its folder is read-only (${err.message}); copy it somewhere writable or ask for write permission`, { file: path });
+  }
+  if (/SQLITE_BUSY|SQLITE_LOCKED/.test(err.code)) {
+    return new InputError(`this ${kind} file is busy: another program (or another crystallog) has been writing to it for too long; try again when it has finished`, { file: path });
+  }
+  return err;
+}
+
+function checkKindAndVersion(db: Db, path: string, options: OpenDatabaseOptions): void {
   const current = db.pragma('user_version', { simple: true }) as number;
-  if (current === 0 && !isNew) {
+  if (current === 0) {
     const tables = db.prepare(`SELECT count(*) AS n FROM sqlite_schema WHERE type = 'table'`).get() as { n: number };
     if (tables.n > 0) {
       throw new InputError(`this SQLite file is not a Crystallog ${options.kind} file (it has tables of its own)`, { file: path });
     }
+    return;
   }
-  if (current > 0) {
-    const kind = readMeta(db, 'kind');
-    if (kind !== options.kind) {
-      throw new InputError(`this file is a Crystallog ${kind ?? 'unknown'} file, not a ${options.kind} file`, { file: path });
-    }
+  const kind = readMeta(db, 'kind');
+  if (kind !== options.kind) {
+    throw new InputError(`this file is a Crystallog ${kind ?? 'unknown'} file, not a ${options.kind} file`, { file: path });
   }
   if (current > options.migrations.length) {
     throw new InputError(
@@ -71,6 +127,13 @@ function migrate(db: Db, path: string, isNew: boolean, options: OpenDatabaseOpti
       { file: path },
     );
   }
+}
+
+function migrate(db: Db, path: string, isNew: boolean, options: OpenDatabaseOptions): void {
+  const target = options.upToVersion ?? options.migrations.length;
+  // Checked again on the writing connection: another process may have changed the file meanwhile.
+  if (!isNew) checkKindAndVersion(db, path, options);
+  const current = db.pragma('user_version', { simple: true }) as number;
   for (let version = current; version < target; version++) {
     // IMMEDIATE: take the write lock first, so two processes opening a new file cannot both migrate it.
     db.transaction(() => {

@@ -45,6 +45,8 @@ export interface ListFilter {
 export interface OpenLibraryOptions {
   /** How long a write waits for another connection to finish, ms. */
   busyTimeoutMs?: number;
+  /** Open for reading only (matching, listing, exporting): the file is never written. */
+  readOnly?: boolean;
 }
 
 /** A version row in raw (array) form, in the order of VERSION_COLUMNS: faster to read in bulk than objects. */
@@ -93,9 +95,19 @@ export class ReferenceLibrary {
   }
 
   static open(path: string, options: OpenLibraryOptions = {}): ReferenceLibrary {
-    const db = openDatabase(path, { kind: LIBRARY_KIND, migrations: LIBRARY_MIGRATIONS, ...options });
-    return new ReferenceLibrary(db, path);
+    const found = { notes: [] as string[] };
+    const db = openDatabase(path, { kind: LIBRARY_KIND, migrations: LIBRARY_MIGRATIONS, ...options }, found);
+    if (options.readOnly && schemaVersion(db) === 0) {
+      db.close();
+      throw new InputError('this library file holds no references yet; add some with: crystallog library import FILE --library ' + path, { file: path });
+    }
+    const library = new ReferenceLibrary(db, path);
+    library.openNotes = found.notes;
+    return library;
   }
+
+  /** What opening the file found (an unclean shutdown checked, say), for the user to read. */
+  openNotes: string[] = [];
 
   get schemaVersion(): number {
     return schemaVersion(this.db);

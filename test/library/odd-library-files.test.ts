@@ -1,0 +1,120 @@
+/**
+ * Odd library files through the real command: another program's database, an empty file, a truncated
+ * one, a newer schema, a read-only one, a write-ahead log of garbage. Each is refused with a sentence
+ * naming the file (exit 2) or read as it is, and a refused file keeps every byte.
+ */
+import Database from 'better-sqlite3';
+import { spawnSync } from 'node:child_process';
+import { chmodSync, copyFileSync, existsSync, mkdtempSync, readFileSync, truncateSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { ReferenceLibrary } from '../../src/node/library/store.js';
+
+const root = join(dirname(fileURLToPath(import.meta.url)), '..', '..');
+const cli = join(root, 'bin', 'crystallog.js');
+const pattern = join(root, 'test', 'fixtures', 'patterns', 'simulated-si111.xy');
+const dir = mkdtempSync(join(tmpdir(), 'crystallog-odd-library-'));
+const good = join(dir, 'good.sqlite');
+
+function crystallog(...args: string[]) {
+  return spawnSync(process.execPath, [cli, ...args], { encoding: 'utf8', cwd: dir });
+}
+
+/** Run a command on a copy of a file and give back its exit, messages and whether the bytes changed. */
+function onFile(path: string, ...args: string[]) {
+  const before = readFileSync(path);
+  const run = crystallog(...args);
+  return { run, changed: !before.equals(readFileSync(path)) };
+}
+
+beforeAll(() => {
+  const library = ReferenceLibrary.open(good);
+  library.importReferences([
+    {
+      name: 'silicon',
+      formula: 'Si',
+      tags: ['standard'],
+      source: 'test: d from a = 5.43123 Å (NIST SRM 640d certificate value, CHECK-VALUES.md)',
+      lines: [[1, 1, 1], [2, 2, 0], [3, 1, 1], [4, 0, 0], [3, 3, 1]].map((hkl, i) => ({ d: 5.43123 / Math.hypot(...hkl), intensity: [100, 55, 30, 6, 11][i]!, hkl: hkl as [number, number, number] })),
+    },
+  ]);
+  library.close();
+}, 60_000);
+
+describe('library files that are not what they seem', () => {
+  it("refuses another program's SQLite database and leaves it untouched", () => {
+    const foreign = join(dir, 'foreign.sqlite');
+    const db = new Database(foreign);
+    db.exec('CREATE TABLE invoices (id INTEGER PRIMARY KEY, total REAL); INSERT INTO invoices VALUES (1, 9.5)');
+    db.close();
+    const referenceFile = join(dir, 'one-reference.json');
+    writeFileSync(referenceFile, JSON.stringify({ name: 'test line', formula: 'X', source: 'test', lines: [{ d: 3.1, intensity: 100 }] }));
+    for (const args of [['match', pattern, '--library', foreign], ['library', 'import', referenceFile, '--library', foreign]]) {
+      const { run, changed } = onFile(foreign, ...args);
+      expect(run.status, run.stderr).toBe(2);
+      expect(run.stderr).toMatch(/foreign\.sqlite.*not a Crystallog reference-library file/);
+      expect(changed).toBe(false);
+    }
+    expect(existsSync(`${foreign}-wal`)).toBe(false);
+  });
+
+  it('refuses an empty file for matching without writing a schema into it', () => {
+    const empty = join(dir, 'empty.sqlite');
+    writeFileSync(empty, '');
+    const { run, changed } = onFile(empty, 'match', pattern, '--library', empty, '--json');
+    expect(run.status).toBe(2);
+    expect(run.stderr).toMatch(/empty\.sqlite.*holds no references/);
+    expect(JSON.parse(run.stdout).error.file).toBe(empty);
+    expect(changed).toBe(false);
+    expect(readFileSync(empty).length).toBe(0);
+  });
+
+  it('refuses a truncated library, naming it, and leaves it as it is', () => {
+    const truncated = join(dir, 'truncated.sqlite');
+    copyFileSync(good, truncated);
+    truncateSync(truncated, 1000);
+    const { run, changed } = onFile(truncated, 'match', pattern, '--library', truncated);
+    expect(run.status).toBe(2);
+    expect(run.stderr).toMatch(/truncated\.sqlite/);
+    expect(run.stderr).not.toMatch(/internal fault/);
+    expect(changed).toBe(false);
+  });
+
+  it('refuses a library of a newer schema and leaves it as it is', () => {
+    const newer = join(dir, 'newer.sqlite');
+    copyFileSync(good, newer);
+    const db = new Database(newer);
+    db.pragma('user_version = 99');
+    db.close();
+    const { run, changed } = onFile(newer, 'library', 'list', '--library', newer);
+    expect(run.status).toBe(2);
+    expect(run.stderr).toMatch(/newer\.sqlite.*schema version 99, newer than this Crystallog understands/);
+    expect(changed).toBe(false);
+  });
+
+  it('matches against a read-only library: reading commands never write to it', () => {
+    const readOnly = join(dir, 'read-only.sqlite');
+    copyFileSync(good, readOnly);
+    chmodSync(readOnly, 0o444);
+    const { run, changed } = onFile(readOnly, 'match', pattern, '--library', readOnly, '--json');
+    expect(run.status, run.stderr).toBe(0);
+    expect(JSON.parse(run.stdout).phases[0].name).toBe('silicon');
+    expect(changed).toBe(false);
+    const listed = onFile(readOnly, 'library', 'list', '--library', readOnly, '--json');
+    expect(listed.run.status).toBe(0);
+    expect(listed.changed).toBe(false);
+  });
+
+  it('opens a library with a garbage write-ahead log beside it, checks it and says so', () => {
+    const crashed = join(dir, 'crashed.sqlite');
+    copyFileSync(good, crashed);
+    writeFileSync(`${crashed}-wal`, Buffer.alloc(4096, 0x5a));
+    const { run, changed } = onFile(crashed, 'match', pattern, '--library', crashed, '--json');
+    expect(run.status, run.stderr).toBe(0);
+    expect(run.stderr).toMatch(/crashed\.sqlite: a write-ahead log was left beside it .* checked and is whole/);
+    expect(JSON.parse(run.stdout).phases[0].name).toBe('silicon');
+    expect(changed).toBe(false);
+  });
+});
