@@ -92,18 +92,19 @@ export async function analyzeCommand(files: string[], o: AnalyzeCommandOptions, 
   const outcomes = await analyzeFiles(allFiles, { references, instrument, settings }, {
     ...(workers !== undefined ? { workers } : {}),
     ...(io.workerScript ? { workerScript: io.workerScript } : {}),
-    keepJson: !streaming && !document,
+    keepJson: false,
     onOutcome: (outcome) => {
       if (outcome.error !== null) io.stderr(`${progress ? '\r\x1b[K' : ''}crystallog: ${oneLine(outcome.error)}\n`);
       if (streaming) io.stdout(jsonLine(outcome));
-      document?.add(outcome);
+      else if (document) document.add(outcome);
+      else io.stdout(`${progress ? '\r\x1b[K' : ''}${textLine(outcome)}`);
       progress?.step(outcome.error !== null);
     },
   });
   progress?.finish();
 
   if (document) document.finish();
-  else if (!streaming) io.stdout(textSummary(outcomes));
+  else if (!streaming) io.stdout(`${outcomes.length} files analysed, ${outcomes.filter((o) => o.error !== null).length} failed\n`);
   return outcomes.some((r) => r.errorKind === 'internal') ? 1 : outcomes.some((r) => r.errorKind === 'input') ? 2 : 0;
 }
 
@@ -155,19 +156,15 @@ function jsonDocumentWriter(write: (text: string) => void): { add: (outcome: Bat
   };
 }
 
-function textSummary(outcomes: BatchFileOutcome[]): string {
-  const lines = outcomes.map((o) => {
-    if (o.json === null) return `${o.file}: ERROR ${oneLine(o.error ?? '')}`;
-    const r = JSON.parse(o.json) as AnalysisResult;
-    const best = r.match.phases.find((p) => p.name.toLowerCase() === r.settings.target?.toLowerCase()) ?? r.match.phases[0];
-    const phase = best ? `${best.name} ${best.verdict} (score ${best.score.toFixed(2)})` : 'no phase';
-    const lowAngle = r.match.unexplained.filter((u) => u.lowAngle).length;
-    const size = r.size.scherrer.sizeNm === null ? 'no size' : `Scherrer ${r.size.scherrer.sizeNm.toFixed(1)}${r.size.scherrer.sizeSigmaNm !== null ? ` ± ${r.size.scherrer.sizeSigmaNm.toFixed(1)}` : ''} nm`;
-    return `${r.file}: ${r.peaks.length} peaks; ${phase}; ${r.match.unexplained.length} unexplained (${lowAngle} low-angle); ${size}`;
-  });
-  const failed = outcomes.filter((o) => o.error !== null).length;
-  lines.push(`${outcomes.length} files analysed, ${failed} failed`);
-  return lines.join('\n') + '\n';
+/** One readable line per file, written as it arrives (results are not held for a summary). */
+function textLine(o: BatchFileOutcome): string {
+  if (o.json === null) return `${o.file}: ERROR ${oneLine(o.error ?? '')}\n`;
+  const r = JSON.parse(o.json) as AnalysisResult;
+  const best = r.match.phases.find((p) => p.name.toLowerCase() === r.settings.target?.toLowerCase()) ?? r.match.phases[0];
+  const phase = best ? `${best.name} ${best.verdict} (score ${best.score.toFixed(2)})` : 'no phase';
+  const lowAngle = r.match.unexplained.filter((u) => u.lowAngle).length;
+  const size = r.size.scherrer.sizeNm === null ? 'no size' : `Scherrer ${r.size.scherrer.sizeNm.toFixed(1)}${r.size.scherrer.sizeSigmaNm !== null ? ` ± ${r.size.scherrer.sizeSigmaNm.toFixed(1)}` : ''} nm`;
+  return `${r.file}: ${r.peaks.length} peaks; ${phase}; ${r.match.unexplained.length} unexplained (${lowAngle} low-angle); ${size}\n`;
 }
 
 function progressBar(total: number, write: (text: string) => void): { step: (failed: boolean) => void; finish: () => void } {
