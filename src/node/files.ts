@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { InputError } from '../core/errors.js';
 import type { Pattern } from '../core/model/pattern.js';
@@ -14,5 +15,6 @@ export function readPatternFile(path: string): Pattern {
       code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'this is a folder, not a file' : code === 'EACCES' ? 'no permission to read it' : `cannot read it (${code ?? 'unknown error'})`;
     throw new InputError(`${reason}; check the path`, { file: path });
   }
-  return readPatternBytes(bytes, path);
+  // Node's native SHA-256 is about ten times faster than the portable one in the core.
+  return readPatternBytes(bytes, path, { sha256: createHash('sha256').update(bytes).digest('hex') });
 }

@@ -1,4 +1,3 @@
-import { sha256Hex } from '../model/checksum.js';
 import { z } from 'zod';
 import type { UnitCell } from '../model/cell.js';
 import { InputError } from '../errors.js';
@@ -175,8 +174,7 @@ function sortLines(lines: readonly ReferenceLine[]): ReferenceLine[] {
   return copy;
 }
 
-/** Fingerprint of a normalised reference's content, to tell a real change from a re-import of the same. */
-export function contentHash(ref: Reference): string {
-  const canonical = [ref.name, ref.formula, ref.tags, ref.source, ref.notes ?? null, ref.rir ?? null, ref.cell ?? null, ref.intensityBasis ?? null, ref.lines];
-  return sha256Hex(JSON.stringify(canonical));
+/** The content of a normalised reference as one text, to tell a real change from a re-import of the same. */
+export function canonicalContent(ref: Reference): string {
+  return JSON.stringify([ref.name, ref.formula, ref.tags, ref.source, ref.notes ?? null, ref.rir ?? null, ref.cell ?? null, ref.intensityBasis ?? null, ref.lines]);
 }

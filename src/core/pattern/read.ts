@@ -8,9 +8,10 @@ import { looksLikeCif, readPowderCif } from './readers/pdcif.js';
 /**
  * Read a powder pattern from file bytes: column text (XY, CSV with or without header) or powder CIF,
  * told apart by content (a CIF has a data_ block; a .cif name alone does not make a file CIF).
- * The bytes are not changed; their SHA-256 identifies the original file.
+ * The bytes are not changed; their SHA-256 identifies the original file (the caller may pass it in when
+ * a faster native hash is at hand).
  */
-export function readPatternBytes(bytes: Uint8Array, fileName: string): Pattern {
+export function readPatternBytes(bytes: Uint8Array, fileName: string, known: { sha256?: string } = {}): Pattern {
   const text = decodeText(bytes, fileName);
   const raw: RawPattern = looksLikeCif(text) || (hasCifExtension(fileName) && startsLikeCif(text))
     ? readPowderCif(text, fileName)
@@ -23,7 +24,7 @@ export function readPatternBytes(bytes: Uint8Array, fileName: string): Pattern {
     wavelength: raw.wavelength,
     source: {
       file: fileName,
-      sha256: sha256Hex(bytes),
+      sha256: known.sha256 ?? sha256Hex(bytes),
       byteLength: bytes.byteLength,
       format: raw.format,
     },

@@ -5,7 +5,8 @@ import { packLines, unpackLines, unpackValues, type PackedLines } from './packin
 import type { Reference, ReferenceLine, StoredReference } from '../../core/model/reference.js';
 import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from './schema.js';
 import { openDatabase, readMeta, schemaVersion, writeMeta, type Db } from './sqlite.js';
-import { checkReferences, contentHash } from '../../core/library/validate.js';
+import { createHash } from 'node:crypto';
+import { canonicalContent, checkReferences } from '../../core/library/validate.js';
 
 export { parseReferenceJson, formatReferenceJson } from '../../core/library/json-format.js';
 export { parseReferenceCsv, type CsvReferenceMeta } from '../../core/library/csv-format.js';
@@ -264,7 +265,7 @@ export class ReferenceLibrary {
   /** Add one checked reference as a new version when its content differs from the current one. */
   private storeVersion(ref: Reference, change: string): keyof ImportSummary {
     const s = this.statements;
-    const hash = contentHash(ref);
+    const hash = createHash('sha256').update(canonicalContent(ref)).digest('hex');
     const entry = s.entryByName.get(ref.name);
     let entryId: number;
     let version: number;
