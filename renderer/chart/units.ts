@@ -1,13 +1,12 @@
+import { dFromTwoTheta, qFromTwoTheta } from '../../src/core/model/units.js';
+
 /** Axis conversions for display: 2θ (degrees), d (Å), Q (Å⁻¹), by Bragg's law with the Kα1 wavelength. */
 export type AxisUnit = '2theta' | 'd' | 'q';
 export type IntensityScale = 'linear' | 'sqrt' | 'log';
 
-const HALF_DEG = Math.PI / 360;
-
 export function convertX(twoTheta: number, unit: AxisUnit, lambda: number): number {
   if (unit === '2theta') return twoTheta;
-  const s = Math.sin(twoTheta * HALF_DEG);
-  return unit === 'd' ? lambda / (2 * s) : (4 * Math.PI * s) / lambda;
+  return unit === 'd' ? dFromTwoTheta(twoTheta, lambda) : qFromTwoTheta(twoTheta, lambda);
 }
 
 export function axisTitle(unit: AxisUnit): string {

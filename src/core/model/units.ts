@@ -19,17 +19,4 @@ export function qFromTwoTheta(twoThetaDeg: number, wavelengthAngstrom: number): 
   return (4 * Math.PI * Math.sin((twoThetaDeg * DEG) / 2)) / wavelengthAngstrom;
 }
 
-export function twoThetaFromQ(qInverseAngstrom: number, wavelengthAngstrom: number): number {
-  return twoThetaFromD((2 * Math.PI) / qInverseAngstrom, wavelengthAngstrom);
-}
-
-export function qFromD(dAngstrom: number): number {
-  return (2 * Math.PI) / dAngstrom;
-}
-
-/** 2θ of the Kα2 partner of a Kα1 peak at twoTheta1Deg (same d). */
-export function kAlpha2Position(twoTheta1Deg: number, lambda1: number, lambda2: number): number {
-  return twoThetaFromD(dFromTwoTheta(twoTheta1Deg, lambda1), lambda2);
-}
-
 export const DEG_TO_RAD = DEG;
