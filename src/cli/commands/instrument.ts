@@ -51,7 +51,7 @@ export function instrumentCommand(file: string, o: InstrumentCommandOptions): In
   if (o.date !== undefined && Number.isNaN(Date.parse(o.date))) throw new InputError(`option --date ${o.date}: give a date such as 2025-03-14`);
   const pattern = readPatternFile(file);
   return withLibrary(o.library, (library) => {
-    const standard = library.get(o.standard);
+    const standard = library.findByNameOrFormula(o.standard);
     if (!standard) throw new InputError(`the standard "${o.standard}" is not in the library ${o.library}; import it first`);
     const name = o.name ?? o.out.replace(/^.*[\\/]/, '').replace(/\.json$/i, '');
     const profile = fitInstrumentFromStandard(pattern, standard, settings, {

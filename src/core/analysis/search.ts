@@ -5,6 +5,6 @@ import { findPeaks } from '../process/peaks.js';
 import type { AnalysisSettings } from './settings.js';
 
 /** The first stage of every analysis: the peak search with the settings' threshold and background. */
-export function searchPeaks(pattern: Pattern, settings: AnalysisSettings, wavelength: Wavelength): PeakSearchResult {
+export function searchPeaks(pattern: Pattern, settings: Pick<AnalysisSettings, 'thresholdSigma' | 'backgroundHalfWidthDeg'>, wavelength: Wavelength): PeakSearchResult {
   return findPeaks(pattern, { wavelength, thresholdSigma: settings.thresholdSigma, backgroundHalfWidthDeg: settings.backgroundHalfWidthDeg ?? undefined });
 }

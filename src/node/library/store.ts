@@ -164,6 +164,22 @@ export class ReferenceLibrary {
   }
 
   /**
+   * A reference as a chemist names it: its name, else its formula as written ("LaB6", "Al2O3"; case
+   * and spaces ignored). null when nothing fits; two references with that formula are the user's to tell apart.
+   */
+  findByNameOrFormula(text: string): StoredReference | null {
+    const byName = this.get(text);
+    if (byName) return byName;
+    const compact = (f: string) => f.replace(/\s+/g, '').toLowerCase();
+    const wanted = compact(text);
+    const byFormula = this.list({ search: text.trim() }).filter((r) => compact(r.formula) === wanted);
+    if (byFormula.length > 1) {
+      throw new InputError(`${byFormula.length} references have the formula ${text.trim()} (${byFormula.map((r) => `"${r.name}"`).join(', ')}); give the name of the one you mean`);
+    }
+    return byFormula[0] ?? null;
+  }
+
+  /**
    * The current version of a reference, or a given version (readable even after it was replaced
    * or the reference deleted). null when there is no such reference or version.
    */
