@@ -29,7 +29,7 @@ function electronRuntime() {
   let executable = installedExecutable(dir);
   if (!executable) {
     // The electron package installs without its runtime and fetches it at first launch, with its own downloader.
-    process.stderr.write('Crystallog: fetching the desktop runtime (Electron, about 100 MB) for the first launch…\n');
+    process.stderr.write('Crystallog: the desktop runtime (Electron) is not on this computer yet; trying to fetch it (about 100 MB) for the first launch…\n');
     const fetched = spawnSync(process.execPath, [join(dir, 'install.js')], { stdio: ['ignore', 'inherit', 'pipe'], encoding: 'utf8', timeout: RUNTIME_FETCH_LIMIT_MS });
     executable = installedExecutable(dir);
     if (!executable) {
@@ -37,6 +37,7 @@ function electronRuntime() {
       const why = fetched.error ? fetched.error.message : (firstLine ?? `the download ended with exit code ${fetched.status}`);
       return { reason: `the desktop runtime could not be fetched (${why}; offline?)` };
     }
+    process.stderr.write('Crystallog: the desktop runtime was fetched.\n');
   }
   return { executable };
 }

@@ -39,7 +39,10 @@ export async function runBrowserMode(options: BrowserModeOptions = {}): Promise<
   const host = await startHost({ api, staticDir, port: options.port });
   if (options.reason) log(`Crystallog opens in browser mode: ${options.reason}`);
   const hasDisplay = process.platform !== 'linux' || !!process.env.DISPLAY || !!process.env.WAYLAND_DISPLAY;
-  const browser = options.open !== false && hasDisplay ? openAppWindow(host.launchUrl, join(dataDir, 'browser-profile')) : null;
+  const browser =
+    options.open !== false && hasDisplay
+      ? openAppWindow(host.launchUrl, join(dataDir, 'browser-profile'), (why) => log(`The browser window did not open: ${why}. Open this address by hand in Chromium, Chrome or Edge:\n  ${host.launchUrl}`))
+      : null;
   if (browser) log(`Opened in ${browser}. If the window does not appear, open this address in Chromium or Chrome:`);
   else log('Open this address in Chromium, Chrome or Edge (it works only on this computer, for this launch):');
   log(`  ${host.launchUrl}`);

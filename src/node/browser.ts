@@ -35,14 +35,22 @@ export function findChromium(env: NodeJS.ProcessEnv = process.env, platform: Nod
  * Open the screens as an app window (no tabs, no address bar) of the system's Chromium, with a
  * profile of its own under the app-data folder. Returns the browser's path, or null when none was found.
  */
-export function openAppWindow(url: string, profileDir: string): string | null {
+export function openAppWindow(url: string, profileDir: string, onEarlyExit: (why: string) => void = () => undefined): string | null {
   const browser = findChromium();
   if (!browser) return null;
-  const child = spawn(browser, [`--app=${url}`, `--user-data-dir=${profileDir}`, '--no-first-run', '--no-default-browser-check', '--window-size=1280,800'], {
-    detached: true,
-    stdio: 'ignore',
+  const args = [`--app=${url}`, `--user-data-dir=${profileDir}`, '--no-first-run', '--no-default-browser-check', '--window-size=1280,800'];
+  // Chromium refuses to run as root with its sandbox on (common practice: root needs --no-sandbox).
+  if (process.getuid?.() === 0) args.push('--no-sandbox');
+  const child = spawn(browser, args, { detached: true, stdio: 'ignore' });
+  const started = Date.now();
+  child.on('error', (err) => onEarlyExit(`it could not be started (${err.message})`));
+  child.on('exit', (code, signal) => {
+    // A window the user closes lives longer than this; an exit within seconds is a browser that could not run.
+    if (Date.now() - started < EARLY_EXIT_MS) onEarlyExit(`it closed at once (${signal ?? `exit code ${code}`})`);
   });
-  child.on('error', () => undefined);
   child.unref();
   return browser;
 }
+
+/** An app window that ends sooner than this after launch did not open. */
+const EARLY_EXIT_MS = 5000;
