@@ -1,6 +1,8 @@
 import { spawnSync } from 'node:child_process';
-import { existsSync, readdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { existsSync, mkdtempSync, readdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import {
   exportCommand,
@@ -124,5 +126,19 @@ describe('crystallog library (the command itself)', () => {
     const exported = run('export', '--library', library);
     expect(exported.status).toBe(0);
     expect(JSON.parse(exported.stdout)).toHaveLength(2);
+  });
+});
+
+describe('crystallog library import of a structure CIF', () => {
+  it('takes --name, --formula and --tag as for a CSV peak list', () => {
+    const root = join(dirname(fileURLToPath(import.meta.url)), '..', '..');
+    const cifDir = mkdtempSync(join(tmpdir(), 'crystallog-cif-import-'));
+    const db = join(cifDir, 'lab.sqlite');
+    const cif = join(root, 'test', 'fixtures', 'cif', 'zno.cif');
+    const cli = (...args: string[]) => spawnSync(process.execPath, [join(root, 'bin', 'crystallog.js'), 'library', ...args], { encoding: 'utf8' });
+    const imported = cli('import', cif, '--library', db, '--name', 'zinc oxide (wurtzite)', '--formula', 'ZnO', '--tag', 'impurity', '--json');
+    expect(imported.status, imported.stderr).toBe(0);
+    const listed = JSON.parse(cli('list', '--library', db, '--tag', 'impurity', '--json').stdout) as { references: Array<{ name: string; formula: string }> };
+    expect(listed.references.map((r) => [r.name, r.formula])).toEqual([['zinc oxide (wurtzite)', 'ZnO']]);
   });
 });

@@ -19,10 +19,10 @@ export function registerLibrary(program: Command): void {
     .argument('<files...>', 'reference files (.json, .csv, .cif)')
     .requiredOption('--library <db>', 'library file (created if missing)')
     .option('--wavelength <w>', 'CIF: radiation for computed intensities (default Cu Kα1); CSV: wavelength of a 2θ column')
-    .option('--name <name>', 'CSV: name of the reference (default: the file name)')
+    .option('--name <name>', 'CSV or CIF: name of the reference (default: the CIF\'s phase name, else the file name)')
     .option('--source <text>', 'CSV: where the values come from')
-    .option('--formula <formula>', 'CSV: chemical formula')
-    .option('--tag <tag>', 'CSV: a tag (target, impurity, precursor, decomposition product, standard, or your own); repeat for more', collect, [])
+    .option('--formula <formula>', 'CSV or CIF: chemical formula as you write it')
+    .option('--tag <tag>', 'CSV or CIF: a tag (target, impurity, precursor, decomposition product, standard, or your own); repeat for more', collect, [])
     .option('--json', 'print the result as JSON')
     .action((files: string[], o: ImportOptions) => runCommand(Boolean(o.json), () => importCommand(files, o), importText));
 
@@ -113,6 +113,20 @@ export interface ImportResult extends ImportSummary {
   files: { file: string; references: string[] }[];
 }
 
+/** A structure CIF names its phase and holds no tags: --name and --tag say them, as for a CSV peak list. */
+function withCifDetails(file: string, refs: Reference[], o: ImportOptions): Reference[] {
+  if (!/\.cif$/i.test(file)) return refs;
+  if (o.name !== undefined && refs.length > 1) {
+    throw new InputError(`option --name names one reference, but this CIF holds ${refs.length} phases (${refs.map((r) => `"${r.name}"`).join(', ')}); import it without --name`, { file });
+  }
+  return refs.map((ref) => ({
+    ...ref,
+    ...(o.name !== undefined ? { name: o.name } : {}),
+    ...(o.formula !== undefined ? { formula: o.formula } : {}),
+    ...(o.tag !== undefined && o.tag.length > 0 ? { tags: [...new Set([...ref.tags, ...o.tag])] } : {}),
+  }));
+}
+
 /** Read every file first, then store all references in one transaction: one bad file changes nothing. */
 export function importCommand(files: string[], o: ImportOptions): ImportResult {
   const wavelength = o.wavelength === undefined ? undefined : parseWavelength(o.wavelength);
@@ -124,7 +138,7 @@ export function importCommand(files: string[], o: ImportOptions): ImportResult {
   };
   const read: { file: string; refs: Reference[] }[] = files.map((file) => ({
     file,
-    refs: readReferenceFile(file, { csv, ...(wavelength ? { wavelength } : {}) }),
+    refs: withCifDetails(file, readReferenceFile(file, { csv, ...(wavelength ? { wavelength } : {}) }), o),
   }));
   const all = read.flatMap((r) => r.refs);
   const from = new Map<string, string>();
