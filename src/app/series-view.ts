@@ -50,7 +50,9 @@ export function buildSeriesView(workspace: Workspace, by: 'variant' | 'time'): S
       sizeNote: summary.sizeNm !== null && summary.sizeSigmaNm !== null ? null : sizeNoteOf(result),
     };
   });
-  const comparisons = (series?.comparison.pairs ?? []).filter((p) => p.testable).map((p) => ({ a: p.a, b: p.b, differs: p.differs, test: 'z-test, Holm-adjusted', detail: p.statement }));
+  const comparisons = (series?.comparison.pairs ?? []).filter((p) => p.testable).map((p) => ({ a: p.a, b: p.b, differs: p.differs, test: 'difference on shared reflections, Holm-adjusted', detail: p.statement }));
+  const trend = series?.comparison.trend;
+  if (trend) comparisons.push({ a: 'first sample', b: 'last (trend over time)', differs: trend.differs, test: 'weighted regression slope', detail: trend.statement });
   if (series && comparisons.length) notes.push(`Size comparison: ${series.comparison.test}.`);
   return { by, rows, comparisons, growth: by === 'time' && series ? series.growth.map(growthView) : [], notes };
 }

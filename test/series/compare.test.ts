@@ -29,7 +29,7 @@ describe('pairwise size comparison', () => {
       { label: 'a', sizeNm: 30, sizeSigmaNm: 1 / Math.SQRT2, lowerBound: false },
       { label: 'b', sizeNm: 32.2, sizeSigmaNm: 1 / Math.SQRT2, lowerBound: false },
       { label: 'c', sizeNm: 31.1, sizeSigmaNm: 1 / Math.SQRT2, lowerBound: false },
-    ]);
+    ], { preparationSpreadRelative: 0 }); // Holm's arithmetic on the fit σ alone
     const ab = r.pairs.find((p) => p.a === 'a' && p.b === 'b')!;
     expect(ab.pValue!).toBeLessThan(0.05);
     expect(ab.pAdjusted!).toBeCloseTo(3 * ab.pValue!, 12);

@@ -22,6 +22,8 @@ interface SeriesCommandOptions {
   wavelength?: string;
   tolerance?: string;
   alpha?: string;
+  replicates?: string;
+  spread?: string;
   json?: boolean;
 }
 
@@ -47,6 +49,8 @@ export function registerSeries(program: Command): void {
     .option('--wavelength <w>', 'Cu, Co, Fe, Cr, Mo, Ag or a number in Å (default: from each file, else Cu)')
     .option('--tolerance <deg>', 'line matching tolerance, degrees 2θ (default 0.1)')
     .option('--alpha <p>', 'significance level of the size comparisons (default 0.05)')
+    .option('--replicates <list>', 'comma-separated replicate groups, one per file: files of one group are preparations of one variant (their spread measures reproducibility)')
+    .option('--spread <percent>', 'size spread between preparations when no replicates are marked, % (default 2)')
     .option('--json', 'print the result as JSON')
     .action((files: string[], o: SeriesCommandOptions) => runCommand(Boolean(o.json), () => seriesCommand(files, o), seriesText));
 }
@@ -71,7 +75,11 @@ export async function seriesCommand(files: string[], o: SeriesCommandOptions): P
   const instrument = o.instrument !== undefined ? loadInstrumentProfile(o.instrument, o.library) : null;
   const analyses = files.length >= POOL_FROM_FILES ? await analyzeOnPool(files, { references, instrument, settings }) : analyzeInTurn(files, createAnalysisContext(references, instrument, settings));
   const samples = seriesSamplesFromAnalyses(analyses, { ...(labels ? { labels } : {}), ...(hours ? { exposureHours: hours } : {}), target: o.target });
-  const result = analyzeSeries(samples, alpha !== undefined ? { alpha } : {});
+  const groups = splitList(o.replicates);
+  if (groups && groups.length !== files.length) throw new InputError(`option --replicates: ${groups.length} groups for ${files.length} files; give one per file, in the same order`);
+  groups?.forEach((g, i) => (samples[i]!.replicateGroup = g === '' ? null : g));
+  const spread = numberOption('--spread', o.spread, (v) => v >= 0 && v <= 50, 'give the preparation spread in %, between 0 and 50, such as 2');
+  const result = analyzeSeries(samples, { ...(alpha !== undefined ? { alpha } : {}), ...(spread !== undefined ? { preparationSpreadRelative: spread / 100 } : {}) });
   for (const w of result.warnings) process.stderr.write(`crystallog: warning: ${w}\n`);
   return { files, target: o.target, ...result };
 }
@@ -99,6 +107,7 @@ function seriesText(r: SeriesCommandResult): string {
   }
   out.push(`size comparisons (${r.comparison.test}):`);
   for (const p of r.comparison.pairs) out.push(`  ${p.a} vs ${p.b}: ${p.statement}`);
+  if (r.comparison.trend) out.push(`  trend over the series: ${r.comparison.trend.statement}`);
   for (const g of r.growth) out.push(`growth of ${g.phase} (${g.basis}): ${g.analysis.statement}`);
   for (const w of r.warnings) out.push(`warning: ${w}`);
   for (const c of r.cautions) out.push(`note: ${c}`);

@@ -6,7 +6,7 @@
 import { InputError } from '../errors.js';
 import type { SizeResult, SizeSettings } from '../size/sizes.js';
 import { SIZE_CAUTIONS } from '../size/sizes.js';
-import { compareSizes, DEFAULT_ALPHA, type SizeComparisonResult } from './compare.js';
+import { compareSizes, DEFAULT_ALPHA, type ReflectionSize, type SizeComparisonResult } from './compare.js';
 import { fitGrowth, type GrowthAnalysis } from './kinetics.js';
 
 export interface SeriesPhaseShare {
@@ -27,6 +27,8 @@ export interface SeriesSample {
   sha256?: string;
   /** Exposure time in hours, for exposure series. */
   exposureHours?: number | null;
+  /** Samples with the same group are replicate preparations of one variant (their spread measures reproducibility). */
+  replicateGroup?: string | null;
   /** The target phase's verdict, or null without a target. */
   verdict: string | null;
   /** Unexplained peaks below the target's first line. */
@@ -43,6 +45,21 @@ export interface SeriesSample {
 export interface SeriesOptions {
   /** Significance level of the size comparisons (default 0.05). */
   alpha?: number;
+  /** Relative size spread between preparations, when no replicates measure it (default 2 %, see compare.ts). */
+  preparationSpreadRelative?: number;
+  /** Pairwise tests: 'all' (default for variants) or 'none' (default for a time series, which gets a trend test). */
+  pairs?: 'all' | 'none';
+}
+
+/** Each resolved reflection's size with the σ of its own fit (size ∝ 1/breadth), keyed by hkl. */
+function reflectionSizes(size: SizeResult): ReflectionSize[] {
+  return size.peaks
+    .filter((p) => p.limit === null && p.sizeNm !== null && p.sampleBreadthDeg > 0)
+    .map((p) => ({
+      hkl: p.hkl ? p.hkl.join(' ') : null,
+      sizeNm: p.sizeNm as number,
+      sizeSigmaNm: ((p.sizeNm as number) * p.sampleBreadthSigmaFitDeg) / p.sampleBreadthDeg,
+    }));
 }
 
 export interface SeriesRow {
@@ -141,8 +158,15 @@ export function analyzeSeries(samples: readonly SeriesSample[], options: SeriesO
       sizeSigmaNm: s.size.scherrer.sizeSigmaFitNm ?? s.size.scherrer.sizeSigmaNm,
       lowerBound: s.size.scherrer.limit === 'instrument',
       phase: s.size.settings.phase?.name ?? null,
+      reflections: reflectionSizes(s.size),
+      replicateGroup: s.replicateGroup ?? null,
+      order: s.exposureHours ?? null,
     })),
-    options.alpha ?? DEFAULT_ALPHA,
+    {
+      alpha: options.alpha ?? DEFAULT_ALPHA,
+      ...(options.preparationSpreadRelative !== undefined ? { preparationSpreadRelative: options.preparationSpreadRelative } : {}),
+      ...(options.pairs ? { pairs: options.pairs } : {}),
+    },
   );
 
   const timed = samples.filter((s) => typeof s.exposureHours === 'number' && Number.isFinite(s.exposureHours));
