@@ -9,6 +9,7 @@ import { availableParallelism } from 'node:os';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { StoredReference } from '../core/model/reference.js';
+import { packLines, unpackLines } from './library/packing.js';
 import { buildReferenceIndex, type ReferenceIndex } from '../core/match/reference-index.js';
 import type { InstrumentProfile } from '../core/size/instrument.js';
 import { checkTarget, createAnalysisContext, type AnalysisContext, type AnalysisSettings } from '../core/analysis/analyse.js';
@@ -42,9 +43,25 @@ export interface BatchOptions {
   workerScript?: URL;
 }
 
-/** The setup as it crosses into a worker: plain data and shared buffers only. */
+/** A reference without its lines, as it is cloned into each worker (the lines travel packed and shared). */
+type ReferenceHead = Omit<StoredReference, 'lines'>;
+
+/**
+ * Every reference's lines in shared buffers: Float64 d then intensity per reference (packing.ts) at
+ * `valueStart[r]` (in doubles), Int32 h, k, l, multiplicity at `indexStart[r]` (in ints; −1: none).
+ */
+interface SharedLines {
+  values: SharedArrayBuffer;
+  indices: SharedArrayBuffer;
+  valueStart: Int32Array;
+  indexStart: Int32Array;
+  count: Int32Array;
+}
+
+/** The setup as it crosses into a worker: small heads and shared buffers, never a clone of every line. */
 export interface SharedSetup {
-  references: readonly StoredReference[];
+  heads: ReferenceHead[];
+  lines: SharedLines;
   instrument: InstrumentProfile | null;
   settings: Partial<AnalysisSettings>;
   index: { d: SharedArrayBuffer; referenceOf: SharedArrayBuffer; intensity: SharedArrayBuffer };
@@ -71,26 +88,76 @@ function shareTyped<T extends Float64Array | Int32Array | Float32Array>(array: T
   return buffer;
 }
 
-/** Index the references once and put the index where every worker can read it without a copy. */
+/** Pack every reference's lines into two shared buffers, once for all workers. */
+function shareLines(references: readonly StoredReference[]): SharedLines {
+  const n = references.length;
+  const packed = references.map((r) => packLines(r.lines));
+  const valueStart = new Int32Array(n);
+  const indexStart = new Int32Array(n);
+  const count = new Int32Array(n);
+  let doubles = 0;
+  let ints = 0;
+  packed.forEach((p, r) => {
+    valueStart[r] = doubles;
+    count[r] = p.count;
+    doubles += 2 * p.count;
+    indexStart[r] = p.indices ? ints : -1;
+    if (p.indices) ints += 4 * p.count;
+  });
+  const values = new SharedArrayBuffer(doubles * 8);
+  const indices = new SharedArrayBuffer(ints * 4);
+  const valueBytes = new Uint8Array(values);
+  const indexBytes = new Uint8Array(indices);
+  packed.forEach((p, r) => {
+    valueBytes.set(p.values, valueStart[r]! * 8);
+    if (p.indices) indexBytes.set(p.indices, indexStart[r]! * 4);
+  });
+  return { values, indices, valueStart, indexStart, count };
+}
+
+/** References whose lines are decoded from the shared buffers on first use (most are never looked at). */
+function referencesFromShared(heads: readonly ReferenceHead[], shared: SharedLines): StoredReference[] {
+  return heads.map((head, r) => {
+    let lines: StoredReference['lines'] | null = null;
+    const ref = { ...head } as StoredReference;
+    Object.defineProperty(ref, 'lines', {
+      enumerable: true,
+      get: () => {
+        const n = shared.count[r]!;
+        lines ??= unpackLines({
+          count: n,
+          values: new Uint8Array(shared.values, shared.valueStart[r]! * 8, 2 * n * 8),
+          indices: shared.indexStart[r]! < 0 ? null : new Uint8Array(shared.indices, shared.indexStart[r]! * 4, 4 * n * 4),
+        });
+        return lines;
+      },
+    });
+    return ref;
+  });
+}
+
+/** Index the references once and put the index and the lines where every worker can read them without a copy. */
 export function shareSetup(setup: BatchSetup): SharedSetup {
   const index = buildReferenceIndex(setup.references);
   return {
-    references: setup.references,
+    heads: setup.references.map(({ lines: _lines, ...head }) => head),
+    lines: shareLines(setup.references),
     instrument: setup.instrument,
     settings: setup.settings,
     index: { d: shareTyped(index.d), referenceOf: shareTyped(index.referenceOf), intensity: shareTyped(index.intensity) },
   };
 }
 
-/** The analysis context inside a worker, on the shared index. */
+/** The analysis context inside a worker, on the shared index and lines. */
 export function contextFromShared(shared: SharedSetup): AnalysisContext {
+  const references = referencesFromShared(shared.heads, shared.lines);
   const index: ReferenceIndex = {
-    references: shared.references,
+    references,
     d: new Float64Array(shared.index.d),
     referenceOf: new Int32Array(shared.index.referenceOf),
     intensity: new Float32Array(shared.index.intensity),
   };
-  return createAnalysisContext(shared.references, shared.instrument, shared.settings, index);
+  return createAnalysisContext(references, shared.instrument, shared.settings, index);
 }
 
 /** batch-worker.js beside this module; when running from TypeScript sources, the compiled one in dist/. */
