@@ -185,8 +185,7 @@ function otherPhaseLines(phase: PhaseMatch, reference: StoredReference | undefin
   if (!reference) return [];
   const own = phase.lines
     .filter((line) => !line.shared && line.intensity !== null && line.intensity > 0)
-    // The match reports measured positions rounded to 1e-4°.
-    .map((line) => ({ line, peak: peaks.find((p) => Math.abs(p.twoTheta - line.twoThetaMeasured) <= 1e-4) }))
+    .map((line) => ({ line, peak: peaks[line.peakIndex] }))
     .filter((e): e is { line: MatchedLine; peak: FittedPeak } => e.peak !== undefined);
   const scale = own.length > 0 ? median(own.map((e) => e.peak.height / (e.line.intensity as number))) : null;
   const fwhmDeg = own.length > 0 ? median(own.map((e) => e.peak.fwhm)) : null;

@@ -42,11 +42,15 @@ export function lowAnglePeaks(match: MatchResult, target: string | null): LowAng
   const main = (key ? present.find((p) => p.name.toLowerCase() === key) : undefined) ?? present[0];
   const out: LowAnglePeak[] = match.unexplained.filter((u) => u.lowAngle).map((u) => ({ twoTheta: u.twoTheta, d: u.d, phase: null }));
   if (main && main.lines.length) {
+    // One mark per peak (results saved before lines carried their peak's index fall back to its position).
+    const seen = new Set<number>();
     const first = Math.min(...main.lines.map((l) => l.twoThetaExpected)) - match.toleranceDeg;
     for (const phase of present) {
       if (phase === main) continue;
       for (const line of phase.lines) {
-        if (line.twoThetaMeasured < first && !line.shared && !out.some((o) => Math.abs(o.twoTheta - line.twoThetaMeasured) < 1e-9)) {
+        const peak = line.peakIndex ?? line.twoThetaMeasured;
+        if (line.twoThetaMeasured < first && !line.shared && !seen.has(peak)) {
+          seen.add(peak);
           out.push({ twoTheta: line.twoThetaMeasured, d: line.d, phase: phase.name });
         }
       }

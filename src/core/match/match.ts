@@ -434,6 +434,7 @@ function describePhase(
       ...(line.hkl ? { hkl: line.hkl } : {}),
       twoThetaExpected: round(table.twoTheta[k] - evaluation.residual[j], 4),
       twoThetaMeasured: round(table.twoTheta[k], 4),
+      peakIndex: table.inputIndex[k],
       shared: owner >= 0 && owner !== number,
     });
   }
@@ -550,7 +551,7 @@ function unexplainedPeaks(
         return false;
       })
       .map((lines) => lines.reference.name);
-    out.push({ twoTheta: round(tt, 4), d: round(table.peaks[k].d, 4), height: round(table.height[k], 1), lowAngle: tt < lowAngleLimit, possibleSources });
+    out.push({ peakIndex: table.inputIndex[k], twoTheta: round(tt, 4), d: round(table.peaks[k].d, 4), height: round(table.height[k], 1), lowAngle: tt < lowAngleLimit, possibleSources });
   }
   return out;
 }

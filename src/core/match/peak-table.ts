@@ -12,6 +12,8 @@ export const CLEAR_PEAK_NOISE_LEVELS = 5;
 export interface PeakTable {
   count: number;
   peaks: FittedPeak[];
+  /** Where each peak stands in the list the match was given (the join from a matched line back to its peak). */
+  inputIndex: Int32Array;
   twoTheta: Float64Array;
   cosTheta: Float64Array;
   area: Float64Array;
@@ -62,7 +64,9 @@ export function buildPeakTable(
   range: { min: number; max: number } | undefined,
   toleranceDeg: number,
 ): PeakTable {
-  const peaks = input.filter((p) => Number.isFinite(p.twoTheta) && p.height > 0).sort((a, b) => a.twoTheta - b.twoTheta);
+  const order = input.map((_, i) => i).filter((i) => Number.isFinite(input[i]!.twoTheta) && input[i]!.height > 0).sort((a, b) => input[a]!.twoTheta - input[b]!.twoTheta);
+  const peaks = order.map((i) => input[i]!);
+  const inputIndex = Int32Array.from(order);
   const n = peaks.length;
   const twoTheta = new Float64Array(n);
   const cosTheta = new Float64Array(n);
@@ -87,7 +91,7 @@ export function buildPeakTable(
   let rangeMin = range?.min ?? (background && background.x.length ? background.x[0] : n ? twoTheta[0] - 1 : 0);
   let rangeMax = range?.max ?? (background && background.x.length ? background.x[background.x.length - 1] : n ? twoTheta[n - 1] + 1 : 0);
   if (rangeMax < rangeMin) [rangeMin, rangeMax] = [rangeMax, rangeMin];
-  return { count: n, peaks, twoTheta, cosTheta, area, height, window, breadth, clear, noiseAt, rangeMin, rangeMax, totalArea };
+  return { count: n, peaks, inputIndex, twoTheta, cosTheta, area, height, window, breadth, clear, noiseAt, rangeMin, rangeMax, totalArea };
 }
 
 /** Index of the peak nearest to a 2θ, or -1 when there are none. */

@@ -55,6 +55,8 @@ export interface MatchedLine {
   twoThetaExpected: number;
   /** Position of the measured peak it was matched to, degrees 2θ. */
   twoThetaMeasured: number;
+  /** Index of that peak in the analysis's peak list. */
+  peakIndex: number;
   /** True when the peak is also claimed by a phase accepted earlier (shared, not counted twice). */
   shared: boolean;
 }
@@ -102,6 +104,8 @@ export interface PhaseMatch {
 }
 
 export interface UnexplainedPeak {
+  /** Index of the peak in the analysis's peak list. */
+  peakIndex: number;
   twoTheta: number;
   d: number;
   height: number;
