@@ -1,4 +1,4 @@
-import { SIZE_CAUTIONS } from '../core/size/sizes.js';
+import type { PatternFigure } from '../core/report/figures.js';
 import { REPORT_CAUTIONS, renderCsvReport, renderHtmlReport, reportFileBase, type ReportInput, type ReportSample } from '../core/report/report.js';
 import type { ExportedFile } from '../api/contract.js';
 import { lowAnglePeaks } from '../core/analysis/verdict.js';
@@ -35,6 +35,7 @@ export function reportInput(workspace: Workspace, appVersion: string): ReportInp
       wavelength: result?.settings.wavelength ?? s.wavelength,
       reasons: [...(result?.match.reasons ?? []), ...(phase?.reasons ?? [])],
       warnings: result?.warnings ?? [],
+      figure: result ? patternFigure(workspace, record.id) : null,
     };
   });
   const variants = buildSeriesView(workspace, 'variant');
@@ -70,8 +71,20 @@ export function reportInput(workspace: Workspace, appVersion: string): ReportInp
     exposure: exposure.rows.map((r) => ({ label: r.label, hours: r.hours, sizeNm: r.sizeNm, sizeSigmaNm: r.sizeSigmaNm, impurityShare: r.impurityShare })),
     comparisons: [...variants.comparisons, ...exposure.comparisons],
     growth: exposure.growth.map((g) => `${g.phase}: ${g.statement}`),
-    cautions: [...REPORT_CAUTIONS, ...SIZE_CAUTIONS],
+    // The report's cautions already say what the size cautions say: each once.
+    cautions: [...REPORT_CAUTIONS],
   };
+}
+
+/** The sample's pattern, fit and peak marks for the report figure, from what the app shows on screen. */
+function patternFigure(workspace: Workspace, id: number): PatternFigure | null {
+  const detail = workspace.sampleDetail(id);
+  const floats = (b64: string | null) => (b64 === null ? null : new Float32Array(Uint8Array.from(Buffer.from(b64, 'base64')).buffer));
+  const x = floats(detail.x)!;
+  const y = floats(detail.y)!;
+  const model = floats(detail.model);
+  const background = floats(detail.background);
+  return { x, y, model, background, peaks: detail.peaks.map((p) => ({ twoTheta: p.twoTheta, phase: p.phase, lowAngle: p.lowAngle })) };
 }
 
 export function buildHtmlReport(workspace: Workspace, appVersion: string): ExportedFile {

@@ -103,6 +103,17 @@ describe('a project from drop to report', () => {
     expect(file.text).not.toMatch(/<script/i);
   });
 
+  it('puts each sample’s pattern with fit, difference and peak marks in the report, and each caution once', async () => {
+    const file = await ok<{ fileName: string; text: string }>('report.build', { format: 'html' });
+    expect(file.text).toMatch(/<figure class="pattern"><svg[^>]*aria-label="si_washed/);
+    expect(file.text).toContain('peaks of silicon test');
+    expect(file.text).toContain('@page{size:A4');
+    const cautions = [...file.text.matchAll(/<p class="caution">([^<]*)<\/p>/g)].map((m) => m[1]);
+    expect(cautions.length).toBeGreaterThan(0);
+    expect(new Set(cautions).size).toBe(cautions.length);
+    expect(cautions.filter((c) => /apparent sizes/.test(c!))).toHaveLength(1);
+  });
+
   it('prints the HTML report to PDF with the system’s Chromium', async () => {
     expect(existsSync('/usr/bin/chromium'), 'Chromium is missing at /usr/bin/chromium: apt-get install -y chromium').toBe(true);
     const file = await ok<{ fileName: string; bytesBase64: string }>('report.pdf', {});

@@ -3,6 +3,8 @@
  * PDF) and a CSV table. Both carry every setting, the reference versions, the app version and the
  * cautions, so a result can be judged and reproduced later.
  */
+import { niceTicks, patternFigureSvg, type PatternFigure } from './figures.js';
+
 export interface ReportSample {
   name: string;
   fileName: string;
@@ -25,6 +27,8 @@ export interface ReportSample {
   wavelength: string;
   reasons: string[];
   warnings: string[];
+  /** The pattern with its fit and peak marks, for the figure (null when the sample was not analysed). */
+  figure?: PatternFigure | null;
 }
 
 export interface ReportSeriesRow {
@@ -51,6 +55,8 @@ export interface ReportInput {
   /** One sentence per phase growing with exposure time. */
   growth: string[];
   cautions: string[];
+  /** Paper size of the printed page (default A4). */
+  paper?: 'A4' | 'Letter';
 }
 
 /** The cautions every report carries (DESIGN.md, "Cautions shown to users"). */
@@ -81,6 +87,7 @@ export function renderHtmlReport(input: ReportInput): string {
   const details = input.samples
     .map(
       (s) => `<section class="sample"><h3>${esc(s.name)}</h3><p class="small">File ${esc(s.fileName)}, SHA-256 <code>${esc(s.sha256)}</code>, ${esc(s.wavelength)}${s.simulated ? ', <strong>simulated pattern</strong>' : ''}.</p>
+${s.figure ? patternFigureSvg(s.figure, `${s.name}${s.simulated ? ' (simulated)' : ''}`) : ''}
 <ul>${s.reasons.map((r) => `<li>${esc(r)}</li>`).join('')}</ul>${s.warnings.length ? `<p class="small">Notes: ${s.warnings.map(esc).join('; ')}</p>` : ''}</section>`,
     )
     .join('\n');
@@ -99,7 +106,11 @@ h1{font-size:1.5rem;margin-bottom:.2rem}h2{font-size:1.15rem;margin-top:2rem;bor
 table{border-collapse:collapse;width:100%;margin:.5rem 0}th,td{border-bottom:1px solid #e4e2dc;padding:.3rem .45rem;text-align:left;vertical-align:top}
 th{background:#f3f1ec;font-weight:600}tr.extra td{background:#fbefe9}.small{font-size:12px;color:#56636b}.sim{font-size:11px;background:#eef3f6;border:1px solid #b9cbd6;border-radius:3px;padding:0 .3rem}
 .truth,.caution{border-left:4px solid #2a8c82;background:#f1f7f6;padding:.5rem .8rem;margin:.8rem 0}.caution{border-color:#c08a2e;background:#fbf5ea}
-code{font-size:11px;word-break:break-all}svg{max-width:100%}
+code{font-size:11px;word-break:break-all}svg{max-width:100%;height:auto}
+figure.pattern{margin:.6rem 0}figcaption{font-size:11px;color:#56636b}.key{white-space:nowrap;margin-right:.6rem}.swatch{display:inline-block;width:.8em;height:.5em;margin-right:.25em;vertical-align:middle}
+table{table-layout:auto}td,th{overflow-wrap:anywhere}
+@page{size:${input.paper ?? 'A4'};margin:14mm 12mm}
+@media print{body{margin:0;max-width:none;font-size:10.5pt}h2{break-after:avoid}section.sample,figure,table tr{break-inside:avoid}.caution,.truth{break-inside:avoid}}
 </style></head><body>
 <h1>${esc(input.projectName)}</h1>
 <p class="small">Crystallog ${esc(input.appVersion)} · report made ${esc(input.createdAt)}</p>
@@ -110,6 +121,7 @@ ${rows}</table>
 <h2>Crystallite size across the series</h2>
 ${seriesSvg(input.variants, 'variant')}
 ${seriesSvg(input.exposure, 'time')}
+${growthSvg(input.exposure)}
 ${comparisons}
 ${input.growth.length ? `<h2>Growth with exposure time</h2><ul>${input.growth.map((g) => `<li>${esc(g)}</li>`).join('')}</ul>` : ''}
 <h2>Why each verdict</h2>
@@ -136,10 +148,7 @@ function seriesSvg(rows: ReportSeriesRow[], by: 'variant' | 'time'): string {
   const yAt = (v: number): number => top + (1 - v / maxSize) * (height - top - bottom);
   const parts: string[] = [`<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}" font-size="11" font-family="system-ui,sans-serif">`];
   parts.push(`<line x1="${left}" y1="${height - bottom}" x2="${width - 10}" y2="${height - bottom}" stroke="#24313a"/><line x1="${left}" y1="${top}" x2="${left}" y2="${height - bottom}" stroke="#24313a"/>`);
-  for (let t = 0; t <= 4; t++) {
-    const v = (maxSize * t) / 4;
-    parts.push(`<text x="${left - 6}" y="${yAt(v) + 4}" text-anchor="end">${v.toFixed(0)}</text>`);
-  }
+  for (const v of niceTicks(0, maxSize, 4)) parts.push(`<text x="${left - 6}" y="${yAt(v) + 4}" text-anchor="end">${v}</text>`);
   parts.push(`<text transform="translate(14 ${(height - bottom) / 2}) rotate(-90)" text-anchor="middle">size (nm)</text>`);
   points.forEach((p, i) => {
     const x = xAt(i);
@@ -149,6 +158,31 @@ function seriesSvg(rows: ReportSeriesRow[], by: 'variant' | 'time'): string {
   });
   parts.push('</svg>');
   return `<p class="small">${by === 'variant' ? 'By workup variant' : 'By exposure time'} (error bars: ± one standard uncertainty)</p>${parts.join('')}`;
+}
+
+/** The other phases' share against exposure time: the growth of a hydrolysis or hydration product. */
+function growthSvg(rows: ReportSeriesRow[]): string {
+  const points = rows.filter((r) => r.hours !== null && r.impurityShare !== null) as Array<ReportSeriesRow & { hours: number; impurityShare: number }>;
+  if (points.length < 2) return '';
+  const width = 640;
+  const height = 220;
+  const left = 56;
+  const bottom = 34;
+  const top = 16;
+  const maxHours = Math.max(...points.map((p) => p.hours)) || 1;
+  const maxShare = Math.min(1, Math.max(0.05, ...points.map((p) => p.impurityShare)) * 1.15);
+  const xAt = (h: number): number => left + (h / maxHours) * (width - left - 16);
+  const yAt = (v: number): number => top + (1 - v / maxShare) * (height - top - bottom);
+  const parts: string[] = [`<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 ${width} ${height}" width="${width}" height="${height}" font-size="11" font-family="system-ui,sans-serif">`];
+  parts.push(`<line x1="${left}" y1="${height - bottom}" x2="${width - 10}" y2="${height - bottom}" stroke="#24313a"/><line x1="${left}" y1="${top}" x2="${left}" y2="${height - bottom}" stroke="#24313a"/>`);
+  for (const v of niceTicks(0, maxShare * 100, 4)) parts.push(`<text x="${left - 6}" y="${yAt(v / 100) + 4}" text-anchor="end">${v}</text>`);
+  for (const h of niceTicks(0, maxHours, 6)) parts.push(`<text x="${xAt(h)}" y="${height - bottom + 16}" text-anchor="middle">${h}</text>`);
+  parts.push(`<text transform="translate(14 ${(height - bottom) / 2}) rotate(-90)" text-anchor="middle">other phases (%)</text><text x="${(left + width) / 2}" y="${height - 4}" text-anchor="middle">exposure (h)</text>`);
+  const sorted = [...points].sort((a, b) => a.hours - b.hours);
+  parts.push(`<path d="${sorted.map((p, i) => `${i ? 'L' : 'M'}${xAt(p.hours).toFixed(1)} ${yAt(p.impurityShare).toFixed(1)}`).join('')}" fill="none" stroke="#d55e00"/>`);
+  for (const p of sorted) parts.push(`<circle cx="${xAt(p.hours)}" cy="${yAt(p.impurityShare)}" r="4" fill="#d55e00"/>`);
+  parts.push('</svg>');
+  return `<p class="small">Share of the pattern not explained by the target, against exposure time</p>${parts.join('')}`;
 }
 
 const CSV_COLUMNS = [

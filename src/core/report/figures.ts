@@ -1,0 +1,118 @@
+/**
+ * Figures for the report as inline SVG (no scripts, no outside files): a sample's pattern with its
+ * model, the difference below it and a mark under each fitted peak in the colour of the phase that
+ * explains it (unexplained peaks marked apart). Axes carry round tick values.
+ */
+
+export interface PatternFigure {
+  x: ArrayLike<number>;
+  y: ArrayLike<number>;
+  model: ArrayLike<number> | null;
+  background: ArrayLike<number> | null;
+  peaks: Array<{ twoTheta: number; phase: string | null; lowAngle: boolean }>;
+}
+
+/** Our own palette for phases in figures (colour-blind-safe order, after Okabe & Ito 2008, from memory). */
+const PHASE_COLOURS = ['#0072b2', '#009e73', '#cc79a7', '#e69f00', '#56b4e9', '#d55e00', '#6a3d9a', '#8c6d31'];
+const OBSERVED = '#2b2f33';
+const MODEL = '#d55e00';
+const DIFFERENCE = '#6b7780';
+const UNEXPLAINED = '#b2182b';
+
+const esc = (text: string): string => text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
+
+/** Round tick values covering [lo, hi]: steps of 1, 2 or 5 × 10ⁿ, about `count` of them. */
+export function niceTicks(lo: number, hi: number, count = 6): number[] {
+  if (!(hi > lo)) return [lo];
+  const raw = (hi - lo) / count;
+  const power = 10 ** Math.floor(Math.log10(raw));
+  const step = [1, 2, 5, 10].map((m) => m * power).find((s) => s >= raw) ?? 10 * power;
+  const out: number[] = [];
+  for (let v = Math.ceil(lo / step) * step; v <= hi + step * 1e-9; v += step) out.push(Number(v.toPrecision(12)));
+  return out;
+}
+
+/** At most `buckets` × 2 points: the minimum and maximum of each bucket keep every peak's top. */
+function decimate(x: ArrayLike<number>, series: Array<ArrayLike<number>>, buckets: number): { x: number[]; series: number[][] } {
+  const n = x.length;
+  if (n <= 2 * buckets) return { x: Array.from(x), series: series.map((s) => Array.from(s)) };
+  const outX: number[] = [];
+  const out = series.map(() => [] as number[]);
+  const y = series[0]!;
+  for (let b = 0; b < buckets; b++) {
+    const from = Math.floor((b * n) / buckets);
+    const to = Math.floor(((b + 1) * n) / buckets);
+    let lo = from;
+    let hi = from;
+    for (let i = from; i < to; i++) {
+      if (y[i]! < y[lo]!) lo = i;
+      if (y[i]! > y[hi]!) hi = i;
+    }
+    for (const i of lo < hi ? [lo, hi] : [hi, lo]) {
+      outX.push(x[i]!);
+      series.forEach((s, k) => out[k]!.push(s[i]!));
+    }
+  }
+  return { x: outX, series: out };
+}
+
+function path(xs: number[], ys: number[], xAt: (v: number) => number, yAt: (v: number) => number): string {
+  return xs.map((x, i) => `${i === 0 ? 'M' : 'L'}${xAt(x).toFixed(1)} ${yAt(ys[i]!).toFixed(1)}`).join('');
+}
+
+/** The pattern figure of one sample: observed, model, difference, and peak marks by phase, with a legend. */
+export function patternFigureSvg(figure: PatternFigure, title: string): string {
+  const width = 680;
+  const height = 300;
+  const left = 60;
+  const right = 12;
+  const top = 10;
+  const diffHeight = 46;
+  const marksHeight = 22;
+  const bottom = 36;
+  const plotBottom = height - bottom - diffHeight - marksHeight;
+  const n = figure.x.length;
+  if (n < 2) return '';
+  const model = figure.model ?? figure.y;
+  const diff = Array.from(figure.y, (v, i) => v - (model[i] ?? v));
+  const { x, series } = decimate(figure.x, [figure.y, model, diff], 700);
+  const [ys, ms, ds] = series as [number[], number[], number[]];
+  const x0 = x[0]!;
+  const x1 = x[x.length - 1]!;
+  const yMax = Math.max(...ys, ...ms) * 1.05;
+  const yMin = Math.min(0, ...ys);
+  const dAbs = Math.max(1e-9, ...ds.map(Math.abs));
+  const xAt = (v: number) => left + ((v - x0) / (x1 - x0)) * (width - left - right);
+  const yAt = (v: number) => top + (1 - (v - yMin) / (yMax - yMin)) * (plotBottom - top);
+  const diffMid = plotBottom + marksHeight + diffHeight / 2;
+  const dAt = (v: number) => diffMid - (v / dAbs) * (diffHeight / 2 - 2);
+  const phases = [...new Set(figure.peaks.map((p) => p.phase).filter((p): p is string => p !== null))];
+  const colourOf = (phase: string | null) => (phase === null ? UNEXPLAINED : PHASE_COLOURS[phases.indexOf(phase) % PHASE_COLOURS.length]!);
+  const parts: string[] = [`<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 ${width} ${height}" width="${width}" height="${height}" font-size="10" font-family="system-ui,sans-serif" role="img" aria-label="${esc(title)}">`];
+  parts.push(`<rect x="${left}" y="${top}" width="${width - left - right}" height="${plotBottom - top}" fill="none" stroke="#c9cdd1"/>`);
+  for (const t of niceTicks(x0, x1, 8)) {
+    parts.push(`<line x1="${xAt(t)}" y1="${height - bottom}" x2="${xAt(t)}" y2="${height - bottom + 4}" stroke="#24313a"/><text x="${xAt(t)}" y="${height - bottom + 15}" text-anchor="middle">${t}</text>`);
+  }
+  parts.push(`<text x="${(left + width - right) / 2}" y="${height - 4}" text-anchor="middle">2θ (degrees)</text>`);
+  for (const t of niceTicks(yMin, yMax, 4)) parts.push(`<text x="${left - 6}" y="${yAt(t) + 3}" text-anchor="end">${t}</text>`);
+  parts.push(`<text transform="translate(12 ${(top + plotBottom) / 2}) rotate(-90)" text-anchor="middle">intensity (counts)</text>`);
+  parts.push(`<path d="${path(x, ys, xAt, yAt)}" fill="none" stroke="${OBSERVED}" stroke-width="0.8"/>`);
+  if (figure.model) parts.push(`<path d="${path(x, ms, xAt, yAt)}" fill="none" stroke="${MODEL}" stroke-width="0.8" stroke-dasharray="3 2"/>`);
+  const marksTop = plotBottom + 4;
+  for (const p of figure.peaks) {
+    if (p.twoTheta < x0 || p.twoTheta > x1) continue;
+    const px = xAt(p.twoTheta).toFixed(1);
+    const colour = colourOf(p.phase);
+    parts.push(`<line x1="${px}" y1="${marksTop}" x2="${px}" y2="${marksTop + 12}" stroke="${colour}" stroke-width="${p.phase === null ? 2 : 1.4}"/>`);
+    if (p.phase === null) parts.push(`<text x="${px}" y="${marksTop + 20}" text-anchor="middle" fill="${colour}">${p.lowAngle ? '?!' : '?'}</text>`);
+  }
+  parts.push(`<line x1="${left}" y1="${diffMid}" x2="${width - right}" y2="${diffMid}" stroke="#dfe2e5"/>`);
+  parts.push(`<path d="${path(x, ds, xAt, dAt)}" fill="none" stroke="${DIFFERENCE}" stroke-width="0.7"/>`);
+  parts.push(`<text x="${left + 4}" y="${plotBottom + marksHeight + 9}" fill="${DIFFERENCE}">obs − model</text>`);
+  parts.push('</svg>');
+  // The legend in HTML below the figure, so that long phase names wrap instead of running off.
+  const legend: Array<[string, string]> = [['observed', OBSERVED], ...(figure.model ? ([['model', MODEL]] as Array<[string, string]>) : []), ['obs − model', DIFFERENCE], ...phases.map((p): [string, string] => [`peaks of ${p}`, colourOf(p)])];
+  if (figure.peaks.some((p) => p.phase === null)) legend.push(['unexplained peak (?! below the target’s first line)', UNEXPLAINED]);
+  const key = legend.map(([label, colour]) => `<span class="key"><span class="swatch" style="background:${colour}"></span>${esc(label)}</span>`).join(' ');
+  return `<figure class="pattern">${parts.join('')}<figcaption>${esc(title)} — ${key}</figcaption></figure>`;
+}
