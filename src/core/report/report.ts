@@ -134,22 +134,27 @@ ${details}
 `;
 }
 
+/** The frame every small series chart shares: its size, margins, the two axes and the y tick labels. */
+const SMALL_CHART = { width: 640, height: 220, left: 56, bottom: 34, top: 16 };
+
+function smallChartFrame(yMax: number, yTickScale: number, yTitle: string): { parts: string[]; yAt: (v: number) => number } {
+  const { width, height, left, bottom, top } = SMALL_CHART;
+  const yAt = (v: number): number => top + (1 - v / yMax) * (height - top - bottom);
+  const parts: string[] = [`<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 ${width} ${height}" width="${width}" height="${height}" font-size="11" font-family="system-ui,sans-serif">`];
+  parts.push(`<line x1="${left}" y1="${height - bottom}" x2="${width - 10}" y2="${height - bottom}" stroke="#24313a"/><line x1="${left}" y1="${top}" x2="${left}" y2="${height - bottom}" stroke="#24313a"/>`);
+  for (const v of niceTicks(0, yMax * yTickScale, 4)) parts.push(`<text x="${left - 6}" y="${yAt(v / yTickScale) + 4}" text-anchor="end">${v}</text>`);
+  parts.push(`<text transform="translate(14 ${(height - bottom) / 2}) rotate(-90)" text-anchor="middle">${esc(yTitle)}</text>`);
+  return { parts, yAt };
+}
+
 /** A small inline SVG chart: sizes ± σ by variant, or impurity share and size by exposure time. */
 function seriesSvg(rows: ReportSeriesRow[], by: 'variant' | 'time'): string {
   const points = rows.filter((r) => r.sizeNm !== null);
   if (points.length < 2) return '';
-  const width = 640;
-  const height = 220;
-  const left = 56;
-  const bottom = 34;
-  const top = 16;
+  const { width, height, left, bottom } = SMALL_CHART;
   const maxSize = Math.max(...points.map((p) => p.sizeNm! + (Number.isFinite(p.sizeSigmaNm ?? NaN) ? p.sizeSigmaNm! : 0))) * 1.15;
   const xAt = (i: number): number => left + ((i + 0.5) * (width - left - 10)) / points.length;
-  const yAt = (v: number): number => top + (1 - v / maxSize) * (height - top - bottom);
-  const parts: string[] = [`<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}" font-size="11" font-family="system-ui,sans-serif">`];
-  parts.push(`<line x1="${left}" y1="${height - bottom}" x2="${width - 10}" y2="${height - bottom}" stroke="#24313a"/><line x1="${left}" y1="${top}" x2="${left}" y2="${height - bottom}" stroke="#24313a"/>`);
-  for (const v of niceTicks(0, maxSize, 4)) parts.push(`<text x="${left - 6}" y="${yAt(v) + 4}" text-anchor="end">${v}</text>`);
-  parts.push(`<text transform="translate(14 ${(height - bottom) / 2}) rotate(-90)" text-anchor="middle">size (nm)</text>`);
+  const { parts, yAt } = smallChartFrame(maxSize, 1, 'size (nm)');
   points.forEach((p, i) => {
     const x = xAt(i);
     const s = Number.isFinite(p.sizeSigmaNm ?? NaN) ? p.sizeSigmaNm! : 0;
@@ -164,20 +169,13 @@ function seriesSvg(rows: ReportSeriesRow[], by: 'variant' | 'time'): string {
 function growthSvg(rows: ReportSeriesRow[]): string {
   const points = rows.filter((r) => r.hours !== null && r.impurityShare !== null) as Array<ReportSeriesRow & { hours: number; impurityShare: number }>;
   if (points.length < 2) return '';
-  const width = 640;
-  const height = 220;
-  const left = 56;
-  const bottom = 34;
-  const top = 16;
+  const { width, height, left, bottom } = SMALL_CHART;
   const maxHours = Math.max(...points.map((p) => p.hours)) || 1;
   const maxShare = Math.min(1, Math.max(0.05, ...points.map((p) => p.impurityShare)) * 1.15);
   const xAt = (h: number): number => left + (h / maxHours) * (width - left - 16);
-  const yAt = (v: number): number => top + (1 - v / maxShare) * (height - top - bottom);
-  const parts: string[] = [`<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 ${width} ${height}" width="${width}" height="${height}" font-size="11" font-family="system-ui,sans-serif">`];
-  parts.push(`<line x1="${left}" y1="${height - bottom}" x2="${width - 10}" y2="${height - bottom}" stroke="#24313a"/><line x1="${left}" y1="${top}" x2="${left}" y2="${height - bottom}" stroke="#24313a"/>`);
-  for (const v of niceTicks(0, maxShare * 100, 4)) parts.push(`<text x="${left - 6}" y="${yAt(v / 100) + 4}" text-anchor="end">${v}</text>`);
+  const { parts, yAt } = smallChartFrame(maxShare, 100, 'other phases (%)');
   for (const h of niceTicks(0, maxHours, 6)) parts.push(`<text x="${xAt(h)}" y="${height - bottom + 16}" text-anchor="middle">${h}</text>`);
-  parts.push(`<text transform="translate(14 ${(height - bottom) / 2}) rotate(-90)" text-anchor="middle">other phases (%)</text><text x="${(left + width) / 2}" y="${height - 4}" text-anchor="middle">exposure (h)</text>`);
+  parts.push(`<text x="${(left + width) / 2}" y="${height - 4}" text-anchor="middle">exposure (h)</text>`);
   const sorted = [...points].sort((a, b) => a.hours - b.hours);
   parts.push(`<path d="${sorted.map((p, i) => `${i ? 'L' : 'M'}${xAt(p.hours).toFixed(1)} ${yAt(p.impurityShare).toFixed(1)}`).join('')}" fill="none" stroke="#d55e00"/>`);
   for (const p of sorted) parts.push(`<circle cx="${xAt(p.hours)}" cy="${yAt(p.impurityShare)}" r="4" fill="#d55e00"/>`);
