@@ -62,3 +62,36 @@ describe('clean-up after reading', () => {
     expect(() => readText('1 1\n1 2\n2 3\n2 4\n3 5\n3 6\n4 7\n')).toThrow(/at least 5/);
   });
 });
+
+describe('2θ values no scan can have', () => {
+  const rows = (count: number, from = 10, step = 0.02) => Array.from({ length: count }, (_, i) => `${(from + i * step).toFixed(2)} ${100 + (i % 7)}`);
+
+  it('skips one typo row (1e9 instead of a 2θ) with a note that counts it, keeping the scan as it is', () => {
+    const lines = rows(100);
+    lines[40] = '1e9 100';
+    const p = readText(lines.join('\n') + '\n');
+    expect(p.x.length).toBe(99);
+    expect(p.x[p.x.length - 1]).toBeCloseTo(11.98, 6);
+    expect(p.readerNotes.join(' ')).toMatch(/1 row\(s\) with a 2θ that cannot belong to this scan .* skipped/);
+  });
+
+  it('skips a stray row far beyond the scan but inside 0–180°', () => {
+    const lines = rows(300);
+    lines[150] = '170 99';
+    const p = readText(lines.join('\n') + '\n');
+    expect(p.x.length).toBe(299);
+    expect(Math.max(...p.x)).toBeLessThan(16.1);
+  });
+
+  it('refuses a first column that is no 2θ at all (negative, above 180° or absurd), naming the file and line', () => {
+    for (const scale of [-1, 1e300, 200]) {
+      const text = rows(50).map((r) => { const [a, b] = r.split(' '); return `${Number(a) * scale} ${b}`; }).join('\n') + '\n';
+      expect(() => readText(text, 'odd.xy')).toThrow(/odd\.xy, line 50: .*(no diffraction angle|outside 0–180)/);
+    }
+  });
+
+  it('refuses a first column whose values are all equal', () => {
+    const text = Array.from({ length: 20 }, (_, i) => `25.0 ${100 + i}`).join('\n') + '\n';
+    expect(() => readText(text, 'flat.xy')).toThrow(/flat\.xy, line 20: only 1 data point/);
+  });
+});

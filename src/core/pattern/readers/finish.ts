@@ -45,14 +45,18 @@ export function finishData(raw: RawPattern, fileName: string): FinishedData {
     if (i > 0 && x[i] < x[i - 1]) ordered = false;
   }
 
-  if (!ordered && x[n - 1] < x[0]) {
+  ({ x, y, given } = dropImpossibleAngles(x, y, given, raw, fileName, notes));
+  const kept = x.length;
+  ordered = isNonDecreasing(x);
+
+  if (!ordered && x[kept - 1] < x[0]) {
     x = x.slice().reverse();
     y = y.slice().reverse();
     given = given ? given.slice().reverse() : null;
     notes.push('2θ was descending; the points were put in increasing order');
   }
   if (!ordered && !isNonDecreasing(x)) {
-    const order = Array.from({ length: n }, (_, i) => i).sort((a, b) => x[a] - x[b] || a - b);
+    const order = Array.from({ length: kept }, (_, i) => i).sort((a, b) => x[a] - x[b] || a - b);
     x = permute(x, order);
     y = permute(y, order);
     given = given ? permute(given, order) : null;
@@ -61,8 +65,8 @@ export function finishData(raw: RawPattern, fileName: string): FinishedData {
 
   let nonPositive = 0;
   let badSigma = 0;
-  const pointSigma = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
+  const pointSigma = new Float64Array(kept);
+  for (let i = 0; i < kept; i++) {
     if (y[i] <= 0) nonPositive++;
     const fromFile = given ? given[i] : Number.NaN;
     if (given && !(fromFile > 0)) badSigma++;
@@ -80,6 +84,73 @@ export function finishData(raw: RawPattern, fileName: string): FinishedData {
   requirePoints(merged.x.length, raw, fileName);
   noteUnevenSteps(merged.x, notes);
   return { x: merged.x, y: merged.y, sigma: merged.sigma, notes };
+}
+
+/** 2θ of a powder pattern lies strictly between 0° and 180° (Bragg's law: 0 < θ < 90°). */
+const TWO_THETA_MAX_DEG = 180;
+/** A few stray rows (a typo such as "1e9 100") are skipped with a note; more than this many stop the read. */
+const MAX_STRAY_ROWS = 5;
+const MAX_STRAY_SHARE = 0.01;
+/** A point this many median steps away from the rest of the scan is a stray row, not a measurement. */
+const STRAY_GAP_STEPS = 200;
+
+/**
+ * Rows whose 2θ cannot be a diffraction angle (≤ 0°, ≥ 180°) or that stand far outside the scan (a
+ * typo in one row must not stretch the scan to thousands of degrees): a few are skipped with a note
+ * that counts them; more are the file's error.
+ */
+function dropImpossibleAngles(
+  x: Float64Array,
+  y: Float64Array,
+  given: Float64Array | null,
+  raw: RawPattern,
+  fileName: string,
+  notes: string[],
+): { x: Float64Array; y: Float64Array; given: Float64Array | null } {
+  const n = x.length;
+  const bad = new Uint8Array(n);
+  let impossible = 0;
+  let first = -1;
+  for (let i = 0; i < n; i++) {
+    if (x[i]! > 0 && x[i]! < TWO_THETA_MAX_DEG) continue;
+    bad[i] = 1;
+    impossible++;
+    if (first < 0) first = i;
+  }
+  const allowed = Math.max(0, Math.min(MAX_STRAY_ROWS, Math.floor(MAX_STRAY_SHARE * n) || 1));
+  if (impossible > allowed) {
+    throw new InputError(
+      `${impossible} of ${n} rows have a 2θ of ${formatAngle(x[first]!)} or similar, which no diffraction angle can be (it lies between 0 and 180°); check that the first column is 2θ in degrees`,
+      { file: fileName, line: raw.lastLine },
+    );
+  }
+  // Stray rows inside 0–180° but far from the scan: more than STRAY_GAP_STEPS median steps from both neighbours.
+  const inside = Array.from({ length: n }, (_, i) => i).filter((i) => !bad[i]).sort((a, b) => x[a]! - x[b]!);
+  const steps = inside.slice(1).map((k, j) => x[k]! - x[inside[j]!]!).filter((d) => d > 0).sort((a, b) => a - b);
+  const typical = steps.length ? steps[steps.length >> 1]! : 0;
+  let stray = 0;
+  if (typical > 0) {
+    for (let j = 0; j < inside.length; j++) {
+      const before = j > 0 ? x[inside[j]!]! - x[inside[j - 1]!]! : Infinity;
+      const after = j + 1 < inside.length ? x[inside[j + 1]!]! - x[inside[j]!]! : Infinity;
+      if (Math.min(before, after) > STRAY_GAP_STEPS * typical) {
+        bad[inside[j]!] = 1;
+        stray++;
+      }
+    }
+  }
+  const dropped = impossible + stray;
+  if (dropped === 0) return { x, y, given };
+  if (dropped > allowed) {
+    throw new InputError(`${dropped} of ${n} rows lie far outside the scan or outside 0–180° 2θ; check the first column`, { file: fileName, line: raw.lastLine });
+  }
+  const keep = (values: Float64Array) => values.filter((_, i) => !bad[i]);
+  notes.push(`${dropped} row(s) with a 2θ that cannot belong to this scan (outside 0–180° or far beyond the other points) were skipped`);
+  return { x: keep(x), y: keep(y), given: given ? keep(given) : null };
+}
+
+function formatAngle(value: number): string {
+  return Math.abs(value) >= 1e6 || (value !== 0 && Math.abs(value) < 1e-3) ? value.toExponential(2) : String(Number(value.toPrecision(6)));
 }
 
 function requirePoints(count: number, raw: RawPattern, fileName: string): void {
