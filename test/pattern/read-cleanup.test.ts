@@ -95,3 +95,10 @@ describe('2θ values no scan can have', () => {
     expect(() => readText(text, 'flat.xy')).toThrow(/flat\.xy, line 20: only 1 data point/);
   });
 });
+
+describe('line endings', () => {
+  it('reads a file whose lines end with CR alone (old Mac exports)', () => {
+    const p = readText('# 2theta counts\r10.00 100\r10.02 110\r10.04 120\r10.06 130\r10.08 140\r10.10 150\r');
+    expect(Array.from(p.x)).toEqual([10, 10.02, 10.04, 10.06, 10.08, 10.1]);
+  });
+});

@@ -57,7 +57,9 @@ function binaryError(bytes: Uint8Array, at: number, fileName: string): never {
   );
 }
 
-function checkText(text: string, fileName: string): string {
+function checkText(decoded: string, fileName: string): string {
+  // Old Mac exports end their lines with CR alone: read each CR as a line end (line numbers stay right).
+  const text = decoded.includes('\r') && !decoded.includes('\n') ? decoded.replace(/\r/g, '\n') : decoded;
   if (text.trim() === '') throw new InputError('the file holds no data, only blank space', { file: fileName, line: 1 });
   const nul = text.indexOf('\u0000');
   if (nul >= 0) {
