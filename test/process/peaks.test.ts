@@ -175,3 +175,11 @@ describe('bad input', () => {
     expect(() => findPeaks(patternOf([1, 2, 3], [1, 2, 3]), { wavelength: CU })).toThrow(/too few/);
   });
 });
+
+describe('a pattern too short to search', () => {
+  it('says where its data ends', async () => {
+    const { readPatternBytes } = await import('../../src/core/pattern/read.js');
+    const short = readPatternBytes(new TextEncoder().encode('# six points\n10 1\n11 2\n12 3\n13 2\n14 1\n15 1\n'), 'short.xy');
+    expect(() => findPeaks(short, { wavelength: anodeWavelength('Cu') })).toThrow(/^short\.xy, line 7: 6 points are too few to search for peaks \(the data ends at line 7\)/);
+  });
+});

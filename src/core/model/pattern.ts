@@ -10,6 +10,8 @@ export interface PatternSource {
   byteLength: number;
   /** Reader that understood the file: 'xy', 'csv', 'pdcif', 'simulated'. */
   format: string;
+  /** Line of the file where the data ends, for messages about the data as a whole. */
+  dataEndLine?: number;
 }
 
 /**

@@ -56,7 +56,11 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
   const n = x.length;
   const file = pattern.source.file;
   if (n < 2 * MIN_SMOOTH_WINDOW_POINTS) {
-    throw new InputError(`${n} points are too few to search for peaks; a pattern needs at least ${2 * MIN_SMOOTH_WINDOW_POINTS}`, { file });
+    const end = pattern.source.dataEndLine;
+    throw new InputError(
+      `${n} points are too few to search for peaks${end !== undefined ? ` (the data ends at line ${end})` : ''}; a pattern needs at least ${2 * MIN_SMOOTH_WINDOW_POINTS}`,
+      { file, ...(end !== undefined ? { line: end } : {}) },
+    );
   }
   for (let i = 1; i < n; i++) {
     if (!(x[i] > x[i - 1])) throw new InputError(`2θ does not increase at point ${i + 1} (${x[i]}°); the pattern must be sorted by 2θ`, { file });
