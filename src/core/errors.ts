@@ -13,7 +13,7 @@ export class InputError extends Error {
   readonly line: number | undefined;
 
   constructor(message: string, place: InputErrorPlace = {}) {
-    super(InputError.compose(message, place));
+    super(escapeControls(InputError.compose(message, place)));
     this.name = 'InputError';
     this.file = place.file;
     this.line = place.line;
@@ -29,4 +29,12 @@ export class InputError extends Error {
 
 export function isInputError(err: unknown): err is InputError {
   return err instanceof InputError;
+}
+
+/**
+ * Control characters quoted from a file (a bell, an escape sequence) are shown as \xNN, so a message
+ * can never drive the user's terminal; tabs and line breaks stay as they are.
+ */
+export function escapeControls(text: string): string {
+  return text.replace(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/g, (c) => `\\x${c.charCodeAt(0).toString(16).padStart(2, '0')}`);
 }

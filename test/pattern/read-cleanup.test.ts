@@ -102,3 +102,18 @@ describe('line endings', () => {
     expect(Array.from(p.x)).toEqual([10, 10.02, 10.04, 10.06, 10.08, 10.1]);
   });
 });
+
+describe('messages about odd bytes', () => {
+  it('shows control characters from the file as \\xNN, never raw', async () => {
+    const { InputError } = await import('../../src/core/errors.js');
+    const err = new InputError('cannot read "12\u001b[31m" as a number', { file: 'odd.xy', line: 3 });
+    expect(err.message).toBe('odd.xy, line 3: cannot read "12\\x1b[31m" as a number');
+    let caught: unknown;
+    try {
+      readText('10 100\n11 1\u0007x\n12 3\n13 4\n14 5\n15 6\n', 'bell.xy');
+    } catch (e) {
+      caught = e;
+    }
+    if (caught instanceof Error) expect(caught.message).not.toMatch(/[\u0000-\u0008\u000b-\u001f\u007f]/);
+  });
+});

@@ -10,8 +10,6 @@ export interface PatternSource {
   byteLength: number;
   /** Reader that understood the file: 'xy', 'csv', 'pdcif', 'simulated'. */
   format: string;
-  /** Line of the file where the data ends, for messages about the data as a whole. */
-  dataEndLine?: number;
 }
 
 /**
@@ -29,4 +27,6 @@ export interface Pattern {
   meta: Record<string, string>;
   /** Notes on what the reader did (sorted descending x, merged duplicate x...), for the user. */
   readerNotes: string[];
+  /** Line of the file where the data ends, for messages about the data as a whole. */
+  dataEndLine?: number;
 }

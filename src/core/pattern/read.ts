@@ -27,10 +27,10 @@ export function readPatternBytes(bytes: Uint8Array, fileName: string, known: { s
       sha256: known.sha256 ?? sha256Hex(bytes),
       byteLength: bytes.byteLength,
       format: raw.format,
-      dataEndLine: raw.lastLine,
     },
     meta: raw.meta,
     readerNotes: data.notes,
+    dataEndLine: raw.lastLine,
   };
 }
 

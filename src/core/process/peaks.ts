@@ -56,7 +56,7 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
   const n = x.length;
   const file = pattern.source.file;
   if (n < 2 * MIN_SMOOTH_WINDOW_POINTS) {
-    const end = pattern.source.dataEndLine;
+    const end = pattern.dataEndLine;
     throw new InputError(
       `${n} points are too few to search for peaks${end !== undefined ? ` (the data ends at line ${end})` : ''}; a pattern needs at least ${2 * MIN_SMOOTH_WINDOW_POINTS}`,
       { file, ...(end !== undefined ? { line: end } : {}) },
