@@ -1,20 +1,60 @@
 import { createHash } from 'node:crypto';
-import { readFileSync } from 'node:fs';
+import { closeSync, constants, fstatSync, openSync, readSync } from 'node:fs';
 import { InputError } from '../core/errors.js';
 import type { Pattern } from '../core/model/pattern.js';
 import { readPatternBytes } from '../core/pattern/read.js';
 
-/** Read a pattern file from disk (once, read-only). A missing or unreadable file is the user's error. */
-export function readPatternFile(path: string): Pattern {
-  let bytes: Uint8Array;
+/** Largest pattern file read unless the caller allows more (a 2 M-line export is about 40 MB). */
+export const DEFAULT_MAX_PATTERN_BYTES = 200 * 1024 * 1024;
+
+export interface ReadFileOptions {
+  /** Refuse files larger than this, bytes (default DEFAULT_MAX_PATTERN_BYTES). */
+  maxBytes?: number;
+}
+
+/**
+ * The bytes of a regular file, read once and read-only. A FIFO, a device or a socket is refused before
+ * a byte is read (reading /dev/zero would never end), and so is a file over the size cap.
+ */
+export function readRegularFile(path: string, options: ReadFileOptions = {}): Uint8Array {
+  const maxBytes = options.maxBytes ?? DEFAULT_MAX_PATTERN_BYTES;
+  let fd: number;
   try {
-    bytes = readFileSync(path);
+    // Non-blocking, so that opening a FIFO with no writer returns at once (and is then refused).
+    fd = openSync(path, constants.O_RDONLY | constants.O_NONBLOCK);
   } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    const reason =
-      code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'this is a folder, not a file' : code === 'EACCES' ? 'no permission to read it' : `cannot read it (${code ?? 'unknown error'})`;
-    throw new InputError(`${reason}; check the path`, { file: path });
+    throw new InputError(`${openFailure((err as NodeJS.ErrnoException).code)}; check the path`, { file: path });
   }
+  try {
+    const stat = fstatSync(fd);
+    if (stat.isDirectory()) throw new InputError('this is a folder, not a file; check the path', { file: path });
+    if (!stat.isFile()) throw new InputError('this is not a regular file (a pipe, a device or a socket); save the pattern to a file and give its path', { file: path });
+    if (stat.size > maxBytes) {
+      throw new InputError(`the file has ${(stat.size / 1048576).toFixed(0)} MB, more than the ${(maxBytes / 1048576).toFixed(0)} MB a pattern file may have here; check that this is a pattern, or allow larger files`, { file: path });
+    }
+    const bytes = new Uint8Array(stat.size);
+    let filled = 0;
+    while (filled < bytes.length) {
+      const got = readSync(fd, bytes, filled, bytes.length - filled, filled);
+      if (got === 0) break;
+      filled += got;
+    }
+    return filled === bytes.length ? bytes : bytes.subarray(0, filled);
+  } finally {
+    closeSync(fd);
+  }
+}
+
+function openFailure(code: string | undefined): string {
+  if (code === 'ENOENT') return 'no such file';
+  if (code === 'EISDIR') return 'this is a folder, not a file';
+  if (code === 'EACCES' || code === 'EPERM') return 'no permission to read it';
+  return `cannot read it (${code ?? 'unknown error'})`;
+}
+
+/** Read a pattern file from disk (once, read-only). A missing or unreadable file is the user's error. */
+export function readPatternFile(path: string, options: ReadFileOptions = {}): Pattern {
+  const bytes = readRegularFile(path, options);
   // Node's native SHA-256 is about ten times faster than the portable one in the core.
   return readPatternBytes(bytes, path, { sha256: createHash('sha256').update(bytes).digest('hex') });
 }

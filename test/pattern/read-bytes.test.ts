@@ -123,3 +123,24 @@ describe('large files', () => {
     expect(p.readerNotes.filter((note) => !note.includes('zero or negative'))).toEqual([]);
   });
 });
+
+describe('files that are not regular files', () => {
+  it('refuses a FIFO and a device at once instead of reading them for ever', async () => {
+    const { execFileSync } = await import('node:child_process');
+    const { mkdtempSync } = await import('node:fs');
+    const { join } = await import('node:path');
+    const fifo = join(mkdtempSync(join(tmpdir(), 'crystallog-fifo-')), 'pipe.xy');
+    execFileSync('mkfifo', [fifo]);
+    expect(() => readPatternFile(fifo)).toThrow(/pipe\.xy: this is not a regular file/);
+    expect(() => readPatternFile('/dev/zero')).toThrow(/\/dev\/zero: this is not a regular file/);
+  });
+
+  it('refuses a file over the size cap, which the caller can raise', async () => {
+    const { mkdtempSync, writeFileSync } = await import('node:fs');
+    const { join } = await import('node:path');
+    const file = join(mkdtempSync(join(tmpdir(), 'crystallog-cap-')), 'big.xy');
+    writeFileSync(file, Array.from({ length: 200 }, (_, i) => `${10 + i * 0.02} ${100 + i}`).join('\n'));
+    expect(() => readPatternFile(file, { maxBytes: 1000 })).toThrow(/big\.xy: the file has 0 MB, more than the 0 MB/);
+    expect(readPatternFile(file).x.length).toBe(200);
+  });
+});
