@@ -15,6 +15,109 @@ export function chungWeightFractions(phases: ReadonlyArray<{ scale: number; rir:
   return phases.map((p) => (p.rir && p.rir > 0 && p.scale > 0 && sum > 0 ? p.scale / p.rir / sum : null));
 }
 
+export interface QuantifiedPhaseInput {
+  scale: number;
+  /** σ of the scale (from the scale fit's covariance or the peak areas' σ); 0 when unknown. */
+  scaleSigma?: number | null;
+  rir: number | null | undefined;
+  /** σ of the RIR, when known. */
+  rirSigma?: number | null;
+}
+
+export interface InternalStandard {
+  /** Index (in the phases given) of the reference spiked into the sample. */
+  index: number;
+  /** Weight fraction of the standard in the spiked sample, 0–1, and its σ (weighing). */
+  weightFraction: number;
+  weightFractionSigma?: number;
+}
+
+export interface Quantification {
+  /** Chung's matrix-flushing fractions among the quantified phases (the standard excluded), with σ. */
+  weightFraction: Array<number | null>;
+  weightFractionSigma: Array<number | null>;
+  /** With an internal standard: weight fractions of the unspiked sample, with σ (null without one). */
+  absoluteFraction: Array<number | null>;
+  absoluteFractionSigma: Array<number | null>;
+  /** With an internal standard: 1 − Σ absolute crystalline fractions (amorphous and unquantified matter), with σ. */
+  amorphous: { fraction: number; sigma: number } | null;
+  statement: string;
+}
+
+/** σ of f(x) by a central-difference gradient and independent σ of x (first-order propagation). */
+function propagated(f: (x: Float64Array) => number, x: Float64Array, sigma: Float64Array): number {
+  let variance = 0;
+  for (let j = 0; j < x.length; j++) {
+    if (!(sigma[j] > 0)) continue;
+    const h = 1e-6 * Math.max(Math.abs(x[j]), 1e-12);
+    const up = Float64Array.from(x);
+    const down = Float64Array.from(x);
+    up[j] += h;
+    down[j] -= h;
+    variance += (((f(up) - f(down)) / (2 * h)) * sigma[j]) ** 2;
+  }
+  return Math.sqrt(variance);
+}
+
+/**
+ * Chung's matrix flushing with σ (scale σ and RIR σ propagated to first order), and with an internal
+ * standard spiked at a known weight fraction the absolute fractions W_i = W_s·(I_i/RIR_i)/(I_s/RIR_s),
+ * referred to the unspiked sample, and the amorphous content 1 − Σ W_i (Chung, J. Appl. Cryst. 7, 519 (1974)).
+ */
+export function chungQuantification(phases: readonly QuantifiedPhaseInput[], standard?: InternalStandard): Quantification {
+  const count = phases.length;
+  const quantified = phases.map((p, i) => !!(p.rir && p.rir > 0 && p.scale > 0) && i !== standard?.index);
+  // Parameters: scales, RIRs, then the standard's weight fraction.
+  const x = new Float64Array(2 * count + 1);
+  const sx = new Float64Array(2 * count + 1);
+  phases.forEach((p, i) => {
+    x[i] = p.scale;
+    sx[i] = p.scaleSigma ?? 0;
+    x[count + i] = p.rir ?? 0;
+    sx[count + i] = p.rirSigma ?? 0;
+  });
+  x[2 * count] = standard?.weightFraction ?? 0;
+  sx[2 * count] = standard?.weightFractionSigma ?? 0;
+  const flushed = (i: number) => (v: Float64Array) => {
+    let sum = 0;
+    for (let j = 0; j < count; j++) if (quantified[j]) sum += v[j] / v[count + j];
+    return v[i] / v[count + i] / sum;
+  };
+  const weightFraction = phases.map((_, i) => (quantified[i] ? flushed(i)(x) : null));
+  const weightFractionSigma = phases.map((_, i) => (quantified[i] ? propagated(flushed(i), x, sx) : null));
+  const s = standard?.index ?? -1;
+  const usableStandard = !!standard && s >= 0 && s < count && phases[s].scale > 0 && !!phases[s].rir && standard.weightFraction > 0 && standard.weightFraction < 1;
+  if (!usableStandard) {
+    return {
+      weightFraction,
+      weightFractionSigma,
+      absoluteFraction: phases.map(() => null),
+      absoluteFractionSigma: phases.map(() => null),
+      amorphous: null,
+      statement: standard
+        ? 'the internal standard is not usable (not found in the pattern, no RIR, or its weight fraction is not between 0 and 1): fractions assume a fully crystalline sample'
+        : 'fractions assume a fully crystalline sample with every crystalline phase identified (no internal standard given)',
+    };
+  }
+  const absolute = (i: number) => (v: Float64Array) => {
+    const ws = v[2 * count];
+    return (ws * (v[i] / v[count + i])) / (v[s] / v[count + s]) / (1 - ws);
+  };
+  const amorphousOf = (v: Float64Array) => {
+    let sum = 0;
+    for (let j = 0; j < count; j++) if (quantified[j]) sum += absolute(j)(v);
+    return 1 - sum;
+  };
+  return {
+    weightFraction,
+    weightFractionSigma,
+    absoluteFraction: phases.map((_, i) => (quantified[i] ? absolute(i)(x) : null)),
+    absoluteFractionSigma: phases.map((_, i) => (quantified[i] ? propagated(absolute(i), x, sx) : null)),
+    amorphous: { fraction: amorphousOf(x), sigma: propagated(amorphousOf, x, sx) },
+    statement: `absolute fractions of the unspiked sample from the internal standard at ${(100 * standard.weightFraction).toPrecision(3)} wt %; the rest is amorphous or unquantified`,
+  };
+}
+
 /** Most phases whose zero patterns are all tried (2^n small solves); beyond, the phases are fitted without the bound. */
 const EXHAUSTIVE_PHASES = 10;
 /** Reweighting passes after the first fit (weights from the model, not from the measured areas). */

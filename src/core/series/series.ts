@@ -19,6 +19,8 @@ export interface SeriesPhaseShare {
    * (peaks it shares with the target or another phase are not counted, so it is a lower bound).
    */
   basis: 'weight fraction' | 'peak area share';
+  /** σ of the share, when known (e.g. the match's weightFractionSigma); the growth fit weights by it. */
+  shareSigma?: number | null;
 }
 
 export interface SeriesSample {
@@ -79,7 +81,7 @@ export interface SeriesRow {
 export interface SeriesGrowth {
   phase: string;
   basis: SeriesPhaseShare['basis'] | 'unexplained peak area share';
-  points: Array<{ label: string; timeHours: number; share: number }>;
+  points: Array<{ label: string; timeHours: number; share: number; shareSigma?: number | null }>;
   analysis: GrowthAnalysis;
 }
 
@@ -196,11 +198,10 @@ function growthOfOtherPhases(samples: readonly SeriesSample[]): SeriesGrowth[] {
   const out: SeriesGrowth[] = [];
   for (const [phase, basis] of names) {
     // A phase not found in a sample counts as a share of 0 there.
-    const points = samples.map((s) => ({
-      label: s.label,
-      timeHours: s.exposureHours as number,
-      share: s.otherPhases.find((p) => p.name === phase)?.share ?? 0,
-    }));
+    const points = samples.map((s) => {
+      const found = s.otherPhases.find((p) => p.name === phase);
+      return { label: s.label, timeHours: s.exposureHours as number, share: found?.share ?? 0, shareSigma: found?.shareSigma ?? null };
+    });
     out.push({ phase, basis, points, analysis: fitGrowth(points) });
   }
   if (samples.every((s) => typeof s.unexplainedShare === 'number')) {
