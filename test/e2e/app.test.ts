@@ -88,6 +88,21 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     for (const hours of ['0 h', '24 h']) await page.locator('[data-testid="sample-list"] li', { hasText: `humid air ${hours}` }).getByRole('checkbox').uncheck();
   });
 
+  it('sizes the chart to the window: taller at 1440×900 than at 1280×720', async () => {
+    const { page } = app;
+    const chartHeight = async (width: number, height: number): Promise<number> => {
+      await page.setViewportSize({ width, height });
+      await page.waitForTimeout(200);
+      return page.locator('.chart-box').first().evaluate((el) => el.getBoundingClientRect().height);
+    };
+    const small = await chartHeight(1280, 720);
+    const large = await chartHeight(1440, 900);
+    await page.setViewportSize({ width: 1280, height: 800 });
+    // styles.css: 48 % of the window height (clamped to 240–720 px), so 345.6 px and 432 px.
+    expect(small).toBeCloseTo(0.48 * 720, 0);
+    expect(large).toBeCloseTo(0.48 * 900, 0);
+  });
+
   it('renders the exported SVG as a picture of the plot', async () => {
     const viewer = await app.context.newPage();
     await viewer.goto(`file://${join(SCREENSHOTS, 'exported-plot.svg')}`);
