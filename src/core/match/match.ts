@@ -130,6 +130,11 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
       const evaluations: Array<{ ref: number; evaluation: PhaseEvaluation }> = [];
       for (const r of candidates) {
         if (accepted.some((a) => a.ref === r)) continue;
+        if (setAside.has(r)) {
+          // Judged (for the listing) but never taken into the explanation.
+          if (!latest.has(r)) latest.set(r, evaluatePhase(linesOf(r), table, shift ?? refineShift(linesOf(r), table, bounds), claims));
+          continue;
+        }
         const lines = linesOf(r);
         if (lines.count === 0) continue;
         const evaluation = evaluatePhase(lines, table, shift ?? refineShift(lines, table, bounds), claims);
@@ -162,21 +167,36 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
       { lambda, start: explanation.shift, maxZeroDeg: bounds.maxZeroDeg, maxDisplacementDeg: bounds.maxDisplacementDeg, cellBound },
     );
 
-  let explanation = explain(null);
-  let fit = fitOf(explanation);
-  for (let pass = 1; pass < SAMPLE_PASSES && explanation.accepted.length > 0; pass++) {
-    const previous = explanation;
+  // Look-alikes set aside: the reference, the rival that explains the same peaks, and both cell changes.
+  const setAside = new Map<number, LookAlike>();
+  const runPasses = (): { explanation: Explanation; fit: SampleFit } => {
     refinedCells.clear();
     lineCache.clear();
-    explanation.accepted.forEach((a, i) => {
-      const cell = fit.cells[i];
-      if (typeof cell !== 'string') refinedCells.set(a.ref, cell.cell);
-    });
-    explanation = explain(fit.shift);
-    fit = fitOf(explanation);
-    const sameSet = previous.accepted.length === explanation.accepted.length && previous.accepted.every((a, i) => a.ref === explanation.accepted[i].ref);
-    const moved = Math.abs(fit.shift.zeroDeg - explanation.shift.zeroDeg) + Math.abs(fit.shift.displacementCosDeg - explanation.shift.displacementCosDeg);
-    if (sameSet && moved < SHIFT_SETTLED_DEG) break;
+    let explanation = explain(null);
+    let fit = fitOf(explanation);
+    for (let pass = 1; pass < SAMPLE_PASSES && explanation.accepted.length > 0; pass++) {
+      const previous = explanation;
+      refinedCells.clear();
+      lineCache.clear();
+      explanation.accepted.forEach((a, i) => {
+        const cell = fit.cells[i];
+        if (typeof cell !== 'string') refinedCells.set(a.ref, cell.cell);
+      });
+      explanation = explain(fit.shift);
+      fit = fitOf(explanation);
+      const sameSet = previous.accepted.length === explanation.accepted.length && previous.accepted.every((a, i) => a.ref === explanation.accepted[i].ref);
+      const moved = Math.abs(fit.shift.zeroDeg - explanation.shift.zeroDeg) + Math.abs(fit.shift.displacementCosDeg - explanation.shift.displacementCosDeg);
+      if (sameSet && moved < SHIFT_SETTLED_DEG) break;
+    }
+    return { explanation, fit };
+  };
+  let { explanation, fit } = runPasses();
+  // Two references explaining the same peaks: the one needing the larger cell change is set aside and the explanation rebuilt without it.
+  for (let attempt = 0; attempt < MAX_LOOK_ALIKE_ROUNDS; attempt++) {
+    const found = findLookAlike(explanation, fit, refs);
+    if (!found) break;
+    setAside.set(found.ref, found);
+    ({ explanation, fit } = runPasses());
   }
   const { accepted, firstEvaluation, latest, claims } = explanation;
   const finalShift = explanation.shift;
@@ -188,11 +208,11 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   const promising = [...latest.entries()]
     .filter(([r]) => !accepted.some((a) => a.ref === r))
     .sort((a, b) => b[1].score - a[1].score)
-    .filter(([r], i) => i < 2 * listAbsent || r === targetIndex);
+    .filter(([r], i) => i < 2 * listAbsent || r === targetIndex || setAside.has(r));
   if (targetIndex >= 0 && !promising.some(([r]) => r === targetIndex) && !accepted.some((a) => a.ref === targetIndex)) promising.push([targetIndex, firstEvaluation.get(targetIndex)!]);
   const others = promising.map(([r]) => ({ ref: r, evaluation: evaluatePhase(linesOf(r), table, finalShift, claims) }));
   others.sort((a, b) => b.evaluation.score - a.evaluation.score);
-  const listed = others.filter((o, i) => i < listAbsent || o.ref === targetIndex);
+  const listed = others.filter((o, i) => i < listAbsent || o.ref === targetIndex || setAside.has(o.ref));
 
   // Scales fitted jointly to the peak areas (shared peaks split between the phases); a phase the fit gives nothing keeps its own peaks' scale.
   const gi = groupIntensities(accepted.map((a) => a.evaluation), table);
@@ -208,6 +228,14 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
     phases.push({ ...described, scale: scales[i], ...cellReport(fit.cells[i], usableCell(refs[a.ref].cell), cellBound, described.reasons) });
   });
   for (const o of listed) {
+    const lookAlike = setAside.get(o.ref);
+    if (lookAlike) {
+      const described = describePhase(o.evaluation, lookAlike.verdict, claims, accepted, table, null, unquantified, null, 0);
+      // The last reason of a phase outside the explanation is its verdict's: say why it was set aside instead.
+      described.reasons[described.reasons.length - 1] = `${lookAlike.reason} (absence holds only above the detection limit)`;
+      phases.push(described);
+      continue;
+    }
     const { verdict, rival } = notNeededVerdict(o.evaluation, firstEvaluation.get(o.ref), claims, accepted);
     phases.push(describePhase(o.evaluation, verdict, claims, accepted, table, null, unquantified, rival, 0));
   }
@@ -230,6 +258,75 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
     toleranceDeg: tol,
     reasons: patternReasons(table, featureless, clearPeaks, accepted, refs, shift, fit, bounds, unexplained, unexplainedAreaShare, firstLineEvaluation),
   };
+}
+
+/** A phase whose cell cannot be refined is a look-alike from this share of its matched peaks on another phase's. */
+const WEAK_LOOK_ALIKE_SHARE = 0.5;
+/** At most this many look-alikes are set aside per pattern (each costs a rebuilt explanation). */
+const MAX_LOOK_ALIKE_ROUNDS = 3;
+
+interface LookAlike {
+  ref: number;
+  verdict: Verdict;
+  reason: string;
+}
+
+/**
+ * Two phases of the explanation on the same peaks (at least LOOK_ALIKE_SHARED_SHARE of one's
+ * matched peaks matched by the other): the one whose refined cell moved further from its reference
+ * (volume change), while it matches no more lines and scores no better, is set aside. It is
+ * `not-seen` when its change exceeds the other's significantly (CELL_CHANGE_SIGNIFICANT σ), else
+ * `uncertain` (indistinguishable at this resolution).
+ */
+function findLookAlike(explanation: Explanation, fit: SampleFit, refs: readonly StoredReference[]): LookAlike | null {
+  const { accepted } = explanation;
+  const change = (i: number): { percent: number; sigma: number } | null => {
+    const cell = fit.cells[i];
+    const reference = usableCell(refs[accepted[i].ref].cell);
+    if (typeof cell === 'string' || !reference) return null;
+    const v0 = cellMetric(reference).volume;
+    return { percent: (100 * (cell.volume - v0)) / v0, sigma: (100 * cell.volumeSigma) / v0 };
+  };
+  for (let i = 0; i < accepted.length; i++) {
+    for (let j = 0; j < accepted.length; j++) {
+      if (i === j) continue;
+      const loser = accepted[i].evaluation;
+      const winner = accepted[j].evaluation;
+      const cl = change(i);
+      const cw = change(j);
+      if (!cl) {
+        // Its cell cannot be refined apart from the other's (too few lines of its own): set aside when the other explains more, better.
+        if (sharedPeakShare(loser, winner) >= WEAK_LOOK_ALIKE_SHARE && loser.matchedCount < winner.matchedCount && loser.score < winner.score) {
+          const rivalName = refs[accepted[j].ref].name;
+          return {
+            ref: accepted[i].ref,
+            verdict: 'uncertain',
+            reason:
+              `uncertain: most of its lines fall on the same peaks as ${rivalName}${cw ? ` (whose refined cell changes ${signed(cw.percent, 2)} %)` : ''}, and too few lines of its own are left to refine its cell apart; ` +
+              `${rivalName} explains them with ${winner.matchedCount} lines against ${loser.matchedCount} and a better score (${winner.score.toFixed(2)} against ${loser.score.toFixed(2)})`,
+          };
+        }
+        continue;
+      }
+      if (!cw || sharedPeakShare(loser, winner) < LOOK_ALIKE_SHARED_SHARE) continue;
+      if (Math.abs(cl.percent) <= Math.abs(cw.percent)) continue;
+      if (loser.matchedCount > winner.matchedCount && loser.score > winner.score) continue;
+      const excess = Math.abs(cl.percent) - Math.abs(cw.percent);
+      const sigma = Math.hypot(cl.sigma, cw.sigma);
+      const significant = excess > CELL_CHANGE_SIGNIFICANT * sigma;
+      const direction = cl.percent >= 0 ? 'larger' : 'smaller';
+      const rivalName = refs[accepted[j].ref].name;
+      return {
+        ref: accepted[i].ref,
+        verdict: significant ? 'not-seen' : 'uncertain',
+        reason:
+          `${significant ? 'not seen' : 'uncertain'}: its lines fall on the same peaks as ${rivalName}, needing a ${Math.abs(cl.percent).toFixed(2)} % ${direction} cell than its reference ` +
+          `(${rivalName} needs ${signed(cw.percent, 2)} %), with ${loser.matchedCount} lines matched against ${winner.matchedCount}` +
+          (significant ? '' : '; indistinguishable at this resolution'),
+      };
+    }
+  }
+  return null;
 }
 
 /** The pattern's shift with σ, and the displacement in mm for the goniometer radius. */

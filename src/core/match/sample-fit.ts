@@ -127,7 +127,11 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
     return { withDisplacement, cellOffset, size };
   };
   const canDisplace = options.maxDisplacementDeg > 0 && observations.length >= 4;
+  // A line matched to the wrong peak would pull the whole fit: one robust rejection pass (see rejectOutliers).
+  const first = runFit(observations, phases, param, layoutOf(canDisplace && observations.length >= layoutOf(true).size + 2), options);
+  if (first) rejectOutliers(observations, first);
   const withoutD = runFit(observations, phases, param, layoutOf(false), options);
+  const linesUsed = observations.length;
   let chosen = withoutD;
   if (canDisplace) {
     const withD = runFit(observations, phases, param, layoutOf(true), options);
@@ -140,7 +144,7 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
   }
   if (!chosen || observations.length === 0) {
     for (let i = 0; i < phases.length; i++) if (refinable[i]) cells[i] = 'no cell refined: the position fit failed';
-    return { shift: options.start, zeroSigmaDeg: null, displacementSigmaDeg: null, linesUsed: observations.length, cells, zeroAtBound: false, displacementAtBound: false };
+    return { shift: options.start, zeroSigmaDeg: null, displacementSigmaDeg: null, linesUsed, cells, zeroAtBound: false, displacementAtBound: false };
   }
   const { x, covariance, layout } = chosen;
   const sigmaOf = (i: number): number => Math.sqrt(Math.max(covariance[i * layout.size + i], 0));
@@ -160,7 +164,7 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
     shift: { zeroDeg: zero, displacementCosDeg: displacement },
     zeroSigmaDeg: sigmaOf(0),
     displacementSigmaDeg: layout.withDisplacement ? sigmaOf(1) : null,
-    linesUsed: observations.length,
+    linesUsed,
     cells,
     zeroAtBound: Math.abs(zero) >= options.maxZeroDeg - 1e-12 && options.maxZeroDeg > 0,
     displacementAtBound: layout.withDisplacement && Math.abs(displacement) >= options.maxDisplacementDeg - 1e-12,
@@ -206,6 +210,27 @@ interface FitResult {
   chi2: number;
   dof: number;
   layout: Layout;
+  /** Normalised residuals (obs − calc)·√w per observation, and obs − calc in degrees. */
+  normalised: Float64Array;
+  residualDeg: Float64Array;
+}
+
+/** A line is an outlier beyond this many robust standard deviations of the normalised residuals (common practice: 4–5). */
+const OUTLIER_SCATTER = 5;
+/** …and only when it is off by more than this, degrees 2θ (below it the residual is no sign of a wrong match). */
+const OUTLIER_MIN_DEG = 0.005;
+
+/**
+ * Drop observations whose normalised residual exceeds OUTLIER_SCATTER robust standard deviations
+ * (1.4826·median |z|, the MAD estimate; Rousseeuw & Croux, JASA 88, 1273 (1993), from memory),
+ * at least 1: a line matched to a neighbouring peak rather than its own.
+ */
+function rejectOutliers(observations: Observation[], fit: FitResult): void {
+  const z = Array.from(fit.normalised, Math.abs).sort((a, b) => a - b);
+  if (z.length < 5) return;
+  const scatter = Math.max(1, 1.4826 * z[z.length >> 1]);
+  const keep = observations.filter((_, i) => !(Math.abs(fit.normalised[i]) > OUTLIER_SCATTER * scatter && Math.abs(fit.residualDeg[i]) > OUTLIER_MIN_DEG));
+  observations.splice(0, observations.length, ...keep);
 }
 
 function runFit(
@@ -286,10 +311,16 @@ function runFit(
   }
   // χ² at the final parameters.
   let chi2 = 0;
-  for (let i = 0; i < n; i++) chi2 += weights[i] * (observations[i].observed - model(x, observations[i])) ** 2;
+  const normalised = new Float64Array(n);
+  const residualDeg = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    residualDeg[i] = observations[i].observed - model(x, observations[i]);
+    normalised[i] = residualDeg[i] * Math.sqrt(weights[i]);
+    chi2 += normalised[i] * normalised[i];
+  }
   const dof = n - p;
   const covariance = Float64Array.from(fit!.covariance, (v) => (dof > 0 ? v * (chi2 / dof) : v));
-  return { x, covariance, chi2, dof, layout };
+  return { x, covariance, chi2, dof, layout, normalised, residualDeg };
 }
 
 function braggTwoTheta(cell: UnitCell, hkl: [number, number, number], lambda: number): number {
