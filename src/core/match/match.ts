@@ -831,7 +831,9 @@ function patternReasons(
     const sigma = (value: number | null): string => (value === null ? '' : ` ± ${value.toFixed(4)}`);
     const displacement =
       shift.displacementSigmaDeg === null
-        ? 'no specimen displacement (not significant beside the zero offset, or too few lines)'
+        ? fit.sigmaIncludesDisplacement
+          ? 'no specimen displacement kept (not significant beside the zero offset and the cells; the σ of the zero and the cells allow for one, which cannot be told apart from them on these lines)'
+          : 'no specimen displacement (too few lines to refine one)'
         : `specimen displacement ${signed(shift.displacementCosDeg)}${sigma(shift.displacementSigmaDeg)}°·cosθ (${signed(shift.displacementMm, 3)} mm on a ${shift.goniometerRadiusMm} mm goniometer)`;
     reasons.push(
       `One shift for the sample, refined with the cells on ${fit.linesUsed} resolved lines of ${accepted.map((a) => refs[a.ref].name).join(', ')}: ` +

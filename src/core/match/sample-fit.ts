@@ -80,6 +80,8 @@ export interface SampleFit {
   cells: Array<CellFit | string>;
   zeroAtBound: boolean;
   displacementAtBound: boolean;
+  /** True when the σ allow for a displacement that was not significant enough to keep (see fitSampleAndCells). */
+  sigmaIncludesDisplacement: boolean;
 }
 
 interface Observation {
@@ -133,8 +135,9 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
   const withoutD = runFit(observations, phases, param, layoutOf(false), options);
   const linesUsed = observations.length;
   let chosen = withoutD;
+  let withD: FitResult | null = null;
   if (canDisplace) {
-    const withD = runFit(observations, phases, param, layoutOf(true), options);
+    withD = runFit(observations, phases, param, layoutOf(true), options);
     if (withD && withoutD && withD.dof >= 1) {
       const floor = POSITION_FLOOR_DEG * POSITION_FLOOR_DEG * observations.reduce((s, o) => s + o.weight, 0);
       const gain = withoutD.chi2 - withD.chi2;
@@ -144,10 +147,20 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
   }
   if (!chosen || observations.length === 0) {
     for (let i = 0; i < phases.length; i++) if (refinable[i]) cells[i] = 'no cell refined: the position fit failed';
-    return { shift: options.start, zeroSigmaDeg: null, displacementSigmaDeg: null, linesUsed, cells, zeroAtBound: false, displacementAtBound: false };
+    return { shift: options.start, zeroSigmaDeg: null, displacementSigmaDeg: null, linesUsed, cells, zeroAtBound: false, displacementAtBound: false, sigmaIncludesDisplacement: false };
   }
-  const { x, covariance, layout } = chosen;
-  const sigmaOf = (i: number): number => Math.sqrt(Math.max(covariance[i * layout.size + i], 0));
+  const { x, layout } = chosen;
+  // Without a significant displacement the values come from the fit without it, but the σ from the
+  // fit with it: a displacement too small to be told apart from the cell and the zero still makes
+  // them that uncertain (reporting the narrower σ would hide it).
+  // Linearised at the fit without it (a bounded fit with it may end on a bound, where its covariance means nothing).
+  const lineariseAt: MatchShift = { zeroDeg: chosen.x[0], displacementCosDeg: 0 };
+  const linearised =
+    chosen === withoutD && withD
+      ? runFit(observations, phases.map((ph, i) => (chosen.layout.cellOffset[i] >= 0 ? { ...ph, currentCell: param[i]!.toCell(chosen.x.subarray(chosen.layout.cellOffset[i], chosen.layout.cellOffset[i] + param[i]!.names.length)) } : ph)), param, layoutOf(true), { ...options, start: lineariseAt, cellBound: Infinity }, true)
+      : null;
+  const spread = linearised && linearised.dof >= 1 ? linearised : chosen;
+  const sigmaOf = (i: number): number => Math.sqrt(Math.max(spread.covariance[i * spread.layout.size + i], 0));
   phases.forEach((phase, i) => {
     const offset = layout.cellOffset[i];
     if (offset < 0) return;
@@ -155,7 +168,8 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
     const values = Array.from(x.subarray(offset, offset + par.names.length));
     const cell = par.toCell(values);
     const block = new Float64Array(par.names.length ** 2);
-    for (let r = 0; r < par.names.length; r++) for (let c = 0; c < par.names.length; c++) block[r * par.names.length + c] = covariance[(offset + r) * layout.size + offset + c];
+    const so = spread.layout.cellOffset[i];
+    for (let r = 0; r < par.names.length; r++) for (let c = 0; c < par.names.length; c++) block[r * par.names.length + c] = spread.covariance[(so + r) * spread.layout.size + so + c];
     cells[i] = describeCell(cell, par, values, block, phase.referenceCell!, options.cellBound, observations.filter((o) => o.phase === i && o.hkl).length);
   });
   const zero = x[0];
@@ -166,6 +180,7 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
     displacementSigmaDeg: layout.withDisplacement ? sigmaOf(1) : null,
     linesUsed,
     cells,
+    sigmaIncludesDisplacement: spread !== chosen,
     zeroAtBound: Math.abs(zero) >= options.maxZeroDeg - 1e-12 && options.maxZeroDeg > 0,
     displacementAtBound: layout.withDisplacement && Math.abs(displacement) >= options.maxDisplacementDeg - 1e-12,
   };
@@ -239,6 +254,8 @@ function runFit(
   param: Array<CellParameterisation | null>,
   layout: Layout,
   options: SampleFitOptions,
+  /** Only linearise at the start (no steps): the covariance a free parameter would have there. */
+  lineariseOnly = false,
 ): FitResult | null {
   const n = observations.length;
   const p = layout.size;
@@ -301,6 +318,7 @@ function runFit(
     }
     fit = weightedLinearFit(design, residual, weights, p);
     if (!fit) return null;
+    if (lineariseOnly) break;
     let moved = 0;
     for (let q = 0; q < p; q++) {
       const next = clamp(x[q] + fit.coefficients[q], lower[q], upper[q]);
