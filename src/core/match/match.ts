@@ -6,7 +6,7 @@ import { buildPeakTable, nearestPeak, type PeakTable } from './peak-table.js';
 import { chungWeightFractions, fitPhaseScales, type GroupIntensities } from './quantify.js';
 import { buildReferenceIndex, rangeTotals, screenReferences } from './reference-index.js';
 import { evaluatePhase, phaseLines, type Claims, type PhaseEvaluation, type PhaseLines } from './score.js';
-import { refineShift, type ShiftBounds } from './shift.js';
+import { refineShift, searchCellScale, type ShiftBounds } from './shift.js';
 import { displacementMillimetres, fitSampleAndCells, type CellFit, type SampleFit } from './sample-fit.js';
 import type { UnitCell } from '../model/cell.js';
 import { cellMetric, inverseDSquared } from '../crystal/metric.js';
@@ -99,6 +99,21 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   const dMax = table.rangeMin > 0 ? dFromTwoTheta(table.rangeMin, lambda) : Infinity;
   const totals = featureless ? new Float64Array(0) : rangeTotals(index, dMin, dMax);
 
+  // Starting isotropic cell scale of a candidate whose reference cell does not fit (see searchCellScale); refined cells replace it.
+  const startScale = new Map<number, number>();
+  const evaluateCandidate = (r: number, lines: PhaseLines, shift: MatchShift | null, claims: Claims): PhaseEvaluation => {
+    if (!refinedCells.has(r) && usableCell(refs[r].cell)) {
+      const { scale } = searchCellScale(lines, table, bounds, cellBound, shift);
+      if (scale !== 1) {
+        startScale.set(r, scale);
+        const scaled = phaseLines(scaledReference(refs[r], scale), lambda, table.rangeMin, table.rangeMax);
+        return evaluatePhase(scaled, table, shift ?? refineShift(scaled, table, bounds), claims);
+      }
+      startScale.delete(r);
+    }
+    return evaluatePhase(lines, table, shift ?? refineShift(lines, table, bounds), claims);
+  };
+
   /**
    * With no sample shift known yet (the first pass), the first phase is chosen with a starting
    * offset searched per candidate (refineShift); from then on every candidate is judged with the
@@ -137,7 +152,7 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
         }
         const lines = linesOf(r);
         if (lines.count === 0) continue;
-        const evaluation = evaluatePhase(lines, table, shift ?? refineShift(lines, table, bounds), claims);
+        const evaluation = evaluateCandidate(r, lines, shift, claims);
         if (!firstEvaluation.has(r)) firstEvaluation.set(r, evaluation);
         latest.set(r, evaluation);
         evaluations.push({ ref: r, evaluation });
@@ -161,7 +176,7 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
         lines: a.evaluation.lines,
         peakOf: a.evaluation.peakOf,
         referenceCell: usableCell(refs[a.ref].cell),
-        currentCell: refinedCells.get(a.ref) ?? usableCell(refs[a.ref].cell),
+        currentCell: refinedCells.get(a.ref) ?? scaledCell(usableCell(refs[a.ref].cell), startScale.get(a.ref) ?? 1),
       })),
       table,
       { lambda, start: explanation.shift, maxZeroDeg: bounds.maxZeroDeg, maxDisplacementDeg: bounds.maxDisplacementDeg, cellBound },
@@ -193,7 +208,30 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   let { explanation, fit } = runPasses();
   // Two references explaining the same peaks: the one needing the larger cell change is set aside and the explanation rebuilt without it.
   for (let attempt = 0; attempt < MAX_LOOK_ALIKE_ROUNDS; attempt++) {
-    const found = findLookAlike(explanation, fit, refs);
+    const shiftNow = fit.shift;
+    const noClaims: Claims = { claimed: new Int32Array(table.count).fill(-1) };
+    const contenders: Contender[] = explanation.accepted.map((a) => ({ ...a, inExplanation: true }));
+    // Candidates left out that share the peaks of a phase of the explanation, judged afresh under the sample's shift.
+    for (const r of explanation.latest.keys()) {
+      if (setAside.has(r) || explanation.accepted.some((a) => a.ref === r)) continue;
+      const evaluation = evaluateCandidate(r, linesOf(r), shiftNow, noClaims);
+      if (evaluation.score >= UNCERTAIN_SCORE && contenders.some((c) => c.inExplanation && sharedPeakShare(evaluation, c.evaluation) >= LOOK_ALIKE_SHARED_SHARE)) {
+        contenders.push({ ref: r, evaluation, inExplanation: false });
+      }
+    }
+    const found = findLookAlike(contenders, refs, (c) => {
+      const reference = usableCell(refs[c.ref].cell);
+      if (!reference) return null;
+      const alone = fitSampleAndCells(
+        [{ lines: c.evaluation.lines, peakOf: c.evaluation.peakOf, referenceCell: reference, currentCell: refinedCells.get(c.ref) ?? scaledCell(reference, startScale.get(c.ref) ?? 1) }],
+        table,
+        { lambda, start: shiftNow, maxZeroDeg: bounds.maxZeroDeg, maxDisplacementDeg: bounds.maxDisplacementDeg, cellBound, fixedShift: true },
+      );
+      const cell = alone.cells[0];
+      if (typeof cell === 'string') return null;
+      const v0 = cellMetric(reference).volume;
+      return { percent: (100 * (cell.volume - v0)) / v0, sigma: (100 * cell.volumeSigma) / v0 };
+    });
     if (!found) break;
     setAside.set(found.ref, found);
     ({ explanation, fit } = runPasses());
@@ -260,10 +298,14 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   };
 }
 
-/** A phase whose cell cannot be refined is a look-alike from this share of its matched peaks on another phase's. */
-const WEAK_LOOK_ALIKE_SHARE = 0.5;
 /** At most this many look-alikes are set aside per pattern (each costs a rebuilt explanation). */
 const MAX_LOOK_ALIKE_ROUNDS = 3;
+
+/** Volume change of a cell refined alone, % of the reference's, with σ. */
+interface CellChange {
+  percent: number;
+  sigma: number;
+}
 
 interface LookAlike {
   ref: number;
@@ -278,50 +320,46 @@ interface LookAlike {
  * `not-seen` when its change exceeds the other's significantly (CELL_CHANGE_SIGNIFICANT σ), else
  * `uncertain` (indistinguishable at this resolution).
  */
-function findLookAlike(explanation: Explanation, fit: SampleFit, refs: readonly StoredReference[]): LookAlike | null {
-  const { accepted } = explanation;
-  const change = (i: number): { percent: number; sigma: number } | null => {
-    const cell = fit.cells[i];
-    const reference = usableCell(refs[accepted[i].ref].cell);
-    if (typeof cell === 'string' || !reference) return null;
-    const v0 = cellMetric(reference).volume;
-    return { percent: (100 * (cell.volume - v0)) / v0, sigma: (100 * cell.volumeSigma) / v0 };
+interface Contender {
+  ref: number;
+  evaluation: PhaseEvaluation;
+  /** Taken into the explanation (only such a phase can be set aside). */
+  inExplanation: boolean;
+}
+
+function findLookAlike(contenders: readonly Contender[], refs: readonly StoredReference[], changeAlone: (c: Contender) => CellChange | null): LookAlike | null {
+  const changes = new Map<Contender, CellChange | null>();
+  const change = (c: Contender): CellChange | null => {
+    if (!changes.has(c)) changes.set(c, changeAlone(c));
+    return changes.get(c)!;
   };
-  for (let i = 0; i < accepted.length; i++) {
-    for (let j = 0; j < accepted.length; j++) {
-      if (i === j) continue;
-      const loser = accepted[i].evaluation;
-      const winner = accepted[j].evaluation;
-      const cl = change(i);
-      const cw = change(j);
-      if (!cl) {
-        // Its cell cannot be refined apart from the other's (too few lines of its own): set aside when the other explains more, better.
-        if (sharedPeakShare(loser, winner) >= WEAK_LOOK_ALIKE_SHARE && loser.matchedCount < winner.matchedCount && loser.score < winner.score) {
-          const rivalName = refs[accepted[j].ref].name;
-          return {
-            ref: accepted[i].ref,
-            verdict: 'uncertain',
-            reason:
-              `uncertain: most of its lines fall on the same peaks as ${rivalName}${cw ? ` (whose refined cell changes ${signed(cw.percent, 2)} %)` : ''}, and too few lines of its own are left to refine its cell apart; ` +
-              `${rivalName} explains them with ${winner.matchedCount} lines against ${loser.matchedCount} and a better score (${winner.score.toFixed(2)} against ${loser.score.toFixed(2)})`,
-          };
-        }
-        continue;
-      }
-      if (!cw || sharedPeakShare(loser, winner) < LOOK_ALIKE_SHARED_SHARE) continue;
-      if (Math.abs(cl.percent) <= Math.abs(cw.percent)) continue;
-      if (loser.matchedCount > winner.matchedCount && loser.score > winner.score) continue;
+  for (const l of contenders) {
+    if (!l.inExplanation) continue;
+    for (const w of contenders) {
+      if (w === l) continue;
+      const loser = l.evaluation;
+      const winner = w.evaluation;
+      // Phases on the same peaks: most of the loser's matched peaks are the other's (and, for a phase left out, most of its peaks the loser's).
+      const overlap = w.inExplanation ? sharedPeakShare(loser, winner) : Math.min(sharedPeakShare(winner, loser), sharedPeakShare(loser, winner));
+      if (overlap < LOOK_ALIKE_SHARED_SHARE) continue;
+      const cl = change(l);
+      const cw = change(w);
+      if (!cl || !cw || Math.abs(cl.percent) <= Math.abs(cw.percent)) continue;
       const excess = Math.abs(cl.percent) - Math.abs(cw.percent);
-      const sigma = Math.hypot(cl.sigma, cw.sigma);
-      const significant = excess > CELL_CHANGE_SIGNIFICANT * sigma;
+      const significant = excess > CELL_CHANGE_SIGNIFICANT * Math.hypot(cl.sigma, cw.sigma);
+      const fewer = loser.matchedCount <= winner.matchedCount;
+      const worse = w.inExplanation ? loser.score < winner.score : loser.parts.relativeIntensity <= winner.parts.relativeIntensity;
+      // A significantly larger change with fewer lines or worse intensities sets it aside; an insignificant one only when both hold, for two phases of the explanation.
+      const setAside = significant ? fewer || worse : w.inExplanation && overlap >= LOOK_ALIKE_SHARED_SHARE && fewer && worse;
+      if (!setAside) continue;
       const direction = cl.percent >= 0 ? 'larger' : 'smaller';
-      const rivalName = refs[accepted[j].ref].name;
+      const rivalName = refs[w.ref].name;
       return {
-        ref: accepted[i].ref,
+        ref: l.ref,
         verdict: significant ? 'not-seen' : 'uncertain',
         reason:
-          `${significant ? 'not seen' : 'uncertain'}: its lines fall on the same peaks as ${rivalName}, needing a ${Math.abs(cl.percent).toFixed(2)} % ${direction} cell than its reference ` +
-          `(${rivalName} needs ${signed(cw.percent, 2)} %), with ${loser.matchedCount} lines matched against ${winner.matchedCount}` +
+          `${significant ? 'not seen' : 'uncertain'}: the same peaks as ${rivalName}, needing a ${Math.abs(cl.percent).toFixed(2)} % ${direction} cell (volume) than its reference ` +
+          `where ${rivalName} needs ${signed(cw.percent, 2)} % (each refined alone under the sample's shift), with ${loser.matchedCount} lines matched against ${winner.matchedCount}` +
           (significant ? '' : '; indistinguishable at this resolution'),
       };
     }
@@ -355,6 +393,15 @@ function usableCell(cell: UnitCell | null | undefined): UnitCell | null {
   } catch {
     return null;
   }
+}
+
+function scaledCell(cell: UnitCell | null, scale: number): UnitCell | null {
+  return cell && scale !== 1 ? { ...cell, a: cell.a * scale, b: cell.b * scale, c: cell.c * scale } : cell;
+}
+
+/** The reference with every d (and its cell's edges) scaled by one factor. */
+function scaledReference(reference: StoredReference, scale: number): StoredReference {
+  return { ...reference, cell: scaledCell(reference.cell ?? null, scale), lines: reference.lines.map((line) => ({ ...line, d: line.d * scale })) };
 }
 
 /** The reference with its indexed lines' d recomputed from another cell (lines without indices keep theirs). */

@@ -55,6 +55,8 @@ export interface SampleFitOptions {
   maxDisplacementDeg: number;
   /** Each refined cell edge (and angle) stays within this fraction of the reference's (0.02: ±2 %). */
   cellBound: number;
+  /** Keep the start shift fixed and refine the cells only (to compare look-alikes under the sample's shift). */
+  fixedShift?: boolean;
 }
 
 export interface CellFit {
@@ -96,13 +98,18 @@ interface Observation {
 
 interface Layout {
   withDisplacement: boolean;
+  /** False when the shift is fixed (then neither zero nor displacement is a parameter). */
+  withZero: boolean;
   /** Per phase: offset of its cell parameters in the vector, or -1 when its cell is fixed. */
   cellOffset: number[];
   size: number;
 }
 
-export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: PeakTable, options: SampleFitOptions): SampleFit {
+export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: PeakTable, given: SampleFitOptions): SampleFit {
   const observations = collectObservations(phases, table);
+  // A fixed shift is taken off the observations and is no parameter: the cells' σ are then those of a comparison under one shift.
+  if (given.fixedShift) for (const o of observations) o.observed -= given.start.zeroDeg + given.start.displacementCosDeg * o.cosTheta;
+  const options: SampleFitOptions = given.fixedShift ? { ...given, start: { zeroDeg: 0, displacementCosDeg: 0 }, maxZeroDeg: 0, maxDisplacementDeg: 0 } : given;
   const param: Array<CellParameterisation | null> = phases.map((p) => (p.referenceCell && p.currentCell ? cellParameterisation(p.referenceCell) : null));
   const cells: Array<CellFit | string> = phases.map((p) => (p.referenceCell ? '' : 'no cell refined: the reference gives no unit cell'));
   // A cell is refined only from more resolved indexed lines than it has free parameters (plus the shift's two).
@@ -119,14 +126,15 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
   for (const o of observations) if (!refinable[o.phase]) o.hkl = null;
 
   const layoutOf = (withDisplacement: boolean): Layout => {
-    let size = withDisplacement ? 2 : 1;
+    const withZero = !given.fixedShift;
+    let size = (withZero ? 1 : 0) + (withDisplacement ? 1 : 0);
     const cellOffset = phases.map((_, i) => {
       if (!refinable[i]) return -1;
       const offset = size;
       size += param[i]!.names.length;
       return offset;
     });
-    return { withDisplacement, cellOffset, size };
+    return { withDisplacement, withZero, cellOffset, size };
   };
   const canDisplace = options.maxDisplacementDeg > 0 && observations.length >= 4;
   // A line matched to the wrong peak would pull the whole fit: one robust rejection pass (see rejectOutliers).
@@ -172,11 +180,11 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
     for (let r = 0; r < par.names.length; r++) for (let c = 0; c < par.names.length; c++) block[r * par.names.length + c] = spread.covariance[(so + r) * spread.layout.size + so + c];
     cells[i] = describeCell(cell, par, values, block, phase.referenceCell!, options.cellBound, observations.filter((o) => o.phase === i && o.hkl).length);
   });
-  const zero = x[0];
+  const zero = layout.withZero ? x[0] : 0;
   const displacement = layout.withDisplacement ? x[1] : 0;
   return {
-    shift: { zeroDeg: zero, displacementCosDeg: displacement },
-    zeroSigmaDeg: sigmaOf(0),
+    shift: given.fixedShift ? given.start : { zeroDeg: zero, displacementCosDeg: displacement },
+    zeroSigmaDeg: layout.withZero ? sigmaOf(0) : null,
     displacementSigmaDeg: layout.withDisplacement ? sigmaOf(1) : null,
     linesUsed,
     cells,
@@ -263,9 +271,11 @@ function runFit(
   const x = new Float64Array(p);
   const lower = new Float64Array(p);
   const upper = new Float64Array(p);
-  x[0] = clamp(options.start.zeroDeg, -options.maxZeroDeg, options.maxZeroDeg);
-  lower[0] = -options.maxZeroDeg;
-  upper[0] = options.maxZeroDeg;
+  if (layout.withZero) {
+    x[0] = clamp(options.start.zeroDeg, -options.maxZeroDeg, options.maxZeroDeg);
+    lower[0] = -options.maxZeroDeg;
+    upper[0] = options.maxZeroDeg;
+  }
   if (layout.withDisplacement) {
     x[1] = clamp(options.start.displacementCosDeg, -options.maxDisplacementDeg, options.maxDisplacementDeg);
     lower[1] = -options.maxDisplacementDeg;
@@ -288,7 +298,7 @@ function runFit(
   const residual = new Float64Array(n);
   const weights = Float64Array.from(observations, (o) => o.weight);
   const model = (values: Float64Array, o: Observation): number => {
-    const shift = values[0] + (layout.withDisplacement ? values[1] * o.cosTheta : 0);
+    const shift = (layout.withZero ? values[0] : 0) + (layout.withDisplacement ? values[1] * o.cosTheta : 0);
     const offset = layout.cellOffset[o.phase];
     if (offset < 0 || !o.hkl) return o.fixedTwoTheta + shift;
     const par = param[o.phase]!;
@@ -301,7 +311,7 @@ function runFit(
       const o = observations[i];
       const at = model(x, o);
       residual[i] = o.observed - at;
-      design[i * p] = 1;
+      if (layout.withZero) design[i * p] = 1;
       if (layout.withDisplacement) design[i * p + 1] = o.cosTheta;
       const offset = layout.cellOffset[o.phase];
       if (offset < 0 || !o.hkl) continue;
