@@ -182,6 +182,20 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
       { lambda, start: explanation.shift, maxZeroDeg: bounds.maxZeroDeg, maxDisplacementDeg: bounds.maxDisplacementDeg, cellBound },
     );
 
+  /** Volume change a candidate's cell needs when refined alone on its matched peaks under a fixed sample shift. */
+  const cellChangeAlone = (c: { ref: number; evaluation: PhaseEvaluation }, shift: MatchShift): CellChange | null => {
+    const reference = usableCell(refs[c.ref].cell);
+    if (!reference) return null;
+    const alone = fitSampleAndCells(
+      [{ lines: c.evaluation.lines, peakOf: c.evaluation.peakOf, referenceCell: reference, currentCell: refinedCells.get(c.ref) ?? scaledCell(reference, startScale.get(c.ref) ?? 1) }],
+      table,
+      { lambda, start: shift, maxZeroDeg: bounds.maxZeroDeg, maxDisplacementDeg: bounds.maxDisplacementDeg, cellBound, fixedShift: true },
+    );
+    const cell = alone.cells[0];
+    if (typeof cell === 'string') return null;
+    const v0 = cellMetric(reference).volume;
+    return { percent: (100 * (cell.volume - v0)) / v0, sigma: (100 * cell.volumeSigma) / v0 };
+  };
   // Look-alikes set aside: the reference, the rival that explains the same peaks, and both cell changes.
   const setAside = new Map<number, LookAlike>();
   const runPasses = (): { explanation: Explanation; fit: SampleFit } => {
@@ -219,19 +233,7 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
         contenders.push({ ref: r, evaluation, inExplanation: false });
       }
     }
-    const found = findLookAlike(contenders, refs, (c) => {
-      const reference = usableCell(refs[c.ref].cell);
-      if (!reference) return null;
-      const alone = fitSampleAndCells(
-        [{ lines: c.evaluation.lines, peakOf: c.evaluation.peakOf, referenceCell: reference, currentCell: refinedCells.get(c.ref) ?? scaledCell(reference, startScale.get(c.ref) ?? 1) }],
-        table,
-        { lambda, start: shiftNow, maxZeroDeg: bounds.maxZeroDeg, maxDisplacementDeg: bounds.maxDisplacementDeg, cellBound, fixedShift: true },
-      );
-      const cell = alone.cells[0];
-      if (typeof cell === 'string') return null;
-      const v0 = cellMetric(reference).volume;
-      return { percent: (100 * (cell.volume - v0)) / v0, sigma: (100 * cell.volumeSigma) / v0 };
-    });
+    const found = findLookAlike(contenders, refs, (c) => cellChangeAlone(c, shiftNow));
     if (!found) break;
     setAside.set(found.ref, found);
     ({ explanation, fit } = runPasses());
@@ -265,6 +267,27 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
     const described = describePhase(a.evaluation, verdict, claims, accepted, table, fractions[i], unquantified, null, exclusive[i]);
     phases.push({ ...described, scale: scales[i], ...cellReport(fit.cells[i], usableCell(refs[a.ref].cell), cellBound, described.reasons) });
   });
+  /**
+   * A phase left out as uncertain beside the phase that took its peaks: when its peaks are nearly all
+   * that phase's, compare the cell change each needs alone under the sample's shift (the look-alike rule).
+   */
+  const judgeLookAlike = (ref: number, rival: PhaseEvaluation): { verdict: Verdict; reason: string } | null => {
+    const rivalEntry = accepted.find((a) => a.evaluation === rival);
+    if (!rivalEntry) return null;
+    const fresh = evaluateCandidate(ref, linesOf(ref), finalShift, { claimed: new Int32Array(table.count).fill(-1) });
+    if (sharedPeakShare(fresh, rival) < LOOK_ALIKE_SHARED_SHARE) return null;
+    const mine = cellChangeAlone({ ref, evaluation: fresh }, finalShift);
+    const theirs = cellChangeAlone(rivalEntry, finalShift);
+    if (!mine || !theirs || Math.abs(mine.percent) <= Math.abs(theirs.percent)) return null;
+    const significant = Math.abs(mine.percent) - Math.abs(theirs.percent) > CELL_CHANGE_SIGNIFICANT * Math.hypot(mine.sigma, theirs.sigma);
+    const rivalName = refs[rivalEntry.ref].name;
+    return {
+      verdict: significant ? 'not-seen' : 'uncertain',
+      reason:
+        `${significant ? 'not seen' : 'uncertain'}: the same peaks as ${rivalName}, needing a ${Math.abs(mine.percent).toFixed(2)} % ${mine.percent >= 0 ? 'larger' : 'smaller'} cell (volume) than its reference ` +
+        `where ${rivalName} needs ${signed(theirs.percent, 2)} % (each refined alone under the sample's shift)` + (significant ? '' : '; indistinguishable at this resolution'),
+    };
+  };
   for (const o of listed) {
     const lookAlike = setAside.get(o.ref);
     if (lookAlike) {
@@ -275,7 +298,10 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
       continue;
     }
     const { verdict, rival } = notNeededVerdict(o.evaluation, firstEvaluation.get(o.ref), claims, accepted);
-    phases.push(describePhase(o.evaluation, verdict, claims, accepted, table, null, unquantified, rival, 0));
+    const lookAlikeVerdict = verdict === 'uncertain' && rival ? judgeLookAlike(o.ref, rival) : null;
+    const described = describePhase(o.evaluation, lookAlikeVerdict?.verdict ?? verdict, claims, accepted, table, null, unquantified, rival, 0);
+    if (lookAlikeVerdict) described.reasons[described.reasons.length - 1] = `${lookAlikeVerdict.reason} (absence holds only above the detection limit)`;
+    phases.push(described);
   }
   phases.sort((a, b) => b.score - a.score);
 
