@@ -57,6 +57,9 @@ describe('crystallog match', () => {
     const result = JSON.parse(stdout);
     expect(typeof result.shift.zeroDeg).toBe('number');
     expect(typeof result.shift.displacementCosDeg).toBe('number');
+    // One shift per pattern, with σ and the displacement in mm (CLI.md).
+    expect(Object.keys(result.shift)).toEqual(expect.arrayContaining(['zeroDeg', 'zeroSigmaDeg', 'displacementCosDeg', 'displacementSigmaDeg', 'displacementMm']));
+    expect(result.shift.zeroSigmaDeg).toBeGreaterThan(0);
     const names = result.phases.map((p: { name: string }) => p.name);
     expect(names).toEqual(expect.arrayContaining(['zno', 'rutile']));
     for (const p of result.phases) {
@@ -66,6 +69,13 @@ describe('crystallog match', () => {
     const zincite = result.phases.find((p: { name: string }) => p.name === 'zno');
     expect(zincite.verdict).toBe('present');
     expect(zincite.weightFraction).toBeGreaterThan(0.8);
+    // Refined cell of a phase in the explanation; simulated with the reference's own cell, so the change is within 3σ.
+    expect(Object.keys(zincite.cell)).toEqual(['a', 'aSigma', 'b', 'bSigma', 'c', 'cSigma', 'alpha', 'alphaSigma', 'beta', 'betaSigma', 'gamma', 'gammaSigma', 'volume', 'volumeSigma']);
+    expect(Math.abs(zincite.cell.a - zno.structure.cell.a)).toBeLessThanOrEqual(3 * zincite.cell.aSigma);
+    expect(Math.abs(zincite.cell.c - zno.structure.cell.c)).toBeLessThanOrEqual(3 * zincite.cell.cSigma);
+    expect(zincite.cell.b).toBe(zincite.cell.a);
+    expect(typeof zincite.cellChangePercent).toBe('number');
+    for (const p of result.phases.filter((q: { inExplanation: boolean }) => !q.inExplanation)) expect(p.cell).toBeUndefined();
     expect(Array.isArray(result.unexplained)).toBe(true);
     for (const u of result.unexplained) expect(Object.keys(u)).toEqual(expect.arrayContaining(['twoTheta', 'd', 'height', 'lowAngle']));
     expect(result.phases.every((p: { score: number }, i: number) => i === 0 || p.score <= result.phases[i - 1].score)).toBe(true);

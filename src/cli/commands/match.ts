@@ -53,10 +53,16 @@ export function matchCommand(file: string, o: MatchCommandOptions): MatchCommand
 
 function matchText(r: MatchCommandResult): string {
   const out: string[] = [`${r.file}: matched against ${r.references} references (tolerance ${r.toleranceDeg}° 2θ, ${r.wavelength.label})`];
-  out.push(`shift: zero ${r.shift.zeroDeg.toFixed(4)}°, displacement ${r.shift.displacementCosDeg.toFixed(4)}°·cosθ`);
+  const sigma = (v: number | null): string => (v === null ? '' : ` ± ${v.toFixed(4)}`);
+  out.push(
+    `shift (one for the sample): zero ${r.shift.zeroDeg.toFixed(4)}${sigma(r.shift.zeroSigmaDeg)}°, displacement ${r.shift.displacementCosDeg.toFixed(4)}${sigma(r.shift.displacementSigmaDeg)}°·cosθ ` +
+      `(${r.shift.displacementMm.toFixed(3)} mm on a ${r.shift.goniometerRadiusMm} mm goniometer)`,
+  );
   for (const p of r.phases) {
     const fraction = p.weightFraction === null ? 'not quantified' : `${(100 * p.weightFraction).toFixed(1)} wt %`;
-    out.push(`  ${p.verdict.padEnd(9)} ${p.name}  score ${p.score.toFixed(2)}, ${p.matchedLines} lines, ${fraction}`);
+    // cellChangePercent is the refined cell's volume change from the reference, % (one number for every crystal system).
+    const cell = p.cell ? `, cell a ${p.cell.a.toFixed(5)}(${p.cell.aSigma.toExponential(1)}) Å, volume ${p.cellChangePercent! >= 0 ? '+' : ''}${p.cellChangePercent!.toFixed(3)} %` : '';
+    out.push(`  ${p.verdict.padEnd(9)} ${p.name}  score ${p.score.toFixed(2)}, ${p.matchedLines} lines, ${fraction}${cell}`);
     for (const reason of p.reasons) out.push(`      - ${reason}`);
   }
   if (r.unexplained.length > 0) {

@@ -35,13 +35,20 @@ function displacementIsSignificant(
 /** Lines used in the coarse search for the offset (the strongest ones carry the decision). */
 const SEARCH_LINES = 24;
 
-/** Intensity-weighted agreement of the strongest lines with the peaks under one offset (triangular in |Δ2θ|/tolerance). */
-function agreement(lines: PhaseLines, peaks: PeakTable, zero: number, displacement: number, searchLines = SEARCH_LINES): number {
+const RAD_TO_DEG = 180 / Math.PI;
+
+/** Intensity-weighted agreement of the strongest lines with the peaks under one offset (triangular in |Δ2θ|/tolerance), with every d scaled by `scale`. */
+function agreement(lines: PhaseLines, peaks: PeakTable, zero: number, displacement: number, searchLines = SEARCH_LINES, scale = 1): number {
   let sum = 0;
   const used = Math.min(lines.count, searchLines);
   for (let m = 0; m < used; m++) {
     const j = lines.byIntensity[m];
-    const tt = lines.twoTheta[j] + zero + displacement * lines.cosTheta[j];
+    let position = lines.twoTheta[j];
+    if (scale !== 1) {
+      const sinTheta = Math.sqrt(Math.max(0, 1 - lines.cosTheta[j] * lines.cosTheta[j]));
+      position = 2 * Math.asin(Math.min(1, sinTheta / scale)) * RAD_TO_DEG;
+    }
+    const tt = position + zero + displacement * lines.cosTheta[j];
     const k = nearestPeak(peaks, tt);
     if (k < 0) return 0;
     const r = Math.abs(peaks.twoTheta[k] - tt);
@@ -113,4 +120,45 @@ export function refineShift(lines: PhaseLines, peaks: PeakTable, bounds: ShiftBo
   const refined = { zeroDeg: zero, displacementCosDeg: displacement };
   const all = lines.count;
   return agreement(lines, peaks, refined.zeroDeg, refined.displacementCosDeg, all) >= agreement(lines, peaks, gridShift.zeroDeg, gridShift.displacementCosDeg, all) ? refined : gridShift;
+}
+
+/** Scale steps of the cell search: 0.05 % in d (about the tolerance at 90° 2θ). */
+const SCALE_STEP = 0.0005;
+/** The cell search runs only when the reference's own cell leaves this share of the strongest lines' intensity unmatched… */
+const SCALE_SEARCH_BELOW = 0.5;
+/** …and a scaled cell is taken only when it matches this share of it (and 1.5× what the reference's own cell matches). */
+const SCALE_ACCEPT_ABOVE = 0.75;
+
+/**
+ * A starting isotropic cell scale for a candidate whose reference cell does not fit (thermal expansion,
+ * a solid solution, a reference measured at another temperature): a grid on d → s·d within
+ * ±maxScale, under the sample's shift where it is known, else with a constant offset searched on the
+ * same grid (the first phase's search). Returns 1 when the reference's own cell fits or nothing fits better.
+ */
+export function searchCellScale(lines: PhaseLines, peaks: PeakTable, bounds: ShiftBounds, maxScale: number, shift: MatchShift | null): { scale: number; offsetDeg: number } {
+  const used = Math.min(lines.count, SEARCH_LINES);
+  let total = 0;
+  for (let m = 0; m < used; m++) total += lines.intensity[lines.byIntensity[m]];
+  if (!(total > 0) || maxScale <= 0) return { scale: 1, offsetDeg: 0 };
+  const reach = bounds.maxZeroDeg + bounds.maxDisplacementDeg;
+  const step = bounds.toleranceDeg / 4;
+  const best = (scale: number): { value: number; offset: number } => {
+    if (shift) return { value: agreement(lines, peaks, shift.zeroDeg, shift.displacementCosDeg, SEARCH_LINES, scale), offset: 0 };
+    let value = agreement(lines, peaks, 0, 0, SEARCH_LINES, scale);
+    let offset = 0;
+    for (let c = -reach; c <= reach + 1e-12; c += step) {
+      const v = agreement(lines, peaks, c, 0, SEARCH_LINES, scale);
+      if (v > value + 1e-9) [value, offset] = [v, c];
+    }
+    return { value, offset };
+  };
+  const own = best(1);
+  if (own.value >= SCALE_SEARCH_BELOW * total) return { scale: 1, offsetDeg: own.offset };
+  let chosen = { scale: 1, ...own };
+  for (let s = 1 - maxScale; s <= 1 + maxScale + 1e-12; s += SCALE_STEP) {
+    const trial = best(s);
+    if (trial.value > chosen.value + 1e-9) chosen = { scale: s, ...trial };
+  }
+  if (chosen.scale !== 1 && chosen.value >= SCALE_ACCEPT_ABOVE * total && chosen.value >= 1.5 * own.value) return { scale: chosen.scale, offsetDeg: chosen.offset };
+  return { scale: 1, offsetDeg: own.offset };
 }

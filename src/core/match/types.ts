@@ -24,6 +24,10 @@ export interface MatchOptions {
   index?: ReferenceIndex;
   /** How many screened candidates get the full score per round (default 40). */
   candidates?: number;
+  /** Each refined cell parameter stays within this fraction of the reference's (default 0.02: ±2 %). */
+  cellBoundFraction?: number;
+  /** Goniometer radius for the specimen displacement in mm (default 240). */
+  goniometerRadiusMm?: number;
   /** Most phases the explanation may use (default 5). */
   maxPhases?: number;
   /** How many phases judged absent are listed after the present ones (default 5). */
@@ -34,6 +38,32 @@ export interface MatchOptions {
 export interface MatchShift {
   zeroDeg: number;
   displacementCosDeg: number;
+}
+
+/**
+ * The pattern's one shift, refined jointly over the resolved lines of every phase taken into the
+ * explanation, with σ (null where not refined: no displacement is kept unless it is significant).
+ */
+export interface SampleShift extends MatchShift {
+  zeroSigmaDeg: number | null;
+  displacementSigmaDeg: number | null;
+  /** Specimen displacement s in mm, by Δ2θ(rad) = −2s·cosθ/R (the sign follows that formula). */
+  displacementMm: number;
+  displacementMmSigma: number | null;
+  goniometerRadiusMm: number;
+  /** Resolved lines the shift was refined on. */
+  linesUsed: number;
+}
+
+/** A refined cell, Å and degrees, with σ (0 for a parameter fixed or tied by symmetry to one whose σ it carries). */
+export interface RefinedCell {
+  a: number; aSigma: number;
+  b: number; bSigma: number;
+  c: number; cSigma: number;
+  alpha: number; alphaSigma: number;
+  beta: number; betaSigma: number;
+  gamma: number; gammaSigma: number;
+  volume: number; volumeSigma: number;
 }
 
 export type Verdict = 'present' | 'uncertain' | 'not-seen';
@@ -95,8 +125,14 @@ export interface PhaseMatch {
   exclusiveAreaShare?: number;
   /** True when the phase was taken into the explanation of the pattern (a phase only listed is not needed to explain it). */
   inExplanation?: boolean;
-  /** The shift this phase was judged with (each phase refines its own within the bounds; the pattern's is the first phase's). */
+  /** The shift this phase was judged with: the sample's one shift (a phase never has a shift of its own). */
   shift: MatchShift;
+  /** Refined cell of a phase taken into the explanation (absent otherwise, or when it could not be refined). */
+  cell?: RefinedCell;
+  /** Volume change of the refined cell from the reference's, % (the volume, not an edge: one number for every crystal system). */
+  cellChangePercent?: number;
+  /** That change in units of its σ (null when σ is 0). */
+  cellChangeSigmas?: number | null;
   /** Mean |Δ2θ| of the matched lines after the shift, degrees. */
   meanResidualDeg: number;
   lines: MatchedLine[];
@@ -116,7 +152,7 @@ export interface UnexplainedPeak {
 }
 
 export interface MatchResult {
-  shift: MatchShift;
+  shift: SampleShift;
   phases: PhaseMatch[];
   unexplained: UnexplainedPeak[];
   /** Share of the measured peak area no present phase explains, 0–1. */
