@@ -5,6 +5,7 @@ import { partnerTwoThetaDeg } from './kalpha2.js';
 import { thompsonCoxHastingsWithDerivatives } from './profiles.js';
 import type { FittedPeak, PeakFitOptions, PeakGuess, ProfileModel } from '../model/peak.js';
 import { lowerBound } from '../model/sorted.js';
+import { choleskyFactor, choleskySolve, conditionalInverse } from '../numeric/cholesky.js';
 
 /**
  * Profile fitting of diffraction peaks: overlapping peaks are fitted together in groups, each peak a
@@ -59,6 +60,13 @@ const CHI2_TOLERANCE = 1e-8;
 /** Give up raising the damping beyond this (no downhill step exists within the constraints). */
 const MAX_DAMPING = 1e8;
 const MAX_ASYMMETRY = 0.8;
+/**
+ * A pivot of the covariance's Cholesky factor below this fraction of its diagonal element marks a
+ * parameter that the data cannot tell from the others (its σ would be over 10⁵ times its independent σ).
+ */
+const SINGULAR_PIVOT = 1e-10;
+/** Too-weak peaks whose heights correlate beyond this are taken out one at a time (see survivors). */
+const SPARE_CORRELATION = 0.5;
 /** Two fitted peaks closer than this fraction of their FWHM cannot be told apart (common practice). */
 const DUPLICATE_FWHM_FRACTION = 0.5;
 /** Peaks closer than this many mean FWHMs are flagged as overlapped (common practice). */
@@ -86,6 +94,20 @@ const P_DMIX = 9; // its derivative by η
 const P_INV_LOW = 10; // 1 / FWHM of the low-angle half
 const P_INV_HIGH = 11; // 1 / FWHM of the high-angle half
 const P_INV_FWHM = 12;
+
+/**
+ * Work done by the fits since the last reset, for judging the cost of a change by counting rather than
+ * timing: evaluations of a group's model (with its normal matrix), Kα1 profile evaluations at points
+ * (a doublet counts once), Levenberg–Marquardt steps tried, and group fits whose normal matrix was singular.
+ */
+export const fitWork = { evaluations: 0, profilePoints: 0, lmSteps: 0, singularFits: 0 };
+
+export function resetFitWork(): void {
+  fitWork.evaluations = 0;
+  fitWork.profilePoints = 0;
+  fitWork.lmSteps = 0;
+  fitWork.singularFits = 0;
+}
 
 export interface PeakFitResult {
   peaks: FittedPeak[];
@@ -530,7 +552,7 @@ class GroupFitter {
       const chi2 = this.levenbergMarquardt();
       const covariance = this.covariance(chi2);
       const peaks = this.describe(covariance, chi2, groupIndex);
-      const keep = this.pruneBelowSigma === undefined || round >= 4 ? null : this.survivors(peaks);
+      const keep = this.pruneBelowSigma === undefined || round >= 4 ? null : this.survivors(peaks, covariance);
       if (keep === null || keep.length === members.length || keep.length === 0) {
         const bgBase = members.length * perPeak;
         if (keep !== null && keep.length === 0) {
@@ -560,15 +582,21 @@ class GroupFitter {
     }
   }
 
-  /** Indices of peaks that stand clear of the noise, are wider than a spike, and are not duplicates. */
-  private survivors(peaks: FittedPeak[]): number[] {
+  /**
+   * Indices of peaks that stand clear of the noise, are wider than a spike, and are not duplicates. Of
+   * peaks too weak only because they share their signal with another too-weak peak (heights correlated
+   * beyond SPARE_CORRELATION: two fits of one line, say), only the least significant goes (or the duplicate);
+   * the others are refitted without it (backward elimination, one of each correlated set per round).
+   */
+  private survivors(peaks: FittedPeak[], covariance: Float64Array): number[] {
     const threshold = this.pruneBelowSigma ?? 0;
     const keep: number[] = [];
+    const weak: number[] = [];
+    const dropped: number[] = [];
     for (let k = 0; k < peaks.length; k++) {
       const p = peaks[k];
       const atEdge = p.twoTheta <= this.x[this.lo[k]] || p.twoTheta >= this.x[this.hi[k] - 1];
-      if (!(p.height > threshold * p.heightSigma) || p.fwhm < this.minFwhm || p.fwhm > this.maxFwhm || atEdge) continue;
-      if (this.acceptance && !this.standsClear(k, p)) continue;
+      if (p.fwhm < this.minFwhm || p.fwhm > this.maxFwhm || atEdge) continue;
       let duplicate = false;
       for (let j = 0; j < peaks.length && !duplicate; j++) {
         if (j === k) continue;
@@ -579,9 +607,31 @@ class GroupFitter {
         // A weak peak sitting on a stronger peak's Kα2 partner is the partner itself.
         if (this.lambda2 !== null && Math.abs(p.twoTheta - partner) < close && p.height < this.ratio * q.height) duplicate = true;
       }
-      if (!duplicate) keep.push(k);
+      if (duplicate) {
+        dropped.push(k);
+        continue;
+      }
+      if (!(p.height > threshold * p.heightSigma) || (this.acceptance && !this.standsClear(k, p))) weak.push(k);
+      else keep.push(k);
     }
-    return keep;
+    if (weak.length === 0 || weak.length + dropped.length < 2) return keep;
+    // Least significant first; a weak peak correlated with one already dropped (or a duplicate) is spared this round.
+    const significance = (k: number): number => peaks[k].height / peaks[k].heightSigma;
+    weak.sort((a, b) => significance(a) - significance(b));
+    for (const k of weak) {
+      if (dropped.some((j) => Math.abs(this.heightCorrelation(covariance, j, k)) > SPARE_CORRELATION)) keep.push(k);
+      else dropped.push(k);
+    }
+    return keep.sort((a, b) => a - b);
+  }
+
+  /** Correlation of the heights of peaks j and k of the group (0 where either is held fixed). */
+  private heightCorrelation(covariance: Float64Array, j: number, k: number): number {
+    const n = this.paramCount;
+    const a = j * this.perPeak + HEIGHT;
+    const b = k * this.perPeak + HEIGHT;
+    const rho = covariance[a * n + b] / Math.sqrt(covariance[a * n + a] * covariance[b * n + b]);
+    return Number.isFinite(rho) ? rho : 0;
   }
 
   /** The acceptance rules on level, movement and width (see PeakAcceptance). */
@@ -728,6 +778,8 @@ class GroupFitter {
     const slope = params[bgBase + 1];
     normal.fill(0, 0, paramCount * paramCount);
     gradient.fill(0, 0, paramCount);
+    fitWork.evaluations++;
+    for (let k = 0; k < this.peakCount; k++) fitWork.profilePoints += hi[k] - lo[k];
     let chi2 = 0;
     for (let i = this.first; i < this.last; i++) {
       const xi = x[i];
@@ -877,6 +929,7 @@ class GroupFitter {
           step[a] = 0;
         }
       }
+      fitWork.lmSteps++;
       if (!choleskyFactor(work, paramCount)) {
         damping *= growth;
         growth *= 2;
@@ -941,44 +994,56 @@ class GroupFitter {
     this.spareGradient = gradient;
   }
 
-  /** Covariance = (JᵀWJ)⁻¹ · χ²/(N − P), or null when the normal matrix is singular. */
-  private covariance(chi2: number): Float64Array | null {
-    const { paramCount, normal, work } = this;
-    for (let a = 0; a < paramCount * paramCount; a++) work[a] = normal[a];
-    // Parameters that no point sees (e.g. a slope over one point) are held fixed.
-    for (let a = 0; a < paramCount; a++) if (!(work[a * paramCount + a] > 0)) work[a * paramCount + a] = 1;
-    if (!choleskyFactor(work, paramCount)) return null;
+  /**
+   * Covariance = (JᵀWJ)⁻¹ · χ²/(N − P). Where the normal matrix is singular (a peak that has become
+   * degenerate with the group's background line under a broad hump, a duplicate, a height at zero), the
+   * parameters that carry no information of their own are held fixed, weakest first (η, then widths,
+   * then positions, then heights; the background line last), and the covariance is that of the others,
+   * conditional on them: a degenerate η costs that peak nothing, and a degenerate height drops only its peak.
+   * Fixed parameters get a variance of NaN on the diagonal (see describe).
+   */
+  private covariance(chi2: number): Float64Array {
+    const { paramCount } = this;
     const points = this.last - this.first;
+    const { inverse, fixedCount } = conditionalInverse(this.normal, paramCount, this.pivotOrder(), SINGULAR_PIVOT, this.work, this.step);
+    if (fixedCount > 0) fitWork.singularFits++;
     const scale = chi2 / Math.max(points - paramCount, 1);
-    const inverse = new Float64Array(paramCount * paramCount);
-    const column = this.step;
-    for (let c = 0; c < paramCount; c++) {
-      column.fill(0, 0, paramCount);
-      column[c] = 1;
-      choleskySolve(work, paramCount, column);
-      for (let r = 0; r < paramCount; r++) inverse[r * paramCount + c] = column[r] * scale;
-    }
+    for (let a = 0; a < paramCount * paramCount; a++) inverse[a] *= scale;
     return inverse;
   }
 
+  /** Parameters in the order the covariance keeps them: the background line, heights, positions, widths, η (and asymmetry). */
+  private pivotOrder(): number[] {
+    const { perPeak, peakCount } = this;
+    const bgBase = peakCount * perPeak;
+    const order = [bgBase, bgBase + 1];
+    for (const slot of perPeak === 5 ? [HEIGHT, POS, WIDTH_A, WIDTH_B, ASYM] : [HEIGHT, POS, WIDTH_A, WIDTH_B]) {
+      for (let k = 0; k < peakCount; k++) order.push(k * perPeak + slot);
+    }
+    return order;
+  }
+
   /** The fitted peaks with derived quantities and their standard uncertainties. */
-  private describe(covariance: Float64Array | null, chi2: number, groupIndex: number): FittedPeak[] {
+  private describe(covariance: Float64Array, chi2: number, groupIndex: number): FittedPeak[] {
     const { params, perPeak, prep, paramCount } = this;
     this.prepare(params);
     const points = this.last - this.first;
     const reducedChi2 = chi2 / Math.max(points - paramCount, 1);
     const peaks: FittedPeak[] = [];
     const grad = new Float64Array(perPeak);
+    // A parameter held fixed (degenerate, see covariance) adds nothing to the σ of what derives from it:
+    // those σ are conditional on it; its own σ is unknown (∞).
+    const isFixed = (index: number): boolean => Number.isNaN(covariance[index * paramCount + index]);
     const sigmaOf = (base: number): number => {
-      if (covariance === null) return Number.POSITIVE_INFINITY;
       let v = 0;
       for (let a = 0; a < perPeak; a++) {
-        if (grad[a] === 0) continue;
-        for (let b = 0; b < perPeak; b++) v += grad[a] * grad[b] * covariance[(base + a) * paramCount + base + b];
+        if (grad[a] === 0 || isFixed(base + a)) continue;
+        for (let b = 0; b < perPeak; b++) if (!isFixed(base + b)) v += grad[a] * grad[b] * covariance[(base + a) * paramCount + base + b];
       }
       return Math.sqrt(Math.max(v, 0));
     };
     const single = (base: number, slot: number): number => {
+      if (isFixed(base + slot)) return Number.POSITIVE_INFINITY;
       grad.fill(0);
       grad[slot] = 1;
       return sigmaOf(base);
@@ -1063,38 +1128,6 @@ function splitPseudoVoigt(dx: number, fwhm: number, mix: number, asym: number): 
 function gaussianTail(u2: number): number {
   return u2 > GAUSS_CUT_U2 ? 0 : Math.exp(-FOUR_LN2 * u2);
 }
-
-/** In-place Cholesky factor (lower triangle) of a symmetric positive-definite n×n matrix; false if not PD. */
-function choleskyFactor(m: Float64Array, n: number): boolean {
-  for (let j = 0; j < n; j++) {
-    let d = m[j * n + j];
-    for (let k = 0; k < j; k++) d -= m[j * n + k] * m[j * n + k];
-    if (!(d > 0)) return false;
-    const root = Math.sqrt(d);
-    m[j * n + j] = root;
-    for (let i = j + 1; i < n; i++) {
-      let s = m[i * n + j];
-      for (let k = 0; k < j; k++) s -= m[i * n + k] * m[j * n + k];
-      m[i * n + j] = s / root;
-    }
-  }
-  return true;
-}
-
-/** Solve L·Lᵀ·v = b in place (L from choleskyFactor). */
-function choleskySolve(l: Float64Array, n: number, b: Float64Array): void {
-  for (let i = 0; i < n; i++) {
-    let s = b[i];
-    for (let k = 0; k < i; k++) s -= l[i * n + k] * b[k];
-    b[i] = s / l[i * n + i];
-  }
-  for (let i = n - 1; i >= 0; i--) {
-    let s = b[i];
-    for (let k = i + 1; k < n; k++) s -= l[k * n + i] * b[k];
-    b[i] = s / l[i * n + i];
-  }
-}
-
 
 function nearestIndex(x: Float64Array, value: number): number {
   const i = lowerBound(x, value);
