@@ -65,6 +65,8 @@ const MAX_ASYMMETRY = 0.8;
  * parameter that the data cannot tell from the others (its σ would be over 10⁵ times its independent σ).
  */
 const SINGULAR_PIVOT = 1e-10;
+/** A fitted width within this fraction of the upper limit counts as pinned there. */
+const PINNED_WIDTH_FRACTION = 0.995;
 /** Too-weak peaks whose heights correlate beyond this are taken out one at a time (see survivors). */
 const SPARE_CORRELATION = 0.5;
 /** Two fitted peaks closer than this fraction of their FWHM cannot be told apart (common practice). */
@@ -228,6 +230,8 @@ class GroupFitter {
   private upper = new Float64Array(0);
   private foundAt: Float64Array = new Float64Array(0);
   private foundFwhm: Float64Array = new Float64Array(0);
+  /** σ of each group peak's area with the group's background line held at its fitted value (see standsClear). */
+  private areaSigmaGivenLine: Float64Array = new Float64Array(0);
 
   // All peaks: latest parameters, still kept, latest description, where found and how broad.
   private current: Float64Array[] = [];
@@ -596,7 +600,9 @@ class GroupFitter {
     for (let k = 0; k < peaks.length; k++) {
       const p = peaks[k];
       const atEdge = p.twoTheta <= this.x[this.lo[k]] || p.twoTheta >= this.x[this.hi[k] - 1];
-      if (p.fwhm < this.minFwhm || p.fwhm > this.maxFwhm || atEdge) continue;
+      // In a search, a peak pinned at the broadest width allowed wants to be broader: a piece of an amorphous hump.
+      const pinnedBroad = this.acceptance !== undefined && p.fwhm >= PINNED_WIDTH_FRACTION * this.maxFwhm;
+      if (p.fwhm < this.minFwhm || p.fwhm > this.maxFwhm || atEdge || pinnedBroad) continue;
       let duplicate = false;
       for (let j = 0; j < peaks.length && !duplicate; j++) {
         if (j === k) continue;
@@ -640,40 +646,40 @@ class GroupFitter {
     const found = this.foundFwhm[k];
     if (Math.abs(peak.twoTheta - this.foundAt[k]) > MAX_MOVE_FWHM * Math.max(found, peak.fwhm)) return false;
     if (peak.fwhm > MAX_WIDTH_CHANGE * found || peak.fwhm * MAX_WIDTH_CHANGE < found) return false;
-    const i = nearestIndex(this.x, peak.twoTheta);
-    const background = this.background[i];
-    const level = background + this.others[i] + this.othersAt(k, peak.twoTheta);
-    const sigma = acceptance.noiseSigma[i] * (background > 0 && level > background ? Math.sqrt(level / background) : 1);
-    return this.ownTop(k, peak.height) >= acceptance.thresholdSigma * sigma;
+    // Integrated significance: the area against the σ of the area, which (unlike a height against the
+    // σ of one point) does not depend on the step size when the counting time per degree is the same.
+    // It is taken with the group's straight background line held fixed: that line is pinned by however many
+    // points the fit region spans beyond the peak, a number of points (not degrees), so its share of the
+    // area's σ would change with the step.
+    return peak.area >= acceptance.thresholdSigma * this.areaSigmaGivenLine[k];
   }
 
   /**
-   * Height of peak k with its own Kα2 partner at the Kα1 line: at low angle, where the partner lies within
-   * the width, the data show this sum, not the Kα1 height alone. prepare() must be current.
+   * σ of a quantity of one peak (gradient `grad` over its parameters at `base`, marginal σ `sigma`) with the
+   * background line's offset and slope held fixed: the Schur complement v − cᵀ·C_bb⁻¹·c, c = C_pb·g.
    */
-  private ownTop(k: number, height: number): number {
-    if (this.lambda2 === null) return height;
-    const { params, prep } = this;
-    const pr = k * PREP;
-    const asym = this.perPeak === 5 ? params[k * this.perPeak + ASYM] : 0;
-    return height * (1 + this.ratio * splitPseudoVoigt(params[k * this.perPeak + POS] - prep[pr + P_POS2], prep[pr + P_FWHM], prep[pr + P_MIX], asym));
-  }
-
-  /** Sum of the other peaks of the group (with Kα2 partners) at 2θ; prepare() must be current. */
-  private othersAt(k: number, twoTheta: number): number {
-    const { params, perPeak, prep } = this;
-    let sum = 0;
-    for (let j = 0; j < this.peakCount; j++) {
-      if (j === k) continue;
-      const base = j * perPeak;
-      const pr = j * PREP;
-      const asym = perPeak === 5 ? params[base + ASYM] : 0;
-      sum += params[base + HEIGHT] * splitPseudoVoigt(twoTheta - params[base + POS], prep[pr + P_FWHM], prep[pr + P_MIX], asym);
-      if (this.lambda2 !== null) {
-        sum += this.ratio * params[base + HEIGHT] * splitPseudoVoigt(twoTheta - prep[pr + P_POS2], prep[pr + P_FWHM], prep[pr + P_MIX], asym);
+  private givenBackgroundLine(covariance: Float64Array, base: number, grad: Float64Array, sigma: number): number {
+    const n = this.paramCount;
+    const bg = this.peakCount * this.perPeak;
+    const c = [0, 0];
+    for (let j = 0; j < 2; j++) {
+      for (let a = 0; a < this.perPeak; a++) {
+        const value = covariance[(base + a) * n + bg + j];
+        if (grad[a] !== 0 && Number.isFinite(value)) c[j] += grad[a] * value;
       }
     }
-    return sum;
+    const s00 = covariance[bg * n + bg];
+    const s11 = covariance[(bg + 1) * n + bg + 1];
+    const s01 = covariance[bg * n + bg + 1];
+    let explained = 0;
+    if (Number.isNaN(s00) && Number.isNaN(s11)) explained = 0;
+    else if (Number.isNaN(s11)) explained = s00 > 0 ? (c[0] * c[0]) / s00 : 0;
+    else if (Number.isNaN(s00)) explained = s11 > 0 ? (c[1] * c[1]) / s11 : 0;
+    else {
+      const det = s00 * s11 - s01 * s01;
+      if (det > 0) explained = (s11 * c[0] * c[0] - 2 * s01 * c[0] * c[1] + s00 * c[1] * c[1]) / det;
+    }
+    return Math.sqrt(Math.max(sigma * sigma - explained, 0));
   }
 
   private setUp(params: Float64Array, peakCount: number, regionStart: number, regionEnd: number): void {
@@ -699,6 +705,7 @@ class GroupFitter {
       this.lo = new Int32Array(size);
       this.hi = new Int32Array(size);
       this.prep = new Float64Array(size * PREP);
+      this.areaSigmaGivenLine = new Float64Array(size);
     }
     this.params = params.slice();
     for (let k = 0; k < peakCount; k++) {
@@ -1077,6 +1084,7 @@ class GroupFitter {
       grad[WIDTH_B] *= height;
       grad[HEIGHT] = breadth;
       const areaSigma = sigmaOf(base);
+      this.areaSigmaGivenLine[k] = this.givenBackgroundLine(covariance, base, grad, areaSigma);
 
       const twoTheta = params[base + POS];
       const peak: FittedPeak = {

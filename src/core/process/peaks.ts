@@ -6,6 +6,7 @@ import { partnerTwoThetaDeg, strippedVariance, stripKAlpha2 } from './kalpha2.js
 import { findLocalMaxima } from './local-maxima.js';
 import { savitzkyGolay } from './savitzky-golay.js';
 import { DEFAULT_CLIPPING_HALF_WIDTH_DEG, liftToNoiseMedian, snipBackground } from './snip.js';
+import { lowerBound } from '../model/sorted.js';
 import type { NoiseModel, PeakGuess, PeakSearchOptions, PeakSearchResult } from '../model/peak.js';
 
 /**
@@ -48,6 +49,16 @@ const REFIT_MARGIN = 1.5;
 const BROAD_WIDTH_QUANTILE = 0.75;
 /** SNIP is clipped on block means when its window would span more points than this (speed; measured). */
 const SNIP_MAX_WINDOW_POINTS = 48;
+/**
+ * A candidate broader than this many times the median FWHM of the pattern's clear peaks is an amorphous
+ * hump, left to the background, never a peak; no start or fitted width may exceed it either (one runaway
+ * width guess otherwise drags its group, and the background window, with it).
+ */
+const MAX_WIDTH_MEDIANS = 4;
+/** …and never broader than this, degrees 2θ (an absolute ceiling; crystallites of about 2 nm at 30° with Cu). */
+const MAX_PEAK_FWHM_DEG = 5;
+/** Candidates at least this many background σ high are the clear peaks whose widths set that bound. */
+const CLEAR_PEAK_SIGMA = 10;
 /** A search fit has converged when a step lowers χ² by less than this (parameters within about σ/10). */
 const CONVERGED_CHI2_CHANGE = 0.01;
 
@@ -75,7 +86,10 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
   const widestAuto = Math.min(MAX_AUTO_HALF_WIDTH_DEG, (x[n - 1] - x[0]) / 4);
   let halfWidthDeg = options.backgroundHalfWidthDeg ?? DEFAULT_CLIPPING_HALF_WIDTH_DEG;
   let level = backgroundAt(pattern, smoothed, forBackground, halfWidthDeg, noise);
+  const ceilingDeg = options.maxFwhmDeg ?? MAX_PEAK_FWHM_DEG;
   let guesses = candidates(pattern, options, smoothed, level, thresholdSigma);
+  let widthCeiling = widthCeilingOf(pattern, guesses, level.noiseSigma, ceilingDeg);
+  guesses = guesses.filter((g) => (g.fwhm as number) <= widthCeiling);
   // Broad peaks (crystallites of a few nm) would be partly clipped into a background narrower than their
   // tails: with no width given, widen the clipping window to the peaks found (and search them again when
   // the window grows much: shoulders the narrow one clipped away may hold more peaks).
@@ -87,13 +101,15 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
     level = backgroundAt(pattern, smoothed, forBackground, halfWidthDeg, noise);
     if (!searchAgain) break;
     guesses = candidates(pattern, options, smoothed, level, thresholdSigma);
+    widthCeiling = widthCeilingOf(pattern, guesses, level.noiseSigma, ceilingDeg);
+    guesses = guesses.filter((g) => (g.fwhm as number) <= widthCeiling);
   }
   const { snip, noiseSigma } = level;
   const fit = fitPeakGroups(
     pattern,
     snip,
     guesses,
-    { ...options, pruneBelowSigma: options.pruneBelowSigma ?? thresholdSigma, minFwhmDeg: options.minFwhmDeg ?? MIN_FWHM_STEPS * meanStep },
+    { ...options, pruneBelowSigma: options.pruneBelowSigma ?? thresholdSigma, minFwhmDeg: options.minFwhmDeg ?? MIN_FWHM_STEPS * meanStep, maxFwhmDeg: widthCeiling },
     { thresholdSigma, noiseSigma, weightSigma: noise === 'pattern' ? undefined : smoothedSigma(smoothed, snip, noiseSigma), convergedChi2Change: CONVERGED_CHI2_CHANGE },
   );
   // The fitted widths are better than the search's: if they ask for a much wider window, search and fit again.
@@ -192,6 +208,21 @@ function withUnresolvedDoublets(
     out.push({ twoTheta: doublet.twoTheta - share * separation, height: (doublet.height as number) / (1 + wavelength.ratio), fwhm });
   }
   return out === guesses ? guesses : out.sort((p, q) => p.twoTheta - q.twoTheta);
+}
+
+/**
+ * The broadest FWHM a peak of this pattern may have: MAX_WIDTH_MEDIANS times the median FWHM of its clear
+ * candidates (all candidates when none is clear), and at most `ceilingDeg`.
+ */
+function widthCeilingOf(pattern: Pattern, guesses: PeakGuess[], noiseSigma: Float64Array, ceilingDeg: number): number {
+  const { x } = pattern;
+  const widthsOf = (list: PeakGuess[]) => Float64Array.from(list, (g) => g.fwhm as number).sort();
+  let widths = widthsOf(guesses.filter((g) => (g.height as number) >= CLEAR_PEAK_SIGMA * noiseSigma[Math.min(lowerBound(x, g.twoTheta), x.length - 1)]));
+  if (widths.length === 0) widths = widthsOf(guesses);
+  if (widths.length === 0) return ceilingDeg;
+  const middle = widths.length >> 1;
+  const median = widths.length % 2 === 1 ? widths[middle] : 0.5 * (widths[middle - 1] + widths[middle]);
+  return Math.min(MAX_WIDTH_MEDIANS * median, ceilingDeg);
 }
 
 /**
