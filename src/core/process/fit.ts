@@ -52,7 +52,7 @@ const REFIT_SIGMA = 1;
 const MAX_PARTNER_GAP_DEG = 5;
 /** A fitted peak that moved further than this many FWHM from where it was found is not the peak that was found. */
 const MAX_MOVE_FWHM = 1;
-/** Nor one whose width changed by more than this factor. */
+/** Nor one that came out narrower than found by more than this factor. */
 const MAX_WIDTH_CHANGE = 4;
 const DEFAULT_MAX_ITERATIONS = 60;
 /** Stop when an accepted step lowers χ² by less than this fraction. */
@@ -645,7 +645,9 @@ class GroupFitter {
     const acceptance = this.acceptance as PeakAcceptance;
     const found = this.foundFwhm[k];
     if (Math.abs(peak.twoTheta - this.foundAt[k]) > MAX_MOVE_FWHM * Math.max(found, peak.fwhm)) return false;
-    if (peak.fwhm > MAX_WIDTH_CHANGE * found || peak.fwhm * MAX_WIDTH_CHANGE < found) return false;
+    // Narrower than found is a spike on a peak's top; broader is allowed up to the pattern's width bound (the
+    // width found on a weak peak's noisy top can be a fraction of its own, the more so the finer the step).
+    if (peak.fwhm * MAX_WIDTH_CHANGE < found) return false;
     // Integrated significance: the area against the σ of the area, which (unlike a height against the
     // σ of one point) does not depend on the step size when the counting time per degree is the same.
     // It is taken with the group's straight background line held fixed: that line is pinned by however many

@@ -57,6 +57,8 @@ const SNIP_MAX_WINDOW_POINTS = 48;
 const MAX_WIDTH_MEDIANS = 4;
 /** …and never broader than this, degrees 2θ (an absolute ceiling; crystallites of about 2 nm at 30° with Cu). */
 const MAX_PEAK_FWHM_DEG = 5;
+/** …and no candidate starts narrower than this many times that median. */
+const MIN_START_MEDIANS = 0.5;
 /** Candidates at least this many background σ high are the clear peaks whose widths set that bound. */
 const CLEAR_PEAK_SIGMA = 10;
 /** A search fit has converged when a step lowers χ² by less than this (parameters within about σ/10). */
@@ -87,9 +89,8 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
   let halfWidthDeg = options.backgroundHalfWidthDeg ?? DEFAULT_CLIPPING_HALF_WIDTH_DEG;
   let level = backgroundAt(pattern, smoothed, forBackground, halfWidthDeg, noise);
   const ceilingDeg = options.maxFwhmDeg ?? MAX_PEAK_FWHM_DEG;
-  let guesses = candidates(pattern, options, smoothed, level, thresholdSigma);
-  let widthCeiling = widthCeilingOf(pattern, guesses, level.noiseSigma, ceilingDeg);
-  guesses = guesses.filter((g) => (g.fwhm as number) <= widthCeiling);
+  let bounded = withinWidthBounds(pattern, candidates(pattern, options, smoothed, level, thresholdSigma), level.noiseSigma, ceilingDeg);
+  let guesses = bounded.guesses;
   // Broad peaks (crystallites of a few nm) would be partly clipped into a background narrower than their
   // tails: with no width given, widen the clipping window to the peaks found (and search them again when
   // the window grows much: shoulders the narrow one clipped away may hold more peaks).
@@ -100,16 +101,15 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
     halfWidthDeg = wanted;
     level = backgroundAt(pattern, smoothed, forBackground, halfWidthDeg, noise);
     if (!searchAgain) break;
-    guesses = candidates(pattern, options, smoothed, level, thresholdSigma);
-    widthCeiling = widthCeilingOf(pattern, guesses, level.noiseSigma, ceilingDeg);
-    guesses = guesses.filter((g) => (g.fwhm as number) <= widthCeiling);
+    bounded = withinWidthBounds(pattern, candidates(pattern, options, smoothed, level, thresholdSigma), level.noiseSigma, ceilingDeg);
+    guesses = bounded.guesses;
   }
   const { snip, noiseSigma } = level;
   const fit = fitPeakGroups(
     pattern,
     snip,
     guesses,
-    { ...options, pruneBelowSigma: options.pruneBelowSigma ?? thresholdSigma, minFwhmDeg: options.minFwhmDeg ?? MIN_FWHM_STEPS * meanStep, maxFwhmDeg: widthCeiling },
+    { ...options, pruneBelowSigma: options.pruneBelowSigma ?? thresholdSigma, minFwhmDeg: options.minFwhmDeg ?? MIN_FWHM_STEPS * meanStep, maxFwhmDeg: bounded.ceiling },
     { thresholdSigma, noiseSigma, weightSigma: noise === 'pattern' ? undefined : smoothedSigma(smoothed, snip, noiseSigma), convergedChi2Change: CONVERGED_CHI2_CHANGE },
   );
   // The fitted widths are better than the search's: if they ask for a much wider window, search and fit again.
@@ -211,18 +211,27 @@ function withUnresolvedDoublets(
 }
 
 /**
- * The broadest FWHM a peak of this pattern may have: MAX_WIDTH_MEDIANS times the median FWHM of its clear
- * candidates (all candidates when none is clear), and at most `ceilingDeg`.
+ * The widths a peak of this pattern may start from and end at, from the median FWHM of its clear candidates
+ * (all candidates when none is clear): at most MAX_WIDTH_MEDIANS times it (and `ceilingDeg`); and a start at
+ * least MIN_START_MEDIANS times it, since the width found on a weak peak's noisy top can be a fraction of its
+ * own, the more so the finer the step (peak widths change slowly with 2θ: common practice).
  */
-function widthCeilingOf(pattern: Pattern, guesses: PeakGuess[], noiseSigma: Float64Array, ceilingDeg: number): number {
+function widthBounds(pattern: Pattern, guesses: PeakGuess[], noiseSigma: Float64Array, ceilingDeg: number): { ceiling: number; startFloor: number } {
   const { x } = pattern;
   const widthsOf = (list: PeakGuess[]) => Float64Array.from(list, (g) => g.fwhm as number).sort();
   let widths = widthsOf(guesses.filter((g) => (g.height as number) >= CLEAR_PEAK_SIGMA * noiseSigma[Math.min(lowerBound(x, g.twoTheta), x.length - 1)]));
   if (widths.length === 0) widths = widthsOf(guesses);
-  if (widths.length === 0) return ceilingDeg;
+  if (widths.length === 0) return { ceiling: ceilingDeg, startFloor: 0 };
   const middle = widths.length >> 1;
   const median = widths.length % 2 === 1 ? widths[middle] : 0.5 * (widths[middle - 1] + widths[middle]);
-  return Math.min(MAX_WIDTH_MEDIANS * median, ceilingDeg);
+  return { ceiling: Math.min(MAX_WIDTH_MEDIANS * median, ceilingDeg), startFloor: Math.min(MIN_START_MEDIANS * median, ceilingDeg) };
+}
+
+/** The candidates within the width bounds, none starting narrower than the floor (a broader one is a hump: background). */
+function withinWidthBounds(pattern: Pattern, guesses: PeakGuess[], noiseSigma: Float64Array, ceilingDeg: number): { guesses: PeakGuess[]; ceiling: number } {
+  const { ceiling, startFloor } = widthBounds(pattern, guesses, noiseSigma, ceilingDeg);
+  const kept = guesses.filter((g) => (g.fwhm as number) <= ceiling).map((g) => ((g.fwhm as number) < startFloor ? { ...g, fwhm: startFloor } : g));
+  return { guesses: kept, ceiling };
 }
 
 /**
