@@ -83,8 +83,8 @@ describe('peak search under a broad amorphous hump (independent simulator, Poiss
       stepDeg: 0.02,
       background: 150,
       lines: TARGET,
-      // Hump centred among the strong lines, 5–10° FWHM, area 0.4 to 1.0 × the crystalline area.
-      hump: { twoTheta: 20 + (d % 4) * 2.5, fwhm: 5 + (d % 6), area: CRYSTALLINE_COUNTS * (0.4 + 0.6 * ((d % 3) / 2)) },
+      // Hump centred under the 7 000-count line at 28.4°, FWHM 2–6°, area 0.3 to 1.0 × the crystalline area.
+      hump: { twoTheta: 26 + (d % 4), fwhm: [2, 3, 4, 6][d % 4], area: CRYSTALLINE_COUNTS * [0.3, 0.65, 1][d % 3] },
       seed: 1000 + d,
     };
     return search(spec);

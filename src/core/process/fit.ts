@@ -137,16 +137,13 @@ interface Group {
 }
 
 /**
- * Rules for keeping a fitted peak, used by the peak search: besides standing `pruneBelowSigma` standard
- * uncertainties clear of zero, its fitted height (with its own Kα2 partner's share at its top, which at low
- * angle lies under the peak) must be at least thresholdSigma·σ, with σ the counting
- * noise at the level it sits on (background plus its neighbours' tails), and it must stay near where it
- * was found, about as broad as it looked.
+ * Rules for keeping a fitted peak, used by the peak search: besides its height standing `pruneBelowSigma`
+ * standard uncertainties clear of zero, its area must be at least thresholdSigma standard uncertainties of
+ * its area (integrated significance, the same at any step), it must stay near where it was found, not come
+ * out much narrower than it looked, and not be pinned at the broadest width allowed (a piece of a hump).
  */
 export interface PeakAcceptance {
   thresholdSigma: number;
-  /** σ of the background at each point. */
-  noiseSigma: Float64Array;
   /**
    * σ of each point for the fit's weights, when not the pattern's own (for counts, √ of the smoothed
    * counts: weights from the raw counts favour upward fluctuations where counts are low).
@@ -640,7 +637,7 @@ class GroupFitter {
     return Number.isFinite(rho) ? rho : 0;
   }
 
-  /** The acceptance rules on level, movement and width (see PeakAcceptance). */
+  /** The acceptance rules on significance, movement and width (see PeakAcceptance). */
   private standsClear(k: number, peak: FittedPeak): boolean {
     const acceptance = this.acceptance as PeakAcceptance;
     const found = this.foundFwhm[k];

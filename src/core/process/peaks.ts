@@ -14,9 +14,10 @@ import type { NoiseModel, PeakGuess, PeakSearchOptions, PeakSearchResult } from 
  * Kα2 part of the net signal stripped (Rachinger); every local maximum that stands at least
  * thresholdSigma·σ above the background (σ from counting statistics) and as many σ of its own level above
  * its surroundings becomes a candidate (at low angle, where the Kα2 partner lies within a peak's width, the
- * unstripped net signal is searched too). The candidates are then fitted in groups on the raw data
- * (Kα2 modelled), and a fitted peak is kept only if its height is at least thresholdSigma standard
- * uncertainties and it is broader than a spike.
+ * unstripped net signal is searched too). A candidate much broader than the pattern's clear peaks is an
+ * amorphous hump and left to the background. The candidates are then fitted in groups on the raw data
+ * (Kα2 modelled), and a fitted peak is kept only if its height and its area are each at least
+ * thresholdSigma standard uncertainties, and it is broader than a spike.
  */
 export const DEFAULT_THRESHOLD_SIGMA = 3;
 const DEFAULT_SMOOTH_WINDOW_DEG = 0.05;
@@ -110,7 +111,7 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
     snip,
     guesses,
     { ...options, pruneBelowSigma: options.pruneBelowSigma ?? thresholdSigma, minFwhmDeg: options.minFwhmDeg ?? MIN_FWHM_STEPS * meanStep, maxFwhmDeg: bounded.ceiling },
-    { thresholdSigma, noiseSigma, weightSigma: noise === 'pattern' ? undefined : smoothedSigma(smoothed, snip, noiseSigma), convergedChi2Change: CONVERGED_CHI2_CHANGE },
+    { thresholdSigma, weightSigma: noise === 'pattern' ? undefined : smoothedSigma(smoothed, snip, noiseSigma), convergedChi2Change: CONVERGED_CHI2_CHANGE },
   );
   // The fitted widths are better than the search's: if they ask for a much wider window, search and fit again.
   if (automatic) {
