@@ -5,6 +5,7 @@ import { partnerTwoThetaDeg } from './kalpha2.js';
 import { thompsonCoxHastingsWithDerivatives } from './profiles.js';
 import type { FittedPeak, PeakFitOptions, PeakGuess, ProfileModel } from '../model/peak.js';
 import { lowerBound } from '../model/sorted.js';
+import { choleskyFactor, choleskySolve, conditionalInverse } from '../numeric/cholesky.js';
 
 /**
  * Profile fitting of diffraction peaks: overlapping peaks are fitted together in groups, each peak a
@@ -51,7 +52,7 @@ const REFIT_SIGMA = 1;
 const MAX_PARTNER_GAP_DEG = 5;
 /** A fitted peak that moved further than this many FWHM from where it was found is not the peak that was found. */
 const MAX_MOVE_FWHM = 1;
-/** Nor one whose width changed by more than this factor. */
+/** Nor one that came out narrower than found by more than this factor. */
 const MAX_WIDTH_CHANGE = 4;
 const DEFAULT_MAX_ITERATIONS = 60;
 /** Stop when an accepted step lowers χ² by less than this fraction. */
@@ -59,6 +60,15 @@ const CHI2_TOLERANCE = 1e-8;
 /** Give up raising the damping beyond this (no downhill step exists within the constraints). */
 const MAX_DAMPING = 1e8;
 const MAX_ASYMMETRY = 0.8;
+/**
+ * A pivot of the covariance's Cholesky factor below this fraction of its diagonal element marks a
+ * parameter that the data cannot tell from the others (its σ would be over 10⁵ times its independent σ).
+ */
+const SINGULAR_PIVOT = 1e-10;
+/** A fitted width within this fraction of the upper limit counts as pinned there. */
+const PINNED_WIDTH_FRACTION = 0.995;
+/** Too-weak peaks whose heights correlate beyond this are taken out one at a time (see survivors). */
+const SPARE_CORRELATION = 0.5;
 /** Two fitted peaks closer than this fraction of their FWHM cannot be told apart (common practice). */
 const DUPLICATE_FWHM_FRACTION = 0.5;
 /** Peaks closer than this many mean FWHMs are flagged as overlapped (common practice). */
@@ -87,6 +97,20 @@ const P_INV_LOW = 10; // 1 / FWHM of the low-angle half
 const P_INV_HIGH = 11; // 1 / FWHM of the high-angle half
 const P_INV_FWHM = 12;
 
+/**
+ * Work done by the fits since the last reset, for judging the cost of a change by counting rather than
+ * timing: evaluations of a group's model (with its normal matrix), Kα1 profile evaluations at points
+ * (a doublet counts once), Levenberg–Marquardt steps tried, and group fits whose normal matrix was singular.
+ */
+export const fitWork = { evaluations: 0, profilePoints: 0, lmSteps: 0, singularFits: 0 };
+
+export function resetFitWork(): void {
+  fitWork.evaluations = 0;
+  fitWork.profilePoints = 0;
+  fitWork.lmSteps = 0;
+  fitWork.singularFits = 0;
+}
+
 export interface PeakFitResult {
   peaks: FittedPeak[];
   /** Background with each group's straight-line correction added, on pattern.x. */
@@ -113,16 +137,13 @@ interface Group {
 }
 
 /**
- * Rules for keeping a fitted peak, used by the peak search: besides standing `pruneBelowSigma` standard
- * uncertainties clear of zero, its fitted height (with its own Kα2 partner's share at its top, which at low
- * angle lies under the peak) must be at least thresholdSigma·σ, with σ the counting
- * noise at the level it sits on (background plus its neighbours' tails), and it must stay near where it
- * was found, about as broad as it looked.
+ * Rules for keeping a fitted peak, used by the peak search: besides its height standing `pruneBelowSigma`
+ * standard uncertainties clear of zero, its area must be at least thresholdSigma standard uncertainties of
+ * its area (integrated significance, the same at any step), it must stay near where it was found, not come
+ * out much narrower than it looked, and not be pinned at the broadest width allowed (a piece of a hump).
  */
 export interface PeakAcceptance {
   thresholdSigma: number;
-  /** σ of the background at each point. */
-  noiseSigma: Float64Array;
   /**
    * σ of each point for the fit's weights, when not the pattern's own (for counts, √ of the smoothed
    * counts: weights from the raw counts favour upward fluctuations where counts are low).
@@ -206,6 +227,8 @@ class GroupFitter {
   private upper = new Float64Array(0);
   private foundAt: Float64Array = new Float64Array(0);
   private foundFwhm: Float64Array = new Float64Array(0);
+  /** σ of each group peak's area with the group's background line held at its fitted value (see standsClear). */
+  private areaSigmaGivenLine: Float64Array = new Float64Array(0);
 
   // All peaks: latest parameters, still kept, latest description, where found and how broad.
   private current: Float64Array[] = [];
@@ -530,7 +553,7 @@ class GroupFitter {
       const chi2 = this.levenbergMarquardt();
       const covariance = this.covariance(chi2);
       const peaks = this.describe(covariance, chi2, groupIndex);
-      const keep = this.pruneBelowSigma === undefined || round >= 4 ? null : this.survivors(peaks);
+      const keep = this.pruneBelowSigma === undefined || round >= 4 ? null : this.survivors(peaks, covariance);
       if (keep === null || keep.length === members.length || keep.length === 0) {
         const bgBase = members.length * perPeak;
         if (keep !== null && keep.length === 0) {
@@ -560,15 +583,23 @@ class GroupFitter {
     }
   }
 
-  /** Indices of peaks that stand clear of the noise, are wider than a spike, and are not duplicates. */
-  private survivors(peaks: FittedPeak[]): number[] {
+  /**
+   * Indices of peaks that stand clear of the noise, are wider than a spike, and are not duplicates. Of
+   * peaks too weak only because they share their signal with another too-weak peak (heights correlated
+   * beyond SPARE_CORRELATION: two fits of one line, say), only the least significant goes (or the duplicate);
+   * the others are refitted without it (backward elimination, one of each correlated set per round).
+   */
+  private survivors(peaks: FittedPeak[], covariance: Float64Array): number[] {
     const threshold = this.pruneBelowSigma ?? 0;
     const keep: number[] = [];
+    const weak: number[] = [];
+    const dropped: number[] = [];
     for (let k = 0; k < peaks.length; k++) {
       const p = peaks[k];
       const atEdge = p.twoTheta <= this.x[this.lo[k]] || p.twoTheta >= this.x[this.hi[k] - 1];
-      if (!(p.height > threshold * p.heightSigma) || p.fwhm < this.minFwhm || p.fwhm > this.maxFwhm || atEdge) continue;
-      if (this.acceptance && !this.standsClear(k, p)) continue;
+      // In a search, a peak pinned at the broadest width allowed wants to be broader: a piece of an amorphous hump.
+      const pinnedBroad = this.acceptance !== undefined && p.fwhm >= PINNED_WIDTH_FRACTION * this.maxFwhm;
+      if (p.fwhm < this.minFwhm || p.fwhm > this.maxFwhm || atEdge || pinnedBroad) continue;
       let duplicate = false;
       for (let j = 0; j < peaks.length && !duplicate; j++) {
         if (j === k) continue;
@@ -579,51 +610,75 @@ class GroupFitter {
         // A weak peak sitting on a stronger peak's Kα2 partner is the partner itself.
         if (this.lambda2 !== null && Math.abs(p.twoTheta - partner) < close && p.height < this.ratio * q.height) duplicate = true;
       }
-      if (!duplicate) keep.push(k);
+      if (duplicate) {
+        dropped.push(k);
+        continue;
+      }
+      if (!(p.height > threshold * p.heightSigma) || (this.acceptance && !this.standsClear(k, p))) weak.push(k);
+      else keep.push(k);
     }
-    return keep;
+    if (weak.length === 0 || weak.length + dropped.length < 2) return keep;
+    // Least significant first; a weak peak correlated with one already dropped (or a duplicate) is spared this round.
+    const significance = (k: number): number => peaks[k].height / peaks[k].heightSigma;
+    weak.sort((a, b) => significance(a) - significance(b));
+    for (const k of weak) {
+      if (dropped.some((j) => Math.abs(this.heightCorrelation(covariance, j, k)) > SPARE_CORRELATION)) keep.push(k);
+      else dropped.push(k);
+    }
+    return keep.sort((a, b) => a - b);
   }
 
-  /** The acceptance rules on level, movement and width (see PeakAcceptance). */
+  /** Correlation of the heights of peaks j and k of the group (0 where either is held fixed). */
+  private heightCorrelation(covariance: Float64Array, j: number, k: number): number {
+    const n = this.paramCount;
+    const a = j * this.perPeak + HEIGHT;
+    const b = k * this.perPeak + HEIGHT;
+    const rho = covariance[a * n + b] / Math.sqrt(covariance[a * n + a] * covariance[b * n + b]);
+    return Number.isFinite(rho) ? rho : 0;
+  }
+
+  /** The acceptance rules on significance, movement and width (see PeakAcceptance). */
   private standsClear(k: number, peak: FittedPeak): boolean {
     const acceptance = this.acceptance as PeakAcceptance;
     const found = this.foundFwhm[k];
     if (Math.abs(peak.twoTheta - this.foundAt[k]) > MAX_MOVE_FWHM * Math.max(found, peak.fwhm)) return false;
-    if (peak.fwhm > MAX_WIDTH_CHANGE * found || peak.fwhm * MAX_WIDTH_CHANGE < found) return false;
-    const i = nearestIndex(this.x, peak.twoTheta);
-    const background = this.background[i];
-    const level = background + this.others[i] + this.othersAt(k, peak.twoTheta);
-    const sigma = acceptance.noiseSigma[i] * (background > 0 && level > background ? Math.sqrt(level / background) : 1);
-    return this.ownTop(k, peak.height) >= acceptance.thresholdSigma * sigma;
+    // Narrower than found is a spike on a peak's top; broader is allowed up to the pattern's width bound (the
+    // width found on a weak peak's noisy top can be a fraction of its own, the more so the finer the step).
+    if (peak.fwhm * MAX_WIDTH_CHANGE < found) return false;
+    // Integrated significance: the area against the σ of the area, which (unlike a height against the
+    // σ of one point) does not depend on the step size when the counting time per degree is the same.
+    // It is taken with the group's straight background line held fixed: that line is pinned by however many
+    // points the fit region spans beyond the peak, a number of points (not degrees), so its share of the
+    // area's σ would change with the step.
+    return peak.area >= acceptance.thresholdSigma * this.areaSigmaGivenLine[k];
   }
 
   /**
-   * Height of peak k with its own Kα2 partner at the Kα1 line: at low angle, where the partner lies within
-   * the width, the data show this sum, not the Kα1 height alone. prepare() must be current.
+   * σ of a quantity of one peak (gradient `grad` over its parameters at `base`, marginal σ `sigma`) with the
+   * background line's offset and slope held fixed: the Schur complement v − cᵀ·C_bb⁻¹·c, c = C_pb·g.
    */
-  private ownTop(k: number, height: number): number {
-    if (this.lambda2 === null) return height;
-    const { params, prep } = this;
-    const pr = k * PREP;
-    const asym = this.perPeak === 5 ? params[k * this.perPeak + ASYM] : 0;
-    return height * (1 + this.ratio * splitPseudoVoigt(params[k * this.perPeak + POS] - prep[pr + P_POS2], prep[pr + P_FWHM], prep[pr + P_MIX], asym));
-  }
-
-  /** Sum of the other peaks of the group (with Kα2 partners) at 2θ; prepare() must be current. */
-  private othersAt(k: number, twoTheta: number): number {
-    const { params, perPeak, prep } = this;
-    let sum = 0;
-    for (let j = 0; j < this.peakCount; j++) {
-      if (j === k) continue;
-      const base = j * perPeak;
-      const pr = j * PREP;
-      const asym = perPeak === 5 ? params[base + ASYM] : 0;
-      sum += params[base + HEIGHT] * splitPseudoVoigt(twoTheta - params[base + POS], prep[pr + P_FWHM], prep[pr + P_MIX], asym);
-      if (this.lambda2 !== null) {
-        sum += this.ratio * params[base + HEIGHT] * splitPseudoVoigt(twoTheta - prep[pr + P_POS2], prep[pr + P_FWHM], prep[pr + P_MIX], asym);
+  private givenBackgroundLine(covariance: Float64Array, base: number, grad: Float64Array, sigma: number): number {
+    const n = this.paramCount;
+    const bg = this.peakCount * this.perPeak;
+    const c = [0, 0];
+    for (let j = 0; j < 2; j++) {
+      for (let a = 0; a < this.perPeak; a++) {
+        const value = covariance[(base + a) * n + bg + j];
+        if (grad[a] !== 0 && Number.isFinite(value)) c[j] += grad[a] * value;
       }
     }
-    return sum;
+    const s00 = covariance[bg * n + bg];
+    const s11 = covariance[(bg + 1) * n + bg + 1];
+    const s01 = covariance[bg * n + bg + 1];
+    let explained = 0;
+    if (Number.isNaN(s00) && Number.isNaN(s11)) explained = 0;
+    else if (Number.isNaN(s11)) explained = s00 > 0 ? (c[0] * c[0]) / s00 : 0;
+    else if (Number.isNaN(s00)) explained = s11 > 0 ? (c[1] * c[1]) / s11 : 0;
+    else {
+      const det = s00 * s11 - s01 * s01;
+      if (det > 0) explained = (s11 * c[0] * c[0] - 2 * s01 * c[0] * c[1] + s00 * c[1] * c[1]) / det;
+    }
+    return Math.sqrt(Math.max(sigma * sigma - explained, 0));
   }
 
   private setUp(params: Float64Array, peakCount: number, regionStart: number, regionEnd: number): void {
@@ -649,6 +704,7 @@ class GroupFitter {
       this.lo = new Int32Array(size);
       this.hi = new Int32Array(size);
       this.prep = new Float64Array(size * PREP);
+      this.areaSigmaGivenLine = new Float64Array(size);
     }
     this.params = params.slice();
     for (let k = 0; k < peakCount; k++) {
@@ -728,6 +784,8 @@ class GroupFitter {
     const slope = params[bgBase + 1];
     normal.fill(0, 0, paramCount * paramCount);
     gradient.fill(0, 0, paramCount);
+    fitWork.evaluations++;
+    for (let k = 0; k < this.peakCount; k++) fitWork.profilePoints += hi[k] - lo[k];
     let chi2 = 0;
     for (let i = this.first; i < this.last; i++) {
       const xi = x[i];
@@ -877,6 +935,7 @@ class GroupFitter {
           step[a] = 0;
         }
       }
+      fitWork.lmSteps++;
       if (!choleskyFactor(work, paramCount)) {
         damping *= growth;
         growth *= 2;
@@ -941,44 +1000,56 @@ class GroupFitter {
     this.spareGradient = gradient;
   }
 
-  /** Covariance = (JᵀWJ)⁻¹ · χ²/(N − P), or null when the normal matrix is singular. */
-  private covariance(chi2: number): Float64Array | null {
-    const { paramCount, normal, work } = this;
-    for (let a = 0; a < paramCount * paramCount; a++) work[a] = normal[a];
-    // Parameters that no point sees (e.g. a slope over one point) are held fixed.
-    for (let a = 0; a < paramCount; a++) if (!(work[a * paramCount + a] > 0)) work[a * paramCount + a] = 1;
-    if (!choleskyFactor(work, paramCount)) return null;
+  /**
+   * Covariance = (JᵀWJ)⁻¹ · χ²/(N − P). Where the normal matrix is singular (a peak that has become
+   * degenerate with the group's background line under a broad hump, a duplicate, a height at zero), the
+   * parameters that carry no information of their own are held fixed, weakest first (η, then widths,
+   * then positions, then heights; the background line last), and the covariance is that of the others,
+   * conditional on them: a degenerate η costs that peak nothing, and a degenerate height drops only its peak.
+   * Fixed parameters get a variance of NaN on the diagonal (see describe).
+   */
+  private covariance(chi2: number): Float64Array {
+    const { paramCount } = this;
     const points = this.last - this.first;
+    const { inverse, fixedCount } = conditionalInverse(this.normal, paramCount, this.pivotOrder(), SINGULAR_PIVOT, this.work, this.step);
+    if (fixedCount > 0) fitWork.singularFits++;
     const scale = chi2 / Math.max(points - paramCount, 1);
-    const inverse = new Float64Array(paramCount * paramCount);
-    const column = this.step;
-    for (let c = 0; c < paramCount; c++) {
-      column.fill(0, 0, paramCount);
-      column[c] = 1;
-      choleskySolve(work, paramCount, column);
-      for (let r = 0; r < paramCount; r++) inverse[r * paramCount + c] = column[r] * scale;
-    }
+    for (let a = 0; a < paramCount * paramCount; a++) inverse[a] *= scale;
     return inverse;
   }
 
+  /** Parameters in the order the covariance keeps them: the background line, heights, positions, widths, η (and asymmetry). */
+  private pivotOrder(): number[] {
+    const { perPeak, peakCount } = this;
+    const bgBase = peakCount * perPeak;
+    const order = [bgBase, bgBase + 1];
+    for (const slot of perPeak === 5 ? [HEIGHT, POS, WIDTH_A, WIDTH_B, ASYM] : [HEIGHT, POS, WIDTH_A, WIDTH_B]) {
+      for (let k = 0; k < peakCount; k++) order.push(k * perPeak + slot);
+    }
+    return order;
+  }
+
   /** The fitted peaks with derived quantities and their standard uncertainties. */
-  private describe(covariance: Float64Array | null, chi2: number, groupIndex: number): FittedPeak[] {
+  private describe(covariance: Float64Array, chi2: number, groupIndex: number): FittedPeak[] {
     const { params, perPeak, prep, paramCount } = this;
     this.prepare(params);
     const points = this.last - this.first;
     const reducedChi2 = chi2 / Math.max(points - paramCount, 1);
     const peaks: FittedPeak[] = [];
     const grad = new Float64Array(perPeak);
+    // A parameter held fixed (degenerate, see covariance) adds nothing to the σ of what derives from it:
+    // those σ are conditional on it; its own σ is unknown (∞).
+    const isFixed = (index: number): boolean => Number.isNaN(covariance[index * paramCount + index]);
     const sigmaOf = (base: number): number => {
-      if (covariance === null) return Number.POSITIVE_INFINITY;
       let v = 0;
       for (let a = 0; a < perPeak; a++) {
-        if (grad[a] === 0) continue;
-        for (let b = 0; b < perPeak; b++) v += grad[a] * grad[b] * covariance[(base + a) * paramCount + base + b];
+        if (grad[a] === 0 || isFixed(base + a)) continue;
+        for (let b = 0; b < perPeak; b++) if (!isFixed(base + b)) v += grad[a] * grad[b] * covariance[(base + a) * paramCount + base + b];
       }
       return Math.sqrt(Math.max(v, 0));
     };
     const single = (base: number, slot: number): number => {
+      if (isFixed(base + slot)) return Number.POSITIVE_INFINITY;
       grad.fill(0);
       grad[slot] = 1;
       return sigmaOf(base);
@@ -1012,6 +1083,7 @@ class GroupFitter {
       grad[WIDTH_B] *= height;
       grad[HEIGHT] = breadth;
       const areaSigma = sigmaOf(base);
+      this.areaSigmaGivenLine[k] = this.givenBackgroundLine(covariance, base, grad, areaSigma);
 
       const twoTheta = params[base + POS];
       const peak: FittedPeak = {
@@ -1063,38 +1135,6 @@ function splitPseudoVoigt(dx: number, fwhm: number, mix: number, asym: number): 
 function gaussianTail(u2: number): number {
   return u2 > GAUSS_CUT_U2 ? 0 : Math.exp(-FOUR_LN2 * u2);
 }
-
-/** In-place Cholesky factor (lower triangle) of a symmetric positive-definite n×n matrix; false if not PD. */
-function choleskyFactor(m: Float64Array, n: number): boolean {
-  for (let j = 0; j < n; j++) {
-    let d = m[j * n + j];
-    for (let k = 0; k < j; k++) d -= m[j * n + k] * m[j * n + k];
-    if (!(d > 0)) return false;
-    const root = Math.sqrt(d);
-    m[j * n + j] = root;
-    for (let i = j + 1; i < n; i++) {
-      let s = m[i * n + j];
-      for (let k = 0; k < j; k++) s -= m[i * n + k] * m[j * n + k];
-      m[i * n + j] = s / root;
-    }
-  }
-  return true;
-}
-
-/** Solve L·Lᵀ·v = b in place (L from choleskyFactor). */
-function choleskySolve(l: Float64Array, n: number, b: Float64Array): void {
-  for (let i = 0; i < n; i++) {
-    let s = b[i];
-    for (let k = 0; k < i; k++) s -= l[i * n + k] * b[k];
-    b[i] = s / l[i * n + i];
-  }
-  for (let i = n - 1; i >= 0; i--) {
-    let s = b[i];
-    for (let k = i + 1; k < n; k++) s -= l[k * n + i] * b[k];
-    b[i] = s / l[i * n + i];
-  }
-}
-
 
 function nearestIndex(x: Float64Array, value: number): number {
   const i = lowerBound(x, value);
