@@ -1,26 +1,9 @@
 /** Cholesky factorisation of symmetric positive-definite matrices (row-major n×n Float64Array), solves and inverses. */
 
-/** In-place Cholesky factor (lower triangle) of a symmetric positive-definite n×n matrix; false if not PD. */
-export function choleskyFactor(m: Float64Array, n: number): boolean {
-  for (let j = 0; j < n; j++) {
-    let d = m[j * n + j];
-    for (let k = 0; k < j; k++) d -= m[j * n + k] * m[j * n + k];
-    if (!(d > 0)) return false;
-    const root = Math.sqrt(d);
-    m[j * n + j] = root;
-    for (let i = j + 1; i < n; i++) {
-      let s = m[i * n + j];
-      for (let k = 0; k < j; k++) s -= m[i * n + k] * m[j * n + k];
-      m[i * n + j] = s / root;
-    }
-  }
-  return true;
-}
-
 /**
- * In-place Cholesky factor as choleskyFactor, failing where a pivot falls below `relative` times its
- * diagonal element (that parameter is then, to working precision, a combination of the earlier ones).
- * Returns −1 on success, else the column where it failed.
+ * In-place Cholesky factor (lower triangle) of a symmetric n×n matrix, failing where a pivot falls below
+ * `relative` times its diagonal element (that parameter is then, to working precision, a combination of
+ * the earlier ones). Returns −1 on success, else the column where it failed.
  */
 export function choleskyFactorRelative(m: Float64Array, n: number, relative: number): number {
   for (let j = 0; j < n; j++) {
@@ -37,6 +20,11 @@ export function choleskyFactorRelative(m: Float64Array, n: number, relative: num
     }
   }
   return -1;
+}
+
+/** In-place Cholesky factor of a symmetric positive-definite matrix; false if it is not positive definite. */
+export function choleskyFactor(m: Float64Array, n: number): boolean {
+  return choleskyFactorRelative(m, n, 0) === -1;
 }
 
 /** Solve L·Lᵀ·v = b in place (L from choleskyFactor). */
