@@ -101,10 +101,10 @@ function marks(detail: SampleDetail): PeakMark[] {
   const y = decodeFloats(detail.y);
   const bg = detail.background ? decodeFloats(detail.background) : y;
   const out: PeakMark[] = [];
-  const lowAngleOfPhase = new Map(detail.lowAnglePeaks.filter((p) => p.phase !== null).map((p) => [p.twoTheta, p.phase!]));
+  const lowAngleOfPhase = new Map(detail.lowAnglePeaks.filter((p) => p.phase !== null).map((p) => [p.peakIndex, p.phase!]));
   for (const phase of detail.match.phases.filter((p) => p.verdict !== 'not-seen')) {
     for (const line of phase.lines) {
-      const low = lowAngleOfPhase.get(line.twoThetaMeasured) === phase.name;
+      const low = lowAngleOfPhase.get(line.peakIndex) === phase.name;
       out.push({ twoTheta: line.twoThetaMeasured, y: y[nearestIndex(x, line.twoThetaMeasured)]!, kind: low ? 'low-angle' : 'matched', label: `${low ? 'Low-angle peak of ' : ''}${phase.name} ${hklText(line.hkl)} at ${line.twoThetaMeasured.toFixed(3)}°` });
     }
     for (const line of phase.missingStrongLines) out.push({ twoTheta: line.twoTheta, y: bg[nearestIndex(x, line.twoTheta)]!, kind: 'missing', label: `${phase.name}: strong line at ${line.twoTheta.toFixed(2)}° (I ${line.intensity.toFixed(0)}) not seen` });
@@ -144,6 +144,7 @@ function sampleList(samples: SampleSummary[]): HTMLElement {
           h('span', { class: `badge ${verdictClass(s.verdict)}`, 'data-testid': 'verdict-badge' }, s.problem ? 'not read' : s.verdict),
           s.simulated ? h('span', { class: 'badge sim' }, 'simulated') : null,
           s.lowAngleCount ? h('span', { class: 'badge extra', title: 'Peaks below the target’s first line' }, `${s.lowAngleCount} low-angle`) : null,
+          s.stale ? h('span', { class: 'badge not', title: s.staleReason ?? '', 'data-testid': 'stale-badge' }, 'out of date') : null,
           h('span', {}, sub || (s.problem ?? '')),
         ),
       ),
@@ -217,6 +218,9 @@ function verdictCard(detail: SampleDetail): HTMLElement {
   const match = detail.match;
   const phase: PhaseMatch | undefined = detail.phase ? match?.phases.find((p) => p.name === detail.phase!.name) : undefined;
   card.append(h('div', { class: `verdict-title ${verdictClass(detail.verdict)}`, 'data-testid': 'verdict' }, sentenceCase(detail.verdict)));
+  if (detail.stale) {
+    card.append(h('div', { class: 'caution', 'data-testid': 'stale' }, h('strong', {}, 'Out of date: '), `${detail.staleReason ?? 'the settings changed'}. `, h('button', { type: 'button', class: 'secondary', onclick: () => void reanalyze(detail.id) }, 'Analyse again')));
+  }
   if (detail.phase) card.append(h('div', {}, `${detail.phase.name}: ${detail.phase.verdict}, score ${detail.phase.score.toFixed(2)}`));
   const lowAngle = detail.lowAnglePeaks;
   if (lowAngle.length) {
@@ -321,10 +325,9 @@ function details(detail: SampleDetail, checked: Set<string>): HTMLElement {
 }
 
 function peakTable(detail: SampleDetail): HTMLElement {
-  const unexplained = detail.match?.unexplained.map((u) => u.twoTheta) ?? [];
   const body = h('tbody');
   for (const p of detail.peaks) {
-    const kind = p.lowAngle ? 'low-angle' : unexplained.some((u) => Math.abs(u - p.twoTheta) < 6e-4) ? 'unexplained' : '';
+    const kind = p.lowAngle ? 'low-angle' : p.unexplained ? 'unexplained' : '';
     const row = h(
       'tr',
       { class: kind, title: 'Click to zoom to this peak' },

@@ -125,6 +125,10 @@ export interface SampleSummary {
   /** Sentence when the analysis failed (the raw file is still kept). */
   problem: string | null;
   analysisMs: number | null;
+  /** True when the settings, the instrument profile or the library changed since this result was saved. */
+  stale: boolean;
+  /** What changed, as a sentence; null when the result is current. */
+  staleReason: string | null;
 }
 
 export interface SizePeakView {
@@ -148,6 +152,8 @@ export interface SizeView {
 }
 
 export interface PeakView {
+  /** The peak's index in the analysis's peak list (what matched lines and unexplained peaks refer to). */
+  index: number;
   twoTheta: number;
   twoThetaSigma: number;
   d: number;
@@ -159,6 +165,8 @@ export interface PeakView {
   /** Phase that explains it, or null. */
   phase: string | null;
   lowAngle: boolean;
+  /** Explained by no phase judged present. */
+  unexplained: boolean;
 }
 
 /** Numeric arrays travel as base64 of little-endian Float32 (display precision), decoded by the screens. */
@@ -172,7 +180,7 @@ export interface SampleDetail extends SampleSummary {
   model: string | null;
   peaks: PeakView[];
   /** Peaks below the target's first line: unexplained ones, and those of other phases found present. */
-  lowAnglePeaks: Array<{ twoTheta: number; d: number; phase: string | null }>;
+  lowAnglePeaks: Array<{ peakIndex: number; twoTheta: number; d: number; phase: string | null }>;
   match: MatchResult | null;
   size: SizeView | null;
   readerNotes: string[];

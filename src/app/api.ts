@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { z } from 'zod';
-import { isInputError } from '../core/errors.js';
+import { InputError, isInputError } from '../core/errors.js';
 import { NUMBER_SETTINGS } from '../core/analysis/settings.js';
 import { packageRoot } from '../node/library/seed.js';
 import { findChromium } from '../node/browser.js';
@@ -75,7 +75,7 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
     'library.list': ({ search, tag }) => workspace.library().list({ search, tag }).map(referenceSummary),
     'library.get': ({ name, version: v }) => {
       const ref = workspace.library().get(name, v);
-      if (!ref) throw new UserMistake(`there is no reference "${name}"${v ? ` version ${v}` : ''} in the library`);
+      if (!ref) throw new InputError(`there is no reference "${name}"${v ? ` version ${v}` : ''} in the library`);
       return ref;
     },
     'library.history': ({ name }) =>
@@ -83,16 +83,16 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
         .library()
         .history(name)
         .map((h) => ({ version: h.version, createdAt: h.createdAt, lines: h.lineCount, source: h.change })),
-    'library.save': ({ reference }) => workspace.saveReference(reference),
-    'library.import': ({ fileName, text }) => workspace.importReferences(fileName, text),
-    'library.fromCell': (input) => workspace.referenceFromCell(input),
+    'library.save': ({ reference }) => workspace.references.save(reference),
+    'library.import': ({ fileName, text }) => workspace.references.importFile(fileName, text),
+    'library.fromCell': (input) => workspace.references.fromCell(input),
     'library.remove': ({ name }) =>
       libraryChange(() => {
         workspace.library().remove(name);
         return { removed: name };
       }),
     'library.restore': ({ name, version: v }) => libraryChange(() => workspace.library().restore(name, v)),
-    'library.lines': ({ names }) => workspace.referenceLines(names),
+    'library.lines': ({ names }) => workspace.references.lines(names, workspace.wavelength().lambda1),
     'instrument.fit': ({ sampleId, standard }) => workspace.fitInstrument(sampleId, standard).view,
     'instrument.save': ({ sampleId, standard }) => workspace.saveInstrument(sampleId, standard),
     'instrument.clear': () => workspace.clearInstrument(),
@@ -118,7 +118,7 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
         const run = handlers[key] as (input: unknown) => unknown;
         return { ok: true, result: await run(parsed.data) };
       } catch (err) {
-        if (isInputError(err) || err instanceof UserMistake) return { ok: false, error: { kind: 'input', message: sentence(err.message) } };
+        if (isInputError(err)) return { ok: false, error: { kind: 'input', message: sentence(err.message) } };
         if (process.env.CRYSTALLOG_DEBUG && err instanceof Error) process.stderr.write(`${err.stack}\n`);
         const detail = err instanceof Error ? err.message.split('\n')[0] : String(err);
         return { ok: false, error: { kind: 'internal', message: `Crystallog could not finish this (${detail}). Your data is saved; please report this if it happens again.` } };
@@ -127,9 +127,6 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
     close: () => workspace.close(),
   };
 }
-
-/** A mistake of the user's found by the API itself (not by the engine). */
-class UserMistake extends Error {}
 
 function referenceSummary(ref: import('../core/model/reference.js').StoredReference): ReferenceSummary {
   return { name: ref.name, formula: ref.formula, tags: ref.tags, version: ref.version, lines: ref.lines.length, source: ref.source, createdAt: ref.createdAt };

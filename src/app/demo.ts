@@ -159,7 +159,7 @@ function writeDemoFile(workspace: Workspace, file: string, phases: SimulatedPhas
 export function startDemoProject(workspace: Workspace): { state: ProjectState; steps: number } {
   const refs = references();
   const stored = new Map<DemoPhase['key'], StoredReference>();
-  for (const [key, ref] of refs) stored.set(key, workspace.saveReference(ref));
+  for (const [key, ref] of refs) stored.set(key, workspace.references.save(ref));
   workspace.createProject(DEMO_PROJECT_NAME, { demo: true, truth: demoTruth() });
   workspace.updateSettings({ target: stored.get('target')!.name });
   const standardFile = 'simulated_LaB6_standard.xy';

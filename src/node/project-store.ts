@@ -50,7 +50,7 @@ export interface SavedResult<T = unknown> {
 
 const PROJECT_KIND = 'project';
 
-const PROJECT_MIGRATIONS: readonly Migration[] = [
+export const PROJECT_MIGRATIONS: readonly Migration[] = [
   // 1: samples with their raw bytes, one settings document, results kept per save.
   (db) => {
     db.exec(`
@@ -83,7 +83,18 @@ const PROJECT_MIGRATIONS: readonly Migration[] = [
       CREATE INDEX result_by_sample ON result (sample_id, id);
     `);
   },
+  // 2: the curves drawn with a result (background and fitted model, float32), kept beside it so that
+  // opening a sample shows what the analysis found without running the peak search again.
+  (db) => {
+    db.exec(`ALTER TABLE result ADD COLUMN curves BLOB`);
+  },
 ];
+
+/** The curves an analysis drew: background and fitted model, one value per pattern point. */
+export interface ResultCurves {
+  background: Float32Array;
+  model: Float32Array;
+}
 
 interface SampleRow {
   id: number;
@@ -105,6 +116,8 @@ interface ResultRow {
   saved_at: string;
 }
 
+/** The curves blob is read only when a sample is opened, not with every list of results. */
+const RESULT_COLUMNS = 'id, sample_id, json, references_used, saved_at';
 const SAMPLE_COLUMNS = 'id, file_name, sha256, byte_length, label, variant, exposure_hours, notes, added_at';
 
 export class ProjectStore {
@@ -195,15 +208,18 @@ export class ProjectStore {
     this.write(() => this.statements.deleteSample.run(id));
   }
 
-  /** Save an analysis result (JSON; typed arrays become lists) with the reference versions it used. */
-  saveResult(sampleId: number, result: unknown, referencesUsed: readonly ReferenceVersionRef[] = []): SavedResult {
+  /**
+   * Save an analysis result (JSON; typed arrays become lists) with the reference versions it used and,
+   * when given, the curves it drew.
+   */
+  saveResult(sampleId: number, result: unknown, referencesUsed: readonly ReferenceVersionRef[] = [], curves: ResultCurves | null = null): SavedResult {
     this.requireSample(sampleId);
     const json = JSON.stringify(result, typedArraysAsLists);
     if (json === undefined) throw new InputError('an analysis result must be a JSON value');
     const refs = referencesUsed.map(({ id, version, name }) => ({ id, version, name }));
     const savedAt = new Date().toISOString();
     const id = this.write(() =>
-      Number(this.statements.insertResult.run(sampleId, json, JSON.stringify(refs), savedAt).lastInsertRowid),
+      Number(this.statements.insertResult.run(sampleId, json, JSON.stringify(refs), savedAt, curves ? packCurves(curves) : null).lastInsertRowid),
     );
     return { id, sampleId, savedAt, referencesUsed: refs, result: JSON.parse(json) as unknown };
   }
@@ -212,6 +228,12 @@ export class ProjectStore {
   latestResult<T = unknown>(sampleId: number): SavedResult<T> | null {
     const row = this.statements.latestResult.get(sampleId);
     return row ? resultFromRow<T>(row) : null;
+  }
+
+  /** The curves kept with the last saved result of a sample, or null (none kept, or saved before curves were kept). */
+  latestCurves(sampleId: number): ResultCurves | null {
+    const row = this.statements.latestCurves.get(sampleId);
+    return row?.curves ? unpackCurves(row.curves) : null;
   }
 
   /** Every saved result of a sample, oldest first. */
@@ -257,9 +279,10 @@ function prepareStatements(db: Db) {
     sampleBytes: db.prepare(`SELECT sha256, bytes FROM sample WHERE id = ?`) as Statement<[number], { sha256: string; bytes: Buffer }>,
     updateSample: db.prepare(`UPDATE sample SET label = @label, variant = @variant, exposure_hours = @exposure_hours, notes = @notes WHERE id = @id`),
     deleteSample: db.prepare(`DELETE FROM sample WHERE id = ?`),
-    insertResult: db.prepare(`INSERT INTO result (sample_id, json, references_used, saved_at) VALUES (?, ?, ?, ?)`),
-    latestResult: db.prepare(`SELECT * FROM result WHERE sample_id = ? ORDER BY id DESC LIMIT 1`) as Statement<[number], ResultRow>,
-    resultHistory: db.prepare(`SELECT * FROM result WHERE sample_id = ? ORDER BY id`) as Statement<[number], ResultRow>,
+    insertResult: db.prepare(`INSERT INTO result (sample_id, json, references_used, saved_at, curves) VALUES (?, ?, ?, ?, ?)`),
+    latestCurves: db.prepare(`SELECT curves FROM result WHERE sample_id = ? ORDER BY id DESC LIMIT 1`) as Statement<[number], { curves: Buffer | null }>,
+    latestResult: db.prepare(`SELECT ${RESULT_COLUMNS} FROM result WHERE sample_id = ? ORDER BY id DESC LIMIT 1`) as Statement<[number], ResultRow>,
+    resultHistory: db.prepare(`SELECT ${RESULT_COLUMNS} FROM result WHERE sample_id = ? ORDER BY id`) as Statement<[number], ResultRow>,
     settings: db.prepare(`SELECT json FROM settings WHERE id = 1`) as Statement<[], { json: string }>,
     saveSettings: db.prepare(`INSERT INTO settings (id, json, updated_at) VALUES (1, ?, ?)
       ON CONFLICT (id) DO UPDATE SET json = excluded.json, updated_at = excluded.updated_at`),
@@ -288,6 +311,32 @@ function resultFromRow<T>(row: ResultRow): SavedResult<T> {
     referencesUsed: JSON.parse(row.references_used) as ReferenceVersionRef[],
     result: JSON.parse(row.json) as T,
   };
+}
+
+/** Both curves in one blob: the point count (uint32), then background and model as float32, little-endian. */
+function packCurves(curves: ResultCurves): Buffer {
+  const n = curves.background.length;
+  if (curves.model.length !== n) throw new Error('background and model curves differ in length');
+  const out = Buffer.alloc(4 + 8 * n);
+  out.writeUInt32LE(n, 0);
+  for (let i = 0; i < n; i++) {
+    out.writeFloatLE(curves.background[i]!, 4 + 4 * i);
+    out.writeFloatLE(curves.model[i]!, 4 + 4 * (n + i));
+  }
+  return out;
+}
+
+function unpackCurves(blob: Buffer): ResultCurves | null {
+  if (blob.length < 4) return null;
+  const n = blob.readUInt32LE(0);
+  if (blob.length !== 4 + 8 * n) return null;
+  const background = new Float32Array(n);
+  const model = new Float32Array(n);
+  for (let i = 0; i < n; i++) {
+    background[i] = blob.readFloatLE(4 + 4 * i);
+    model[i] = blob.readFloatLE(4 + 4 * (n + i));
+  }
+  return { background, model };
 }
 
 function sha256(bytes: Uint8Array): string {

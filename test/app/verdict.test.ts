@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import type { MatchResult, PhaseMatch } from '../../src/core/match/types.js';
 import { lowAnglePeaks, sampleVerdict } from '../../src/core/analysis/verdict.js';
-import { guessHours, guessVariant } from '../../src/app/workspace.js';
+import { guessHours, guessVariant } from '../../src/app/file-names.js';
 import { renderCsvReport, renderHtmlReport, type ReportInput } from '../../src/core/report/report.js';
 
 function phase(name: string, verdict: PhaseMatch['verdict'], lines: Array<[number, boolean?]>): PhaseMatch {

@@ -109,8 +109,19 @@ export function libraryDigest(references: readonly StoredReference[]): string {
   return hash.hex();
 }
 
+/** The curves the analysis drew on the pattern's own 2θ points. */
+export interface AnalysisCurves {
+  background: Float64Array;
+  model: Float64Array;
+}
+
 /** Peaks, phase verdicts and crystallite sizes of one pattern. */
 export function analyzePattern(pattern: Pattern, context: AnalysisContext): AnalysisResult {
+  return analyzePatternWithCurves(pattern, context).result;
+}
+
+/** The same analysis, also handing back its background and model curves (the app keeps them to draw). */
+export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisContext): { result: AnalysisResult; curves: AnalysisCurves } {
   const { settings, references } = context;
   const warnings: string[] = [...pattern.readerNotes];
   const wavelength = effectiveWavelength(settings, pattern.wavelength);
@@ -151,7 +162,7 @@ export function analyzePattern(pattern: Pattern, context: AnalysisContext): Anal
   if (match.featureless) warnings.push('the pattern shows too few clear peaks to support a phase claim');
 
   const used: ReferenceVersion[] = match.phases.map((p) => ({ name: p.name, version: byName.get(p.name)?.version ?? 0 }));
-  return {
+  const result: AnalysisResult = {
     file: pattern.source.file,
     sha256: pattern.source.sha256,
     points: pattern.x.length,
@@ -173,6 +184,7 @@ export function analyzePattern(pattern: Pattern, context: AnalysisContext): Anal
     references: { count: references.length, libraryDigest: context.libraryDigest, used },
     warnings,
   };
+  return { result, curves: { background: search.background, model: search.model } };
 }
 
 /**

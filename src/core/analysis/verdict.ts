@@ -1,6 +1,5 @@
 import type { MatchResult, PhaseMatch } from '../match/types.js';
 
-
 /** The sample's one-line answer to "is this the target phase?". */
 export type SampleVerdict = 'target' | 'target with extra peaks' | 'not the target' | 'featureless' | 'no target set' | 'instrument standard' | 'not analysed';
 /** Share of the measured peak area left unexplained above which a sample is said to carry extra peaks. */
@@ -25,6 +24,8 @@ export function sampleVerdict(match: MatchResult, target: string | null): { verd
 }
 
 export interface LowAnglePeak {
+  /** Index of the peak in the analysis's peak list. */
+  peakIndex: number;
   twoTheta: number;
   d: number;
   /** The phase that explains it (an impurity or product judged present), or null when nothing does. */
@@ -40,18 +41,17 @@ export function lowAnglePeaks(match: MatchResult, target: string | null): LowAng
   const present = match.phases.filter((p) => p.verdict !== 'not-seen');
   const key = target?.toLowerCase();
   const main = (key ? present.find((p) => p.name.toLowerCase() === key) : undefined) ?? present[0];
-  const out: LowAnglePeak[] = match.unexplained.filter((u) => u.lowAngle).map((u) => ({ twoTheta: u.twoTheta, d: u.d, phase: null }));
+  const out: LowAnglePeak[] = match.unexplained.filter((u) => u.lowAngle).map((u) => ({ peakIndex: u.peakIndex, twoTheta: u.twoTheta, d: u.d, phase: null }));
   if (main && main.lines.length) {
-    // One mark per peak (results saved before lines carried their peak's index fall back to its position).
+    // One mark per peak.
     const seen = new Set<number>();
     const first = Math.min(...main.lines.map((l) => l.twoThetaExpected)) - match.toleranceDeg;
     for (const phase of present) {
       if (phase === main) continue;
       for (const line of phase.lines) {
-        const peak = line.peakIndex ?? line.twoThetaMeasured;
-        if (line.twoThetaMeasured < first && !line.shared && !seen.has(peak)) {
-          seen.add(peak);
-          out.push({ twoTheta: line.twoThetaMeasured, d: line.d, phase: phase.name });
+        if (line.twoThetaMeasured < first && !line.shared && !seen.has(line.peakIndex)) {
+          seen.add(line.peakIndex);
+          out.push({ peakIndex: line.peakIndex, twoTheta: line.twoThetaMeasured, d: line.d, phase: phase.name });
         }
       }
     }
