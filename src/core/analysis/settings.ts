@@ -4,37 +4,13 @@
  * check their values here, so one option has one set of limits wherever it is given.
  */
 import { z } from 'zod';
+
+export { NUMBER_SETTINGS, rangeMessage, type NumberSettingName } from '../model/setting-ranges.js';
 import { InputError } from '../errors.js';
+import { NUMBER_SETTINGS, rangeMessage, type NumberSettingName } from '../model/setting-ranges.js';
 import { anodeWavelength, parseWavelength, type Wavelength } from '../model/wavelengths.js';
 import { SCHERRER_K_PRESETS } from '../size/scherrer.js';
 import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../size/voigt.js';
-
-interface NumberSetting {
-  /** What the chemist calls it. */
-  label: string;
-  min: number;
-  max: number;
-  unit: string;
-  /** An everyday value, for the message. */
-  example: number;
-}
-
-/** Ranges of the numeric settings (typical matching tolerances 0.05–0.2° 2θ: common practice). */
-export const NUMBER_SETTINGS = {
-  toleranceDeg: { label: 'matching tolerance', min: 0.005, max: 1, unit: '° 2θ', example: 0.1 },
-  backgroundHalfWidthDeg: { label: 'background clipping half-width', min: 0.1, max: 20, unit: '° 2θ', example: 1 },
-  scherrerK: { label: 'Scherrer K', min: 0.5, max: 2, unit: '', example: 0.9 },
-  thresholdSigma: { label: 'peak detection threshold', min: 1, max: 100, unit: 'σ above the background', example: 3 },
-} as const satisfies Record<string, NumberSetting>;
-
-export type NumberSettingName = keyof typeof NUMBER_SETTINGS;
-
-/** The sentence for a value out of range: "matching tolerance must be between 0.005 and 1 ° 2θ". */
-export function rangeMessage(name: NumberSettingName): string {
-  const s: NumberSetting = NUMBER_SETTINGS[name];
-  const unit = s.unit ? ` ${s.unit}` : '';
-  return `${s.label} must be between ${s.min} and ${s.max}${unit} (such as ${s.example})`;
-}
 
 /** A zod number within the table's range, with the table's sentence as its error. */
 export function settingNumber(name: NumberSettingName): z.ZodNumber {
