@@ -71,7 +71,7 @@ export async function exportReport(format: 'html' | 'csv' | 'pdf'): Promise<void
 }
 
 /** A single long request with an indeterminate progress box after half a second. */
-export async function withBusy<T>(title: string, work: () => Promise<T>): Promise<T> {
+async function withBusy<T>(title: string, work: () => Promise<T>): Promise<T> {
   let result: T | undefined;
   await withProgress(
     title,

@@ -180,7 +180,7 @@ function span(values: ArrayLike<number>, scale: IntensityScale): { min: number; 
 }
 
 /** Datasets for a view: stacked samples, fit, background and difference, peak marks. */
-export function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter', PointData>[] {
+function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter', PointData>[] {
   const { axis, lambda, scale } = view;
   const all = [view.main, ...view.overlays];
   const range = span(view.main.y, scale);

@@ -16,7 +16,7 @@ import type { Workspace } from './workspace.js';
  * air for 0–48 h, where it hydrates (the monohydrate's new line near 8.5° 2θ) and loses PbI2
  * (12.7° 2θ). A LaB6 pattern stands for the instrument's line-profile standard.
  */
-export const DEMO_PROJECT_NAME = 'Demo: MAPbI3 workup and humid air (simulated)';
+const DEMO_PROJECT_NAME = 'Demo: MAPbI3 workup and humid air (simulated)';
 
 export const DEMO_SAFETY_NOTE =
   'Methylammonium lead iodide contains lead and is moisture-sensitive: real samples are handled under the lab’s own chemical-hygiene and radiation-safety rules.';

@@ -243,7 +243,7 @@ export function restoreCommand(name: string, o: LibraryOption & { version: strin
   }, 'write');
 }
 
-export function seedCommand(o: LibraryOption): { library: string; added: string[]; alreadySeeded: boolean } {
+function seedCommand(o: LibraryOption): { library: string; added: string[]; alreadySeeded: boolean } {
   return withLibrary(o.library, (lib) => ({ library: o.library, ...ensureSeeded(lib) }), 'create');
 }
 

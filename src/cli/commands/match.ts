@@ -36,7 +36,7 @@ export function registerMatch(program: Command): void {
 }
 
 /** The match part of the one analysis of the pattern (peaks → match → sizes), as `analyze` gives it. */
-export function matchCommand(file: string, o: MatchCommandOptions): MatchCommandResult {
+function matchCommand(file: string, o: MatchCommandOptions): MatchCommandResult {
   const settings = settingsFromFlags(o);
   const references = loadAllReferences(o.library);
   const analysis = analyzePattern(readPatternFile(file), createAnalysisContext(references, null, settings));

@@ -22,7 +22,7 @@ export async function runCommand<T>(
  * A failure: a one-line reason on stderr, exit 2 for the user's mistake and 1 for an internal fault;
  * with --json also one JSON document `{ "error": { "message", "file", "line" } }` on stdout.
  */
-export function reportFailure(err: unknown, json: boolean): void {
+function reportFailure(err: unknown, json: boolean): void {
   const input = isInputError(err);
   const message = oneLine(err instanceof Error ? err.message : String(err));
   process.stderr.write(input ? `crystallog: ${message}\n` : `crystallog: internal fault: ${message}\n`);

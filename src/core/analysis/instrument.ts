@@ -23,7 +23,7 @@ export interface StandardFitRequest {
  * The standard's lines must reach this many resolved peaks: the three Caglioti terms and η(2θ) need
  * lines spread over 2θ (common practice); fewer gives a profile that misleads every size after it.
  */
-export const MIN_STANDARD_LINES = MIN_GOOD_PEAKS;
+const MIN_STANDARD_LINES = MIN_GOOD_PEAKS;
 
 export function fitInstrumentFromStandard(
   pattern: Pattern,

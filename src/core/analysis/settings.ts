@@ -54,7 +54,7 @@ const presetIds = SCHERRER_K_PRESETS.map((p) => p.id);
 const kMessage = `${rangeMessage('scherrerK')}, or one of ${presetIds.join(', ')}`;
 
 /** Settings as they arrive from a flag, a form or a file: every field optional, names as above. */
-export const analysisSettingsInput = z
+const analysisSettingsInput = z
   .object({
     wavelength: z.string().trim().min(1).max(20).nullable(),
     toleranceDeg: settingNumber('toleranceDeg'),

@@ -24,7 +24,7 @@ const near = (x: number, y: number): boolean => Math.abs(x - y) <= ANGLE_TOLERAN
 const nearLength = (x: number, y: number): boolean => Math.abs(x - y) <= 1e-5 * Math.max(x, y);
 
 /** Crystal system of a reference cell: from its space group where the symbol is known, else from the cell's shape. */
-export function crystalSystemOfCell(cell: UnitCell): CrystalSystem {
+function crystalSystemOfCell(cell: UnitCell): CrystalSystem {
   if (cell.spaceGroup) {
     try {
       const system = getSpaceGroup(cell.spaceGroup).crystalSystem;

@@ -36,17 +36,17 @@ import {
 import { countClear, firstLineTwoTheta, lowAngleOpenPeaks, linesOnPeaks, groupIntensities, exclusiveAreaShares, unexplainedPeaks } from './peak-accounting.js';
 import { cellReport, describePhase, lookAlikeReason, patternReasons, sampleShift } from './reasons.js';
 
-export const DEFAULT_TOLERANCE_DEG = 0.1;
+const DEFAULT_TOLERANCE_DEG = 0.1;
 
-export const DEFAULT_MAX_ZERO_DEG = 0.15;
+const DEFAULT_MAX_ZERO_DEG = 0.15;
 
-export const DEFAULT_MAX_DISPLACEMENT_DEG = 0.15;
+const DEFAULT_MAX_DISPLACEMENT_DEG = 0.15;
 
 /** Each refined cell parameter stays within ±2 % of the reference's unless the user sets other bounds. */
-export const DEFAULT_CELL_BOUND = 0.02;
+const DEFAULT_CELL_BOUND = 0.02;
 
 /** Goniometer radius for the displacement in mm (a common lab value; the user sets theirs). */
-export const DEFAULT_GONIOMETER_RADIUS_MM = 240;
+const DEFAULT_GONIOMETER_RADIUS_MM = 240;
 
 /** Explain → refine the sample shift and cells → explain again, at most this many times. */
 const SAMPLE_PASSES = 4;

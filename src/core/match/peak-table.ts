@@ -6,7 +6,7 @@ import type { MatchOptions } from './types.js';
 type MatchBackground = NonNullable<MatchOptions['background']>;
 
 /** A peak at least this many noise levels (√background) high is a clear peak (common practice). */
-export const CLEAR_PEAK_NOISE_LEVELS = 5;
+const CLEAR_PEAK_NOISE_LEVELS = 5;
 
 /** The measured peaks in typed arrays, ascending 2θ, with the noise level under each. */
 export interface PeakTable {

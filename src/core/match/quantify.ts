@@ -161,7 +161,7 @@ export function fitPhaseScales(groups: GroupIntensities): Float64Array {
  * weights are then taken from the model instead of the measured area (iteratively reweighted), so a
  * group measured far too small does not dominate. Groups with area 0 are left out.
  */
-export function jointPhaseScales(areas: Float64Array, contributions: readonly Float64Array[]): Float64Array {
+function jointPhaseScales(areas: Float64Array, contributions: readonly Float64Array[]): Float64Array {
   const phases = contributions.length;
   const rows: number[] = [];
   for (let g = 0; g < areas.length; g++) if (areas[g] > 0 && contributions.some((c) => c[g] > 0)) rows.push(g);

@@ -3,7 +3,7 @@ import { dFromTwoTheta } from '../model/units.js';
 import { lowerBound } from '../model/sorted.js';
 
 /** Intensity given to a line whose intensity is unknown (positions computed from a cell alone). */
-export const UNKNOWN_LINE_INTENSITY = 10;
+const UNKNOWN_LINE_INTENSITY = 10;
 
 /**
  * All reference lines of a library in one d-sorted table (typed arrays), for screening candidates:

@@ -32,14 +32,14 @@ import { lineIntensity } from './reference-index.js';
 import type { MatchShift, MissingLine, ScoreParts } from './types.js';
 
 /** Lines at least this share of the strongest line in range are "strong" (common practice). */
-export const STRONG_LINE_SHARE = 0.2;
+const STRONG_LINE_SHARE = 0.2;
 /** A missing line counts as visible from this many detection levels (3·noise) up. */
 const VISIBLE_FOR_FOUND = 1.5;
 /** Intensity ratio still judged agreeing at about 0.6 (preferred orientation tolerated). */
 const INTENSITY_FACTOR_TOLERATED = 3;
-export const SCORE_WEIGHTS = { position: 0.25, found: 0.25, intensities: 0.2, explained: 0.3 } as const;
+const SCORE_WEIGHTS = { position: 0.25, found: 0.25, intensities: 0.2, explained: 0.3 } as const;
 /** Matched lines needed before the score is not scaled down for thin evidence. */
-export const FULL_EVIDENCE_LINES = 3;
+const FULL_EVIDENCE_LINES = 3;
 
 /** The reference lines that fall in the measured range, in typed arrays. */
 export interface PhaseLines {

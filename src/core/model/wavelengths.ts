@@ -43,7 +43,7 @@ export function singleWavelength(lambdaAngstrom: number): Wavelength {
   return { label: `${lambdaAngstrom} Å`, lambda1: lambdaAngstrom, lambda2: null, ratio: 0 };
 }
 
-export function isAnodeName(text: string): text is AnodeName {
+function isAnodeName(text: string): text is AnodeName {
   return Object.prototype.hasOwnProperty.call(ANODE_LINES, text);
 }
 

@@ -82,7 +82,7 @@ export interface SizeComparisonResult {
 }
 
 export const DEFAULT_ALPHA = 0.05;
-export const DEFAULT_PREPARATION_SPREAD = 0.02;
+const DEFAULT_PREPARATION_SPREAD = 0.02;
 /** Two-sided 95 % quantile of the normal distribution. */
 const Z95 = 1.959964;
 

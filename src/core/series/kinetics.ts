@@ -23,9 +23,9 @@ export interface GrowthOptions {
 }
 
 /** σ of a share given without one: 0.01 (1 % absolute), our stated default for semi-quantitative XRD shares (common practice, from memory). */
-export const DEFAULT_SHARE_SIGMA = 0.01;
+const DEFAULT_SHARE_SIGMA = 0.01;
 /** Default share at which the crossing time is reported (5 %). */
-export const DEFAULT_THRESHOLD_SHARE = 0.05;
+const DEFAULT_THRESHOLD_SHARE = 0.05;
 
 export interface GrowthFit {
   model: GrowthModel;
@@ -73,7 +73,7 @@ export const MIN_POINTS: Readonly<Record<GrowthModel, number>> = { 'first-order'
 const AVRAMI_EXPONENT_RANGE: readonly [number, number] = [0.5, 4];
 
 /** share(t) = A(1 − e^{−(k(t−t0))^n}) for t > t0, else 0 (first order: n = 1). */
-export function growthCurve(t: number, plateau: number, k: number, n: number, t0 = 0): number {
+function growthCurve(t: number, plateau: number, k: number, n: number, t0 = 0): number {
   return t <= t0 ? 0 : plateau * (1 - Math.exp(-Math.pow(k * (t - t0), n)));
 }
 

@@ -15,7 +15,7 @@ import { etaFromBreadths, PHI_GAUSSIAN, PHI_LORENTZIAN } from './voigt.js';
 
 export { instrumentWidthAt, isStandardReference, type InstrumentWidth } from './instrument-width.js';
 
-export const INSTRUMENT_PROFILE_KIND = 'crystallog instrument profile';
+const INSTRUMENT_PROFILE_KIND = 'crystallog instrument profile';
 
 export interface InstrumentPeakResidual {
   twoTheta: number;

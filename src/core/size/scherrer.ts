@@ -37,7 +37,7 @@ export const SCHERRER_K_PRESETS: readonly ScherrerConstant[] = [
   },
 ];
 
-export const DEFAULT_SCHERRER_K = 0.9;
+const DEFAULT_SCHERRER_K = 0.9;
 
 /** A K given as a preset name or a number (0.5–2). */
 export function resolveScherrerK(value: string | number | undefined): { k: number; source: string; preset: string | null } {

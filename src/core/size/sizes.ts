@@ -331,7 +331,7 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
  * The largest size the instrument can tell from its own width at this 2θ: the sample breadth left
  * when the observed profile is (1 + excess) times the instrument's.
  */
-export function resolvableSizeNm(
+function resolvableSizeNm(
   instrument: ProfileBreadths,
   twoThetaDeg: number,
   wavelengthAngstrom: number,
