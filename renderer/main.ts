@@ -53,11 +53,18 @@ function topBar(): HTMLElement {
 
 async function newProject(): Promise<void> {
   const input = h('input', { type: 'text', placeholder: 'e.g. Batch 14 workup', 'aria-label': 'Project name', 'data-testid': 'new-project-name' });
-  const form = h('form', { class: 'row' }, input, h('button', { type: 'submit' }, 'Create'), h('button', { type: 'button', class: 'secondary', onclick: () => form.remove() }, 'Cancel'));
+  const references = await call('library.list', {}).catch(() => []);
+  const target = h(
+    'select',
+    { 'aria-label': 'Target phase of the new project', 'data-testid': 'new-project-target', title: 'The phase you expect; every verdict is about it (you can change it later in Settings)' },
+    h('option', { value: '' }, 'target phase: choose later'),
+    ...references.map((r) => h('option', { value: r.name }, `${r.name} — ${r.formula}`)),
+  );
+  const form = h('form', { class: 'row' }, input, target, h('button', { type: 'submit' }, 'Create'), h('button', { type: 'button', class: 'secondary', onclick: () => form.remove() }, 'Cancel'));
   form.addEventListener('submit', async (event) => {
     event.preventDefault();
     try {
-      setProject(await call('project.create', { name: input.value }));
+      setProject(await call('project.create', { name: input.value, target: target.value || null }));
       app.info = await call('app.info', {});
       app.screen = 'samples';
       changed();

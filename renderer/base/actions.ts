@@ -17,9 +17,12 @@ export async function addPatternFiles(files: PickedFile[]): Promise<void> {
   const started = performance.now();
   const added: SampleSummary[] = [];
   const refused: string[] = [];
+  const duplicates: string[] = [];
   const { cancelled } = await withProgress(`Analysing ${files.length} pattern file${files.length === 1 ? '' : 's'}`, files, async (file) => {
     try {
-      added.push(await call('sample.add', { fileName: file.name, bytesBase64: file.bytesBase64 }));
+      const sample = await call('sample.add', { fileName: file.name, bytesBase64: file.bytesBase64 });
+      added.push(sample);
+      if (sample.duplicateOf.length) duplicates.push(`${file.name} is the same file (same checksum) as ${sample.duplicateOf.map((d) => d.name).join(', ')} already in this project; it was added again — remove one if this was not meant.`);
     } catch (err) {
       refused.push(errorText(err));
     }
@@ -29,6 +32,7 @@ export async function addPatternFiles(files: PickedFile[]): Promise<void> {
   app.details.clear();
   if (added.length) app.selected = added[added.length - 1]!.id;
   changed();
+  for (const message of duplicates.slice(0, 3)) notify(message, 'error');
   for (const message of refused.slice(0, 3)) notify(message, 'error');
   if (refused.length > 3) notify(`${refused.length - 3} more files were refused.`, 'error');
   if (added.length) notify(`${added.length} pattern${added.length === 1 ? '' : 's'} added${cancelled ? ' before you cancelled' : ''}.`, 'done');
@@ -88,12 +92,15 @@ async function withBusy<T>(title: string, work: () => Promise<T>): Promise<T> {
 export async function openDemo(): Promise<void> {
   document.querySelectorAll('#messages .message.info').forEach((m) => m.remove());
   try {
-    const { state, steps } = await withBusy('Preparing the demo project: references and the LaB6 standard…', () => call('project.demo', {}));
+    const { state, pending, reopened } = await withBusy('Preparing the demo project: references and the LaB6 standard…', () => call('project.demo', {}));
     setProject(state);
     app.screen = 'samples';
     changed();
-    const indices = Array.from({ length: steps }, (_, i) => i);
-    const { done, cancelled } = await withProgress('Simulating and analysing the demo samples', indices, async (index) => {
+    if (reopened && pending.length === 0) {
+      notify('Opened the demo project made before (its simulated samples are all there).', 'done');
+      return;
+    }
+    const { done, cancelled } = await withProgress('Simulating and analysing the demo samples', pending, async (index) => {
       await call('project.demoSample', { index });
     });
     app.project = await call('project.state', {});

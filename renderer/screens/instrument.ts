@@ -19,13 +19,27 @@ export async function renderInstrument(root: HTMLElement): Promise<void> {
   if (guess) sampleSelect.value = String(guess.id);
   const standardSelect = h('select', { 'aria-label': 'Standard reference' }, ...standards.map((r) => h('option', { value: r.name }, `${r.name} (${r.formula})`)));
   if (project.instrument && standards.some((r) => r.name === project.instrument!.standard)) standardSelect.value = project.instrument.standard;
+  // The standard is the reference the chosen pattern's own analysis found present in it, not the first in the list.
+  const chooseStandardFromPattern = async (): Promise<void> => {
+    const id = Number(sampleSelect.value);
+    if (!id) return;
+    try {
+      const detail = app.details.get(id) ?? (await call('sample.get', { id }));
+      const found = detail.match?.phases.find((p) => p.verdict === 'present' && standards.some((r) => r.name === p.name));
+      if (found) standardSelect.value = found.name;
+    } catch {
+      // The user can still choose the standard by hand.
+    }
+  };
+  sampleSelect.addEventListener('change', () => void chooseStandardFromPattern());
+  if (!project.instrument) void chooseStandardFromPattern();
   const result = h('div', { class: 'stack' });
   const fit = async (save: boolean): Promise<void> => {
     try {
       const params = { sampleId: Number(sampleSelect.value), standard: standardSelect.value };
       if (save) {
         app.project = await call('instrument.save', params);
-        notify('Instrument profile saved to the project. Re-analyse samples (Settings → Save) to correct their sizes with it.', 'done');
+        notify('Instrument profile saved to the project. Samples analysed before it are marked out of date: analyse them again to correct their sizes with it.', 'done');
         changed();
       } else {
         fitted = await call('instrument.fit', params);
@@ -46,13 +60,24 @@ export async function renderInstrument(root: HTMLElement): Promise<void> {
         h('h2', {}, 'Instrument profile'),
         h('p', { class: 'small' }, 'Measure a line-profile standard (LaB6 or silicon: large, strain-free crystallites, so its peak widths are the instrument’s), add its pattern to the project, and fit it here. Sizes are then corrected for the instrument’s own breadth.'),
         standards.length ? null : h('p', { class: 'caution' }, 'The library has no reference tagged “standard”: add LaB6 or silicon first.'),
-        h('div', { class: 'row' }, field('Pattern of the standard', sampleSelect), field('Standard reference', standardSelect), h('button', { onclick: () => void fit(false), disabled: !project.samples.length || !standards.length }, 'Fit'), h('button', { class: 'secondary', onclick: () => void fit(true), disabled: !project.samples.length || !standards.length }, 'Fit and save to project')),
+        h('div', { class: 'row' }, field('Pattern of the standard', sampleSelect), field('Standard reference', standardSelect), h('button', { onclick: () => void fit(false), disabled: !project.samples.length || !standards.length }, 'Fit'), h('button', { class: 'secondary', onclick: () => void fit(true), disabled: !project.samples.length || !standards.length }, 'Fit and save to project'), current ? h('button', { class: 'secondary', onclick: () => void clearProfile() }, 'Remove the saved profile') : null),
       ),
       result,
     ),
   );
   if (fitted) show(result, fitted, false);
   else if (current) show(result, current, true);
+}
+
+async function clearProfile(): Promise<void> {
+  try {
+    app.project = await call('instrument.clear', {});
+    fitted = null;
+    changed();
+    notify('Instrument profile removed. Samples analysed with it are marked out of date; sizes analysed from now on are not corrected for the instrument (lower bounds).', 'done');
+  } catch (err) {
+    showError(err);
+  }
 }
 
 function show(box: HTMLElement, view: InstrumentView, saved: boolean): void {

@@ -253,11 +253,13 @@ function verdictCard(detail: SampleDetail): HTMLElement {
 }
 
 function labelsForm(detail: SampleDetail): HTMLElement {
+  const name = h('input', { type: 'text', value: detail.name, placeholder: detail.fileName, 'aria-label': 'Sample name' });
   const variant = h('input', { type: 'text', value: detail.variant ?? '', placeholder: 'as made, washed…', 'aria-label': 'Workup variant' });
   const hours = h('input', { type: 'number', min: 0, step: 'any', value: detail.hours ?? '', 'aria-label': 'Exposure hours' });
   const form = h(
     'form',
     { class: 'row' },
+    field('Name', name),
     field('Variant', variant),
     field('Exposure (h)', hours),
     h('button', { type: 'submit', class: 'secondary' }, 'Save labels'),
@@ -267,7 +269,8 @@ function labelsForm(detail: SampleDetail): HTMLElement {
   form.addEventListener('submit', async (event) => {
     event.preventDefault();
     try {
-      await call('sample.label', { id: detail.id, variant: variant.value.trim() || null, hours: hours.value === '' ? null : Number(hours.value) });
+      const newName = name.value.trim();
+      await call('sample.label', { id: detail.id, variant: variant.value.trim() || null, hours: hours.value === '' ? null : Number(hours.value), name: newName && newName !== detail.fileName ? newName : null });
       app.project = await call('project.state', {});
       app.details.delete(detail.id);
       changed();

@@ -62,5 +62,46 @@ export async function renderSettings(root: HTMLElement): Promise<void> {
       showError(err);
     }
   });
-  root.append(h('div', { class: 'screen' }, form));
+  root.append(h('div', { class: 'screen' }, projectPanel(), form));
+}
+
+/** Rename the open project, or delete it (its file is kept in the projects folder's deleted/ folder). */
+function projectPanel(): HTMLElement {
+  const project = app.project!.project;
+  const name = h('input', { type: 'text', value: project.name, 'aria-label': 'Project name' });
+  const form = h(
+    'form',
+    { class: 'panel row' },
+    field('Project name', name),
+    h('button', { type: 'submit', class: 'secondary' }, 'Rename'),
+    h('button', { type: 'button', class: 'danger', onclick: () => void deleteProject() }, 'Delete project…'),
+  );
+  form.addEventListener('submit', async (event) => {
+    event.preventDefault();
+    try {
+      app.project = await call('project.rename', { name: name.value });
+      app.info = await call('app.info', {});
+      changed();
+      notify('Project renamed.', 'done');
+    } catch (err) {
+      showError(err);
+    }
+  });
+  return form;
+}
+
+async function deleteProject(): Promise<void> {
+  const project = app.project!.project;
+  if (!window.confirm(`Delete the project "${project.name}" from the list? Its file, with the raw patterns and results, is kept in the projects folder's "deleted" folder.`)) return;
+  try {
+    const { keptAt } = await call('project.delete', { id: project.id });
+    app.project = null;
+    app.info = await call('app.info', {});
+    app.selected = null;
+    app.details.clear();
+    changed();
+    notify(`Project deleted from the list; its file is kept at ${keptAt}.`, 'done');
+  } catch (err) {
+    showError(err);
+  }
 }

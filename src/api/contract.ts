@@ -65,7 +65,9 @@ export const referenceSchema = z
 export const apiSchemas = {
   'app.info': z.object({}).strict(),
   'project.list': z.object({}).strict(),
-  'project.create': z.object({ name }).strict(),
+  'project.create': z.object({ name, target: z.string().max(200).nullable().optional() }).strict(),
+  'project.rename': z.object({ name }).strict(),
+  'project.delete': z.object({ id: z.string().regex(/^[a-z0-9-]{1,80}$/, 'not a project id') }).strict(),
   'project.open': z.object({ id: z.string().regex(/^[a-z0-9-]{1,80}$/, 'not a project id') }).strict(),
   'project.demo': z.object({}).strict(),
   'project.demoSample': z.object({ index: z.number().int().min(0).max(100) }).strict(),
@@ -73,7 +75,9 @@ export const apiSchemas = {
   'project.settings': z.object({ settings: settingsSchema.partial() }).strict(),
   'sample.add': z.object({ fileName: z.string().min(1).max(300), bytesBase64: base64, variant: z.string().max(100).optional(), hours: finite.min(0).optional() }).strict(),
   'sample.get': z.object({ id: z.number().int().positive() }).strict(),
-  'sample.label': z.object({ id: z.number().int().positive(), variant: z.string().max(100).nullable(), hours: finite.min(0).nullable() }).strict(),
+  'sample.label': z
+    .object({ id: z.number().int().positive(), variant: z.string().max(100).nullable(), hours: finite.min(0).nullable(), name: z.string().trim().max(200).nullable().optional() })
+    .strict(),
   'sample.remove': z.object({ id: z.number().int().positive() }).strict(),
   'sample.reanalyze': z.object({ id: z.number().int().positive() }).strict(),
   'library.list': z.object({ search: z.string().max(200).optional(), tag: z.string().max(60).optional() }).strict(),
@@ -129,6 +133,11 @@ export interface SampleSummary {
   stale: boolean;
   /** What changed, as a sentence; null when the result is current. */
   staleReason: string | null;
+}
+
+/** A sample just added: its summary, and the samples already holding the very same file (same SHA-256). */
+export interface AddedSample extends SampleSummary {
+  duplicateOf: Array<{ id: number; name: string }>;
 }
 
 export interface SizePeakView {
@@ -279,12 +288,15 @@ export interface ApiResults {
   'app.info': AppInfo;
   'project.list': ProjectSummary[];
   'project.create': ProjectState;
+  'project.rename': ProjectState;
+  'project.delete': { deleted: string; keptAt: string; projects: ProjectSummary[] };
   'project.open': ProjectState;
-  'project.demo': { state: ProjectState; steps: number };
+  /** `pending`: the demo samples still to add (none when the existing demo project was reopened complete). */
+  'project.demo': { state: ProjectState; steps: number; pending: number[]; reopened: boolean };
   'project.demoSample': SampleSummary;
   'project.state': ProjectState;
   'project.settings': ProjectState;
-  'sample.add': SampleSummary;
+  'sample.add': AddedSample;
   'sample.get': SampleDetail;
   'sample.label': SampleSummary;
   'sample.remove': ProjectState;

@@ -55,10 +55,14 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
       pdfAvailable: options.mode === 'electron' || findChromium() !== null,
     }),
     'project.list': () => workspace.listProjects(),
-    'project.create': ({ name }) => {
+    'project.create': ({ name, target }) => {
       firstRun = false;
-      return workspace.createProject(name);
+      if (target && !workspace.library().get(target)) throw new InputError(`the target "${target}" is not in the library; add it there first or pick another`);
+      const state = workspace.createProject(name);
+      return target ? workspace.updateSettings({ target }) : state;
     },
+    'project.rename': ({ name }) => workspace.renameProject(name),
+    'project.delete': ({ id }) => workspace.deleteProject(id),
     'project.open': ({ id }) => workspace.openProject(id),
     'project.demo': () => {
       firstRun = false;
@@ -69,7 +73,7 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
     'project.settings': ({ settings }) => workspace.updateSettings(settings),
     'sample.add': ({ fileName, bytesBase64, variant, hours }) => workspace.addSample(fileName, Buffer.from(bytesBase64, 'base64'), { variant, hours }),
     'sample.get': ({ id }) => workspace.sampleDetail(id),
-    'sample.label': ({ id, variant, hours }) => workspace.labelSample(id, variant, hours),
+    'sample.label': ({ id, variant, hours, name }) => workspace.labelSample(id, variant, hours, name),
     'sample.remove': ({ id }) => workspace.removeSample(id),
     'sample.reanalyze': ({ id }) => workspace.reanalyze(id),
     'library.list': ({ search, tag }) => workspace.library().list({ search, tag }).map(referenceSummary),

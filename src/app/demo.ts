@@ -156,8 +156,17 @@ function writeDemoFile(workspace: Workspace, file: string, phases: SimulatedPhas
  * the LaB6 standard analysed and fitted as the instrument profile. The samples follow one per call
  * of addDemoSample (so the screens can show progress); `steps` says how many.
  */
-export function startDemoProject(workspace: Workspace): { state: ProjectState; steps: number } {
+export function startDemoProject(workspace: Workspace): { state: ProjectState; steps: number; pending: number[]; reopened: boolean } {
   const refs = references();
+  const files = demoFiles(refs);
+  // The demo project made before is opened again (with the samples it still lacks), not made twice.
+  const existing = workspace.listProjects().find((p) => p.demo);
+  if (existing) {
+    const state = workspace.openProject(existing.id);
+    const have = new Set(state.samples.map((s) => s.fileName));
+    const pending = files.map((f, i) => (have.has(f.fileName) ? -1 : i)).filter((i) => i >= 0);
+    return { state, steps: files.length, pending, reopened: true };
+  }
   const stored = new Map<DemoPhase['key'], StoredReference>();
   for (const [key, ref] of refs) stored.set(key, workspace.references.save(ref));
   workspace.createProject(DEMO_PROJECT_NAME, { demo: true, truth: demoTruth() });
@@ -171,7 +180,7 @@ export function startDemoProject(workspace: Workspace): { state: ProjectState; s
   } catch {
     // Without a usable standard fit the demo still works; sizes are then uncorrected lower bounds.
   }
-  return { state: workspace.state(), steps: demoFiles(refs).length };
+  return { state: workspace.state(), steps: files.length, pending: files.map((_, i) => i), reopened: false };
 }
 
 /** Simulate, keep and analyse the demo's sample number `index` (0-based). */

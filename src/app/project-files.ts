@@ -3,7 +3,7 @@
  * open last. A file that is not a project is skipped, never touched.
  */
 import { randomBytes } from 'node:crypto';
-import { existsSync, readdirSync, readFileSync, renameSync, statSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { InputError } from '../core/errors.js';
 import type { InstrumentProfile } from '../core/size/instrument.js';
@@ -82,6 +82,17 @@ export function readDocumentFrom(store: ProjectStore): ProjectDocument {
 
 export function writeDocument(store: ProjectStore, doc: ProjectDocument): void {
   store.setSettings(doc as unknown as Record<string, unknown>);
+}
+
+/** Move a project's file into `projects/deleted/`, stamped with the time; returns where it is kept. */
+export function moveToDeleted(paths: AppDataPaths, id: string, file: string): string {
+  const folder = join(paths.projectsDir, 'deleted');
+  mkdirSync(folder, { recursive: true });
+  const keptAt = join(folder, `${id}-${new Date().toISOString().replace(/[:.]/g, '-')}.sqlite`);
+  renameSync(file, keptAt);
+  for (const suffix of ['-wal', '-shm']) if (existsSync(file + suffix)) renameSync(file + suffix, keptAt + suffix);
+  if (lastProjectId(paths) === id) rmSync(join(paths.root, 'state.json'), { force: true });
+  return keptAt;
 }
 
 /** The project open last, if the app recorded one. */

@@ -14,6 +14,7 @@ import { readPatternBytes } from '../core/pattern/read.js';
 import type { InstrumentProfile } from '../core/size/instrument.js';
 import {
   DEFAULT_SETTINGS,
+  type AddedSample,
   settingsSchema,
   type InstrumentView,
   type ProjectSettings,
@@ -37,6 +38,7 @@ import {
   readDocumentFrom,
   rememberLastProject,
   writeDocument,
+  moveToDeleted,
   type ProjectDocument,
 } from './project-files.js';
 import {
@@ -113,6 +115,25 @@ export class Workspace {
     return this.state();
   }
 
+  /** Rename the open project. */
+  renameProject(name: string): ProjectState {
+    const { store, doc } = this.project();
+    doc.projectName = name;
+    writeDocument(store, doc);
+    return this.state();
+  }
+
+  /**
+   * Delete a project from the list: its file is moved to the projects folder's `deleted/` folder
+   * (raw files and results kept there, recoverable by moving it back), never erased.
+   */
+  deleteProject(id: string): { deleted: string; keptAt: string; projects: ProjectSummary[] } {
+    const file = projectFile(this.paths, id);
+    if (this.projectId === id) this.closeProject();
+    const keptAt = moveToDeleted(this.paths, id, file);
+    return { deleted: id, keptAt, projects: this.listProjects() };
+  }
+
   /** Reopen the project used last, if it still exists. */
   openLastProject(): ProjectState | null {
     const id = lastProjectId(this.paths);
@@ -174,13 +195,14 @@ export class Workspace {
   // ---------- samples ----------
 
   /** Read, keep and analyse a dropped file. A file that cannot be read is refused before anything is kept. */
-  addSample(fileName: string, bytes: Uint8Array, labels: { label?: string | null; variant?: string | null; hours?: number | null } = {}): SampleSummary {
+  addSample(fileName: string, bytes: Uint8Array, labels: { label?: string | null; variant?: string | null; hours?: number | null } = {}): AddedSample {
     const { store } = this.project();
     const pattern = readPatternBytes(bytes, fileName);
     const variant = labels.variant !== undefined ? labels.variant : guessVariant(fileName);
     const hours = labels.hours !== undefined ? labels.hours : guessHours(fileName);
+    const duplicateOf = store.findSamplesBySha256(pattern.source.sha256).map((r) => ({ id: r.id, name: r.label ?? r.fileName }));
     const record = store.addSample({ fileName, bytes, label: labels.label ?? null, variant, exposureHours: hours });
-    return this.analyze(record, pattern);
+    return { ...this.analyze(record, pattern), duplicateOf };
   }
 
   reanalyze(id: number): SampleSummary {
@@ -189,8 +211,10 @@ export class Workspace {
     return this.analyze(record, readPatternBytes(store.getSampleBytes(id), record.fileName));
   }
 
-  labelSample(id: number, variant: string | null, hours: number | null): SampleSummary {
-    const record = this.project().store.updateSample(id, { variant, exposureHours: hours });
+  /** New labels for a sample; `name` renames it (null gives back the file name), undefined keeps it. */
+  labelSample(id: number, variant: string | null, hours: number | null, name?: string | null): SampleSummary {
+    const changes = { variant, exposureHours: hours, ...(name !== undefined ? { label: name ? name : null } : {}) };
+    const record = this.project().store.updateSample(id, changes);
     return this.summaryOf(record);
   }
 

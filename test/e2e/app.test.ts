@@ -284,10 +284,9 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     await shot('11-progress');
     await page.getByText('100 patterns added.').waitFor({ timeout: 120_000 });
     const seconds = (Date.now() - started) / 1000;
+    // Printed for the record only: speed targets are judged in `npm run bench`, not in a timed test.
     console.log(`100-file drop (10 001 points each): ${seconds.toFixed(1)} s`);
     expect(await page.locator('[data-testid="sample-list"] li', { hasText: 'night-' }).count()).toBe(100);
-    // Target 15 s; the bound allows for the shared test machine.
-    expect(seconds).toBeLessThan(30);
   }, 150_000);
 
   it('stops a drop when Cancel is pressed', async () => {

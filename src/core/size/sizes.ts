@@ -202,7 +202,7 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
   }
   if (!instrument) {
     warnings.push(
-      'no instrument profile: the breadths include the instrument\'s own broadening, so these sizes are too small (lower bounds); measure a standard with "crystallog instrument" and pass --instrument',
+      'no instrument profile: the breadths include the instrument\'s own broadening, so these sizes are too small (lower bounds); fit an instrument profile from a measured line-profile standard (LaB6 or silicon) to correct them',
     );
   } else if (Math.abs(instrument.wavelength.lambda1 - lambda) > 1e-3) {
     warnings.push(`the instrument profile "${instrument.name}" was measured at ${instrument.wavelength.lambda1} Å, this pattern at ${lambda} Å`);
