@@ -63,12 +63,22 @@ describe('the LaB6 standard analysed as a sample', () => {
     expect(r.scherrer.statement).toMatch(/^larger than \d+ nm/);
   });
 
-  it('is reported as a lower bound without an instrument profile, since its breadths are the instrument\'s', () => {
+  it('gets no size when it is the very pattern the instrument profile was fitted to', () => {
+    const own = { ...instrument, standard: { ...instrument.standard, sha256: pattern.source.sha256 } };
+    const r = analyzePattern(pattern, perovskiteContext(own)).size;
+    expect(r.scherrer.sizeNm).toBeNull();
+    expect(r.scherrer.statement).toMatch(/^instrument standard: /);
+  });
+
+  // Issue 13: never a size for a line-profile standard (this test said "larger than N nm" before).
+  it('gets no size without an instrument profile, since its breadths are the instrument\'s', () => {
     const analysis = analyzePattern(pattern, perovskiteContext(null));
     const std = reference(STANDARD);
     const r = crystalliteSizes(analysis.peaks, { wavelength: CU, phase: { name: std.name, lines: std.lines, tags: std.tags } });
     expect(r.scherrer.limit).toBe('instrument');
+    expect(r.scherrer.sizeNm).toBeNull();
     expect(r.scherrer.sizeSigmaNm).toBeNull();
-    expect(r.scherrer.statement).toMatch(/^larger than \d+ nm: .* line-profile standard/);
+    expect(r.scherrer.statement).toMatch(/^instrument standard: the widths of .* are the instrument's, so no crystallite size is given for it$/);
+    expect(r.williamsonHall).toBeNull();
   });
 });

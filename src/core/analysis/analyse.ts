@@ -156,6 +156,7 @@ export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisCont
     phase: sizeReference ? { name: sizeReference.name, version: sizeReference.version, lines: sizeReference.lines } : null,
     toleranceDeg: settings.toleranceDeg,
     otherLines,
+    patternIsInstrumentStandard: context.instrument !== null && context.instrument.standard.sha256 === pattern.source.sha256,
   });
   if (!sizeReference) warnings.push('no phase was found present: sizes come from every fitted peak');
   warnings.push(...size.warnings);

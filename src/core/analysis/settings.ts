@@ -85,11 +85,27 @@ export function resolveAnalysisSettings(input: unknown, names: Partial<Record<ke
   }
   const { wavelength, ...rest } = parsed.data;
   const defined = Object.fromEntries(Object.entries(rest).filter(([, v]) => v !== undefined));
-  return {
+  const settings: AnalysisSettings = {
     ...DEFAULT_ANALYSIS_SETTINGS,
     ...defined,
     wavelength: wavelength ? parseWavelength(wavelength) : null,
   };
+  // A K preset belongs with one breadth (Langford & Wilson 1978): given alone it brings its breadth; given with the other, it is refused.
+  const preset = typeof settings.k === 'string' ? SCHERRER_K_PRESETS.find((p) => p.id === settings.k) : undefined;
+  if (preset && preset.breadth !== settings.breadth) {
+    if (rest.breadth !== undefined) {
+      const where = names.k ? `${names.k}: ` : '';
+      throw new InputError(
+        `${where}the Scherrer K preset "${preset.id}" (K = ${preset.k}) belongs with the ${breadthName(preset.breadth)}, not the ${breadthName(settings.breadth)}; choose a K for the ${breadthName(settings.breadth)} or leave the breadth to the preset`,
+      );
+    }
+    settings.breadth = preset.breadth;
+  }
+  return settings;
+}
+
+function breadthName(breadth: BreadthKind): string {
+  return breadth === 'fwhm' ? 'FWHM' : 'integral breadth';
 }
 
 /** The wavelength an analysis uses: the setting, else the one named in the file, else Cu Kα1/Kα2. */

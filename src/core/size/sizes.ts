@@ -2,6 +2,7 @@
  * Crystallite sizes from fitted peaks: per-peak Scherrer sizes after instrument correction, their
  * weighted mean, Williamson–Hall size and strain, and the limits of what the widths can tell.
  */
+import { InputError } from '../errors.js';
 import type { Hkl } from '../model/cell.js';
 import type { ReferenceLine } from '../model/reference.js';
 import type { FittedPeak } from '../model/peak.js';
@@ -11,7 +12,7 @@ import { assignReferenceLines, type OtherPhaseLine } from './assign.js';
 import type { InstrumentProfile } from './instrument.js';
 import { instrumentWidthAt, isStandardReference } from './instrument-width.js';
 import { weightedMean } from '../numeric/numeric.js';
-import { resolveScherrerK, scherrerSizeNm } from './scherrer.js';
+import { resolveScherrerK, SCHERRER_K_PRESETS, scherrerSizeNm } from './scherrer.js';
 import {
   breadthsFromPseudoVoigt,
   pickBreadth,
@@ -37,6 +38,8 @@ export interface SizeOptions {
   wavelength: Wavelength;
   /** Instrument profile from a measured standard; without one the breadths are not corrected. */
   instrument?: InstrumentProfile | null;
+  /** The pattern is the one the instrument profile was fitted to (its widths are the profile). */
+  patternIsInstrumentStandard?: boolean;
   /** Scherrer K as a number or preset name (default 0.9). */
   k?: number | string;
   breadth?: BreadthKind;
@@ -177,8 +180,13 @@ interface PeakWork {
 
 /** Crystallite sizes from a pattern's fitted peaks. */
 export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOptions): SizeResult {
-  const { k, source: kSource } = resolveScherrerK(options.k);
-  const breadth = options.breadth ?? 'fwhm';
+  const { k, source: kSource, preset } = resolveScherrerK(options.k);
+  const named = typeof options.k === 'string' ? SCHERRER_K_PRESETS.find((p) => p.id === preset) : undefined;
+  // A preset named for one breadth is never used with the other without a word (Langford & Wilson 1978).
+  const breadth = options.breadth ?? named?.breadth ?? 'fwhm';
+  if (named && named.breadth !== breadth) {
+    throw new InputError(`the Scherrer K preset "${named.id}" (K = ${named.k}) belongs with the ${named.breadth === 'fwhm' ? 'FWHM' : 'integral breadth'}; it cannot be used with the ${breadth === 'fwhm' ? 'FWHM' : 'integral breadth'}`);
+  }
   const instrument = options.instrument ?? null;
   const correction: CorrectionKind | 'none' = instrument ? (options.correction ?? 'voigt') : 'none';
   const lambda = options.wavelength.lambda1;
@@ -274,16 +282,16 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
 
   const sizes = work.map((w) => w.size);
   let scherrer = scherrerSummary(work, instrument !== null);
-  if (!instrument && options.phase && scherrer.sizeNm !== null && isStandardReference({ name: options.phase.name, formula: '', tags: [...(options.phase.tags ?? [])], source: '', lines: [] })) {
-    // A line-profile standard's peaks are the instrument's own breadth: the uncorrected size is only a floor.
-    const floorNm = Math.floor(scherrer.sizeNm);
+  const isStandard = options.phase !== null && options.phase !== undefined && isStandardReference({ name: options.phase.name, formula: '', tags: [...(options.phase.tags ?? [])], source: '', lines: [] });
+  if (isStandard && (!instrument || options.patternIsInstrumentStandard)) {
+    // A line-profile standard's peaks are the instrument's own breadth: no crystallite size is given for it.
     scherrer = {
-      sizeNm: floorNm,
+      sizeNm: null,
       sizeSigmaNm: null,
       sizeSigmaFitNm: null,
       limit: 'instrument',
       peaksUsed: 0,
-      statement: `larger than ${floorNm} nm: ${options.phase.name} is a line-profile standard, its breadths are the instrument's own`,
+      statement: `instrument standard: the widths of ${options.phase!.name} are the instrument's, so no crystallite size is given for it`,
     };
   }
   if (sizes.length > 0 && sizes.every((s) => s.limit === 'overlap')) {
@@ -296,9 +304,10 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
   const wh = sizes
     .filter((s) => s.limit === null && s.sampleBreadthDeg > 0)
     .map((s) => ({ twoThetaDeg: s.twoTheta, breadthDeg: s.sampleBreadthDeg, breadthSigmaDeg: s.sampleBreadthSigmaDeg, hkl: s.hkl }));
-  const whResult = wh.length >= 2 ? williamsonHall(wh, { wavelengthAngstrom: lambda, k }) : null;
+  const standardWithoutSize = scherrer.statement.startsWith('instrument standard');
+  const whResult = wh.length >= 2 && !standardWithoutSize ? williamsonHall(wh, { wavelengthAngstrom: lambda, k }) : null;
   if (whResult) warnings.push(...whResult.warnings);
-  else if (wh.length > 0) warnings.push('fewer than 2 resolved peaks: no Williamson–Hall analysis');
+  else if (wh.length > 0 && !standardWithoutSize) warnings.push('fewer than 2 resolved peaks: no Williamson–Hall analysis');
   if (whResult?.anisotropy?.detected) warnings.push(whResult.anisotropy.statement);
 
   const settings: SizeSettings = {
