@@ -240,7 +240,7 @@ function verdictCard(detail: SampleDetail): HTMLElement {
   if (size?.scherrer) {
     append(card, [
       h('div', { class: 'size-line', 'data-testid': 'size' }, `Scherrer: ${sizeText(size.scherrer.sizeNm, Number.isFinite(size.scherrer.sizeSigmaNm) ? size.scherrer.sizeSigmaNm : null)}`),
-      size.williamsonHall ? h('div', {}, `Williamson–Hall: ${size.williamsonHall.sizeNm === null ? '—' : `${size.williamsonHall.sizeNm.toFixed(1)} nm`}, strain ${size.williamsonHall.strain.toExponential(1)}, R² ${fmt(size.williamsonHall.r2, 2)}`) : null,
+      size.williamsonHall ? h('div', {}, `Williamson–Hall: ${size.williamsonHall.sizeNm === null ? '—' : `${size.williamsonHall.sizeNm.toFixed(1)} nm`}, ${size.williamsonHall.strainStatement}, R² ${fmt(size.williamsonHall.r2, 2)}`) : null,
       h('div', { class: 'small' }, `K = ${size.k}, ${size.breadth === 'fwhm' ? 'FWHM' : 'integral breadth'}, ${size.instrumentCorrected ? `instrument-corrected (${size.correction})` : 'not corrected for the instrument (lower bound)'}${size.phase ? `, lines of ${size.phase}` : ''}.`),
     ]);
   } else {

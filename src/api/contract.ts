@@ -156,7 +156,7 @@ export interface SizeView {
   instrumentCorrected: boolean;
   peaks: SizePeakView[];
   scherrer: { sizeNm: number; sizeSigmaNm: number } | null;
-  williamsonHall: { sizeNm: number | null; strain: number; r2: number } | null;
+  williamsonHall: { sizeNm: number | null; strain: number; strainDetected: boolean; strainStatement: string; r2: number } | null;
   notes: string[];
 }
 

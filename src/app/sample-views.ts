@@ -117,7 +117,7 @@ export function peakViews(result: AnalysisResult, lowAngle: readonly LowAnglePea
 
 export function sizeView(result: AnalysisResult): SizeView {
   const size = result.size;
-  const wh = size.williamsonHall as { sizeNm?: number | null; strain?: number; r2?: number } | null;
+  const wh = size.williamsonHall as { sizeNm?: number | null; strain?: number; strainDetected?: boolean; strainStatement?: string; r2?: number } | null;
   return {
     k: size.k,
     breadth: size.breadth,
@@ -126,7 +126,10 @@ export function sizeView(result: AnalysisResult): SizeView {
     instrumentCorrected: size.settings.instrument !== null,
     peaks: size.peaks.map((p) => ({ twoTheta: p.twoTheta, hkl: p.hkl, sizeNm: p.sizeNm, sizeSigmaNm: p.sizeSigmaNm, limit: p.limit })),
     scherrer: size.scherrer.sizeNm !== null ? { sizeNm: size.scherrer.sizeNm, sizeSigmaNm: size.scherrer.sizeSigmaNm ?? Number.NaN } : null,
-    williamsonHall: wh && typeof wh.strain === 'number' ? { sizeNm: wh.sizeNm ?? null, strain: wh.strain, r2: wh.r2 ?? Number.NaN } : null,
+    williamsonHall:
+      wh && typeof wh.strain === 'number'
+        ? { sizeNm: wh.sizeNm ?? null, strain: wh.strain, strainDetected: wh.strainDetected ?? true, strainStatement: wh.strainStatement ?? `microstrain ${wh.strain.toExponential(2)}`, r2: wh.r2 ?? Number.NaN }
+        : null,
     notes: [size.scherrer.statement, ...size.warnings].filter((s) => !!s),
   };
 }

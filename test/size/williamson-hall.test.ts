@@ -23,6 +23,19 @@ describe('Williamson–Hall uniform deformation', () => {
     expect(r.warnings).toEqual([]);
   });
 
+  it('reports a strain only when it stands above 2σ', () => {
+    const strained = williamsonHall(linePoints(35, 0.0015, [25, 35, 45, 60, 75, 90]), { wavelengthAngstrom: CU_KA1, k: 0.9 })!;
+    expect(strained.strainDetected).toBe(true);
+    expect(strained.strainStatement).toMatch(/^microstrain 1\.50e-3 ± /);
+    // Strain-free breadths with 5 % scatter: the fitted slope is noise.
+    const scatter = [1.04, 0.97, 1.02, 0.96, 1.05, 0.98];
+    const free = williamsonHall(linePoints(35, 0, [25, 35, 45, 60, 75, 90]).map((p, i) => ({ ...p, breadthDeg: p.breadthDeg * scatter[i]!, breadthSigmaDeg: 0.05 * p.breadthDeg })), { wavelengthAngstrom: CU_KA1, k: 0.9 })!;
+    expect(Math.abs(free.strain)).toBeLessThan(2 * free.strainSigma);
+    expect(free.strainDetected).toBe(false);
+    expect(free.strainStatement).toMatch(/^no strain detected \(\|ε\| < 2σ = [0-9.]+e-\d\)$/);
+    expect(free.statement).toContain('no strain detected');
+  });
+
   it('warns when fewer than 4 peaks remain', () => {
     const r = williamsonHall(linePoints(35, 0.001, [30, 50, 70]), { wavelengthAngstrom: CU_KA1, k: 0.9 })!;
     expect(r.warnings.some((w) => w.startsWith('only 3 usable peaks'))).toBe(true);

@@ -102,7 +102,8 @@ async function analyzeOnPool(files: readonly string[], setup: Parameters<typeof 
 function seriesText(r: SeriesCommandResult): string {
   const out = [`series of ${r.rows.length} samples (${r.kind}), target ${r.target}; K = ${r.settings.k}, ${r.settings.breadth}, correction ${r.settings.correction}`];
   for (const row of r.rows) {
-    const wh = row.williamsonHall ? `W–H ${row.williamsonHall.sizeNm?.toPrecision(3) ?? '—'} nm, ε ${row.williamsonHall.strain?.toExponential(1) ?? '—'}` : 'W–H —';
+    const strain = row.williamsonHall?.strainDetected ? `ε ${row.williamsonHall.strain?.toExponential(1) ?? '—'}` : 'no strain detected';
+    const wh = row.williamsonHall ? `W–H ${row.williamsonHall.sizeNm?.toPrecision(3) ?? '—'} nm, ${strain}` : 'W–H —';
     out.push(`  ${row.label}: ${row.verdict ?? '—'}; ${row.lowAnglePeaks.length} low-angle extra peak(s); Scherrer ${row.scherrer.statement}; ${wh}`);
   }
   out.push(`size comparisons (${r.comparison.test}):`);

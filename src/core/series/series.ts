@@ -74,7 +74,7 @@ export interface SeriesRow {
   lowAnglePeaks: SeriesSample['lowAnglePeaks'];
   otherPhases: SeriesPhaseShare[];
   scherrer: { sizeNm: number | null; sizeSigmaNm: number | null; limit: 'instrument' | null; statement: string };
-  williamsonHall: { sizeNm: number | null; sizeSigmaNm: number | null; strain: number | null; strainSigma: number | null; r2: number | null; limit: 'instrument' | null } | null;
+  williamsonHall: { sizeNm: number | null; sizeSigmaNm: number | null; strain: number | null; strainSigma: number | null; strainDetected: boolean; r2: number | null; limit: 'instrument' | null } | null;
   warnings: string[];
 }
 
@@ -147,7 +147,7 @@ export function analyzeSeries(samples: readonly SeriesSample[], options: SeriesO
         statement: s.size.scherrer.statement,
       },
       williamsonHall: wh
-        ? { sizeNm: wh.sizeNm, sizeSigmaNm: wh.sizeSigmaNm, strain: wh.strain, strainSigma: wh.strainSigma, r2: wh.r2, limit: wh.limit }
+        ? { sizeNm: wh.sizeNm, sizeSigmaNm: wh.sizeSigmaNm, strain: wh.strain, strainSigma: wh.strainSigma, strainDetected: wh.strainDetected, r2: wh.r2, limit: wh.limit }
         : null,
       warnings: s.size.warnings,
     };

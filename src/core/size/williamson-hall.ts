@@ -24,14 +24,21 @@ export interface WilliamsonHallOptions {
   disagreementP?: number;
 }
 
+/** A strain smaller than this many σ is reported as not detected. */
+const STRAIN_SIGNIFICANT_SIGMAS = 2;
+
 export interface WilliamsonHallResult {
   /** Size in nm, or the lower bound when `limit` is "instrument" (intercept not above zero by 2σ). */
   sizeNm: number | null;
   sizeSigmaNm: number | null;
   limit: 'instrument' | null;
-  /** Microstrain ε (dimensionless). */
+  /** Microstrain ε (dimensionless; β cosθ = Kλ/D + 4ε sinθ), as fitted even when not significant. */
   strain: number;
   strainSigma: number;
+  /** |ε| ≥ 2σ: a strain is reported; otherwise "no strain detected". */
+  strainDetected: boolean;
+  /** The strain as a chemist reads it: "microstrain 1.10e-3 ± 2.0e-4", or "no strain detected (|ε| < 2σ = 4.0e-4)". */
+  strainStatement: string;
   r2: number;
   peaksUsed: number;
   /** Intercept Kλ/D and slope ε with their uncertainties (β in radians). */
@@ -110,6 +117,11 @@ export function williamsonHall(points: readonly BreadthPoint[], options: William
   } else if (slope < 0) {
     warnings.push('the Williamson–Hall slope is negative but zero within its uncertainty: no measurable strain');
   }
+  // Strain is reported only when it stands above its own uncertainty (2σ, common practice).
+  const strainDetected = Math.abs(slope) >= STRAIN_SIGNIFICANT_SIGMAS * strainSigma && strainSigma > 0 ? slope > 0 : false;
+  const strainStatement = strainDetected
+    ? `microstrain ${slope.toExponential(2)} ± ${strainSigma.toExponential(1)}`
+    : `no strain detected (|ε| < ${STRAIN_SIGNIFICANT_SIGMAS}σ = ${(STRAIN_SIGNIFICANT_SIGMAS * strainSigma).toExponential(1)})`;
   const kLambdaNm = (options.k * options.wavelengthAngstrom) / 10;
   let sizeNm: number | null;
   let sizeSigmaNm: number | null;
@@ -118,7 +130,7 @@ export function williamsonHall(points: readonly BreadthPoint[], options: William
   if (intercept > 2 * interceptSigma) {
     sizeNm = kLambdaNm / intercept;
     sizeSigmaNm = (sizeNm * interceptSigma) / intercept;
-    statement = `${sizeNm.toPrecision(3)} ± ${sizeSigmaNm.toPrecision(2)} nm, microstrain ${slope.toExponential(2)} ± ${strainSigma.toExponential(1)}`;
+    statement = `${sizeNm.toPrecision(3)} ± ${sizeSigmaNm.toPrecision(2)} nm, ${strainStatement}`;
   } else {
     const bound = intercept + 2 * interceptSigma;
     sizeNm = bound > 0 ? kLambdaNm / bound : null;
@@ -134,6 +146,8 @@ export function williamsonHall(points: readonly BreadthPoint[], options: William
     limit,
     strain: slope,
     strainSigma,
+    strainDetected,
+    strainStatement,
     r2: fit.r2,
     peaksUsed: n,
     intercept,
