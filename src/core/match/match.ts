@@ -9,7 +9,7 @@ import type { StoredReference } from '../model/reference.js';
 import type { FittedPeak } from '../model/peak.js';
 import { dFromTwoTheta } from '../model/units.js';
 import { buildPeakTable } from './peak-table.js';
-import { chungWeightFractions, fitPhaseScales } from './quantify.js';
+import { chungQuantification, fitPhaseScales } from './quantify.js';
 import { buildReferenceIndex, rangeTotals, screenReferences } from './reference-index.js';
 import { evaluatePhase, phaseLines, type Claims, type PhaseEvaluation, type PhaseLines } from './score.js';
 import { refineShift, searchCellScale, type ShiftBounds } from './shift.js';
@@ -35,6 +35,7 @@ import {
 } from './verdict-rules.js';
 import { countClear, firstLineTwoTheta, lowAngleOpenPeaks, linesOnPeaks, groupIntensities, exclusiveAreaShares, unexplainedPeaks } from './peak-accounting.js';
 import { cellReport, describePhase, lookAlikeReason, patternReasons, sampleShift } from './reasons.js';
+import { round } from './format.js';
 
 const DEFAULT_TOLERANCE_DEG = 0.1;
 
@@ -268,15 +269,20 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   // Scales fitted jointly to the peak areas (shared peaks split between the phases); a phase the fit gives nothing keeps its own peaks' scale.
   const gi = groupIntensities(accepted.map((a) => a.evaluation), table);
   const joint = fitPhaseScales(gi);
-  const scales = accepted.map((a, i) => (joint[i] > 0 ? joint[i] : a.evaluation.scale));
+  const scales = accepted.map((a, i) => (joint.scales[i] > 0 ? joint.scales[i] : a.evaluation.scale));
+  const scaleSigmas = accepted.map((_, i) => (joint.scales[i] > 0 && Number.isFinite(joint.sigmas[i]) ? joint.sigmas[i] : 0));
   const exclusive = exclusiveAreaShares(linesOnPeaks(accepted.map((a) => a.evaluation), table), table);
-  const fractions = chungWeightFractions(accepted.map((a, i) => ({ scale: scales[i], rir: refs[a.ref].rir })));
+  const quantification = chungQuantification(accepted.map((a, i) => ({ scale: scales[i], scaleSigma: scaleSigmas[i], rir: refs[a.ref].rir })));
+  const fractions = quantification.weightFraction;
+  // A fraction's σ only when every quantified phase's scale σ could be measured (its groups left a degree of freedom).
+  const everyScaleHasSigma = fractions.every((f, j) => f === null || scaleSigmas[j] > 0);
+  const fractionSigmas = quantification.weightFractionSigma.map((sigma) => (everyScaleHasSigma ? sigma : null));
   const unquantified = accepted.filter((_, i) => fractions[i] === null).map((a) => refs[a.ref].name);
   const phases: PhaseMatch[] = [];
   accepted.forEach((a, i) => {
     const verdict = acceptedVerdict(a.evaluation);
     const described = describePhase(a.evaluation, verdict, claims, accepted, table, fractions[i], unquantified, null, exclusive[i]);
-    phases.push({ ...described, scale: scales[i], ...cellReport(fit.cells[i], usableCell(refs[a.ref].cell), cellBound, described.reasons) });
+    phases.push({ ...described, scale: scales[i], weightFractionSigma: fractionSigmas[i] === null ? null : round(fractionSigmas[i]!, 4), ...cellReport(fit.cells[i], usableCell(refs[a.ref].cell), cellBound, described.reasons) });
   });
   /**
    * A phase left out as uncertain beside the phase that took its peaks: when its peaks are nearly all

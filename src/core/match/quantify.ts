@@ -142,7 +142,7 @@ export interface GroupIntensities {
  * of the lines that may or may not be part of a group; groups where that exceeds UNCERTAIN_AREA_SHARE
  * of the area are left out of the final fit (unless a phase would be left without any group). Returns one scale per phase, 0 where the fit gives the phase none.
  */
-export function fitPhaseScales(groups: GroupIntensities): Float64Array {
+export function fitPhaseScales(groups: GroupIntensities): { scales: Float64Array; sigmas: Float64Array } {
   const first = jointPhaseScales(groups.areas, groups.matched);
   const usable = Float64Array.from(groups.areas, (area, g) => {
     let hidden = 0;
@@ -150,7 +150,42 @@ export function fitPhaseScales(groups: GroupIntensities): Float64Array {
     return hidden > UNCERTAIN_AREA_SHARE * area ? 0 : area;
   });
   const covered = groups.matched.every((m, i) => !(first[i] > 0) || m.some((v, g) => v > 0 && usable[g] > 0));
-  return covered ? jointPhaseScales(usable, groups.matched) : first;
+  const areas = covered ? usable : groups.areas;
+  const scales = covered ? jointPhaseScales(usable, groups.matched) : first;
+  return { scales, sigmas: scaleSigmas(areas, groups.matched, scales) };
+}
+
+/**
+ * σ of the positive scales from the weighted fit's covariance (normal matrix inverse at the final,
+ * model-based relative weights) times the residual variance χ²/(groups − phases): the scatter of the
+ * groups' areas about the model (preferred orientation, overlap) sets the uncertainty. NaN where the
+ * groups leave no degree of freedom (the scatter cannot be measured).
+ */
+function scaleSigmas(areas: Float64Array, contributions: readonly Float64Array[], scales: Float64Array): Float64Array {
+  const sigmas = new Float64Array(scales.length).fill(Number.NaN);
+  const members = [...scales.keys()].filter((i) => scales[i] > 0);
+  const rows: number[] = [];
+  for (let g = 0; g < areas.length; g++) if (areas[g] > 0 && members.some((i) => contributions[i][g] > 0)) rows.push(g);
+  const dof = rows.length - members.length;
+  if (members.length === 0 || dof <= 0) return sigmas;
+  const p = members.length;
+  const normal = new Float64Array(p * p);
+  let chi2 = 0;
+  for (const g of rows) {
+    let model = 0;
+    let carried = 0;
+    for (const i of members) {
+      model += scales[i] * contributions[i][g];
+      carried += contributions[i][g];
+    }
+    const weight = carried / Math.max(model, 1e-12 * areas[g]) ** 2;
+    chi2 += weight * (areas[g] - model) ** 2;
+    for (let a = 0; a < p; a++) for (let b = 0; b < p; b++) normal[a * p + b] += weight * contributions[members[a]][g] * contributions[members[b]][g];
+  }
+  const inverse = invertSmall(normal, p);
+  if (!inverse) return sigmas;
+  members.forEach((i, a) => (sigmas[i] = Math.sqrt(Math.max(inverse[a * p + a], 0) * (chi2 / dof))));
+  return sigmas;
 }
 
 /**

@@ -111,6 +111,8 @@ export interface PhaseMatch {
   missingStrongLines: MissingLine[];
   /** Chung's matrix-flushing weight fraction, or null where the phase is not quantified. */
   weightFraction: number | null;
+  /** σ of the weight fraction from the scales' σ (the scatter of the phases' areas about the joint fit); null where it cannot be measured. */
+  weightFractionSigma?: number | null;
   /** "quantified" or "not quantified" (no reference intensity ratio, or phase not present). */
   quantification: 'quantified' | 'not quantified';
   parts: ScoreParts;
