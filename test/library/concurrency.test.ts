@@ -5,6 +5,8 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { ReferenceLibrary } from '../../src/node/library/store.js';
 import { holderFile } from '../../src/node/library/write-lock.js';
+import { seededUniform } from '../../src/core/numeric/random.js';
+import Database from 'better-sqlite3';
 import { syntheticPhase, useTempDir } from './helpers.js';
 
 const tempDir = useTempDir();
@@ -157,4 +159,107 @@ describe('an import kept waiting by another writer’s lock', () => {
     await released;
     expect(namesIn(path)).toEqual(['already there', 'waiting import']);
   }, 30_000);
+});
+
+describe('kill -9 in the middle of a large import, again and again', () => {
+  const REFERENCES = 1500;
+
+  /** One import's references, named by its round so the library's counts tell what each import left. */
+  function generatedImport(dir: string, round: number): string {
+    const file = join(dir, `round-${round}.json`);
+    const refs = Array.from({ length: REFERENCES }, (_, k) => ({
+      ...syntheticPhase(`round-${round}-${k}`, 40, ['generated']),
+      lines: syntheticPhase('', 40).lines.map((line, i) => ({ d: line.d * (1 + k * 1e-5), intensity: i === 0 ? 100 : (line.intensity + k) % 100 })),
+    }));
+    writeFileSync(file, JSON.stringify(refs));
+    return file;
+  }
+
+  const sleep = (ms: number) => new Promise((resolve) => setTimeout(resolve, ms));
+
+  /**
+   * Start `library import FILE`; kill it with SIGKILL killAfterMs after it starts, or (when inWrite)
+   * killAfterMs after its write transaction began (its holder note appeared). Resolves when it has ended.
+   */
+  async function importAndKill(file: string, path: string, killAfterMs: number | null, inWrite: boolean) {
+    const child = spawn(process.execPath, [cli, 'library', 'import', file, '--library', path], { stdio: ['ignore', 'ignore', 'pipe'] });
+    let stderr = '';
+    child.stderr.on('data', (c: Buffer) => (stderr += c.toString()));
+    const ended = new Promise<{ code: number | null; signal: NodeJS.Signals | null }>((resolve) => child.on('exit', (code, signal) => resolve({ code, signal })));
+    let exited = false;
+    void ended.then(() => (exited = true));
+    const started = Date.now();
+    let writeStartedAt: number | null = null;
+    while (!exited && (inWrite || killAfterMs === null)) {
+      if (existsSync(holderFile(path))) {
+        writeStartedAt = Date.now();
+        break;
+      }
+      await sleep(1);
+    }
+    if (killAfterMs !== null && !exited) {
+      await sleep(killAfterMs);
+      child.kill('SIGKILL');
+    }
+    const end = await ended;
+    return { ...end, stderr, totalMs: Date.now() - started, writeMs: writeStartedAt === null ? null : Date.now() - writeStartedAt };
+  }
+
+  function inspect(path: string, round: number) {
+    const db = new Database(path);
+    const integrity = db.pragma('integrity_check', { simple: true });
+    const count = (sql: string) => (db.prepare(sql).get(`round-${round}-%`) as { n: number }).n;
+    const entries = count(`SELECT count(*) AS n FROM reference_entry WHERE name LIKE ?`);
+    const versions = count(`SELECT count(*) AS n FROM reference_version WHERE name LIKE ?`);
+    const tags = count(`SELECT count(*) AS n FROM reference_tag t JOIN reference_entry e ON e.id = t.entry_id WHERE e.name LIKE ?`);
+    const total = (db.prepare(`SELECT count(*) AS n FROM reference_entry`).get() as { n: number }).n;
+    db.close();
+    return { integrity, entries, versions, tags, total };
+  }
+
+  it('leaves a whole library holding all or none of each killed import, and the next import succeeds', async () => {
+    const dir = tempDir();
+    const path = join(dir, 'killed.sqlite');
+    // Round 0 runs to its end: its times set the range of the kill moments.
+    const whole = await importAndKill(generatedImport(dir, 0), path, null, false);
+    expect(whole.code, whole.stderr).toBe(0);
+    expect(inspect(path, 0)).toMatchObject({ integrity: 'ok', entries: REFERENCES, versions: REFERENCES, tags: REFERENCES });
+    const totalMs = whole.totalMs;
+    const writeMs = whole.writeMs!;
+    expect(writeMs).toBeGreaterThan(20);
+
+    const uniform = seededUniform(20261202);
+    let expectedTotal = REFERENCES;
+    const outcomes: string[] = [];
+    let killedInWrite = 0;
+    for (let round = 1; round <= 10; round++) {
+      // Even rounds: a moment inside the write transaction; odd rounds: any moment of the whole run.
+      const inWrite = round % 2 === 0;
+      const killAfterMs = Math.floor(uniform() * 0.9 * (inWrite ? writeMs : totalMs));
+      const killed = await importAndKill(generatedImport(dir, round), path, killAfterMs, inWrite);
+      const leftNote = existsSync(holderFile(path));
+      if (killed.signal === 'SIGKILL' && leftNote) killedInWrite++;
+      const after = inspect(path, round);
+      expect(after.integrity, `round ${round}`).toBe('ok');
+      expect([0, REFERENCES], `round ${round}: ${after.entries} of ${REFERENCES} references`).toContain(after.entries);
+      expect(after.versions).toBe(after.entries);
+      expect(after.tags).toBe(after.entries);
+      if (killed.signal !== 'SIGKILL') expect(after.entries, 'an import not killed finished').toBe(REFERENCES);
+      expectedTotal += after.entries;
+      outcomes.push(`${round}:${inWrite ? 'write' : 'run'}+${killAfterMs}ms:${killed.signal ?? 'ended'}:${after.entries === 0 ? 'none' : 'all'}`);
+
+      // The next import after the kill: the library opens, a stale holder note is ignored, and it is stored.
+      const next = join(dir, `after-${round}.json`);
+      writeFileSync(next, JSON.stringify(syntheticPhase(`after-kill-${round}`)));
+      const followUp = spawnSync(process.execPath, [cli, 'library', 'import', next, '--library', path], { encoding: 'utf8' });
+      expect(followUp.status, followUp.stderr).toBe(0);
+      expect(followUp.stderr).not.toMatch(/waiting/);
+      expectedTotal += 1;
+      expect(inspect(path, round).total).toBe(expectedTotal);
+      expect(existsSync(holderFile(path))).toBe(false);
+    }
+    console.log(`kill -9 rounds (import of ${REFERENCES} references; whole run ${totalMs} ms, write ${writeMs} ms): ${outcomes.join(', ')}`);
+    // The kills aimed inside the write did land there (their holder note was left behind).
+    expect(killedInWrite).toBeGreaterThanOrEqual(3);
+  }, 300_000);
 });
