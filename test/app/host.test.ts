@@ -133,6 +133,7 @@ describe('the browser-mode host answers bad input with a sentence, not a fault',
     expect(JSON.parse(api.body)).toEqual({ ok: false, error: { kind: 'input', message: 'The name of this request holds a broken % escape.' } });
     expect(calls).toEqual([]);
     const page = await send(host.port, '/app%E0%A4%A.js', { headers: { ...own(), Cookie: cookie } });
+    expect(page.headers['content-type']).toMatch(/^text\/plain/);
     expect(page.status).toBe(400);
     expect(page.body).toBe('This address holds a broken % escape.');
   });
@@ -182,6 +183,13 @@ describe('file and project names holding NUL are refused as bad input', () => {
       expect(reply.error.kind).toBe('input');
       expect(reply.error.message).toMatch(message);
     }
+    const nulInName = await send(realHost.port, '/api/app.info%00', {
+      method: 'POST',
+      headers: { Host: `127.0.0.1:${realHost.port}`, Cookie: realCookie, Origin: realHost.origin, 'Content-Type': 'application/json' },
+      body: '{}',
+    });
+    expect(nulInName.status).toBe(400);
+    expect(JSON.parse(nulInName.body).error.message).toBe('Crystallog has no request called "app.info\\x00".');
     const state = JSON.parse((await call('project.state', {})).body);
     expect(state.result.samples).toEqual([]);
   });
