@@ -1,7 +1,8 @@
 /**
  * Odd library files through the real command: another program's database, an empty file, a truncated
  * one, a newer schema, a read-only one, a write-ahead log of garbage. Each is refused with a sentence
- * naming the file (exit 2) or read as it is, and a refused file keeps every byte.
+ * naming the file (exit 2) or read as it is, by reading commands and by an import alike; a refused
+ * file keeps every byte (compared before and after) and gets no -wal or -shm beside it.
  */
 import Database from 'better-sqlite3';
 import { spawnSync } from 'node:child_process';
