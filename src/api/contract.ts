@@ -9,7 +9,11 @@ import { settingNumber } from '../core/analysis/settings.js';
  * a process boundary) and its result type. The shell, the browser host and the screens all use it.
  */
 
-const name = z.string().trim().min(1, 'a name is needed').max(200);
+/** Control characters (NUL, escape sequences) have no place in a name a chemist types or a file name. */
+const hasNoControls = (text: string): boolean => !/[\u0000-\u001f\u007f-\u009f]/.test(text);
+const name = z.string().trim().min(1, 'a name is needed').max(200).refine(hasNoControls, 'a name cannot hold control characters (such as NUL)');
+/** A file's name as the user's system gave it (only shown and stored, never used as a path). */
+const fileName = z.string().min(1, 'a file name is needed').max(300).refine(hasNoControls, 'a file name cannot hold control characters (such as NUL)');
 const finite = z.number().finite();
 const base64 = z.string().max(90_000_000).regex(/^[A-Za-z0-9+/=\r\n]*$/, 'file bytes must be base64');
 
@@ -73,10 +77,10 @@ export const apiSchemas = {
   'project.demoSample': z.object({ index: z.number().int().min(0).max(100) }).strict(),
   'project.state': z.object({}).strict(),
   'project.settings': z.object({ settings: settingsSchema.partial() }).strict(),
-  'sample.add': z.object({ fileName: z.string().min(1).max(300), bytesBase64: base64, variant: z.string().max(100).optional(), hours: finite.min(0).optional() }).strict(),
+  'sample.add': z.object({ fileName, bytesBase64: base64, variant: z.string().max(100).optional(), hours: finite.min(0).optional() }).strict(),
   'sample.get': z.object({ id: z.number().int().positive() }).strict(),
   'sample.label': z
-    .object({ id: z.number().int().positive(), variant: z.string().max(100).nullable(), hours: finite.min(0).nullable(), name: z.string().trim().max(200).nullable().optional() })
+    .object({ id: z.number().int().positive(), variant: z.string().max(100).nullable(), hours: finite.min(0).nullable(), name: name.nullable().optional() })
     .strict(),
   'sample.remove': z.object({ id: z.number().int().positive() }).strict(),
   'sample.reanalyze': z.object({ id: z.number().int().positive() }).strict(),
@@ -84,7 +88,7 @@ export const apiSchemas = {
   'library.get': z.object({ name, version: z.number().int().positive().optional() }).strict(),
   'library.history': z.object({ name }).strict(),
   'library.save': z.object({ reference: referenceSchema }).strict(),
-  'library.import': z.object({ fileName: z.string().min(1).max(300), text: z.string().max(50_000_000) }).strict(),
+  'library.import': z.object({ fileName, text: z.string().max(50_000_000) }).strict(),
   'library.fromCell': z.object({ name, formula: z.string().max(200), cell: cellSchema, tags: z.array(z.string().max(60)).max(20), source: z.string().min(1).max(2000) }).strict(),
   'library.remove': z.object({ name }).strict(),
   'library.restore': z.object({ name, version: z.number().int().positive() }).strict(),

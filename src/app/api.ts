@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { z } from 'zod';
-import { InputError, isInputError } from '../core/errors.js';
+import { escapeControls, InputError, isInputError } from '../core/errors.js';
 import { NUMBER_SETTINGS } from '../core/analysis/settings.js';
 import { packageRoot } from '../node/library/seed.js';
 import { findChromium } from '../node/browser.js';
@@ -113,7 +113,7 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
     workspace,
     async call(method: string, params: unknown): Promise<ApiReply> {
       if (!Object.prototype.hasOwnProperty.call(apiSchemas, method)) {
-        return { ok: false, error: { kind: 'input', message: `Crystallog has no request called "${String(method).slice(0, 60)}".` } };
+        return { ok: false, error: { kind: 'input', message: `Crystallog has no request called "${escapeControls(String(method).slice(0, 60))}".` } };
       }
       const key = method as ApiMethod;
       const parsed = (apiSchemas[key] as z.ZodType).safeParse(params ?? {});

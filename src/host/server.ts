@@ -1,8 +1,8 @@
 import { CONTENT_SECURITY_POLICY } from '../api/csp.js';
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import { randomBytes, timingSafeEqual } from 'node:crypto';
-import { readFile } from 'node:fs/promises';
-import { extname, join, normalize, sep } from 'node:path';
+import { readFile, realpath } from 'node:fs/promises';
+import { extname, join, sep } from 'node:path';
 import type { AddressInfo } from 'node:net';
 import type { ApiDispatcher } from '../api/reply.js';
 
@@ -72,7 +72,8 @@ export async function startHost(options: HostOptions): Promise<RunningHost> {
     if (origin !== undefined && !allowedHosts.some((h) => origin === `http://${h}`)) {
       return send(res, 403, 'text/plain; charset=utf-8', 'Requests from other web sites are refused.');
     }
-    const url = new URL(req.url ?? '/', `http://127.0.0.1:${port}`);
+    const url = parseRequestUrl(req.url, port);
+    if (!url) return send(res, 400, 'text/plain; charset=utf-8', 'The address of this request cannot be read.');
     const given = url.searchParams.get('token');
     if (given !== null) {
       if (!sameSecret(given, token)) return send(res, 403, 'text/plain; charset=utf-8', 'This launch link is not valid; start Crystallog again to get a new one.');
@@ -100,26 +101,34 @@ export async function startHost(options: HostOptions): Promise<RunningHost> {
     if (req.headers.origin === undefined) {
       return send(res, 403, 'text/plain; charset=utf-8', 'API calls must come from the Crystallog page itself.');
     }
+    const methodName = decodePath(method);
+    if (methodName === null) {
+      return sendJson(res, 400, { ok: false, error: { kind: 'input', message: 'The name of this request holds a broken % escape.' } });
+    }
+    const body = await readBody(req, maxBody);
+    if (body === null) {
+      // The whole body was read (and dropped), so the client, done sending, reads this answer; the
+      // connection is then closed rather than kept for another request.
+      const message = `The request is larger than ${Math.round(maxBody / 1048576)} MB; send fewer files at once.`;
+      return sendJson(res, 413, { ok: false, error: { kind: 'input', message } }, { Connection: 'close' });
+    }
     let params: unknown;
     try {
-      const body = await readBody(req, maxBody);
       params = body.length === 0 ? {} : JSON.parse(body);
-    } catch (err) {
-      const message = err instanceof BodyTooLarge ? err.message : 'The request body is not valid JSON.';
-      return sendJson(res, 400, { ok: false, error: { kind: 'input', message } });
+    } catch {
+      return sendJson(res, 400, { ok: false, error: { kind: 'input', message: 'The request body is not valid JSON.' } });
     }
-    const reply = await options.api.call(decodeURIComponent(method), params);
+    const reply = await options.api.call(methodName, params);
     const status = reply.ok ? 200 : reply.error.kind === 'input' ? 400 : 500;
     return sendJson(res, status, reply);
   }
 
   async function serveStatic(res: ServerResponse, pathname: string): Promise<void> {
-    const relative = pathname === '/' ? 'index.html' : decodeURIComponent(pathname).replace(/^\/+/, '');
-    const root = normalize(options.staticDir + sep);
-    const file = normalize(join(root, relative));
-    if (!file.startsWith(root) || relative.includes('\0')) return send(res, 404, 'text/plain; charset=utf-8', 'Not found.');
-    const type = CONTENT_TYPES[extname(file)];
-    if (!type) return send(res, 404, 'text/plain; charset=utf-8', 'Not found.');
+    const decoded = pathname === '/' ? '/index.html' : decodePath(pathname);
+    if (decoded === null) return send(res, 400, 'text/plain; charset=utf-8', 'This address holds a broken % escape.');
+    const file = await staticFile(options.staticDir, decoded);
+    const type = file === null ? undefined : CONTENT_TYPES[extname(file)];
+    if (file === null || !type) return send(res, 404, 'text/plain; charset=utf-8', 'Not found.');
     try {
       const body = await readFile(file);
       res.writeHead(200, { ...SECURITY_HEADERS, 'Content-Type': type, 'Content-Length': body.length });
@@ -163,24 +172,58 @@ function readCookie(header: string | undefined, name: string): string | undefine
   return undefined;
 }
 
-class BodyTooLarge extends Error {}
-
-function readBody(req: IncomingMessage, maxBytes: number): Promise<string> {
+/**
+ * The body as text, or null when it is larger than maxBytes: then the rest is still read and dropped,
+ * so the answer saying so reaches a client that is still sending (closing the socket while data is
+ * unread would reset the connection and lose the answer). Node's own requestTimeout bounds how long
+ * a client may keep sending.
+ */
+function readBody(req: IncomingMessage, maxBytes: number): Promise<string | null> {
   return new Promise((resolve, reject) => {
     const chunks: Buffer[] = [];
     let size = 0;
     req.on('data', (chunk: Buffer) => {
       size += chunk.length;
-      if (size > maxBytes) {
-        reject(new BodyTooLarge(`The request is larger than ${Math.round(maxBytes / 1048576)} MB; send fewer files at once.`));
-        req.destroy();
-        return;
-      }
-      chunks.push(chunk);
+      if (size > maxBytes) chunks.length = 0;
+      else chunks.push(chunk);
     });
-    req.on('end', () => resolve(Buffer.concat(chunks).toString('utf8')));
+    req.on('end', () => resolve(size > maxBytes ? null : Buffer.concat(chunks).toString('utf8')));
     req.on('error', reject);
   });
+}
+
+/** A path with its % escapes decoded; null for a broken escape (bad input, not a fault). */
+function decodePath(path: string): string | null {
+  try {
+    return decodeURIComponent(path);
+  } catch {
+    return null;
+  }
+}
+
+function parseRequestUrl(raw: string | undefined, port: number): URL | null {
+  try {
+    return new URL(raw ?? '/', `http://127.0.0.1:${port}`);
+  } catch {
+    return null;
+  }
+}
+
+/**
+ * The file a page address names inside the screens' folder, or null when it would lie outside it:
+ * ".." steps (plain or %-encoded), encoded slashes, NUL, and links pointing out of the folder all end here.
+ */
+async function staticFile(staticDir: string, decodedPath: string): Promise<string | null> {
+  if (decodedPath.includes('\0') || decodedPath.includes('\\')) return null;
+  const segments = decodedPath.split('/').filter((part) => part !== '' && part !== '.');
+  if (segments.length === 0 || segments.includes('..')) return null;
+  try {
+    const root = await realpath(staticDir);
+    const file = await realpath(join(root, ...segments));
+    return file.startsWith(root + sep) ? file : null;
+  } catch {
+    return null;
+  }
 }
 
 function send(res: ServerResponse, status: number, type: string, body: string): void {
@@ -188,8 +231,8 @@ function send(res: ServerResponse, status: number, type: string, body: string): 
   res.end(body);
 }
 
-function sendJson(res: ServerResponse, status: number, value: unknown): void {
+function sendJson(res: ServerResponse, status: number, value: unknown, extraHeaders: Record<string, string> = {}): void {
   const body = JSON.stringify(value);
-  res.writeHead(status, { ...SECURITY_HEADERS, 'Content-Type': 'application/json; charset=utf-8', 'Content-Length': Buffer.byteLength(body) });
+  res.writeHead(status, { ...SECURITY_HEADERS, ...extraHeaders, 'Content-Type': 'application/json; charset=utf-8', 'Content-Length': Buffer.byteLength(body) });
   res.end(body);
 }

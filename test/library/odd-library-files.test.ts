@@ -1,7 +1,8 @@
 /**
  * Odd library files through the real command: another program's database, an empty file, a truncated
  * one, a newer schema, a read-only one, a write-ahead log of garbage. Each is refused with a sentence
- * naming the file (exit 2) or read as it is, and a refused file keeps every byte.
+ * naming the file (exit 2) or read as it is, by reading commands and by an import alike; a refused
+ * file keeps every byte (compared before and after) and gets no -wal or -shm beside it.
  */
 import Database from 'better-sqlite3';
 import { spawnSync } from 'node:child_process';
@@ -29,6 +30,13 @@ function onFile(path: string, ...args: string[]) {
   return { run, changed: !before.equals(readFileSync(path)) };
 }
 
+/** A reference file to import: writing commands meet the odd file too. */
+function referenceFile(): string {
+  const file = join(dir, 'one-reference.json');
+  writeFileSync(file, JSON.stringify({ name: 'test line', formula: 'X', source: 'test', lines: [{ d: 3.1, intensity: 100 }] }));
+  return file;
+}
+
 beforeAll(() => {
   const library = ReferenceLibrary.open(good);
   library.importReferences([
@@ -49,9 +57,7 @@ describe('library files that are not what they seem', () => {
     const db = new Database(foreign);
     db.exec('CREATE TABLE invoices (id INTEGER PRIMARY KEY, total REAL); INSERT INTO invoices VALUES (1, 9.5)');
     db.close();
-    const referenceFile = join(dir, 'one-reference.json');
-    writeFileSync(referenceFile, JSON.stringify({ name: 'test line', formula: 'X', source: 'test', lines: [{ d: 3.1, intensity: 100 }] }));
-    for (const args of [['match', pattern, '--library', foreign], ['library', 'import', referenceFile, '--library', foreign]]) {
+    for (const args of [['match', pattern, '--library', foreign], ['library', 'import', referenceFile(), '--library', foreign]]) {
       const { run, changed } = onFile(foreign, ...args);
       expect(run.status, run.stderr).toBe(2);
       expect(run.stderr).toMatch(/foreign\.sqlite.*not a Crystallog reference-library file/);
@@ -75,11 +81,16 @@ describe('library files that are not what they seem', () => {
     const truncated = join(dir, 'truncated.sqlite');
     copyFileSync(good, truncated);
     truncateSync(truncated, 1000);
-    const { run, changed } = onFile(truncated, 'match', pattern, '--library', truncated);
-    expect(run.status).toBe(2);
-    expect(run.stderr).toMatch(/truncated\.sqlite/);
-    expect(run.stderr).not.toMatch(/internal fault/);
-    expect(changed).toBe(false);
+    for (const args of [['match', pattern, '--library', truncated], ['library', 'import', referenceFile(), '--library', truncated]]) {
+      const { run, changed } = onFile(truncated, ...args);
+      expect(run.status, args[0]).toBe(2);
+      expect(run.stderr).toMatch(/truncated\.sqlite/);
+      expect(run.stderr).not.toMatch(/internal fault/);
+      expect(changed).toBe(false);
+    }
+    // Nor is anything left beside it (SQLite makes an empty -wal and -shm to read a WAL file).
+    expect(existsSync(`${truncated}-wal`)).toBe(false);
+    expect(existsSync(`${truncated}-shm`)).toBe(false);
   });
 
   it('refuses a library of a newer schema and leaves it as it is', () => {
@@ -88,10 +99,14 @@ describe('library files that are not what they seem', () => {
     const db = new Database(newer);
     db.pragma('user_version = 99');
     db.close();
-    const { run, changed } = onFile(newer, 'library', 'list', '--library', newer);
-    expect(run.status).toBe(2);
-    expect(run.stderr).toMatch(/newer\.sqlite.*schema version 99, newer than this Crystallog understands/);
-    expect(changed).toBe(false);
+    for (const args of [['library', 'list', '--library', newer], ['library', 'import', referenceFile(), '--library', newer]]) {
+      const { run, changed } = onFile(newer, ...args);
+      expect(run.status, args[1]).toBe(2);
+      expect(run.stderr).toMatch(/newer\.sqlite.*schema version 99, newer than this Crystallog understands/);
+      expect(changed).toBe(false);
+    }
+    expect(existsSync(`${newer}-wal`)).toBe(false);
+    expect(existsSync(`${newer}-shm`)).toBe(false);
   });
 
   it('matches against a read-only library: reading commands never write to it', () => {
@@ -107,14 +122,27 @@ describe('library files that are not what they seem', () => {
     expect(listed.changed).toBe(false);
   });
 
+  // root writes through file modes, so there is no read-only file to meet as root.
+  it.skipIf(process.getuid?.() === 0)('refuses to import into a read-only library with a sentence, leaving it as it is', () => {
+    const readOnly = join(dir, 'read-only-import.sqlite');
+    copyFileSync(good, readOnly);
+    chmodSync(readOnly, 0o444);
+    const { run, changed } = onFile(readOnly, 'library', 'import', referenceFile(), '--library', readOnly);
+    expect(run.status, run.stderr).toBe(2);
+    expect(run.stderr).toMatch(/read-only-import\.sqlite: cannot write to this reference-library file: it or its folder is read-only/);
+    expect(changed).toBe(false);
+  });
+
   it('opens a library with a garbage write-ahead log beside it, checks it and says so', () => {
     const crashed = join(dir, 'crashed.sqlite');
     copyFileSync(good, crashed);
-    writeFileSync(`${crashed}-wal`, Buffer.alloc(4096, 0x5a));
+    const garbage = Buffer.alloc(4096, 0x5a);
+    writeFileSync(`${crashed}-wal`, garbage);
     const { run, changed } = onFile(crashed, 'match', pattern, '--library', crashed, '--json');
     expect(run.status, run.stderr).toBe(0);
     expect(run.stderr).toMatch(/crashed\.sqlite: a write-ahead log was left beside it .* checked and is whole/);
     expect(JSON.parse(run.stdout).phases[0].name).toBe('silicon');
     expect(changed).toBe(false);
+    expect(readFileSync(`${crashed}-wal`).equals(garbage)).toBe(true); // the log is not rewritten by a reader either
   });
 });

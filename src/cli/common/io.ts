@@ -12,13 +12,27 @@ export type LibraryUse = 'read' | 'write' | 'create';
  */
 export function withLibrary<T>(path: string, work: (library: ReferenceLibrary) => T, use: LibraryUse = 'read'): T {
   if (use !== 'create' && !existsSync(path)) throw new InputError(`library file ${path} does not exist; create it with: crystallog library import FILE --library ${path}`);
-  const library = ReferenceLibrary.open(path, { readOnly: use === 'read' });
+  const busyTimeoutMs = lockWaitFromEnvironment();
+  const library = ReferenceLibrary.open(path, {
+    readOnly: use === 'read',
+    ...(busyTimeoutMs !== undefined ? { busyTimeoutMs } : {}),
+    onLockWait: (message) => process.stderr.write(`crystallog: ${message}\n`),
+  });
   printWarnings(library.openNotes);
   try {
     return work(library);
   } finally {
     library.close();
   }
+}
+
+/** CRYSTALLOG_LOCK_WAIT_MS: how long a write waits for another writer's lock (default 10 s). */
+function lockWaitFromEnvironment(): number | undefined {
+  const text = process.env.CRYSTALLOG_LOCK_WAIT_MS;
+  if (text === undefined || text.trim() === '') return undefined;
+  const ms = Number(text);
+  if (!Number.isInteger(ms) || ms < 0) throw new InputError(`CRYSTALLOG_LOCK_WAIT_MS=${text}: give the wait for a locked library in whole milliseconds (10000 is 10 s)`);
+  return ms;
 }
 
 /** Every current reference of the library; an empty library is the user's mistake for commands that match. */

@@ -1,5 +1,5 @@
 import Database from 'better-sqlite3';
-import { existsSync, statSync } from 'node:fs';
+import { existsSync, rmSync, statSync } from 'node:fs';
 import { InputError } from '../../core/errors.js';
 
 export type Db = Database.Database;
@@ -74,6 +74,33 @@ function openReadOnly(path: string, options: OpenDatabaseOptions): Db {
  * (when a write-ahead log was left beside it by an unclean shutdown) still whole?
  */
 function inspectExisting(path: string, options: OpenDatabaseOptions, found: OpenNotes): void {
+  const logsBefore = { wal: existsSync(`${path}-wal`), shm: existsSync(`${path}-shm`) };
+  try {
+    inspectReadOnly(path, options, found);
+  } catch (err) {
+    removeNewEmptyLogs(path, logsBefore);
+    throw err;
+  }
+}
+
+/**
+ * Reading a file whose header says WAL makes SQLite create an empty -wal and -shm beside it. For a
+ * refused file no Crystallog will use them: they go again, so a refused file is left exactly as it
+ * was found. Only files this open made, and only an empty log (none there before means no other
+ * connection had the file open).
+ */
+function removeNewEmptyLogs(path: string, before: { wal: boolean; shm: boolean }): void {
+  const wal = `${path}-wal`;
+  try {
+    if (before.wal || (existsSync(wal) && statSync(wal).size > 0)) return;
+    rmSync(wal, { force: true });
+    if (!before.shm) rmSync(`${path}-shm`, { force: true });
+  } catch {
+    // Left as they are: empty logs beside a refused file do no harm.
+  }
+}
+
+function inspectReadOnly(path: string, options: OpenDatabaseOptions, found: OpenNotes): void {
   const db = openReadOnly(path, options);
   try {
     checkKindAndVersion(db, path, options);

@@ -4,7 +4,8 @@ import { formatReferenceJson, toFileEntry } from '../../core/library/json-format
 import { packLines, unpackLines, unpackValues, type PackedLines } from './packing.js';
 import type { Reference, ReferenceLine, StoredReference } from '../../core/model/reference.js';
 import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from './schema.js';
-import { openDatabase, readMeta, schemaVersion, writeMeta, type Db } from './sqlite.js';
+import { DEFAULT_BUSY_TIMEOUT_MS, openDatabase, readMeta, schemaVersion, writeMeta, type Db } from './sqlite.js';
+import { describeHolder, forgetHolder, recordHolder } from './write-lock.js';
 import { createHash } from 'node:crypto';
 import { canonicalContent, checkReferences } from '../../core/library/validate.js';
 
@@ -48,7 +49,12 @@ export interface OpenLibraryOptions {
   busyTimeoutMs?: number;
   /** Open for reading only (matching, listing, exporting): the file is never written. */
   readOnly?: boolean;
+  /** Told once when a write has to wait for another process's write lock (the CLI prints it on stderr). */
+  onLockWait?: (message: string) => void;
 }
+
+/** A write that has waited this long for the lock says so (a short wait for another save is not worth a word). */
+const LOCK_NOTICE_AFTER_MS = 1000;
 
 /** A version row in raw (array) form, in the order of VERSION_COLUMNS: faster to read in bulk than objects. */
 type VersionRow = [
@@ -91,18 +97,21 @@ export class ReferenceLibrary {
   private constructor(
     private readonly db: Db,
     readonly path: string,
+    private readonly lockWaitMs: number,
+    private readonly onLockWait: ((message: string) => void) | undefined,
   ) {
     this.statements = prepareStatements(db);
   }
 
   static open(path: string, options: OpenLibraryOptions = {}): ReferenceLibrary {
     const found = { notes: [] as string[] };
-    const db = openDatabase(path, { kind: LIBRARY_KIND, migrations: LIBRARY_MIGRATIONS, ...options }, found);
+    const { onLockWait, ...databaseOptions } = options;
+    const db = openDatabase(path, { kind: LIBRARY_KIND, migrations: LIBRARY_MIGRATIONS, ...databaseOptions }, found);
     if (options.readOnly && schemaVersion(db) === 0) {
       db.close();
       throw new InputError('this library file holds no references yet; add some with: crystallog library import FILE --library ' + path, { file: path });
     }
-    const library = new ReferenceLibrary(db, path);
+    const library = new ReferenceLibrary(db, path, options.busyTimeoutMs ?? DEFAULT_BUSY_TIMEOUT_MS, onLockWait);
     library.openNotes = found.notes;
     return library;
   }
@@ -273,9 +282,54 @@ export class ReferenceLibrary {
     if (this.db.open) this.db.close();
   }
 
+  /**
+   * One write transaction: the write lock taken first (waiting for another writer up to the busy
+   * timeout, saying so after a second), this process noted as the holder while it runs.
+   */
   private write<T>(work: () => T): T {
     this.writes++;
-    return this.db.transaction(work).immediate();
+    if (this.db.inTransaction) return this.db.transaction(work)(); // nested: a savepoint in the open transaction
+    this.takeWriteLock();
+    const noted = this.path !== ':memory:';
+    if (noted) recordHolder(this.path);
+    try {
+      const result = this.db.transaction(work)();
+      if (noted) forgetHolder(this.path); // before COMMIT releases the lock: never the next writer's note
+      this.db.exec('COMMIT');
+      return result;
+    } catch (err) {
+      if (noted) forgetHolder(this.path);
+      if (this.db.inTransaction) this.db.exec('ROLLBACK');
+      throw err;
+    }
+  }
+
+  /** BEGIN IMMEDIATE, waiting for another writer up to lockWaitMs; then the user's to resolve (exit 2). */
+  private takeWriteLock(): void {
+    const quiet = Math.min(this.lockWaitMs, LOCK_NOTICE_AFTER_MS);
+    try {
+      if (this.tryBegin(quiet)) return;
+      this.onLockWait?.(`${this.path}: ${describeHolder(this.path)} is writing to this library; waiting up to ${seconds(this.lockWaitMs)} for it to finish`);
+      if (this.lockWaitMs > quiet && this.tryBegin(this.lockWaitMs - quiet)) return;
+    } finally {
+      this.db.pragma(`busy_timeout = ${this.lockWaitMs}`);
+    }
+    throw new InputError(
+      `the library is still locked after waiting ${seconds(this.lockWaitMs)}: ${describeHolder(this.path)} is writing to it; nothing was changed, try again when it has finished (CRYSTALLOG_LOCK_WAIT_MS sets how long to wait)`,
+      { file: this.path },
+    );
+  }
+
+  /** true when the write lock was taken within waitMs; false when another connection kept it. */
+  private tryBegin(waitMs: number): boolean {
+    this.db.pragma(`busy_timeout = ${Math.max(0, Math.round(waitMs))}`);
+    try {
+      this.db.exec('BEGIN IMMEDIATE');
+      return true;
+    } catch (err) {
+      if (String((err as { code?: unknown }).code).startsWith('SQLITE_BUSY')) return false;
+      throw err;
+    }
   }
 
   /** Add one checked reference as a new version when its content differs from the current one. */
@@ -367,6 +421,10 @@ function prepareStatements(db: Db) {
     clearTags: db.prepare(`DELETE FROM reference_tag WHERE entry_id = ?`),
     insertTag: db.prepare(`INSERT OR IGNORE INTO reference_tag (entry_id, tag) VALUES (?, ?)`),
   };
+}
+
+function seconds(ms: number): string {
+  return `${Number((ms / 1000).toFixed(1))} s`;
 }
 
 function detailsOf(ref: Reference): VersionDetails {
