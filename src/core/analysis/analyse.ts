@@ -157,6 +157,7 @@ export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisCont
     toleranceDeg: settings.toleranceDeg,
     otherLines,
     patternIsInstrumentStandard: context.instrument !== null && context.instrument.standard.sha256 === pattern.source.sha256,
+    phaseIsTarget: sizeReference !== null && sizeReference.name.toLowerCase() === targetName,
   });
   if (!sizeReference) warnings.push('no phase was found present: sizes come from every fitted peak');
   warnings.push(...size.warnings);

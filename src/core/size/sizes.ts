@@ -40,6 +40,8 @@ export interface SizeOptions {
   instrument?: InstrumentProfile | null;
   /** The pattern is the one the instrument profile was fitted to (its widths are the profile). */
   patternIsInstrumentStandard?: boolean;
+  /** The phase sized is the user's target (a line-profile standard then gets a size like any phase). */
+  phaseIsTarget?: boolean;
   /** Scherrer K as a number or preset name (default 0.9). */
   k?: number | string;
   breadth?: BreadthKind;
@@ -283,7 +285,9 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
   const sizes = work.map((w) => w.size);
   let scherrer = scherrerSummary(work, instrument !== null);
   const isStandard = options.phase !== null && options.phase !== undefined && isStandardReference({ name: options.phase.name, formula: '', tags: [...(options.phase.tags ?? [])], source: '', lines: [] });
-  if (isStandard && (!instrument || options.patternIsInstrumentStandard)) {
+  // A standard the user named as the target is sized as asked (silicon powder made on purpose, say),
+  // except on the very pattern the instrument profile came from.
+  if (isStandard && (options.patternIsInstrumentStandard || (!instrument && !options.phaseIsTarget))) {
     // A line-profile standard's peaks are the instrument's own breadth: no crystallite size is given for it.
     scherrer = {
       sizeNm: null,
