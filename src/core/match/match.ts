@@ -36,6 +36,7 @@ import {
 import { countClear, firstLineTwoTheta, lowAngleOpenPeaks, linesOnPeaks, groupIntensities, exclusiveAreaShares, unexplainedPeaks } from './peak-accounting.js';
 import { cellReport, describePhase, lookAlikeReason, patternReasons, sampleShift } from './reasons.js';
 import { round } from './format.js';
+import { BOUNDED_ABSENCE_TAGS, detectionLimitWeightPercent, medianBreadthCos } from './detection-limit.js';
 
 const DEFAULT_TOLERANCE_DEG = 0.1;
 
@@ -264,7 +265,14 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   if (targetIndex >= 0 && !promising.some(([r]) => r === targetIndex) && !accepted.some((a) => a.ref === targetIndex)) promising.push([targetIndex, firstEvaluation.get(targetIndex)!]);
   const others = promising.map(([r]) => ({ ref: r, evaluation: evaluatePhase(linesOf(r), table, finalShift, claims) }));
   others.sort((a, b) => b.evaluation.score - a.evaluation.score);
-  const listed = others.filter((o, i) => i < listAbsent || o.ref === targetIndex || setAside.has(o.ref));
+  // References whose absence the chemist wants bounded (decomposition products, impurities) are always listed.
+  const bounded = (r: number): boolean => refs[r].tags.some((t) => BOUNDED_ABSENCE_TAGS.includes(t));
+  for (let r = 0; r < refs.length; r++) {
+    if (!bounded(r) || accepted.some((a) => a.ref === r) || others.some((o) => o.ref === r) || linesOf(r).count === 0) continue;
+    others.push({ ref: r, evaluation: evaluatePhase(linesOf(r), table, finalShift, claims) });
+  }
+  others.sort((a, b) => b.evaluation.score - a.evaluation.score);
+  const listed = others.filter((o, i) => i < listAbsent || o.ref === targetIndex || setAside.has(o.ref) || bounded(o.ref));
 
   // Scales fitted jointly to the peak areas (shared peaks split between the phases); a phase the fit gives nothing keeps its own peaks' scale.
   const gi = groupIntensities(accepted.map((a) => a.evaluation), table);
@@ -313,6 +321,21 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
     const described = describePhase(o.evaluation, lookAlikeVerdict?.verdict ?? verdict, claims, accepted, table, null, unquantified, rival, 0);
     if (lookAlikeVerdict) described.reasons[described.reasons.length - 1] = `${lookAlikeReason(lookAlikeVerdict)} (absence holds only above the detection limit)`;
     phases.push(described);
+  }
+  // How much of each bounded phase could hide below the detection level of this pattern.
+  const breadthCos = medianBreadthCos(table);
+  const presentForLimits = accepted.map((a, i) => ({ scale: scales[i], rir: refs[a.ref].rir }));
+  for (const o of listed) {
+    if (!bounded(o.ref)) continue;
+    const phase = phases.find((p) => p.name === refs[o.ref].name);
+    if (!phase || phase.verdict !== 'not-seen') continue;
+    const limit = detectionLimitWeightPercent(linesOf(o.ref), refs[o.ref].rir, presentForLimits, table, finalShift, breadthCos);
+    phase.detectionLimitWeightPercent = limit === null ? null : round(limit, 2);
+    phase.reasons.push(
+      limit === null
+        ? 'no detection limit can be given (no RIR for it or for a phase present, or none of its lines lies clear of the measured peaks)'
+        : `it would be seen above about ${limit < 0.1 ? limit.toPrecision(1) : limit.toPrecision(2)} wt % in this pattern (its most visible line reaching 3σ of the local noise; Chung's flushing with the RIRs)`,
+    );
   }
   phases.sort((a, b) => b.score - a.score);
 

@@ -112,6 +112,8 @@ export interface PhaseMatch {
   /** Chung's matrix-flushing weight fraction, or null where the phase is not quantified. */
   weightFraction: number | null;
   /** σ of the weight fraction from the scales' σ (the scatter of the phases' areas about the joint fit); null where it cannot be measured. */
+  /** For a reference tagged as a decomposition product or impurity and not seen: the weight % above which it would be seen here. */
+  detectionLimitWeightPercent?: number | null;
   weightFractionSigma?: number | null;
   /** "quantified" or "not quantified" (no reference intensity ratio, or phase not present). */
   quantification: 'quantified' | 'not quantified';
