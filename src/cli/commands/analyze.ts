@@ -50,6 +50,7 @@ export function registerAnalyze(program: Command): void {
     .option('--instrument <profile>', 'instrument profile JSON from "crystallog instrument" (corrects the peak breadths)')
     .option('--wavelength <w>', 'Cu, Co, Fe, Cr, Mo, Ag or a number in Å (default: from each file, else Cu)')
     .option('--tolerance <deg>', 'matching tolerance, degrees 2θ (default 0.1)')
+    .option('--source <kind>', 'the beam: ni-filter (default), no-filter, monochromator or synchrotron (which Kβ and W Lα satellites to expect)')
     .option('--k <k>', 'Scherrer K, a number or preset (default 0.9)')
     .option('--breadth <kind>', 'fwhm or integral (default fwhm)')
     .option('--correction <kind>', 'voigt, lorentzian or gaussian (default voigt)')

@@ -8,6 +8,7 @@ import { settingsFromFlags } from '../common/settings-flags.js';
 
 interface MatchCommandOptions {
   library: string;
+  source?: string;
   target?: string;
   tolerance?: string;
   wavelength?: string;
@@ -30,6 +31,7 @@ export function registerMatch(program: Command): void {
     .requiredOption('--library <db>', 'reference library file')
     .option('--target <name>', 'the phase you expect (explains the pattern first)')
     .option('--tolerance <deg>', 'matching tolerance, degrees 2θ (default 0.1)')
+    .option('--source <kind>', 'the beam: ni-filter (default), no-filter, monochromator or synchrotron (which Kβ and W Lα satellites to expect)')
     .option('--wavelength <w>', 'Cu, Co, Fe, Cr, Mo, Ag or a number in Å (default: from the file, else Cu)')
     .option('--json', 'print the result as JSON')
     .action((file: string, o: MatchCommandOptions) => runCommand(Boolean(o.json), () => matchCommand(file, o), matchText));

@@ -11,6 +11,7 @@ export interface AnalysisFlags {
   background?: string;
   threshold?: string;
   phase?: string;
+  source?: string;
 }
 
 /** Which flag sets which setting, so that a message names the flag the user typed. */
@@ -24,6 +25,7 @@ const FLAG_OF: Partial<Record<keyof AnalysisSettings, string>> = {
   backgroundHalfWidthDeg: '--background',
   thresholdSigma: '--threshold',
   sizePhase: '--phase',
+  source: '--source',
 };
 
 /** A number as typed (decimal comma allowed); text that is no number stays NaN and fails the range check. */
@@ -50,6 +52,7 @@ export function settingsFromFlags(flags: AnalysisFlags): AnalysisSettings {
     backgroundHalfWidthDeg: flags.background,
     thresholdSigma: flags.threshold,
     sizePhase: flags.phase,
+    source: flags.source,
   };
   const names = Object.fromEntries(
     Object.entries(FLAG_OF).map(([setting, flag]) => [setting, `option ${flag} ${given[setting as keyof AnalysisSettings] ?? ''}`.trimEnd()]),
@@ -65,6 +68,7 @@ export function settingsFromFlags(flags: AnalysisFlags): AnalysisSettings {
       backgroundHalfWidthDeg: numberText(flags.background),
       thresholdSigma: numberText(flags.threshold),
       sizePhase: flags.phase,
+      source: flags.source?.toLowerCase(),
     },
     names,
   );

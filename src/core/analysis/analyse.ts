@@ -136,6 +136,7 @@ export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisCont
     background: { x: pattern.x, y: search.background, sigma: search.noiseSigma },
     twoThetaRangeDeg: { min: pattern.x[0], max: pattern.x[pattern.x.length - 1] },
     index: context.index,
+    source: settings.source,
   });
 
   const present = match.phases.filter((p) => p.verdict !== 'not-seen');

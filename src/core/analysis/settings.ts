@@ -10,6 +10,7 @@ import { InputError } from '../errors.js';
 import { NUMBER_SETTINGS, rangeMessage, type NumberSettingName } from '../model/setting-ranges.js';
 import { anodeWavelength, parseWavelength, type Wavelength } from '../model/wavelengths.js';
 import { SCHERRER_K_PRESETS } from '../size/scherrer.js';
+import { RADIATION_SOURCES, type RadiationSource } from '../match/satellites.js';
 import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../size/voigt.js';
 
 /** A zod number within the table's range, with the table's sentence as its error. */
@@ -36,6 +37,8 @@ export interface AnalysisSettings {
   thresholdSigma: number;
   /** Size only from the lines of this phase (by library name), whatever the match finds; null: the target or best phase present. */
   sizePhase: string | null;
+  /** The beam: which satellite lines (Kβ, W Lα) to expect. */
+  source: RadiationSource;
 }
 
 export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
@@ -48,6 +51,7 @@ export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
   backgroundHalfWidthDeg: null,
   thresholdSigma: 3,
   sizePhase: null,
+  source: 'ni-filter',
 };
 
 const presetIds = SCHERRER_K_PRESETS.map((p) => p.id);
@@ -65,6 +69,7 @@ const analysisSettingsInput = z
     backgroundHalfWidthDeg: settingNumber('backgroundHalfWidthDeg').nullable(),
     thresholdSigma: settingNumber('thresholdSigma'),
     sizePhase: z.string().trim().min(1).max(200).nullable(),
+    source: z.enum(RADIATION_SOURCES, { error: `the radiation source must be one of ${RADIATION_SOURCES.join(', ')}` }),
   })
   .partial()
   .strict();

@@ -36,6 +36,7 @@ import {
 import { countClear, firstLineTwoTheta, lowAngleOpenPeaks, linesOnPeaks, groupIntensities, exclusiveAreaShares, unexplainedPeaks } from './peak-accounting.js';
 import { cellReport, describePhase, lookAlikeReason, patternReasons, sampleShift } from './reasons.js';
 import { round } from './format.js';
+import { satelliteMarks } from './satellites.js';
 import { BOUNDED_ABSENCE_TAGS, detectionLimitWeightPercent, medianBreadthCos } from './detection-limit.js';
 
 const DEFAULT_TOLERANCE_DEG = 0.1;
@@ -342,8 +343,16 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   const firstLineEvaluation = targetIndex >= 0 ? accepted.find((a) => a.ref === targetIndex)?.evaluation ?? evaluatePhase(linesOf(targetIndex), table, finalShift, claims) : accepted[0]?.evaluation;
   const lowAngleLimit = firstLineTwoTheta(firstLineEvaluation, tol);
   const unexplained = unexplainedPeaks(table, claims, lowAngleLimit, refs, lambda, finalShift, tol);
+  // A weak peak where a strong peak's Kβ or W Lα falls may be a satellite: no low-angle alarm, no unexplained area.
+  const satellites = satelliteMarks(table, options.wavelength, options.source ?? 'ni-filter', tol);
+  const tableIndexOf = new Map<number, number>();
+  for (let k = 0; k < table.count; k++) tableIndexOf.set(table.inputIndex[k], k);
+  for (const u of unexplained) {
+    u.satelliteOf = satellites[tableIndexOf.get(u.peakIndex)!] ?? null;
+    if (u.satelliteOf) u.lowAngle = false;
+  }
   let unexplainedArea = 0;
-  for (let k = 0; k < table.count; k++) if (claims.claimed[k] < 0) unexplainedArea += table.area[k];
+  for (let k = 0; k < table.count; k++) if (claims.claimed[k] < 0 && satellites[k] === null) unexplainedArea += table.area[k];
   const unexplainedAreaShare = table.totalArea > 0 ? unexplainedArea / table.totalArea : 0;
   const shift = sampleShift(fit, accepted.length > 0, radiusMm);
 

@@ -1,3 +1,4 @@
+import type { RadiationSource } from './satellites.js';
 import type { Wavelength } from '../model/wavelengths.js';
 import type { ReferenceIndex } from './reference-index.js';
 
@@ -21,6 +22,8 @@ export interface MatchOptions {
   /** Largest sample-displacement coefficient (Δ2θ = D·cosθ), degrees 2θ (default 0.15). */
   maxDisplacementDeg?: number;
   /** A prebuilt d-sorted index of the references (see buildReferenceIndex); saves rebuilding it per pattern. */
+  /** What the beam is: a filtered or unfiltered tube, a monochromator, a synchrotron (default ni-filter): which satellites to expect. */
+  source?: RadiationSource;
   index?: ReferenceIndex;
   /** How many screened candidates get the full score per round (default 40). */
   candidates?: number;
@@ -153,6 +156,8 @@ export interface UnexplainedPeak {
   lowAngle: boolean;
   /** References tagged as decomposition products with a line within tolerance (not enough to accept them). */
   possibleSources: string[];
+  /** The line whose Kβ or tube-contamination (W Lα) satellite this peak could be ("Cu Kβ of the peak at 28.441°"), or null. */
+  satelliteOf?: string | null;
 }
 
 export interface MatchResult {
