@@ -23,6 +23,7 @@ import { matchPhases } from '../src/core/match/match.js';
 import type { Pattern } from '../src/core/model/pattern.js';
 import { readPatternFile } from '../src/node/files.js';
 import { findPeaks } from '../src/core/process/peaks.js';
+import { fitWork, resetFitWork } from '../src/core/process/fit.js';
 import type { PeakSearchResult } from '../src/core/model/peak.js';
 import { seriesSamplesFromAnalyses } from '../src/core/analysis/series-from-analysis.js';
 import { analyzeSeries } from '../src/core/series/series.js';
@@ -128,10 +129,12 @@ function measureSteps(inputs: BenchInputs, config: BenchConfig): { rows: BenchRo
   rows.push(row('read 10 001-point text pattern (per file)', perFile.read));
 
   const patterns = files.map((f) => readPatternFile(f));
+  resetFitWork();
   const data: StepData[] = patterns.map((pattern) => ({ pattern, search: findPeaks(pattern, { wavelength }) }));
+  const work = `fit work per file: ${(fitWork.evaluations / files.length).toFixed(0)} model + Jacobian evaluations, ${(fitWork.profilePoints / files.length).toFixed(0)} profile points, ${(fitWork.lmSteps / files.length).toFixed(0)} LM steps`;
   const peakCounts = data.map((d) => d.search.peaks.length);
   perFile.peaks = perItemMs(patterns, config.repeats, (p) => findPeaks(p, { wavelength }));
-  rows.push(row('peaks: search + profile fit (per file)', perFile.peaks, { note: `${Math.min(...peakCounts)}–${Math.max(...peakCounts)} peaks per pattern` }));
+  rows.push(row('peaks: search + profile fit (per file)', perFile.peaks, { note: `${Math.min(...peakCounts)}–${Math.max(...peakCounts)} peaks per pattern; ${work}` }));
 
   const matchWith = (index: ReferenceIndex) => (d: StepData) =>
     matchPhases(d.search.peaks, index.references, {

@@ -9,3 +9,11 @@ export function lowerBound(values: ArrayLike<number>, value: number): number {
   }
   return lo;
 }
+
+/** Index of the value nearest to `value` in an increasing, non-empty array (the higher one on a tie). */
+export function nearestIndex(values: ArrayLike<number>, value: number): number {
+  const i = lowerBound(values, value);
+  if (i <= 0) return 0;
+  if (i >= values.length) return values.length - 1;
+  return value - values[i - 1] < values[i] - value ? i - 1 : i;
+}

@@ -1,7 +1,9 @@
 /**
- * Peak profile functions, all normalised to unit area, widths as FWHM in degrees 2θ.
+ * Peak profile functions, widths as FWHM in degrees 2θ: unit-area Gaussian, Lorentzian and pseudo-Voigt
+ * (η·L + (1−η)·G), the Thompson–Cox–Hastings pseudo-Voigt for a Voigt (J. Appl. Cryst. 20, 79 (1987)), and
+ * the unit-height split pseudo-Voigt the profile fit evaluates (its derivatives are written out in group-model.ts).
  */
-const LN2 = Math.LN2;
+export const LN2 = Math.LN2;
 const GAUSS_NORM = 2 * Math.sqrt(LN2 / Math.PI); // height of a unit-area Gaussian times its FWHM
 const LORENTZ_NORM = 2 / Math.PI; // height of a unit-area Lorentzian times its FWHM
 
@@ -68,4 +70,41 @@ export function thompsonCoxHastingsWithDerivatives(gammaG: number, gammaL: numbe
   const dqDg = (-l / (fwhm * fwhm)) * dFdg;
   const dqDl = 1 / fwhm - (l / (fwhm * fwhm)) * dFdl;
   return { fwhm, eta, dFwhmDGaussian: dFdg, dFwhmDLorentzian: dFdl, dEtaDGaussian: dEtaDq * dqDg, dEtaDLorentzian: dEtaDq * dqDl };
+}
+
+/** Lorentzian share of the height of the pseudo-Voigt that mixes unit-area profiles with η. */
+export function lorentzianHeightShare(eta: number): number {
+  return (eta * LORENTZ_NORM) / (eta * LORENTZ_NORM + (1 - eta) * GAUSS_NORM);
+}
+
+/** d(lorentzianHeightShare)/dη. */
+export function lorentzianHeightShareSlope(eta: number): number {
+  const norm = eta * LORENTZ_NORM + (1 - eta) * GAUSS_NORM;
+  return (LORENTZ_NORM * GAUSS_NORM) / (norm * norm);
+}
+
+/** Integral breadth of a unit-height pseudo-Voigt and its derivatives by FWHM and η: [β, ∂β/∂FWHM, ∂β/∂η]. */
+export function pseudoVoigtBreadthWithDerivatives(fwhm: number, eta: number): [number, number, number] {
+  const norm = eta * LORENTZ_NORM + (1 - eta) * GAUSS_NORM;
+  return [fwhm / norm, 1 / norm, (-fwhm * (LORENTZ_NORM - GAUSS_NORM)) / (norm * norm)];
+}
+
+export const FOUR_LN2 = 4 * LN2;
+/** The Gaussian part exp(−4 ln2 u²) is taken as 0 beyond u² = 16 (4 FWHM out, 2⁻⁶⁴ ≈ 5e-20 of the height: below double precision). */
+export const GAUSS_CUT_U2 = 16;
+
+/** exp(−4 ln2 u²), taken as 0 beyond GAUSS_CUT_U2: most points of a fit's window lie there. */
+function gaussianTail(u2: number): number {
+  return u2 > GAUSS_CUT_U2 ? 0 : Math.exp(-FOUR_LN2 * u2);
+}
+
+/**
+ * Unit-height pseudo-Voigt (Lorentzian share `mix` of the height) whose low-angle half has FWHM·(1 + asym)
+ * and high-angle half FWHM·(1 − asym): total FWHM and integral breadth stay those of the symmetric
+ * profile (split-profile asymmetry, Toraya, J. Appl. Cryst. 23, 485 (1990) — from memory).
+ */
+export function splitPseudoVoigt(dx: number, fwhm: number, mix: number, asym: number): number {
+  const u = dx / (fwhm * (1 + (dx < 0 ? asym : -asym)));
+  const u2 = u * u;
+  return mix / (1 + 4 * u2) + (1 - mix) * gaussianTail(u2);
 }
