@@ -316,6 +316,22 @@ function readLoop(tokens: Tokens, at: number, fileName: string, report: Report):
   return { loop, next: i };
 }
 
+/**
+ * The problem of a tolerant reading that touches this loop's data: the loop left incomplete, a
+ * problem inside its lines, or numbers without a tag after it (rows cut off by a stray tag).
+ */
+export function problemInLoop(loop: CifLoop, problems: readonly CifProblem[]): CifProblem | undefined {
+  if (loop.problem) return loop.problem;
+  const last = loop.rows.length > 0 ? loop.rows[loop.rows.length - 1][loop.tags.length - 1].line : loop.line;
+  return problems.find((p) => (p.line >= loop.line && p.line <= last) || p.numbersAfter === loop);
+}
+
+/** Is this value the CIF "unknown" or "not applicable" (written as ?, ., or a quoted or text-field ? / . alone)? */
+export function isUnknownValue(v: CifValue): boolean {
+  const text = v.quoted ? v.text.trim() : v.text;
+  return text === '?' || text === '.' || (v.quoted && text === '');
+}
+
 function shorten(text: string): string {
   return text.length > 40 ? `${text.slice(0, 37)}...` : text;
 }

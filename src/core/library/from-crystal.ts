@@ -1,6 +1,6 @@
 import { baseName } from '../model/file-name.js';
 import type { UnitCell } from '../model/cell.js';
-import { readCifStructure } from '../crystal/structure.js';
+import { readCifStructures, type CrystalStructure, type SkippedCifBlock } from '../crystal/structure.js';
 import { referenceFromCell, referenceFromStructure } from '../crystal/powder.js';
 import { referenceIntensityRatio } from '../crystal/rir.js';
 import { anodeWavelength, type Wavelength } from '../model/wavelengths.js';
@@ -20,9 +20,18 @@ export interface CifImportOptions {
   dMinAngstrom?: number;
 }
 
-/** A reference computed from a structure CIF (positions and intensities). */
+/** The references of a structure CIF (one per block with a cell and atom sites) and the blocks skipped. */
+export function referencesFromCif(text: string, fileName: string, options: CifImportOptions = {}): { references: Reference[]; skipped: SkippedCifBlock[] } {
+  const { structures, skipped } = readCifStructures(text, fileName);
+  return { references: structures.map((s) => referenceFromReadStructure(s, fileName, options)), skipped };
+}
+
+/** A reference computed from a structure CIF (positions and intensities): its first structure. */
 export function referenceFromCif(text: string, fileName: string, options: CifImportOptions = {}): Reference {
-  const structure = readCifStructure(text, fileName);
+  return referencesFromCif(text, fileName, options).references[0];
+}
+
+function referenceFromReadStructure(structure: CrystalStructure, fileName: string, options: CifImportOptions): Reference {
   const wavelength = options.wavelength ?? anodeWavelength('Cu');
   const ref = referenceFromStructure(structure, {
     wavelength,

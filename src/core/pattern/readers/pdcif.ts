@@ -1,5 +1,5 @@
 import { InputError, isInputError } from '../../errors.js';
-import { parseCif, requireCifNumber, cifItem, type CifBlock, type CifLoop, type CifProblem } from '../../cif/syntax.js';
+import { parseCif, requireCifNumber, cifItem, type CifBlock, type CifLoop, type CifProblem, problemInLoop } from '../../cif/syntax.js';
 import { parseWavelength, singleWavelength, DEFAULT_KALPHA2_RATIO, type Wavelength } from '../../model/wavelengths.js';
 import type { RawPattern } from './finish.js';
 import { anodeSymbol } from './metadata.js';
@@ -56,8 +56,7 @@ export function readPowderCif(text: string, fileName: string): RawPattern {
   const found = intensityLoop(block);
   if (!found) throw new Error('unreachable: block without intensity loop');
   const { loop, intensityColumn } = found;
-  const lastLine = loop.rows.length > 0 ? loop.rows[loop.rows.length - 1][loop.tags.length - 1].line : loop.line;
-  const inData = loop.problem ?? problems.find((p) => (p.line >= loop.line && p.line <= lastLine) || p.numbersAfter === loop);
+  const inData = problemInLoop(loop, problems);
   if (inData) throw new InputError(`the intensity loop starting at line ${loop.line} cannot be read: ${inData.message}`, { file: fileName, line: inData.line });
   for (const p of problems) notes.push(`CIF metadata at line ${p.line} could not be read: ${p.message}; ${p.action}`);
   const xColumn = loop.tags.findIndex((t) => TWO_THETA_TAGS.includes(t));
