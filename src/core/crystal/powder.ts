@@ -79,12 +79,15 @@ export function computePowderLines(structure: CrystalStructure, options: PowderO
     limits[2] = Math.max(limits[2], Math.abs(list.l[i]));
   }
   const ctx = structureFactorContext(expandToUnitCell(structure), limits, dispersion.terms);
+  // |F|² taken in order of h and k, so reflections that differ in l alone share their exp(2πi(hx + ky)).
+  const order = Int32Array.from({ length: list.count }, (_, i) => i).sort((i, j) => list.h[i] - list.h[j] || list.k[i] - list.k[j]);
+  const fSquaredOf = new Float64Array(list.count);
+  for (const i of order) fSquaredOf[i] = powderStructureFactorSquared(ctx, list.h[i], list.k[i], list.l[i], 1 / (4 * list.d[i] * list.d[i]));
   const lines: PowderLine[] = [];
   let strongest = 0;
   for (let i = 0; i < list.count; i++) {
     const d = list.d[i];
-    const s2 = 1 / (4 * d * d);
-    const fSquared = powderStructureFactorSquared(ctx, list.h[i], list.k[i], list.l[i], s2);
+    const fSquared = fSquaredOf[i];
     const twoThetaDeg = (2 * Math.asin(lambda / (2 * d))) / DEG;
     const raw = list.multiplicity[i] * fSquared * lorentzPolarization(twoThetaDeg, options.monochromatorTwoThetaDeg);
     if (raw > strongest) strongest = raw;
@@ -124,9 +127,12 @@ function roundTo(value: number, digits: number): number {
   return Math.round(value * f) / f;
 }
 
-/** A reference (relative intensities 0–100) computed from a crystal structure. */
-export function referenceFromStructure(structure: CrystalStructure, options: PowderOptions): Reference {
-  const lines = computePowderLines(structure, options);
+/** A reference (relative intensities 0–100) computed from a crystal structure (from its lines for these options, when already computed). */
+export function referenceFromStructure(
+  structure: CrystalStructure,
+  options: PowderOptions,
+  lines: readonly PowderLine[] = computePowderLines(structure, options),
+): Reference {
   const merged = mergeCoincidentLines(lines.map((l) => ({ d: l.d, intensity: l.relativeIntensity, hkl: l.hkl, multiplicity: l.multiplicity })));
   const strongest = Math.max(...merged.map((l) => l.intensity ?? 0));
   const kept = merged

