@@ -100,14 +100,15 @@ export function computePowderLines(structure: CrystalStructure, options: PowderO
 
 /**
  * Merge lines whose d-spacings coincide (|Δd| ≤ 1e-6·d, e.g. cubic 333 and 511): intensities and
- * multiplicities add, the hkl is that of the stronger (or first) line. Input sorted by decreasing d.
+ * multiplicities add, the hkl is that of the stronger line (the first when they agree to 1e-9). Input sorted by decreasing d.
  */
 export function mergeCoincidentLines(lines: readonly ReferenceLine[]): ReferenceLine[] {
   const merged: ReferenceLine[] = [];
   for (const line of lines) {
     const last = merged[merged.length - 1];
     if (last && Math.abs(last.d - line.d) <= 1e-6 * line.d) {
-      const stronger = (line.intensity ?? 0) > (last.intensity ?? 0);
+      // Stronger by more than rounding: lines equal by symmetry-like coincidence keep the first hkl, whatever the order of summation.
+      const stronger = (line.intensity ?? 0) > (last.intensity ?? 0) * (1 + 1e-9);
       merged[merged.length - 1] = {
         d: last.d,
         intensity: last.intensity === null || line.intensity === null ? null : last.intensity + line.intensity,
