@@ -8,6 +8,7 @@ import { spawnSync } from 'node:child_process';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { readCifStructures } from '../../src/core/crystal/structure.js';
+import { referencesFromCif } from '../../src/core/library/from-crystal.js';
 import { InputError } from '../../src/core/errors.js';
 import { useTempDir } from './helpers.js';
 
@@ -135,5 +136,60 @@ describe('crystallog library import of a CIF written by a refinement program (th
     const again = run('import', cifs[0], '--library', join(dir, 'text.sqlite'));
     expect(again.status, again.stderr).toBe(0);
     expect(again.stdout).toContain('skipped data_global (line 21): no cell and no atom sites');
+  });
+});
+
+describe('blocks with a cell and a reflection list but no atom sites', () => {
+  const reflectionBlock = (columns: string[], rows: string[]): string => `data_refl
+_pd_phase_name 'listed phase'
+_cell_length_a 5.0
+_cell_length_b 6.0
+_cell_length_c 7.0
+_cell_angle_alpha 90
+_cell_angle_beta 90
+_cell_angle_gamma 90
+_symmetry_space_group_name_H-M 'P m m m'
+loop_
+${columns.join('\n')}
+${rows.join('\n')}
+`;
+
+  it('makes a reference from |F|² and multiplicities: m |F|² LP at Cu Kα1, d from the cell', () => {
+    const text = reflectionBlock(['_refln_index_h', '_refln_index_k', '_refln_index_l', '_refln_mult', '_refln_F_squared_calc'], ['1 0 0 2 400.0', '0 1 1 4 100(2)', '0 0 0 1 5', '1 1 1 8 ?']);
+    const { references, skipped } = referencesFromCif(text, 'listed.cif');
+    expect(skipped).toEqual([]);
+    expect(references).toHaveLength(1);
+    const [ref] = references;
+    expect(ref.name).toBe('listed phase');
+    expect(ref.cell?.spaceGroup).toBe('P m m m');
+    expect(ref.lines.map((l) => [l.hkl, l.multiplicity])).toEqual([[[1, 0, 0], 2], [[0, 1, 1], 4]]);
+    expect(ref.lines[0].d).toBeCloseTo(5.0, 12);
+    expect(ref.lines[1].d).toBeCloseTo(1 / Math.hypot(1 / 6, 1 / 7), 12);
+    // Written out: LP = (1 + cos²2θ)/(sin²θ cosθ), 2θ from λ = 1.5405929 Å (Cu Kα1).
+    const lp = (d: number) => {
+      const theta = Math.asin(1.5405929 / (2 * d));
+      return (1 + Math.cos(2 * theta) ** 2) / (Math.sin(theta) ** 2 * Math.cos(theta));
+    };
+    const ratio = (4 * 100 * lp(ref.lines[1].d)) / (2 * 400 * lp(ref.lines[0].d));
+    expect(ref.lines[0].intensity).toBe(100);
+    expect(ref.lines[1].intensity).toBeCloseTo(100 * ratio, 2);
+    expect(ref.intensityBasis).toContain('_refln_f_squared_calc with _refln_mult');
+  });
+
+  it('takes integrated intensities as given when the list has no |F|²', () => {
+    const text = reflectionBlock(['_refln_index_h', '_refln_index_k', '_refln_index_l', '_refln_intensity_meas'], ['1 0 0 50', '0 1 1 200']);
+    const [ref] = referencesFromCif(text, 'listed.cif').references;
+    expect(ref.lines.map((l) => l.intensity)).toEqual([25, 100]);
+    expect(ref.intensityBasis).toContain('as given');
+  });
+
+  it('skips a list of |F|² without multiplicities, and a list beside a structure (the structure gives the lines), saying why', () => {
+    const noMultiplicity = reflectionBlock(['_refln_index_h', '_refln_index_k', '_refln_index_l', '_refln_F_squared_calc'], ['1 0 0 400']);
+    expect(() => readCifStructures(noMultiplicity, 'x.cif')).toThrow(/data_refl: a cell and reflections but neither intensities nor \|F\|² with multiplicities/);
+    const withStructure = phaseBlock('phase', "_pd_phase_name 'lead oxide'") + reflectionBlock(['_refln_index_h', '_refln_index_k', '_refln_index_l', '_refln_intensity_meas'], ['1 0 0 50']);
+    const { structures, reflectionLists, skipped } = readCifStructures(withStructure, 'x.cif');
+    expect(structures.map((s) => s.name)).toEqual(['lead oxide']);
+    expect(reflectionLists).toEqual([]);
+    expect(skipped).toEqual([{ block: 'refl', line: 19, reason: 'a reflection list, not read: the structure in the file gives the lines' }]);
   });
 });

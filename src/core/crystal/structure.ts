@@ -2,7 +2,7 @@ import { InputError } from '../errors.js';
 import { isUnknownValue, parseCif, problemInLoop, requireCifNumber, type CifBlock, type CifLoop, type CifProblem, type CifValue } from '../cif/syntax.js';
 import { baseName } from '../model/file-name.js';
 import type { UnitCell } from '../model/cell.js';
-import { cellMetric, checkCell, equivalentIsotropicU } from './metric.js';
+import { cellMetric, checkCell, dSpacing, equivalentIsotropicU } from './metric.js';
 import { SCATTERING_FACTORS } from './scattering-factors.js';
 import { getSpaceGroup, identifySpaceGroup, type SpaceGroup } from './space-groups.js';
 import { closeGroup, parseXyzOperation, type SymOp } from './symop.js';
@@ -124,8 +124,35 @@ export interface SkippedCifBlock {
   reason: string;
 }
 
+/** One reflection of a block's reflection list: F² (then intensity = m F² LP) or an integrated intensity as given. */
+export interface ListedReflection {
+  hkl: [number, number, number];
+  d: number;
+  multiplicity: number;
+  fSquared: number | null;
+  intensity: number | null;
+}
+
+/** A data block with a cell and a reflection list but no atom sites (the reflections of a refinement). */
+export interface CifReflectionList {
+  name: string;
+  block: string;
+  /** Line of the block's data_ header. */
+  line: number;
+  formula: string | null;
+  cell: UnitCell;
+  reflections: ListedReflection[];
+  /** Which columns gave the intensities, for the reference's intensity basis. */
+  basis: string;
+  source: string;
+  notes: string[];
+  fileName: string;
+}
+
 export interface CifStructures {
   structures: CrystalStructure[];
+  /** Blocks with a cell and reflections but no atom sites. */
+  reflectionLists: CifReflectionList[];
   skipped: SkippedCifBlock[];
 }
 
@@ -143,21 +170,23 @@ export function readCifStructures(text: string, fileName: string): CifStructures
     fail('no data_ block found; a structure CIF starts with data_<name>', fileName);
   }
   const structures: CrystalStructure[] = [];
+  const reflectionLists: CifReflectionList[] = [];
   const skipped: SkippedCifBlock[] = [];
   blocks.forEach((block, index) => {
     const view = new BlockView(block, fileName, problems);
-    const reason = skipReason(view);
-    if (reason) {
-      skipped.push({ block: block.name, line: block.line, reason });
+    const kind = blockKind(view);
+    if (typeof kind !== 'string') {
+      skipped.push({ block: block.name, line: block.line, reason: kind.skip });
       return;
     }
     const end = blocks[index + 1]?.line ?? Number.POSITIVE_INFINITY;
     const notes = problems
       .filter((p) => p.line >= block.line && p.line < end)
       .map((p) => `CIF metadata at line ${p.line} could not be read: ${p.message}; ${p.action}`);
-    structures.push(readBlockStructure(view, notes));
+    if (kind === 'structure') structures.push(readBlockStructure(view, notes));
+    else reflectionLists.push(readBlockReflections(view, notes));
   });
-  if (structures.length === 0) {
+  if (structures.length === 0 && reflectionLists.length === 0) {
     const withSites = blocks.find((b) => new BlockView(b, fileName, problems).has(TAGS.sites));
     // Atom sites without a cell: read the block anyway so the error names what is missing.
     if (withSites) readBlockStructure(new BlockView(withSites, fileName, problems), []);
@@ -167,8 +196,15 @@ export function readCifStructures(text: string, fileName: string): CifStructures
       blocks[0].line,
     );
   }
-  nameUniquely(structures, fileName);
-  return { structures, skipped };
+  if (structures.length > 0 && reflectionLists.length > 0) {
+    // Refinement files repeat the phase's reflections in the pattern block: the structure gives the lines.
+    for (const list of reflectionLists.splice(0)) {
+      skipped.push({ block: list.block, line: list.line, reason: 'a reflection list, not read: the structure in the file gives the lines' });
+    }
+    skipped.sort((x, y) => x.line - y.line);
+  }
+  nameUniquely([...structures, ...reflectionLists], fileName);
+  return { structures, reflectionLists, skipped };
 }
 
 /**
@@ -177,20 +213,79 @@ export function readCifStructures(text: string, fileName: string): CifStructures
  * (or equivalent isotropic) displacement: the first structure of readCifStructures.
  */
 export function readCifStructure(text: string, fileName: string): CrystalStructure {
-  return readCifStructures(text, fileName).structures[0];
+  const { structures, reflectionLists } = readCifStructures(text, fileName);
+  if (structures.length === 0) {
+    fail(`no atom sites: data_${reflectionLists[0].block} gives reflections only, no structure`, fileName);
+  }
+  return structures[0];
 }
 
-/** Why a block is no structure to import, or null when it has a cell and atom sites. */
-function skipReason(view: BlockView): string | null {
+const F_SQUARED = ['_refln_f_squared_calc', '_refln_f_squared_meas'];
+const F = ['_refln_f_calc', '_refln_f_meas'];
+const INTENSITY = ['_refln_intensity_calc', '_refln_intensity_meas', '_pd_refln_intensity_calc', '_pd_refln_intensity_meas'];
+const MULTIPLICITY = ['_refln_mult', '_pd_refln_multiplicity', '_refln_multiplicity'];
+
+/** What a block holds to import: a structure, a reflection list, or nothing (and why). */
+function blockKind(view: BlockView): 'structure' | 'reflections' | { skip: string } {
   const cell = view.item(['_cell_length_a']) !== undefined;
   const sites = view.has(TAGS.sites);
-  if (cell && sites) return null;
-  if (sites) return 'atom sites but no cell (_cell_length_a)';
-  const reflections = TAGS.reflections.some((t) => view.has(t));
-  if (cell && reflections) return 'a cell and reflections but no atom sites: references from a reflection list alone are not read yet';
-  if (TAGS.pattern.some((t) => view.has(t))) return 'a powder pattern, no structure (read it as a pattern instead)';
-  if (cell) return 'a cell but no atom sites';
-  return 'no cell and no atom sites (metadata only)';
+  if (cell && sites) return 'structure';
+  if (sites) return { skip: 'atom sites but no cell (_cell_length_a)' };
+  const reflections = TAGS.reflections.find((t) => view.has(t));
+  if (cell && reflections) {
+    const has = (tags: string[]) => tags.some((t) => view.has(t));
+    if (has(INTENSITY) || ((has(F_SQUARED) || has(F)) && has(MULTIPLICITY))) return 'reflections';
+    return { skip: 'a cell and reflections but neither intensities nor |F|² with multiplicities, and no atom sites' };
+  }
+  if (TAGS.pattern.some((t) => view.has(t))) return { skip: 'a powder pattern, no structure (read it as a pattern instead)' };
+  if (cell) return { skip: 'a cell but no atom sites' };
+  return { skip: 'no cell and no atom sites (metadata only)' };
+}
+
+/**
+ * A block's reflection list: hkl, d (from the cell unless given), multiplicity, and |F|² (calculated
+ * before measured; F² from F) or, failing that, the integrated intensity as the file gives it.
+ */
+function readBlockReflections(view: BlockView, notes: string[]): CifReflectionList {
+  const { block, fileName } = view;
+  const indexTag = TAGS.reflections.find((t) => view.has(t))!;
+  const prefix = indexTag.slice(0, -1);
+  const { loop, column } = view.loop(indexTag)!;
+  const [h, k, l] = ['h', 'k', 'l'].map((axis) => column(prefix + axis));
+  if (k < 0 || l < 0) fail(`the reflection loop has ${indexTag} but not the k and l indices`, fileName, loop.line);
+  const symmetry = TAGS.operations.some((t) => view.loop(t)) || [TAGS.hall, TAGS.hm, TAGS.number].some((tags) => view.item(tags));
+  const group = symmetry ? readSymmetry(view, notes) : null;
+  const cell = { ...readCell(view, group), ...(group?.number ? { spaceGroup: group.symbol } : {}) };
+  const first = (tags: string[]) => tags.map((t) => ({ tag: t, at: column(t) })).find((c) => c.at >= 0);
+  const fSquared = first(F_SQUARED);
+  const amplitude = fSquared ? undefined : first(F);
+  const multiplicity = first(MULTIPLICITY);
+  const intensity = fSquared || amplitude ? undefined : first(INTENSITY);
+  const dColumn = column(`${prefix.replace(/index_$/, '')}d_spacing`);
+  const number = (row: CifValue[], at: number, what: string): number | null => requireCifNumber(row[at], fileName, what)?.value ?? null;
+  const reflections: ListedReflection[] = [];
+  for (const row of loop.rows) {
+    const hkl = [h, k, l].map((c) => number(row, c, 'Miller index'));
+    if (hkl.some((v) => v === null || !Number.isInteger(v))) fail(`reflection indices "${[h, k, l].map((c) => row[c].text).join(' ')}" are not whole numbers`, fileName, row[h].line);
+    const index = hkl as [number, number, number];
+    if (index.every((v) => v === 0)) continue;
+    const given = dColumn >= 0 ? number(row, dColumn, 'd-spacing') : null;
+    const m = multiplicity ? number(row, multiplicity.at, 'multiplicity') : 1;
+    const f = fSquared ? number(row, fSquared.at, '|F|²') : amplitude ? number(row, amplitude.at, '|F|') : null;
+    const value = intensity ? number(row, intensity.at, 'intensity') : null;
+    if (m === null || (f === null && value === null)) continue;
+    reflections.push({
+      hkl: index,
+      d: given ?? dSpacing(cell, index),
+      multiplicity: m,
+      fSquared: f === null ? null : amplitude ? f * f : f,
+      intensity: value,
+    });
+  }
+  if (reflections.length === 0) fail('the reflection list gives no reflection with a known intensity', fileName, loop.line);
+  const formula = view.text(TAGS.formula)?.replace(/\s+/g, '') ?? null;
+  const basis = fSquared ? `${fSquared.tag} with ${multiplicity!.tag}` : amplitude ? `${amplitude.tag} squared with ${multiplicity!.tag}` : `${intensity!.tag} as given`;
+  return { name: view.text(TAGS.name) ?? formula ?? '', block: block.name, line: block.line, formula, cell, reflections, basis, source: citation(view), notes, fileName };
 }
 
 function readBlockStructure(view: BlockView, notes: string[]): CrystalStructure {
@@ -216,7 +311,7 @@ function readBlockStructure(view: BlockView, notes: string[]): CrystalStructure 
 }
 
 /** "data_<name>" of the structure's block, or null for an empty, "?" or "." name. */
-function blockLabel(structure: CrystalStructure): string | null {
+function blockLabel(structure: { block?: string }): string | null {
   const name = (structure.block ?? '').trim();
   return name === '' || name === '?' || name === '.' ? null : `data_${name}`;
 }
@@ -225,7 +320,7 @@ function blockLabel(structure: CrystalStructure): string | null {
  * Unnamed structures take the file name and block name; a name given twice in one file gets its
  * block name added, so every structure of a file has its own name (and none is "?" or ".").
  */
-function nameUniquely(structures: CrystalStructure[], fileName: string): void {
+function nameUniquely(structures: Array<{ name: string; block?: string }>, fileName: string): void {
   const file = baseName(fileName).replace(/\.cif$/i, '');
   for (const s of structures) {
     if (s.name === '') s.name = [file, blockLabel(s)].filter((x) => x !== null).join(' ');
@@ -282,7 +377,7 @@ function readSymmetry(view: BlockView, notes: string[]): SpaceGroup {
   );
 }
 
-function readCell(view: BlockView, group: SpaceGroup): UnitCell {
+function readCell(view: BlockView, group: SpaceGroup | null): UnitCell {
   const { fileName } = view;
   const [a, b, c] = TAGS.length.map((tag) => {
     const v = view.number([tag], tag);
@@ -292,7 +387,7 @@ function readCell(view: BlockView, group: SpaceGroup): UnitCell {
   const [alpha, beta, gamma] = TAGS.angle.map((tag) => {
     const v = view.number([tag], tag);
     if (v) return v;
-    const implied = impliedAngle(group, tag);
+    const implied = group ? impliedAngle(group, tag) : null;
     if (implied === null) fail(`the cell is incomplete: ${tag} is missing and the crystal system does not fix it`, fileName, view.block.line);
     return { value: implied, line: view.block.line };
   });
