@@ -172,11 +172,15 @@ export function readCifStructures(text: string, fileName: string): CifStructures
   const structures: CrystalStructure[] = [];
   const reflectionLists: CifReflectionList[] = [];
   const skipped: SkippedCifBlock[] = [];
+  const kinds = blocks.map((block) => blockKind(new BlockView(block, fileName, problems)));
+  // Refinement files repeat the phase's reflections in the pattern block: the structure gives the lines.
+  const withStructure = kinds.includes('structure');
   blocks.forEach((block, index) => {
     const view = new BlockView(block, fileName, problems);
-    const kind = blockKind(view);
-    if (typeof kind !== 'string') {
-      skipped.push({ block: block.name, line: block.line, reason: kind.skip });
+    const kind = kinds[index];
+    if (typeof kind !== 'string' || (kind === 'reflections' && withStructure)) {
+      const reason = typeof kind === 'string' ? 'a reflection list, not read: the structure in the file gives the lines' : kind.skip;
+      skipped.push({ block: block.name, line: block.line, reason });
       return;
     }
     const end = blocks[index + 1]?.line ?? Number.POSITIVE_INFINITY;
@@ -195,13 +199,6 @@ export function readCifStructures(text: string, fileName: string): CifStructures
       fileName,
       blocks[0].line,
     );
-  }
-  if (structures.length > 0 && reflectionLists.length > 0) {
-    // Refinement files repeat the phase's reflections in the pattern block: the structure gives the lines.
-    for (const list of reflectionLists.splice(0)) {
-      skipped.push({ block: list.block, line: list.line, reason: 'a reflection list, not read: the structure in the file gives the lines' });
-    }
-    skipped.sort((x, y) => x.line - y.line);
   }
   nameUniquely([...structures, ...reflectionLists], fileName);
   return { structures, reflectionLists, skipped };
