@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { parseCif, cifNumber, findLoop, cifItem, requireCifNumber, type CifValue } from '../../src/core/cif/syntax.js';
+import { parseCif, cifNumber, findLoop, cifItem, requireCifNumber, type CifProblem, type CifValue } from '../../src/core/cif/syntax.js';
 import { InputError } from '../../src/core/errors.js';
 
 const value = (text: string, quoted = false): CifValue => ({ text, line: 1, quoted });
@@ -100,6 +100,36 @@ describe('parseCif', () => {
     expect(err.line).toBe(line);
     expect(err.message).toContain('bad.cif');
     expect(err.message).toContain(words);
+  });
+});
+
+describe('parseCif, tolerant reading', () => {
+  it.each([
+    ["data_x\n_a 'open\n_b 2", 2, 'not closed'],
+    ['data_x\n_a\n_b 2', 2, 'no value'],
+    ['data_x\n_a 1\n2\n_b 2', 3, 'no tag'],
+    ['data_x\nloop_\n1 2\n_b 2', 2, 'no tags'],
+    ['_a 1\ndata_x\n_b 2', 1, 'before the first data_'],
+    ['data_x\n_A 1\n_a 2\n_b 2', 3, 'twice'],
+  ])('records %j as a problem at its line and reads the rest', (text, line, words) => {
+    const problems: CifProblem[] = [];
+    const [block] = parseCif(text, 'odd.cif', { problems });
+    expect(problems).toHaveLength(1);
+    expect(problems[0].line).toBe(line);
+    expect(problems[0].message).toContain(words);
+    expect(block.items.get('_b')?.text).toBe('2');
+  });
+
+  it('keeps the whole rows of a loop with a short last row, and marks the loop', () => {
+    const problems: CifProblem[] = [];
+    const [block] = parseCif('data_x\nloop_\n_a\n_b\n1 2\n3', 'odd.cif', { problems });
+    expect(block.loops[0].rows.map((r) => r.map((v) => v.text))).toEqual([['1', '2']]);
+    expect(block.loops[0].problem?.line).toBe(6);
+    expect(problems[0].message).toContain('one value per tag');
+  });
+
+  it('still refuses what has no safe reading: an unclosed text field', () => {
+    expect(() => parseCif('data_x\n_a\n;\nnever closed', 'odd.cif', { problems: [] })).toThrow(/never closed/);
   });
 });
 

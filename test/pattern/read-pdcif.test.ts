@@ -81,4 +81,41 @@ describe('powder CIF', () => {
     expect(err.line).toBe(line);
     expect(err.message).toContain(words);
   });
+
+  describe('tolerant on metadata, strict on data (files written by refinement programs)', () => {
+    /** A header of n-1 metadata lines, then line n as given, then a 2θ/counts loop. */
+    const withLine = (n: number, line: string, rowsText = fivePoints): string => {
+      const head = ['data_refined', ...Array.from({ length: n - 2 }, (_, k) => `_pd_proc_info_item_${k} ?`), line];
+      return head.join('\n') + '\n' + loopOf(['_pd_meas_2theta_scan', '_pd_meas_counts_total'], rowsText);
+    };
+
+    it('reads the pattern when a tag and its "?" run together at line 41, and names the line in a note', () => {
+      const p = readText(withLine(41, '_diffrn_measurement_device_type?'), 'refined.cif');
+      expect(Array.from(p.y)).toEqual([100, 121, 144, 169, 196]);
+      const note = p.readerNotes.find((n) => n.includes('_diffrn_measurement_device_type?'));
+      expect(note).toContain('line 41');
+      expect(note).toContain('has no value');
+    });
+
+    it.each([
+      ['values without a tag', '_diffrn_source rotating anode tube', 'has no tag'],
+      ['a quote not closed on its line', "_diffrn_source 'rotating anode", 'not closed'],
+      ['a tag given twice', '_pd_proc_info_item_3 again', 'given twice'],
+      ['stop_', 'stop_', 'reserved'],
+    ])('reads the pattern past %s in the metadata, with a note naming the line', (_label, line, words) => {
+      const p = readText(withLine(12, line), 'refined.cif');
+      expect(p.x.length).toBe(5);
+      const note = p.readerNotes.find((n) => n.includes(words));
+      expect(note).toContain('line 12');
+    });
+
+    it.each([
+      ['a short last row', ['10.00 100', '10.02 121', '10.04 144', '10.06 169', '10.08 196', '10.10'], 21, 'one value per tag'],
+      ['a valueless tag inside the rows', ['10.00 100', '10.02 121', '_stray', '10.04 144', '10.06 169', '10.08 196'], 19, 'cannot be read'],
+    ])('refuses %s in the intensity loop with file and line', (_label, rowsText, line, words) => {
+      const err = readError(withLine(12, '_pd_proc_info_other ?', rowsText), 'refined.cif');
+      expect(err.line).toBe(line);
+      expect(err.message).toContain(words);
+    });
+  });
 });

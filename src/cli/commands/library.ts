@@ -1,6 +1,7 @@
 import type { Command } from 'commander';
 import { InputError } from '../../core/errors.js';
-import { readReferenceFile } from '../../node/library/import-files.js';
+import { readReferenceFileContents } from '../../node/library/import-files.js';
+import type { SkippedCifBlock } from '../../core/crystal/structure.js';
 import { formatReferenceJson } from '../../core/library/json-format.js';
 import type { Reference } from '../../core/model/reference.js';
 import { ensureSeeded } from '../../node/library/seed.js';
@@ -19,7 +20,7 @@ export function registerLibrary(program: Command): void {
     .argument('<files...>', 'reference files (.json, .csv, .cif)')
     .requiredOption('--library <db>', 'library file (created if missing)')
     .option('--wavelength <w>', 'CIF: radiation for computed intensities (default Cu Kα1); CSV: wavelength of a 2θ column')
-    .option('--name <name>', 'CSV or CIF: name of the reference (default: the CIF\'s phase name, else the file name)')
+    .option('--name <name>', 'CSV or CIF: name of the reference (default: the CIF\'s phase name, chemical name or formula, else the file and block name)')
     .option('--source <text>', 'CSV: where the values come from')
     .option('--formula <formula>', 'CSV or CIF: chemical formula as you write it')
     .option('--tag <tag>', 'CSV or CIF: a tag (target, impurity, precursor, decomposition product, standard, or your own); repeat for more', collect, [])
@@ -110,7 +111,8 @@ export interface ExportOptions extends LibraryOption {
 
 export interface ImportResult extends ImportSummary {
   library: string;
-  files: { file: string; references: string[] }[];
+  /** Per file: the names imported, and the CIF data blocks not imported with why (a metadata or pattern block). */
+  files: { file: string; references: string[]; skipped: SkippedCifBlock[] }[];
 }
 
 /** A structure CIF names its phase and holds no tags: --name and --tag say them, as for a CSV peak list. */
@@ -136,10 +138,10 @@ export function importCommand(files: string[], o: ImportOptions): ImportResult {
     ...(o.formula !== undefined ? { formula: o.formula } : {}),
     ...(o.tag !== undefined && o.tag.length > 0 ? { tags: o.tag } : {}),
   };
-  const read: { file: string; refs: Reference[] }[] = files.map((file) => ({
-    file,
-    refs: withCifDetails(file, readReferenceFile(file, { csv, ...(wavelength ? { wavelength } : {}) }), o),
-  }));
+  const read: { file: string; refs: Reference[]; skipped: SkippedCifBlock[] }[] = files.map((file) => {
+    const contents = readReferenceFileContents(file, { csv, ...(wavelength ? { wavelength } : {}) });
+    return { file, refs: withCifDetails(file, contents.references, o), skipped: contents.skipped };
+  });
   const all = read.flatMap((r) => r.refs);
   const from = new Map<string, string>();
   for (const { file, refs } of read) {
@@ -153,12 +155,17 @@ export function importCommand(files: string[], o: ImportOptions): ImportResult {
     o.library,
     (lib) => {
       const summary = lib.importReferences(all, { change: `import from ${files.length === 1 ? files[0] : `${files.length} files`}` });
-      return { library: o.library, files: read.map(({ file, refs }) => ({ file, references: refs.map((r) => r.name) })), ...summary };
+      return { library: o.library, files: read.map(({ file, refs, skipped }) => ({ file, references: refs.map((r) => r.name), skipped })), ...summary };
     }, 'create');
 }
 
 function importText(r: ImportResult): string {
-  return `Imported into ${r.library}: ${r.added.length} added, ${r.updated.length} updated (old versions kept), ${r.unchanged.length} unchanged.\n`;
+  const lines = r.files.flatMap(({ file, references, skipped }) => [
+    ...(references.length > 0 ? [`${file}: ${references.map((n) => `"${n}"`).join(', ')}`] : []),
+    ...skipped.map((s) => `${file}: skipped data_${s.block} (line ${s.line}): ${s.reason}`),
+  ]);
+  const summary = `Imported into ${r.library}: ${r.added.length} added, ${r.updated.length} updated (old versions kept), ${r.unchanged.length} unchanged.`;
+  return [...lines, summary].join('\n') + '\n';
 }
 
 export interface ListedReference {

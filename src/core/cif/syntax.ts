@@ -23,6 +23,44 @@ export interface CifLoop {
   rows: CifValue[][];
   /** Line of the loop_ keyword. */
   line: number;
+  /**
+   * Tolerant reading only: why the loop is incomplete (its last row was short and was left out). A
+   * reader that takes data from this loop refuses it with this message and line.
+   */
+  problem?: CifProblem;
+}
+
+/** A syntax problem that a tolerant reading stepped over: what, where, and what was done instead. */
+export interface CifProblem {
+  message: string;
+  line: number;
+  /** What the reading did instead ("the tag was left out"). */
+  action: string;
+  /**
+   * For values without a tag that hold a number: the last loop of the block before them. They may be
+   * rows of that loop cut off by a stray tag, so a reader taking data from it refuses them.
+   */
+  numbersAfter?: CifLoop;
+}
+
+export interface CifParseOptions {
+  /**
+   * Read tolerantly: problems that leave the rest of the file readable (a tag without value, values
+   * without tag, a tag given twice, content before the first data_, a quote not closed on its line, a
+   * loop whose last row is short, stop_) are pushed here instead of thrown. Unclosed text fields and
+   * save frames stay errors: where they end cannot be known.
+   */
+  problems?: CifProblem[];
+}
+
+type Report = (message: string, line: number, action: string, numbersAfter?: CifLoop) => void;
+
+function reporter(fileName: string, options: CifParseOptions): Report {
+  const problems = options.problems;
+  return (message, line, action, numbersAfter) => {
+    if (!problems) throw new InputError(message, { file: fileName, line });
+    problems.push(numbersAfter ? { message, line, action, numbersAfter } : { message, line, action });
+  };
 }
 
 export interface CifBlock {
@@ -67,7 +105,7 @@ function isBlank(code: number): boolean {
 }
 
 /** Split CIF text into tokens, each with the line where it starts. */
-function tokenize(source: string, fileName: string): Tokens {
+function tokenize(source: string, fileName: string, report: Report): Tokens {
   const text = source.charCodeAt(0) === 0xfeff ? source.slice(1) : source;
   const n = text.length;
   const tokens = new Tokens();
@@ -107,18 +145,18 @@ function tokenize(source: string, fileName: string): Tokens {
     }
     if (c === QUOTE || c === DOUBLE_QUOTE) {
       let j = i + 1;
+      let closed = true;
       for (;;) {
         if (j >= n || text.charCodeAt(j) === LF || (text.charCodeAt(j) === CR && text.charCodeAt(j + 1) === LF)) {
-          throw new InputError(`a quoted string starting with ${String.fromCharCode(c)} is not closed on its line`, {
-            file: fileName,
-            line,
-          });
+          report(`a quoted string starting with ${String.fromCharCode(c)} is not closed on its line`, line, 'it was read to the end of its line');
+          closed = false;
+          break;
         }
         if (text.charCodeAt(j) === c && (j + 1 >= n || isBlank(text.charCodeAt(j + 1)))) break;
         j++;
       }
       tokens.push('value', text.slice(i + 1, j), line, true);
-      i = j + 1;
+      i = closed ? j + 1 : j;
       continue;
     }
     let j = i + 1;
@@ -159,10 +197,12 @@ function wordText(kind: TokenKind, word: string): string {
 /**
  * Parse CIF 1.1 text into its data blocks. Throws InputError naming the file and line for
  * malformed syntax (unclosed strings or text fields, a tag without value, a value without tag,
- * a loop whose values do not fill whole rows, duplicate tags, content before the first data_).
+ * a loop whose values do not fill whole rows, duplicate tags, content before the first data_),
+ * unless options.problems asks for a tolerant reading (see CifParseOptions).
  */
-export function parseCif(text: string, fileName: string): CifBlock[] {
-  const tokens = tokenize(text, fileName);
+export function parseCif(text: string, fileName: string, options: CifParseOptions = {}): CifBlock[] {
+  const report = reporter(fileName, options);
+  const tokens = tokenize(text, fileName, report);
   const blocks: CifBlock[] = [];
   let block: CifBlock | null = null;
   let inGlobal = false;
@@ -174,7 +214,7 @@ export function parseCif(text: string, fileName: string): CifBlock[] {
     const t = tokens.items[i];
     switch (tokens.kinds[i]) {
       case 'data': {
-        if (t.text === '') fail('data_ needs a block name right after it (e.g. data_sample1)', t.line);
+        if (t.text === '') report('data_ needs a block name right after it (e.g. data_sample1)', t.line, 'the block was read without a name');
         block = { name: t.text, line: t.line, items: new Map(), loops: [] };
         blocks.push(block);
         inGlobal = false;
@@ -198,52 +238,63 @@ export function parseCif(text: string, fileName: string): CifBlock[] {
         break;
       }
       case 'stop': {
-        fail('stop_ is reserved in CIF 1.1 and cannot be used', t.line);
+        report('stop_ is reserved in CIF 1.1 and cannot be used', t.line, 'it was left out');
+        i++;
         break;
       }
       case 'loop': {
-        const loop = readLoop(tokens, i, fail);
+        const loop = readLoop(tokens, i, fileName, report);
         i = loop.next;
-        if (inGlobal) break;
-        if (!block) fail('loop_ appears before the first data_ block header', t.line);
+        if (inGlobal || !loop.loop) break;
+        if (!block) report('loop_ appears before the first data_ block header', t.line, 'the loop was left out');
         else block.loops.push(loop.loop);
         break;
       }
       case 'tag': {
         const value = tokens.items[i + 1];
-        if (!value || tokens.kinds[i + 1] !== 'value') fail(`tag ${t.text} has no value`, t.line);
+        if (!value || tokens.kinds[i + 1] !== 'value') {
+          report(`tag ${t.text} has no value`, t.line, 'the tag was left out');
+          i++;
+          break;
+        }
         i += 2;
         if (inGlobal) break;
-        if (!block) fail(`tag ${t.text} appears before the first data_ block header`, t.line);
-        else {
-          if (block.items.has(t.text)) fail(`tag ${t.text} is given twice in block data_${block.name}`, t.line);
-          block.items.set(t.text, value);
-        }
+        if (!block) report(`tag ${t.text} appears before the first data_ block header`, t.line, 'the item was left out');
+        else if (block.items.has(t.text)) report(`tag ${t.text} is given twice in block data_${block.name}`, t.line, 'the first value was kept');
+        else block.items.set(t.text, value);
         break;
       }
       case 'value': {
-        fail(`value "${shorten(t.text)}" has no tag before it`, t.line);
+        let j = i + 1;
+        while (j < tokens.length && tokens.kinds[j] === 'value') j++;
+        const more = j - i > 1 ? ` (and ${j - i - 1} more value(s) after it)` : '';
+        let numeric = false;
+        for (let k = i; k < j && !numeric; k++) numeric = cifNumber(tokens.items[k]) !== null;
+        const lastLoop = numeric && block ? block.loops[block.loops.length - 1] : undefined;
+        report(`value "${shorten(t.text)}"${more} has no tag before it`, t.line, 'the value(s) were left out', lastLoop);
+        i = j;
       }
     }
   }
   return blocks;
 }
 
-function readLoop(
-  tokens: Tokens,
-  at: number,
-  fail: (message: string, line: number) => never,
-): { loop: CifLoop; next: number } {
+function readLoop(tokens: Tokens, at: number, fileName: string, report: Report): { loop: CifLoop | null; next: number } {
   const start = tokens.items[at];
   const tags: string[] = [];
   let i = at + 1;
   while (i < tokens.length && tokens.kinds[i] === 'tag') {
     const tag = tokens.items[i];
-    if (tags.includes(tag.text)) fail(`tag ${tag.text} is listed twice in the loop`, tag.line);
+    if (tags.includes(tag.text)) throw new InputError(`tag ${tag.text} is listed twice in the loop`, { file: fileName, line: tag.line });
     tags.push(tag.text);
     i++;
   }
-  if (tags.length === 0) fail('loop_ has no tags after it', start.line);
+  if (tags.length === 0) {
+    let j = i;
+    while (j < tokens.length && tokens.kinds[j] === 'value') j++;
+    report('loop_ has no tags after it', start.line, 'the loop and its values were left out');
+    return { loop: null, next: j };
+  }
   const rows: CifValue[][] = [];
   let row: CifValue[] = [];
   while (i < tokens.length && tokens.kinds[i] === 'value') {
@@ -254,13 +305,31 @@ function readLoop(
     }
     i++;
   }
+  const loop: CifLoop = { tags, rows, line: start.line };
   if (row.length > 0) {
-    fail(
-      `the loop starting at line ${start.line} has ${tags.length} tags but its last row has only ${row.length} value(s); each row needs one value per tag`,
-      row[row.length - 1].line,
-    );
+    const message = `the loop starting at line ${start.line} has ${tags.length} tags but its last row has only ${row.length} value(s); each row needs one value per tag`;
+    const line = row[row.length - 1].line;
+    const action = 'the short row was left out';
+    report(message, line, action);
+    loop.problem = { message, line, action };
   }
-  return { loop: { tags, rows, line: start.line }, next: i };
+  return { loop, next: i };
+}
+
+/**
+ * The problem of a tolerant reading that touches this loop's data: the loop left incomplete, a
+ * problem inside its lines, or numbers without a tag after it (rows cut off by a stray tag).
+ */
+export function problemInLoop(loop: CifLoop, problems: readonly CifProblem[]): CifProblem | undefined {
+  if (loop.problem) return loop.problem;
+  const last = loop.rows.length > 0 ? loop.rows[loop.rows.length - 1][loop.tags.length - 1].line : loop.line;
+  return problems.find((p) => (p.line >= loop.line && p.line <= last) || p.numbersAfter === loop);
+}
+
+/** Is this value the CIF "unknown" or "not applicable" (written as ?, ., or a quoted or text-field ? / . alone)? */
+export function isUnknownValue(v: CifValue): boolean {
+  const text = v.quoted ? v.text.trim() : v.text;
+  return text === '?' || text === '.' || (v.quoted && text === '');
 }
 
 function shorten(text: string): string {

@@ -79,12 +79,15 @@ export function computePowderLines(structure: CrystalStructure, options: PowderO
     limits[2] = Math.max(limits[2], Math.abs(list.l[i]));
   }
   const ctx = structureFactorContext(expandToUnitCell(structure), limits, dispersion.terms);
+  // |F|² taken in order of h and k, so reflections that differ in l alone share their exp(2πi(hx + ky)).
+  const order = Int32Array.from({ length: list.count }, (_, i) => i).sort((i, j) => list.h[i] - list.h[j] || list.k[i] - list.k[j]);
+  const fSquaredOf = new Float64Array(list.count);
+  for (const i of order) fSquaredOf[i] = powderStructureFactorSquared(ctx, list.h[i], list.k[i], list.l[i], 1 / (4 * list.d[i] * list.d[i]));
   const lines: PowderLine[] = [];
   let strongest = 0;
   for (let i = 0; i < list.count; i++) {
     const d = list.d[i];
-    const s2 = 1 / (4 * d * d);
-    const fSquared = powderStructureFactorSquared(ctx, list.h[i], list.k[i], list.l[i], s2);
+    const fSquared = fSquaredOf[i];
     const twoThetaDeg = (2 * Math.asin(lambda / (2 * d))) / DEG;
     const raw = list.multiplicity[i] * fSquared * lorentzPolarization(twoThetaDeg, options.monochromatorTwoThetaDeg);
     if (raw > strongest) strongest = raw;
@@ -97,14 +100,15 @@ export function computePowderLines(structure: CrystalStructure, options: PowderO
 
 /**
  * Merge lines whose d-spacings coincide (|Δd| ≤ 1e-6·d, e.g. cubic 333 and 511): intensities and
- * multiplicities add, the hkl is that of the stronger (or first) line. Input sorted by decreasing d.
+ * multiplicities add, the hkl is that of the stronger line (the first when they agree to 1e-9). Input sorted by decreasing d.
  */
 export function mergeCoincidentLines(lines: readonly ReferenceLine[]): ReferenceLine[] {
   const merged: ReferenceLine[] = [];
   for (const line of lines) {
     const last = merged[merged.length - 1];
     if (last && Math.abs(last.d - line.d) <= 1e-6 * line.d) {
-      const stronger = (line.intensity ?? 0) > (last.intensity ?? 0);
+      // Stronger by more than rounding: lines equal by symmetry-like coincidence keep the first hkl, whatever the order of summation.
+      const stronger = (line.intensity ?? 0) > (last.intensity ?? 0) * (1 + 1e-9);
       merged[merged.length - 1] = {
         d: last.d,
         intensity: last.intensity === null || line.intensity === null ? null : last.intensity + line.intensity,
@@ -124,9 +128,12 @@ function roundTo(value: number, digits: number): number {
   return Math.round(value * f) / f;
 }
 
-/** A reference (relative intensities 0–100) computed from a crystal structure. */
-export function referenceFromStructure(structure: CrystalStructure, options: PowderOptions): Reference {
-  const lines = computePowderLines(structure, options);
+/** A reference (relative intensities 0–100) computed from a crystal structure (from its lines for these options, when already computed). */
+export function referenceFromStructure(
+  structure: CrystalStructure,
+  options: PowderOptions,
+  lines: readonly PowderLine[] = computePowderLines(structure, options),
+): Reference {
   const merged = mergeCoincidentLines(lines.map((l) => ({ d: l.d, intensity: l.relativeIntensity, hkl: l.hkl, multiplicity: l.multiplicity })));
   const strongest = Math.max(...merged.map((l) => l.intensity ?? 0));
   const kept = merged

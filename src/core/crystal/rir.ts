@@ -2,7 +2,7 @@ import { InputError } from '../errors.js';
 import { ATOMIC_WEIGHTS, AVOGADRO_PER_MOL } from './atomic-weights.js';
 import type { Hkl } from '../model/cell.js';
 import { cellMetric } from './metric.js';
-import { computePowderLines, lorentzPolarization, mergeCoincidentLines, type PowderOptions } from './powder.js';
+import { computePowderLines, lorentzPolarization, mergeCoincidentLines, type PowderLine, type PowderOptions } from './powder.js';
 import { getSpaceGroup } from './space-groups.js';
 import type { CrystalStructure } from './structure.js';
 import { expandToUnitCell } from './structure-factors.js';
@@ -79,8 +79,11 @@ export interface IntensityPerWeight {
  * Intensity of the strongest line per unit weight fraction in a mixture: I ∝ m|F|²LP/(V²ρ) × w/μ*
  * (Chung, J. Appl. Cryst. 7, 519 (1974)); lines at the same d (e.g. cubic 333/511) count as one peak.
  */
-export function intensityPerUnitWeight(structure: CrystalStructure, options: PowderOptions): IntensityPerWeight {
-  const lines = computePowderLines(structure, options);
+export function intensityPerUnitWeight(
+  structure: CrystalStructure,
+  options: PowderOptions,
+  lines: readonly PowderLine[] = computePowderLines(structure, options),
+): IntensityPerWeight {
   const raw = lines.map((l) => ({
     d: l.d,
     hkl: l.hkl,
@@ -123,6 +126,8 @@ export function corundumStructure(): CrystalStructure {
 export interface RirOptions extends Omit<PowderOptions, 'dMinAngstrom'> {
   /** The corundum model to divide by (default: corundumStructure()). */
   corundum?: CrystalStructure;
+  /** The phase's powder lines for these options (default d-minimum), when already computed: not computed twice. */
+  lines?: readonly PowderLine[];
 }
 
 /**
@@ -133,6 +138,6 @@ export interface RirOptions extends Omit<PowderOptions, 'dMinAngstrom'> {
  * Hubbard & Snyder, Powder Diffraction 3, 74 (1988)).
  */
 export function referenceIntensityRatio(structure: CrystalStructure, options: RirOptions): number {
-  const { corundum = corundumStructure(), ...powder } = options;
-  return intensityPerUnitWeight(structure, powder).value / intensityPerUnitWeight(corundum, powder).value;
+  const { corundum = corundumStructure(), lines, ...powder } = options;
+  return intensityPerUnitWeight(structure, powder, lines).value / intensityPerUnitWeight(corundum, powder).value;
 }

@@ -1,7 +1,8 @@
 import { InputError } from '../errors.js';
-import { parseCif, requireCifNumber, type CifBlock, type CifLoop, type CifValue } from '../cif/syntax.js';
+import { isUnknownValue, parseCif, problemInLoop, requireCifNumber, type CifBlock, type CifLoop, type CifProblem, type CifValue } from '../cif/syntax.js';
+import { baseName } from '../model/file-name.js';
 import type { UnitCell } from '../model/cell.js';
-import { cellMetric, checkCell, equivalentIsotropicU } from './metric.js';
+import { cellMetric, checkCell, dSpacing, equivalentIsotropicU } from './metric.js';
 import { SCATTERING_FACTORS } from './scattering-factors.js';
 import { getSpaceGroup, identifySpaceGroup, type SpaceGroup } from './space-groups.js';
 import { closeGroup, parseXyzOperation, type SymOp } from './symop.js';
@@ -26,7 +27,10 @@ export interface AtomSite {
 
 /** A crystal structure read from a CIF. */
 export interface CrystalStructure {
+  /** The phase name, chemical name or formula; else the file and block name. Never "?" or ".". */
   name: string;
+  /** Name of the data block it was read from (absent for a structure made in code). */
+  block?: string;
   formula: string | null;
   /** The cell, with spaceGroup set to the group's symbol. */
   cell: UnitCell;
@@ -51,8 +55,11 @@ const TAGS = {
   hall: ['_space_group_name_hall', '_symmetry_space_group_name_hall'],
   hm: ['_space_group_name_h-m_alt', '_symmetry_space_group_name_h-m', '_space_group_name_h-m'],
   number: ['_space_group_it_number', '_symmetry_int_tables_number'],
-  name: ['_chemical_name_common', '_chemical_name_mineral', '_chemical_name_systematic'],
+  name: ['_pd_phase_name', '_chemical_name_common', '_chemical_name_mineral', '_chemical_name_systematic'],
   formula: ['_chemical_formula_sum', '_chemical_formula_structural'],
+  sites: '_atom_site_fract_x',
+  reflections: ['_refln_index_h', '_pd_refln_index_h'],
+  pattern: ['_pd_meas_counts_total', '_pd_meas_intensity_total', '_pd_proc_intensity_total', '_pd_calc_intensity_total'],
 };
 
 /** Read tags in either CIF 1 ("_cell_length_a") or DDL2 ("_cell.length_a") spelling. */
@@ -61,6 +68,8 @@ class BlockView {
   constructor(
     readonly block: CifBlock,
     readonly fileName: string,
+    /** Syntax problems a tolerant reading stepped over: a loop this reader takes data from must have none. */
+    readonly problems: readonly CifProblem[] = [],
   ) {
     for (const [tag, value] of block.items) this.items.set(tag.replace(/\./g, '_'), value);
   }
@@ -73,9 +82,13 @@ class BlockView {
     return undefined;
   }
 
+  /** Text of the first tag with a known value; a quoted or text-field "?" alone counts as unknown too. */
   text(tags: readonly string[]): string | null {
-    const v = this.item(tags);
-    return v ? v.text.trim().replace(/\s+/g, ' ') : null;
+    for (const tag of tags) {
+      const v = this.items.get(tag);
+      if (v && !isUnknownValue(v)) return v.text.trim().replace(/\s+/g, ' ');
+    }
+    return null;
   }
 
   number(tags: readonly string[], what: string): { value: number; line: number } | null {
@@ -85,10 +98,16 @@ class BlockView {
     return parsed ? { value: parsed.value, line: v.line } : null;
   }
 
+  has(tag: string): boolean {
+    return this.items.has(tag) || this.block.loops.some((l) => l.tags.some((t) => t.replace(/\./g, '_') === tag));
+  }
+
   loop(tag: string): { loop: CifLoop; column: (name: string) => number } | null {
     const normalized = (t: string): string => t.replace(/\./g, '_');
     const loop = this.block.loops.find((l) => l.tags.some((t) => normalized(t) === tag));
     if (!loop) return null;
+    const problem = problemInLoop(loop, this.problems);
+    if (problem) fail(`the loop of ${tag} starting at line ${loop.line} cannot be read: ${problem.message}`, this.fileName, problem.line);
     const names = loop.tags.map(normalized);
     return { loop, column: (name) => names.indexOf(name) };
   }
@@ -98,28 +117,187 @@ function fail(message: string, fileName: string, line?: number): never {
   throw new InputError(message, line === undefined ? { file: fileName } : { file: fileName, line });
 }
 
+/** A data block of a structure CIF that was not read as a structure, and why. */
+export interface SkippedCifBlock {
+  block: string;
+  line: number;
+  reason: string;
+}
+
+/** One reflection of a block's reflection list: F² (then intensity = m F² LP) or an integrated intensity as given. */
+export interface ListedReflection {
+  hkl: [number, number, number];
+  d: number;
+  multiplicity: number;
+  fSquared: number | null;
+  intensity: number | null;
+}
+
+/** A data block with a cell and a reflection list but no atom sites (the reflections of a refinement). */
+export interface CifReflectionList {
+  name: string;
+  block: string;
+  /** Line of the block's data_ header. */
+  line: number;
+  formula: string | null;
+  cell: UnitCell;
+  reflections: ListedReflection[];
+  /** Which columns gave the intensities, for the reference's intensity basis. */
+  basis: string;
+  source: string;
+  notes: string[];
+  fileName: string;
+}
+
+export interface CifStructures {
+  structures: CrystalStructure[];
+  /** Blocks with a cell and reflections but no atom sites. */
+  reflectionLists: CifReflectionList[];
+  skipped: SkippedCifBlock[];
+}
+
+/**
+ * Read every structure of a CIF: each data block with a cell and atom sites (files written by
+ * refinement programs hold a phase block beside pattern and overall blocks). Tolerant on metadata
+ * (syntax problems elsewhere become notes), strict on data: a block with a cell and atom sites that
+ * cannot be read is an InputError naming the file and line. Blocks without them are listed as skipped.
+ */
+export function readCifStructures(text: string, fileName: string): CifStructures {
+  const problems: CifProblem[] = [];
+  const blocks = parseCif(text, fileName, { problems });
+  if (blocks.length === 0) {
+    if (problems.length > 0) fail(`${problems[0].message} (and no data_ block was found)`, fileName, problems[0].line);
+    fail('no data_ block found; a structure CIF starts with data_<name>', fileName);
+  }
+  const structures: CrystalStructure[] = [];
+  const reflectionLists: CifReflectionList[] = [];
+  const skipped: SkippedCifBlock[] = [];
+  const kinds = blocks.map((block) => blockKind(new BlockView(block, fileName, problems)));
+  // Refinement files repeat the phase's reflections in the pattern block: the structure gives the lines.
+  const withStructure = kinds.includes('structure');
+  blocks.forEach((block, index) => {
+    const view = new BlockView(block, fileName, problems);
+    const kind = kinds[index];
+    if (typeof kind !== 'string' || (kind === 'reflections' && withStructure)) {
+      const reason = typeof kind === 'string' ? 'a reflection list, not read: the structure in the file gives the lines' : kind.skip;
+      skipped.push({ block: block.name, line: block.line, reason });
+      return;
+    }
+    const end = blocks[index + 1]?.line ?? Number.POSITIVE_INFINITY;
+    const notes = problems
+      .filter((p) => p.line >= block.line && p.line < end)
+      .map((p) => `CIF metadata at line ${p.line} could not be read: ${p.message}; ${p.action}`);
+    if (kind === 'structure') structures.push(readBlockStructure(view, notes));
+    else reflectionLists.push(readBlockReflections(view, notes));
+  });
+  if (structures.length === 0 && reflectionLists.length === 0) {
+    const withSites = blocks.find((b) => new BlockView(b, fileName, problems).has(TAGS.sites));
+    // Atom sites without a cell: read the block anyway so the error names what is missing.
+    if (withSites) readBlockStructure(new BlockView(withSites, fileName, problems), []);
+    fail(
+      `no atom sites: the file needs a loop with _atom_site_fract_x, _atom_site_fract_y, _atom_site_fract_z (${skipped.map((s) => `data_${s.block}: ${s.reason}`).join('; ')})`,
+      fileName,
+      blocks[0].line,
+    );
+  }
+  nameUniquely([...structures, ...reflectionLists], fileName);
+  return { structures, reflectionLists, skipped };
+}
+
 /**
  * Read a crystal structure from CIF text (IUCr core dictionary): cell, symmetry operations or
  * space-group name (Hall, Hermann–Mauguin or number), atom sites with occupancies and isotropic
- * (or equivalent isotropic) displacement. Problems are InputErrors naming the file and line.
+ * (or equivalent isotropic) displacement: the first structure of readCifStructures.
  */
 export function readCifStructure(text: string, fileName: string): CrystalStructure {
-  const blocks = parseCif(text, fileName);
-  if (blocks.length === 0) fail('no data_ block found; a structure CIF starts with data_<name>', fileName);
-  const block =
-    blocks.find((b) => new BlockView(b, fileName).loop('_atom_site_fract_x')) ??
-    fail(`no atom sites: the file needs a loop with _atom_site_fract_x, _atom_site_fract_y, _atom_site_fract_z`, fileName, blocks[0].line);
-  const view = new BlockView(block, fileName);
-  const notes: string[] = [];
+  const { structures, reflectionLists } = readCifStructures(text, fileName);
+  if (structures.length === 0) {
+    fail(`no atom sites: data_${reflectionLists[0].block} gives reflections only, no structure`, fileName);
+  }
+  return structures[0];
+}
+
+const F_SQUARED = ['_refln_f_squared_calc', '_refln_f_squared_meas'];
+const F = ['_refln_f_calc', '_refln_f_meas'];
+const INTENSITY = ['_refln_intensity_calc', '_refln_intensity_meas', '_pd_refln_intensity_calc', '_pd_refln_intensity_meas'];
+const MULTIPLICITY = ['_refln_mult', '_pd_refln_multiplicity', '_refln_multiplicity'];
+
+/** What a block holds to import: a structure, a reflection list, or nothing (and why). */
+function blockKind(view: BlockView): 'structure' | 'reflections' | { skip: string } {
+  const cell = view.item(['_cell_length_a']) !== undefined;
+  const sites = view.has(TAGS.sites);
+  if (cell && sites) return 'structure';
+  if (sites) return { skip: 'atom sites but no cell (_cell_length_a)' };
+  const reflections = TAGS.reflections.find((t) => view.has(t));
+  if (cell && reflections) {
+    const has = (tags: string[]) => tags.some((t) => view.has(t));
+    if (has(INTENSITY) || ((has(F_SQUARED) || has(F)) && has(MULTIPLICITY))) return 'reflections';
+    return { skip: 'a cell and reflections but neither intensities nor |F|² with multiplicities, and no atom sites' };
+  }
+  if (TAGS.pattern.some((t) => view.has(t))) return { skip: 'a powder pattern, no structure (read it as a pattern instead)' };
+  if (cell) return { skip: 'a cell but no atom sites' };
+  return { skip: 'no cell and no atom sites (metadata only)' };
+}
+
+/**
+ * A block's reflection list: hkl, d (from the cell unless given), multiplicity, and |F|² (calculated
+ * before measured; F² from F) or, failing that, the integrated intensity as the file gives it.
+ */
+function readBlockReflections(view: BlockView, notes: string[]): CifReflectionList {
+  const { block, fileName } = view;
+  const indexTag = TAGS.reflections.find((t) => view.has(t))!;
+  const prefix = indexTag.slice(0, -1);
+  const { loop, column } = view.loop(indexTag)!;
+  const [h, k, l] = ['h', 'k', 'l'].map((axis) => column(prefix + axis));
+  if (k < 0 || l < 0) fail(`the reflection loop has ${indexTag} but not the k and l indices`, fileName, loop.line);
+  const symmetry = TAGS.operations.some((t) => view.loop(t)) || [TAGS.hall, TAGS.hm, TAGS.number].some((tags) => view.item(tags));
+  const group = symmetry ? readSymmetry(view, notes) : null;
+  const cell = { ...readCell(view, group), ...(group?.number ? { spaceGroup: group.symbol } : {}) };
+  const first = (tags: string[]) => tags.map((t) => ({ tag: t, at: column(t) })).find((c) => c.at >= 0);
+  const fSquared = first(F_SQUARED);
+  const amplitude = fSquared ? undefined : first(F);
+  const multiplicity = first(MULTIPLICITY);
+  const intensity = fSquared || amplitude ? undefined : first(INTENSITY);
+  const dColumn = column(`${prefix.replace(/index_$/, '')}d_spacing`);
+  const number = (row: CifValue[], at: number, what: string): number | null => requireCifNumber(row[at], fileName, what)?.value ?? null;
+  const reflections: ListedReflection[] = [];
+  for (const row of loop.rows) {
+    const hkl = [h, k, l].map((c) => number(row, c, 'Miller index'));
+    if (hkl.some((v) => v === null || !Number.isInteger(v))) fail(`reflection indices "${[h, k, l].map((c) => row[c].text).join(' ')}" are not whole numbers`, fileName, row[h].line);
+    const index = hkl as [number, number, number];
+    if (index.every((v) => v === 0)) continue;
+    const given = dColumn >= 0 ? number(row, dColumn, 'd-spacing') : null;
+    const m = multiplicity ? number(row, multiplicity.at, 'multiplicity') : 1;
+    const f = fSquared ? number(row, fSquared.at, '|F|²') : amplitude ? number(row, amplitude.at, '|F|') : null;
+    const value = intensity ? number(row, intensity.at, 'intensity') : null;
+    if (m === null || (f === null && value === null)) continue;
+    reflections.push({
+      hkl: index,
+      d: given ?? dSpacing(cell, index),
+      multiplicity: m,
+      fSquared: f === null ? null : amplitude ? f * f : f,
+      intensity: value,
+    });
+  }
+  if (reflections.length === 0) fail('the reflection list gives no reflection with a known intensity', fileName, loop.line);
+  const formula = view.text(TAGS.formula)?.replace(/\s+/g, '') ?? null;
+  const basis = fSquared ? `${fSquared.tag} with ${multiplicity!.tag}` : amplitude ? `${amplitude.tag} squared with ${multiplicity!.tag}` : `${intensity!.tag} as given`;
+  return { name: view.text(TAGS.name) ?? formula ?? '', block: block.name, line: block.line, formula, cell, reflections, basis, source: citation(view), notes, fileName };
+}
+
+function readBlockStructure(view: BlockView, notes: string[]): CrystalStructure {
+  const { block, fileName } = view;
   const spaceGroup = readSymmetry(view, notes);
   const cell = readCell(view, spaceGroup);
   const sites = readSites(view, cell, notes);
   if (sites.length === 0) fail('no atom site with a non-zero occupancy', fileName, block.line);
   const comment = view.text(['_publ_section_comment']);
   if (comment) notes.push(comment);
+  const formula = view.text(TAGS.formula)?.replace(/\s+/g, '') ?? null;
   return {
-    name: view.text(TAGS.name) ?? block.name,
-    formula: view.text(TAGS.formula)?.replace(/\s+/g, '') ?? null,
+    name: view.text(TAGS.name) ?? formula ?? '',
+    block: block.name,
+    formula,
     cell: { ...cell, spaceGroup: spaceGroup.number === null ? undefined : spaceGroup.symbol },
     spaceGroup,
     sites,
@@ -127,6 +305,29 @@ export function readCifStructure(text: string, fileName: string): CrystalStructu
     notes,
     fileName,
   };
+}
+
+/** "data_<name>" of the structure's block, or null for an empty, "?" or "." name. */
+function blockLabel(structure: { block?: string }): string | null {
+  const name = (structure.block ?? '').trim();
+  return name === '' || name === '?' || name === '.' ? null : `data_${name}`;
+}
+
+/**
+ * Unnamed structures take the file name and block name; a name given twice in one file gets its
+ * block name added, so every structure of a file has its own name (and none is "?" or ".").
+ */
+function nameUniquely(structures: Array<{ name: string; block?: string }>, fileName: string): void {
+  const file = baseName(fileName).replace(/\.cif$/i, '');
+  for (const s of structures) {
+    if (s.name === '') s.name = [file, blockLabel(s)].filter((x) => x !== null).join(' ');
+  }
+  const counts = new Map<string, number>();
+  for (const s of structures) counts.set(s.name.toLowerCase(), (counts.get(s.name.toLowerCase()) ?? 0) + 1);
+  for (const s of structures) {
+    const label = blockLabel(s);
+    if ((counts.get(s.name.toLowerCase()) ?? 0) > 1 && label) s.name = `${s.name} ${label}`;
+  }
 }
 
 function readSymmetry(view: BlockView, notes: string[]): SpaceGroup {
@@ -173,7 +374,7 @@ function readSymmetry(view: BlockView, notes: string[]): SpaceGroup {
   );
 }
 
-function readCell(view: BlockView, group: SpaceGroup): UnitCell {
+function readCell(view: BlockView, group: SpaceGroup | null): UnitCell {
   const { fileName } = view;
   const [a, b, c] = TAGS.length.map((tag) => {
     const v = view.number([tag], tag);
@@ -183,7 +384,7 @@ function readCell(view: BlockView, group: SpaceGroup): UnitCell {
   const [alpha, beta, gamma] = TAGS.angle.map((tag) => {
     const v = view.number([tag], tag);
     if (v) return v;
-    const implied = impliedAngle(group, tag);
+    const implied = group ? impliedAngle(group, tag) : null;
     if (implied === null) fail(`the cell is incomplete: ${tag} is missing and the crystal system does not fix it`, fileName, view.block.line);
     return { value: implied, line: view.block.line };
   });

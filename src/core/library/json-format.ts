@@ -3,7 +3,7 @@ import { InputError, isInputError } from '../errors.js';
 import { dFromTwoTheta } from '../model/units.js';
 import { parseWavelength } from '../model/wavelengths.js';
 import { positionsFromCell } from './from-crystal.js';
-import { findJsonSyntaxError, JsonPlaces, type JsonPath } from './json-locate.js';
+import { findJsonSyntaxError, findTooDeepNesting, JsonPlaces, type JsonPath } from './json-locate.js';
 import type { Reference, ReferenceLine } from '../model/reference.js';
 import {
   describeEntry,
@@ -59,10 +59,22 @@ class EntryProblem extends Error {
   }
 }
 
+/** Levels a reference file uses at most: the list, a reference, its lines, a line, its hkl. */
+const REFERENCE_NESTING = 5;
+/** Deeper than this is no reference file (and would overflow the stack of the parser and checks). */
+const MAX_NESTING = 64;
+
 /** Read a reference JSON file; any problem is an InputError naming the file, the entry and the line. */
 export function parseReferenceJson(text: string, fileName: string): Reference[] {
   const body = text.replace(/^\uFEFF/, '');
   if (body.trim() === '') throw new InputError('the reference file is empty', { file: fileName });
+  const deep = findTooDeepNesting(body, MAX_NESTING);
+  if (deep) {
+    throw new InputError(
+      `the JSON nests arrays and objects more than ${MAX_NESTING} deep here; a reference file needs ${REFERENCE_NESTING} levels (list, reference, lines, line, hkl)`,
+      { file: fileName, line: deep.line },
+    );
+  }
   let document: unknown;
   try {
     document = JSON.parse(body);

@@ -18,6 +18,29 @@ export class JsonSyntaxProblem extends Error {
   }
 }
 
+/**
+ * Where a JSON text nests deeper than maxDepth arrays and objects (a cheap scan that skips strings),
+ * or null: the parser, the schema check and the line finder all recurse, so a text nested 100 000
+ * deep overflowed the stack.
+ */
+export function findTooDeepNesting(text: string, maxDepth: number): { depth: number; line: number } | null {
+  let depth = 0;
+  let line = 1;
+  let inString = false;
+  for (let i = 0; i < text.length; i++) {
+    const c = text.charCodeAt(i);
+    if (c === 10) line++;
+    if (inString) {
+      if (c === 92) i++; // a backslash escapes the next character
+      else if (c === 34 /* " */) inString = false;
+    } else if (c === 34) inString = true;
+    else if (c === 91 /* [ */ || c === 123 /* { */) {
+      if (++depth > maxDepth) return { depth, line };
+    } else if (c === 93 /* ] */ || c === 125 /* } */) depth--;
+  }
+  return null;
+}
+
 export class JsonPlaces {
   private readonly root: PlaceNode;
 

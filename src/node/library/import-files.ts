@@ -3,7 +3,8 @@ import { extname } from 'node:path';
 import { InputError } from '../../core/errors.js';
 import type { Wavelength } from '../../core/model/wavelengths.js';
 import { parseReferenceCsv, type CsvReferenceMeta } from '../../core/library/csv-format.js';
-import { referenceFromCif } from '../../core/library/from-crystal.js';
+import { referencesFromCif } from '../../core/library/from-crystal.js';
+import type { SkippedCifBlock } from '../../core/crystal/structure.js';
 import { parseReferenceJson } from '../../core/library/json-format.js';
 import type { Reference } from '../../core/model/reference.js';
 
@@ -28,22 +29,32 @@ export function referenceFileKind(text: string, fileName: string): ReferenceFile
   return 'csv';
 }
 
-/** References in a file's text: the reference JSON format, a CSV peak list, or a structure CIF. */
-export function parseReferenceFile(text: string, fileName: string, options: ReferenceFileOptions = {}): Reference[] {
+/** The references of one file, and the parts of it that were not read as references (CIF blocks), with why. */
+export interface ReferenceFileContents {
+  references: Reference[];
+  skipped: SkippedCifBlock[];
+}
+
+/** References in a file's text: the reference JSON format, a CSV peak list, or a structure CIF (every phase block). */
+export function parseReferenceFileContents(text: string, fileName: string, options: ReferenceFileOptions = {}): ReferenceFileContents {
   switch (referenceFileKind(text, fileName)) {
     case 'json':
-      return parseReferenceJson(text, fileName);
+      return { references: parseReferenceJson(text, fileName), skipped: [] };
     case 'cif':
-      return [referenceFromCif(text, fileName, options.wavelength ? { wavelength: options.wavelength } : {})];
+      return referencesFromCif(text, fileName, options.wavelength ? { wavelength: options.wavelength } : {});
     case 'csv': {
       const meta: CsvReferenceMeta = { ...options.csv };
       if (options.wavelength && meta.wavelengthAngstrom === undefined) meta.wavelengthAngstrom = options.wavelength.lambda1;
-      return [parseReferenceCsv(text, fileName, meta)];
+      return { references: [parseReferenceCsv(text, fileName, meta)], skipped: [] };
     }
   }
 }
 
-export function readReferenceFile(path: string, options: ReferenceFileOptions = {}): Reference[] {
+export function parseReferenceFile(text: string, fileName: string, options: ReferenceFileOptions = {}): Reference[] {
+  return parseReferenceFileContents(text, fileName, options).references;
+}
+
+export function readReferenceFileContents(path: string, options: ReferenceFileOptions = {}): ReferenceFileContents {
   let text: string;
   try {
     text = readFileSync(path, 'utf8');
@@ -51,5 +62,5 @@ export function readReferenceFile(path: string, options: ReferenceFileOptions = 
     const code = (err as { code?: string }).code;
     throw new InputError(code === 'ENOENT' ? 'no such file' : `cannot read the file (${code ?? String(err)})`, { file: path });
   }
-  return parseReferenceFile(text, path, options);
+  return parseReferenceFileContents(text, path, options);
 }

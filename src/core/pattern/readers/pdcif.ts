@@ -1,5 +1,5 @@
 import { InputError, isInputError } from '../../errors.js';
-import { parseCif, requireCifNumber, cifItem, type CifBlock, type CifLoop } from '../../cif/syntax.js';
+import { parseCif, requireCifNumber, cifItem, type CifBlock, type CifLoop, type CifProblem, problemInLoop } from '../../cif/syntax.js';
 import { parseWavelength, singleWavelength, DEFAULT_KALPHA2_RATIO, type Wavelength } from '../../model/wavelengths.js';
 import type { RawPattern } from './finish.js';
 import { anodeSymbol } from './metadata.js';
@@ -22,10 +22,19 @@ export function looksLikeCif(text: string): boolean {
   return /^[ \t]*data_\S/im.test(head) && /^[ \t]*(_[A-Za-z]|loop_)/im.test(head);
 }
 
-/** Read the first block of a powder CIF that holds a pattern. */
+/**
+ * Read the first block of a powder CIF that holds a pattern. Tolerant on metadata, strict on data: a
+ * syntax problem elsewhere in the file becomes a reader note with its line, but one inside the
+ * intensity loop (or a loop left incomplete) is an InputError.
+ */
 export function readPowderCif(text: string, fileName: string): RawPattern {
-  const blocks = parseCif(text, fileName);
+  const problems: CifProblem[] = [];
+  const blocks = parseCif(text, fileName, { problems });
   const withData = blocks.filter((b) => intensityLoop(b) !== null);
+  if (withData.length === 0 && problems.length > 0) {
+    // With no pattern found, the first syntax problem is the likeliest reason (a quote that swallowed a loop_).
+    throw new InputError(`${problems[0].message} (and no powder pattern was found in the file)`, { file: fileName, line: problems[0].line });
+  }
   if (withData.length === 0) {
     const otherAxis = blocks.flatMap((b) => b.loops).find((l) => l.tags.some((t) => OTHER_AXIS_TAGS.includes(t)));
     if (otherAxis) {
@@ -47,6 +56,9 @@ export function readPowderCif(text: string, fileName: string): RawPattern {
   const found = intensityLoop(block);
   if (!found) throw new Error('unreachable: block without intensity loop');
   const { loop, intensityColumn } = found;
+  const inData = problemInLoop(loop, problems);
+  if (inData) throw new InputError(`the intensity loop starting at line ${loop.line} cannot be read: ${inData.message}`, { file: fileName, line: inData.line });
+  for (const p of problems) notes.push(`CIF metadata at line ${p.line} could not be read: ${p.message}; ${p.action}`);
   const xColumn = loop.tags.findIndex((t) => TWO_THETA_TAGS.includes(t));
   const sigmaColumn = loop.tags.indexOf(`${loop.tags[intensityColumn]}_su`);
   const twoThetaGrid = xColumn < 0 ? rangeGrid(block, loop, fileName) : null;
