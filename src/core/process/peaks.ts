@@ -21,6 +21,8 @@ import type { NoiseEstimate, NoiseModel, PeakGuess, PeakSearchOptions, PeakSearc
  * thresholdSigma standard uncertainties, and it is broader than a spike.
  */
 export const DEFAULT_THRESHOLD_SIGMA = 3;
+/** 2θ lies strictly between 0° and 180° (Bragg's law: 0 < θ < 90°). */
+const TWO_THETA_LIMIT_DEG = 180;
 const DEFAULT_SMOOTH_WINDOW_DEG = 0.05;
 const MIN_SMOOTH_WINDOW_POINTS = 5;
 const MAX_SMOOTH_WINDOW_POINTS = 25;
@@ -78,6 +80,14 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
   }
   for (let i = 1; i < n; i++) {
     if (!(x[i] > x[i - 1])) throw new InputError(`2θ does not increase at point ${i + 1} (${x[i]}°); the pattern must be sorted by 2θ`, { file });
+  }
+  // Window and block counts follow from the span: a 2θ no scan can have (a typo such as 1e9) must stop here.
+  if (!(x[0] > 0 && x[n - 1] < TWO_THETA_LIMIT_DEG)) {
+    const end = pattern.dataEndLine;
+    throw new InputError(
+      `the 2θ values run from ${x[0]}° to ${x[n - 1]}°, but a diffraction angle lies between 0 and ${TWO_THETA_LIMIT_DEG}°; check that the first column is 2θ in degrees`,
+      { file, ...(end !== undefined ? { line: end } : {}) },
+    );
   }
   const meanStep = (x[n - 1] - x[0]) / (n - 1);
   const thresholdSigma = options.thresholdSigma ?? DEFAULT_THRESHOLD_SIGMA;
