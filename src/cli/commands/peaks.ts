@@ -42,7 +42,7 @@ export function registerPeaks(program: Command): void {
     .option('--background <deg>', BACKGROUND_OPTION_HELP)
     .option('--json', 'print one JSON document')
     .action(async (file: string, options: PeaksCommandOptions) => {
-      await runCommand(options.json === true, () => peaksReport(file, options), peaksText);
+      await runCommand(options.json === true, () => peaksReport(file, options), peaksText, file);
     });
 }
 
