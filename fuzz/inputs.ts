@@ -38,9 +38,11 @@ export interface InputScale {
   manyRows: number;
   longLine: number;
 }
-export const FULL_SCALE: InputScale = { windowRows: 2500, manyRows: 200_000, longLine: 2_000_000 };
+export const FULL_SCALE: InputScale = { windowRows: 2500, manyRows: 100_000, longLine: 2_000_000 };
 export const SMALL_SCALE: InputScale = { windowRows: 400, manyRows: 6000, longLine: 60_000 };
 const MIN_WINDOW_ROWS = 60;
+/** No input grows beyond this many characters (about 40 MB of text). */
+const MAX_TEXT_CHARACTERS = 40_000_000;
 const WINDOW_SHARE = 0.85;
 
 function pick<T>(random: Random, items: readonly T[]): T {
@@ -301,7 +303,9 @@ const MUTATIONS: Record<string, Mutation> = {
     const { lines, eol } = splitLines(textOf(file));
     const data = dataIndices(lines).map((i) => lines[i]!);
     const target = between(random, scale.manyRows / 4, scale.manyRows);
-    const copies = Math.ceil(target / Math.max(1, data.length));
+    // Bounded in characters too (a long line among the rows must not make a string no engine can hold).
+    const characters = data.reduce((sum, line) => sum + line.length + 1, 0);
+    const copies = Math.max(1, Math.min(Math.ceil(target / Math.max(1, data.length)), Math.floor(MAX_TEXT_CHARACTERS / Math.max(1, characters))));
     file.text = lines.join(eol) + eol + Array.from({ length: copies }, () => data.join(eol)).join(eol);
     return `data repeated to about ${copies * data.length} rows`;
   },

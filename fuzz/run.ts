@@ -34,7 +34,16 @@ if (!isMainThread) {
   const setup = workerData as WorkerSetup;
   const context = fuzzContext(setup.references);
   parentPort!.on('message', (id: number) => {
-    const input = inputAt(setup.seeds, setup.seed, id);
+    let input;
+    try {
+      input = inputAt(setup.seeds, setup.seed, id);
+    } catch (err) {
+      // A fault of the generator itself is reported, not hidden: the run fails on it like on a crash.
+      const error = err instanceof Error ? err : new Error(String(err));
+      const outcome: Outcome = { kind: 'crash', message: `fuzz input generator: ${error.message}`, stack: error.stack ?? '' };
+      parentPort!.postMessage({ id, name: '(not made)', mutations: [], outcome, ms: 0 } satisfies Answer);
+      return;
+    }
     const started = performance.now();
     const outcome = classify(input.bytes, input.name, context);
     parentPort!.postMessage({ id, name: input.name, mutations: input.mutations, outcome, ms: performance.now() - started } satisfies Answer);
@@ -130,8 +139,7 @@ function inProcess(setup: WorkerSetup, count: number, workers: number, timeoutMs
       });
       worker.on('error', (err) => {
         if (timer) clearTimeout(timer);
-        const input = inputAt(setup.seeds, setup.seed, current);
-        answers.push({ id: current, name: input.name, mutations: input.mutations, outcome: { kind: 'crash', message: `worker died: ${err.message}`, stack: err.stack ?? '' }, ms: 0 });
+        answers.push({ id: current, name: '(see its id)', mutations: [], outcome: { kind: 'crash', message: `worker died: ${err.message}`, stack: err.stack ?? '' }, ms: 0 });
         finish();
         start();
       });
