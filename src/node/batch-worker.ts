@@ -5,7 +5,7 @@
 import { parentPort, workerData } from 'node:worker_threads';
 import { isInputError } from '../core/errors.js';
 import { readPatternFile } from './files.js';
-import { contextFromShared, type BatchFileOutcome, type SharedSetup, type WorkerMessage, type WorkerTask } from './batch.js';
+import { contextFromShared, fileFailure, type BatchFileOutcome, type SharedSetup, type WorkerMessage, type WorkerTask } from './batch.js';
 import { analyzePattern } from '../core/analysis/analyse.js';
 
 const port = parentPort;
@@ -20,8 +20,8 @@ port.on('message', (task: WorkerTask) => {
   } catch (err) {
     const message = err instanceof Error ? err.message : String(err);
     outcome = isInputError(err)
-      ? { index: task.index, file: task.file, json: null, error: message, errorKind: 'input' }
-      : { index: task.index, file: task.file, json: null, error: `internal fault: ${message}`, errorKind: 'internal' };
+      ? { index: task.index, file: task.file, json: null, error: fileFailure(task.file, message, 'input'), errorKind: 'input' }
+      : { index: task.index, file: task.file, json: null, error: fileFailure(task.file, message, 'internal'), errorKind: 'internal' };
   }
   port.postMessage(outcome satisfies WorkerMessage);
 });

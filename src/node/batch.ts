@@ -78,6 +78,15 @@ export type WorkerMessage = { ready: true } | BatchFileOutcome;
 /** Files a worker holds at once: the next one waits in its queue while it works on the current one. */
 const TASKS_PER_WORKER = 2;
 
+/**
+ * One file's failure as the line the batch prints: it names the file (an InputError from a reader names it
+ * already; an internal fault or a worker lost on the file does not), and says when the fault is the program's.
+ */
+export function fileFailure(file: string, message: string, kind: 'input' | 'internal'): string {
+  const text = kind === 'internal' ? `internal fault: ${message}` : message;
+  return message.includes(file) ? text : `${file}: ${text}`;
+}
+
 export function defaultWorkerCount(): number {
   return Math.max(1, availableParallelism());
 }
@@ -234,7 +243,7 @@ export function analyzeFiles(files: readonly string[], setup: BatchSetup, option
           return;
         }
         for (const index of inFlight) {
-          record({ index, file: files[index], json: null, error: `internal fault: ${reason}`, errorKind: 'internal' });
+          record({ index, file: files[index]!, json: null, error: fileFailure(files[index]!, reason, 'internal'), errorKind: 'internal' });
         }
         inFlight.clear();
         if (next < files.length) startWorker();

@@ -43,7 +43,7 @@ export function registerInstrument(program: Command): void {
     .option('--wavelength <w>', 'Cu, Co, Fe, Cr, Mo, Ag or a number in Å (default: from the file, else Cu)')
     .option('--tolerance <deg>', 'line matching tolerance, degrees 2θ (default 0.1)')
     .option('--json', 'print the result as JSON')
-    .action((file: string, o: InstrumentCommandOptions) => runCommand(Boolean(o.json), () => instrumentCommand(file, o), instrumentText));
+    .action((file: string, o: InstrumentCommandOptions) => runCommand(Boolean(o.json), () => instrumentCommand(file, o), instrumentText, file));
 }
 
 export function instrumentCommand(file: string, o: InstrumentCommandOptions): InstrumentCommandResult {

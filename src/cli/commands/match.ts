@@ -34,7 +34,7 @@ export function registerMatch(program: Command): void {
     .option('--source <kind>', 'the beam: ni-filter (default), no-filter, monochromator or synchrotron (which Kβ and W Lα satellites to expect)')
     .option('--wavelength <w>', 'Cu, Co, Fe, Cr, Mo, Ag or a number in Å (default: from the file, else Cu)')
     .option('--json', 'print the result as JSON')
-    .action((file: string, o: MatchCommandOptions) => runCommand(Boolean(o.json), () => matchCommand(file, o), matchText));
+    .action((file: string, o: MatchCommandOptions) => runCommand(Boolean(o.json), () => matchCommand(file, o), matchText, file));
 }
 
 /** The match part of the one analysis of the pattern (peaks → match → sizes), as `analyze` gives it. */

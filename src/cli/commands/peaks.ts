@@ -42,7 +42,7 @@ export function registerPeaks(program: Command): void {
     .option('--background <deg>', BACKGROUND_OPTION_HELP)
     .option('--json', 'print one JSON document')
     .action(async (file: string, options: PeaksCommandOptions) => {
-      await runCommand(options.json === true, () => peaksReport(file, options), peaksText);
+      await runCommand(options.json === true, () => peaksReport(file, options), peaksText, file);
     });
 }
 
@@ -55,6 +55,7 @@ export function peaksReport(file: string, options: PeaksCommandOptions): PeaksRe
   const { thresholdSigma } = settings;
   const result = searchPeaks(pattern, settings, wavelength);
   const notes = [...pattern.readerNotes];
+  if (result.noise.note) notes.push(result.noise.note);
   if (source === 'default') notes.push('no wavelength in the file or on the command line: Cu Kα1/Kα2 assumed');
   if (result.peaks.length === 0) notes.push('no peak stands clear of the noise: a featureless pattern supports no phase claim');
   return {

@@ -41,7 +41,7 @@ export function registerSize(program: Command): void {
     .option('--wavelength <w>', 'Cu, Co, Fe, Cr, Mo, Ag or a number in Å (default: from the file, else Cu)')
     .option('--tolerance <deg>', 'line matching tolerance, degrees 2θ (default 0.1)')
     .option('--json', 'print the result as JSON')
-    .action((file: string, o: SizeCommandOptions) => runCommand(Boolean(o.json), () => sizeCommand(file, o), sizeText));
+    .action((file: string, o: SizeCommandOptions) => runCommand(Boolean(o.json), () => sizeCommand(file, o), sizeText, file));
 }
 
 /** The size part of the one analysis of the pattern (peaks → match → sizes), as `analyze` gives it. */

@@ -8,13 +8,15 @@ export async function runCommand<T>(
   json: boolean,
   work: () => Promise<T> | T,
   toText: (result: T) => string,
+  /** The one file the command works on: an internal fault names it (a user error names its own place). */
+  file?: string,
 ): Promise<void> {
   try {
     const result = await work();
     // A command that streams its own output (analyze) returns nothing to print.
     if (result !== undefined) process.stdout.write(json ? JSON.stringify(result, null, 2) + '\n' : toText(result));
   } catch (err) {
-    reportFailure(err, json);
+    reportFailure(err, json, file);
   }
 }
 
@@ -22,14 +24,15 @@ export async function runCommand<T>(
  * A failure: a one-line reason on stderr, exit 2 for the user's mistake and 1 for an internal fault;
  * with --json also one JSON document `{ "error": { "message", "file", "line" } }` on stdout.
  */
-function reportFailure(err: unknown, json: boolean): void {
+function reportFailure(err: unknown, json: boolean, file?: string): void {
   const input = isInputError(err);
-  const message = oneLine(err instanceof Error ? err.message : String(err));
+  const text = oneLine(err instanceof Error ? err.message : String(err));
+  const message = !input && file !== undefined && !text.includes(file) ? `${file}: ${text}` : text;
   process.stderr.write(input ? `crystallog: ${message}\n` : `crystallog: internal fault: ${message}\n`);
   if (!input && process.env.CRYSTALLOG_DEBUG && err instanceof Error) process.stderr.write(`${err.stack}\n`);
   process.exitCode = input ? 2 : 1;
   if (json) {
-    const error = { message: input ? message : `internal fault: ${message}`, file: input ? (err.file ?? null) : null, line: input ? (err.line ?? null) : null };
+    const error = { message: input ? message : `internal fault: ${message}`, file: input ? (err.file ?? null) : (file ?? null), line: input ? (err.line ?? null) : null };
     process.stdout.write(JSON.stringify({ error }, null, 2) + '\n');
   }
 }

@@ -15,7 +15,7 @@ import type { Wavelength } from '../model/wavelengths.js';
 import { DEFAULT_ANALYSIS_SETTINGS, effectiveWavelength, type AnalysisSettings } from './settings.js';
 import { searchPeaks } from './search.js';
 import { twoThetaFromD } from '../model/units.js';
-import type { FittedPeak } from '../model/peak.js';
+import type { FittedPeak, NoiseEstimate } from '../model/peak.js';
 import type { OtherPhaseLine } from '../size/assign.js';
 import type { InstrumentProfile } from '../size/instrument.js';
 import { median } from '../numeric/numeric.js';
@@ -48,6 +48,8 @@ export interface AnalysisResult {
   points: number;
   wavelength: Wavelength;
   peaks: FittedPeak[];
+  /** How the noise σ behind every 3σ test was set (counting statistics, or measured from the data and why). */
+  noise: NoiseEstimate;
   match: MatchResult;
   /** Sizes from the target's (or the best present phase's) lines; from every peak when no phase is present. */
   size: SizeResult;
@@ -128,6 +130,7 @@ export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisCont
   if (!settings.wavelength && !pattern.wavelength) warnings.push('the file names no wavelength; Cu Kα1/Kα2 assumed');
 
   const search = searchPeaks(pattern, settings, wavelength);
+  if (search.noise.note) warnings.push(search.noise.note);
   const peaks = search.peaks;
   const match = matchPhases(peaks, references, {
     wavelength,
@@ -171,6 +174,7 @@ export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisCont
     points: pattern.x.length,
     wavelength,
     peaks,
+    noise: search.noise,
     match,
     size,
     settings: {

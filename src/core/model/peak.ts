@@ -85,8 +85,8 @@ export interface PeakSearchOptions extends PeakFitOptions {
   thresholdSigma?: number;
   /**
    * 'counts': σ = √(background counts); 'pattern': the pattern's own sigma; 'auto' (default): counts when every
-   * intensity is a whole number, otherwise √(background) times a noise scale measured from the data
-   * (for counts per second or scaled intensities).
+   * intensity is a whole, non-negative number and the file does not call them cps or normalised, otherwise
+   * √(background) times a noise scale measured from the data (for counts per second or scaled intensities).
    */
   noise?: NoiseModel;
 }
@@ -104,4 +104,17 @@ export interface PeakSearchResult {
   smoothed: Float64Array;
   /** σ of the background at each point, as used for the threshold. */
   noiseSigma: Float64Array;
+  /** How that σ was set: counting statistics, a scale measured from the data, or the file's σ (and why). */
+  noise: NoiseEstimate;
+}
+
+/** How σ of the background was set (see process/peaks.ts). */
+export interface NoiseEstimate {
+  /** 'counts': σ = √background; 'measured': σ = scale·√background, scale from the data's scatter; 'pattern': the file's σ. */
+  model: 'counts' | 'measured' | 'pattern';
+  scale: number;
+  /** Why the intensities were not taken as counts; null when they were. */
+  notCounts: string | null;
+  /** A sentence for the user when the intensities were not taken as counts as they are; null otherwise. */
+  note: string | null;
 }

@@ -7,12 +7,13 @@ import { findLocalMaxima } from './local-maxima.js';
 import { savitzkyGolay } from './savitzky-golay.js';
 import { DEFAULT_CLIPPING_HALF_WIDTH_DEG, liftToNoiseMedian, snipBackground } from './snip.js';
 import { lowerBound } from '../model/sorted.js';
-import type { NoiseModel, PeakGuess, PeakSearchOptions, PeakSearchResult } from '../model/peak.js';
+import type { NoiseEstimate, NoiseModel, PeakGuess, PeakSearchOptions, PeakSearchResult } from '../model/peak.js';
 
 /**
  * Peak search and fit. The pattern is smoothed (Savitzky–Golay), its background taken by SNIP, the
  * Kα2 part of the net signal stripped (Rachinger); every local maximum that stands at least
- * thresholdSigma·σ above the background (σ from counting statistics) and as many σ of its own level above
+ * thresholdSigma·σ above the background (σ from counting statistics, or measured from the data when the
+ * intensities are not counts: estimateNoise) and as many σ of its own level above
  * its surroundings becomes a candidate (at low angle, where the Kα2 partner lies within a peak's width, the
  * unstripped net signal is searched too). A candidate much broader than the pattern's clear peaks is an
  * amorphous hump and left to the background. The candidates are then fitted in groups on the raw data
@@ -20,6 +21,8 @@ import type { NoiseModel, PeakGuess, PeakSearchOptions, PeakSearchResult } from 
  * thresholdSigma standard uncertainties, and it is broader than a spike.
  */
 export const DEFAULT_THRESHOLD_SIGMA = 3;
+/** 2θ lies strictly between 0° and 180° (Bragg's law: 0 < θ < 90°). */
+const TWO_THETA_LIMIT_DEG = 180;
 const DEFAULT_SMOOTH_WINDOW_DEG = 0.05;
 const MIN_SMOOTH_WINDOW_POINTS = 5;
 const MAX_SMOOTH_WINDOW_POINTS = 25;
@@ -29,8 +32,6 @@ const BACKGROUND_SMOOTHING = 5;
 const MIN_FWHM_STEPS = 1.5;
 /** Median of a χ² variable with one degree of freedom (turns a median of squares into a variance). */
 const CHI2_1_MEDIAN = 0.454936;
-/** Measured scatter below this fraction of counting noise means the data carry no noise to measure. */
-const NOISE_FREE_SCALE = 0.05;
 /**
  * With no width given, the SNIP clipping half-width is at least this many FWHM of the broad peaks: the
  * 1° default is about this many FWHM of sharp laboratory peaks, and Lorentzian tails of broad peaks
@@ -79,6 +80,14 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
   }
   for (let i = 1; i < n; i++) {
     if (!(x[i] > x[i - 1])) throw new InputError(`2θ does not increase at point ${i + 1} (${x[i]}°); the pattern must be sorted by 2θ`, { file });
+  }
+  // Window and block counts follow from the span: a 2θ no scan can have (a typo such as 1e9) must stop here.
+  if (!(x[0] > 0 && x[n - 1] < TWO_THETA_LIMIT_DEG)) {
+    const end = pattern.dataEndLine;
+    throw new InputError(
+      `the 2θ values run from ${x[0]}° to ${x[n - 1]}°, but a diffraction angle lies between 0 and ${TWO_THETA_LIMIT_DEG}°; check that the first column is 2θ in degrees`,
+      { file, ...(end !== undefined ? { line: end } : {}) },
+    );
   }
   const meanStep = (x[n - 1] - x[0]) / (n - 1);
   const thresholdSigma = options.thresholdSigma ?? DEFAULT_THRESHOLD_SIGMA;
@@ -131,12 +140,14 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
     points: n,
     smoothed,
     noiseSigma,
+    noise: level.noise,
   };
 }
 
 interface BackgroundLevel {
   snip: Float64Array;
   noiseSigma: Float64Array;
+  noise: NoiseEstimate;
 }
 
 /** Background by SNIP with the given clipping half-width (lifted to the middle of the noise), and its σ. */
@@ -144,7 +155,8 @@ function backgroundAt(pattern: Pattern, smoothed: Float64Array, forBackground: F
   const { x } = pattern;
   const clipped = snipBackground(x, forBackground, { clippingHalfWidthDeg: halfWidthDeg, maxWindowPoints: SNIP_MAX_WINDOW_POINTS });
   const snip = liftToNoiseMedian(x, smoothed, clipped, backgroundSigma(pattern, clipped, noise), 2 * halfWidthDeg);
-  return { snip, noiseSigma: backgroundSigma(pattern, snip, noise) };
+  const estimate = estimateNoise(pattern, snip, noise);
+  return { snip, noiseSigma: backgroundSigma(pattern, snip, estimate), noise: estimate };
 }
 
 /** The local maxima of the Kα2-stripped net signal that stand clear of the background and of their surroundings. */
@@ -268,39 +280,106 @@ function defaultSmoothWindow(meanStep: number, n: number): number {
 }
 
 /**
- * σ of the background counts at each point: √background for counts; the pattern's own sigma; or, for
- * intensities that are not whole counts, √background times a scale measured from the point-to-point
- * scatter (second differences: variance 6σ² for white noise).
+ * Words in a file's column names or comments that say its intensities are not counts: counts per second,
+ * normalised or relative intensities, arbitrary units.
  */
-export function backgroundSigma(pattern: Pattern, background: Float64Array, noise: NoiseModel): Float64Array {
+const NOT_COUNTS_WORDS = /\b(cps|counts?\s*(per|\/)\s*s(ec(ond)?)?|c\/s|normali[sz]ed|normed|relative|rel\.|arb(itrary)?\.?\s*units?|a\.\s*u\.)/i;
+/**
+ * Measured scatter below this fraction of the background level means the data carry no noise to measure
+ * (a noise-free simulation, or a curve already smoothed): counting statistics are used instead.
+ */
+const NOISE_FREE_RELATIVE = 1e-4;
+
+/** Why the intensities of this pattern cannot be counts (non-integer or negative values, a header saying so), or null. */
+export function notCountsReason(pattern: Pattern): string | null {
+  const { y } = pattern;
+  for (let i = 0; i < y.length; i++) {
+    if (!Number.isInteger(y[i])) return 'the intensities are not whole numbers';
+    if (y[i] < 0) return 'some intensities are negative';
+  }
+  for (const key of ['columns', 'comment']) {
+    const words = NOT_COUNTS_WORDS.exec(pattern.meta[key] ?? '');
+    if (words) return `the file calls its intensities "${words[0]}"`;
+  }
+  return null;
+}
+
+/** 7-point quadratic/cubic smoothing weights ×21 (Savitzky & Golay, Anal. Chem. 36, 1627 (1964), table I). */
+const SG7 = [-2, 3, 6, 7, 6, 3, -2];
+const SG7_NORM = 21;
+/** A point's residual from that smooth has variance σ²(1 − w₀), w₀ = 7/21 its own weight (for white noise). */
+const SG7_RESIDUAL_VARIANCE = 1 - 7 / 21;
+
+/**
+ * The noise scale of the pattern against √background. Counts (whole, non-negative numbers the file does not
+ * call otherwise) have scale 1 (Poisson). Otherwise the scale is measured from the data: each point's residual
+ * from a 7-point Savitzky–Golay smooth, squared, over its local level; the median of that, as in the
+ * median-absolute-deviation noise estimate of Donoho & Johnstone, Biometrika 81, 425 (1994) (from memory),
+ * is unmoved by the peaks, and the smooth follows peaks and background slopes, so only the scatter is left.
+ * A smooth curve (a noise-free simulation) leaves next to no residual: then counting statistics are used.
+ */
+export function estimateNoise(pattern: Pattern, background: Float64Array, noise: NoiseModel): NoiseEstimate {
+  if (noise === 'pattern') return { model: 'pattern', scale: 1, notCounts: null, note: null };
+  const notCounts = noise === 'counts' ? null : notCountsReason(pattern);
+  if (notCounts === null) return { model: 'counts', scale: 1, notCounts: null, note: null };
   const { y } = pattern;
   const n = y.length;
+  const half = SG7.length >> 1;
+  const floor = backgroundFloor(background, false);
+  const inner = Math.max(0, n - 2 * half);
+  const ratios = new Float64Array(inner);
+  const relative = new Float64Array(inner);
+  for (let i = half; i < n - half; i++) {
+    let smooth = 0;
+    for (let k = -half; k <= half; k++) smooth += SG7[k + half]! * y[i + k];
+    const residual = y[i] - smooth / SG7_NORM;
+    // Against the local level (at a peak the scatter is that of the peak's intensity, not the background's).
+    const level = Math.max(smooth / SG7_NORM, background[i], floor);
+    const variance = (residual * residual) / SG7_RESIDUAL_VARIANCE;
+    ratios[i - half] = variance / level;
+    relative[i - half] = variance / (level * level);
+  }
+  const scale = Math.sqrt(medianOfSorted(ratios.sort()) / CHI2_1_MEDIAN);
+  const relativeNoise = Math.sqrt(medianOfSorted(relative.sort()) / CHI2_1_MEDIAN);
+  if (!(scale > 0) || !(relativeNoise > NOISE_FREE_RELATIVE)) {
+    return {
+      model: 'counts',
+      scale: 1,
+      notCounts,
+      note: `${notCounts}, but the data show next to no point-to-point scatter (a noise-free or smoothed curve): σ = √intensity (counting statistics) was used`,
+    };
+  }
+  return {
+    model: 'measured',
+    scale,
+    notCounts,
+    note: `${notCounts}, so they are not taken as counts: the noise was measured from the point-to-point scatter of the data (σ = ${Number(scale.toPrecision(3))}·√background)`,
+  };
+}
+
+function medianOfSorted(values: Float64Array): number {
+  return values.length === 0 ? Number.NaN : values[values.length >> 1];
+}
+
+/** Smallest background level σ is taken from: 1 count for counts, else a thousandth of the background's maximum. */
+function backgroundFloor(background: Float64Array, counts: boolean): number {
+  if (counts) return 1;
+  let positive = 0;
+  for (let i = 0; i < background.length; i++) if (background[i] > positive) positive = background[i];
+  return Math.max(positive * 1e-3, Number.MIN_VALUE);
+}
+
+/** σ of the background at each point: the pattern's own sigma, or the noise scale times √background. */
+export function backgroundSigma(pattern: Pattern, background: Float64Array, noise: NoiseModel | NoiseEstimate): Float64Array {
+  const estimate = typeof noise === 'string' ? estimateNoise(pattern, background, noise) : noise;
+  const n = pattern.y.length;
   const sigma = new Float64Array(n);
-  if (noise === 'pattern') {
+  if (estimate.model === 'pattern') {
     sigma.set(pattern.sigma);
     return sigma;
   }
-  let counts = noise === 'counts';
-  if (noise === 'auto') {
-    counts = true;
-    for (let i = 0; i < n && counts; i++) counts = Number.isInteger(y[i]) && y[i] >= 0;
-  }
-  let positive = 0;
-  for (let i = 0; i < n; i++) if (background[i] > positive) positive = background[i];
-  const floor = counts ? 1 : Math.max(positive * 1e-3, Number.MIN_VALUE);
-  let scale = 1;
-  if (!counts) {
-    const ratios = new Float64Array(n - 2);
-    for (let i = 1; i < n - 1; i++) {
-      const second = y[i - 1] - 2 * y[i] + y[i + 1];
-      ratios[i - 1] = (second * second) / 6 / Math.max(background[i], floor);
-    }
-    ratios.sort();
-    scale = Math.sqrt(ratios[ratios.length >> 1] / CHI2_1_MEDIAN);
-    // Next to no scatter at all (a noise-free simulation, say): fall back to counting statistics.
-    if (!(scale > NOISE_FREE_SCALE)) scale = 1;
-  }
-  for (let i = 0; i < n; i++) sigma[i] = scale * Math.sqrt(Math.max(background[i], floor));
+  const floor = backgroundFloor(background, estimate.notCounts === null);
+  for (let i = 0; i < n; i++) sigma[i] = estimate.scale * Math.sqrt(Math.max(background[i], floor));
   return sigma;
 }
 

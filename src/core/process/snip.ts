@@ -115,7 +115,9 @@ export function liftToNoiseMedian(x: Float64Array, y: Float64Array, background: 
   const out = background.slice();
   if (n < 3) return out;
   const span = x[n - 1] - x[0];
-  const blocks = Math.max(1, Math.round(span / blockDeg));
+  // Never more blocks than points (a block with no point has no median), whatever the span or block width.
+  const wanted = Math.round(span / blockDeg);
+  const blocks = wanted >= 1 ? Math.min(wanted, n) : 1;
   const centres = new Float64Array(blocks);
   const offsets = new Float64Array(blocks);
   const scratch = new Float64Array(n);
