@@ -146,7 +146,7 @@ function referencesFromShared(heads: readonly ReferenceHead[], shared: SharedLin
 }
 
 /** Index the references once and put the index and the lines where every worker can read them without a copy. */
-export function shareSetup(setup: BatchSetup): SharedSetup {
+function shareSetup(setup: BatchSetup): SharedSetup {
   const index = buildReferenceIndex(setup.references);
   return {
     heads: setup.references.map(({ lines: _lines, ...head }) => head),
@@ -170,7 +170,7 @@ export function contextFromShared(shared: SharedSetup): AnalysisContext {
 }
 
 /** batch-worker.js beside this module; when running from TypeScript sources, the compiled one in dist/. */
-export function defaultWorkerScript(): URL {
+function defaultWorkerScript(): URL {
   const here = new URL('./batch-worker.js', import.meta.url);
   if (existsSync(fileURLToPath(here))) return here;
   const source = fileURLToPath(import.meta.url);

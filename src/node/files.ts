@@ -5,7 +5,7 @@ import type { Pattern } from '../core/model/pattern.js';
 import { readPatternBytes } from '../core/pattern/read.js';
 
 /** Largest pattern file read unless the caller allows more (a 2 M-line export is about 40 MB). */
-export const DEFAULT_MAX_PATTERN_BYTES = 200 * 1024 * 1024;
+const DEFAULT_MAX_PATTERN_BYTES = 200 * 1024 * 1024;
 
 export interface ReadFileOptions {
   /** Refuse files larger than this, bytes (default DEFAULT_MAX_PATTERN_BYTES). */
@@ -16,7 +16,7 @@ export interface ReadFileOptions {
  * The bytes of a regular file, read once and read-only. A FIFO, a device or a socket is refused before
  * a byte is read (reading /dev/zero would never end), and so is a file over the size cap.
  */
-export function readRegularFile(path: string, options: ReadFileOptions = {}): Uint8Array {
+function readRegularFile(path: string, options: ReadFileOptions = {}): Uint8Array {
   const maxBytes = options.maxBytes ?? DEFAULT_MAX_PATTERN_BYTES;
   let fd: number;
   try {

@@ -25,7 +25,7 @@ export interface SpaceGroup {
 }
 
 /** Crystal system from the space-group number (International Tables Vol. A, Table 2.1.2.1 ranges). */
-export function crystalSystemOfNumber(n: number): CrystalSystem {
+function crystalSystemOfNumber(n: number): CrystalSystem {
   if (n <= 2) return 'triclinic';
   if (n <= 15) return 'monoclinic';
   if (n <= 74) return 'orthorhombic';
@@ -35,7 +35,7 @@ export function crystalSystemOfNumber(n: number): CrystalSystem {
   return 'cubic';
 }
 
-export function buildSpaceGroup(
+function buildSpaceGroup(
   operations: readonly SymOp[],
   identity: { number: number | null; symbol: string; hall: string | null },
 ): SpaceGroup {

@@ -48,7 +48,7 @@ export interface UnitCellAtoms {
 }
 
 /** Images of one site closer than this (Å) are the same atom on a special position. */
-export const SPECIAL_POSITION_TOLERANCE_ANGSTROM = 0.03;
+const SPECIAL_POSITION_TOLERANCE_ANGSTROM = 0.03;
 
 function wrap(v: number): number {
   const w = v - Math.floor(v);
@@ -125,7 +125,7 @@ export interface Dispersion {
 }
 
 /** A wavelength within this relative distance of a tabulated anode Kα1 line takes that line's f′, f″. */
-export const DISPERSION_WAVELENGTH_TOLERANCE = 1e-3;
+const DISPERSION_WAVELENGTH_TOLERANCE = 1e-3;
 
 /**
  * The f′, f″ of the anode Kα1 line that λ is (within DISPERSION_WAVELENGTH_TOLERANCE), from the
@@ -269,7 +269,7 @@ export function structureFactorContext(
  * and 4.2.6, from memory), kept as F = P + iQ with P = Σ T occ (f0 + f′) exp(2πi h·x), Q = Σ T occ f″ exp(2πi h·x):
  * ctx.sum = [Re P, Im P, Re Q, Im Q]. Indices must lie within the context's limits. Allocates nothing.
  */
-export function structureFactorParts(ctx: StructureFactorContext, h: number, k: number, l: number, s2: number): Float64Array {
+function structureFactorParts(ctx: StructureFactorContext, h: number, k: number, l: number, s2: number): Float64Array {
   const { atoms, coefficients, fPrime, fDoublePrime, f, weight, weightImag, cos, sin, limits, sum } = ctx;
   for (let e = 0; e < f.length; e++) f[e] = formFactor(coefficients[e], s2) + fPrime[e];
   const { distinctB, siteBIndex, debyeWaller } = ctx;

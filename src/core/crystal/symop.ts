@@ -23,7 +23,7 @@ export function makeOp(r: readonly number[], t: readonly number[] = [0, 0, 0]): 
   return { r: r.slice(), t: t.map((v) => mod(v, D)) };
 }
 
-export const IDENTITY: SymOp = makeOp([1, 0, 0, 0, 1, 0, 0, 0, 1]);
+const IDENTITY: SymOp = makeOp([1, 0, 0, 0, 1, 0, 0, 0, 1]);
 
 /** (R1|t1)(R2|t2) = (R1 R2 | R1 t2 + t1). */
 export function multiplyOps(a: SymOp, b: SymOp): SymOp {
@@ -45,7 +45,7 @@ export function opKey(op: SymOp): string {
  * A number that identifies an operation whose rotation entries are all −1, 0 or 1 (true of every
  * tabulated setting): base-3 rotation digits times 24³ plus the translation in 24ths; NaN otherwise.
  */
-export function opCode(op: SymOp): number {
+function opCode(op: SymOp): number {
   let rotation = 0;
   for (let i = 0; i < 9; i++) {
     const v = op.r[i];

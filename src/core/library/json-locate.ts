@@ -9,7 +9,7 @@ interface PlaceNode {
   children: Map<string, PlaceNode> | null;
 }
 
-export class JsonSyntaxProblem extends Error {
+class JsonSyntaxProblem extends Error {
   constructor(
     message: string,
     readonly line: number,

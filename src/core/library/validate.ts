@@ -148,7 +148,7 @@ function canonicalCell(cell: UnitCell): UnitCell {
   return out;
 }
 
-export function normalizeTags(tags: readonly string[]): string[] {
+function normalizeTags(tags: readonly string[]): string[] {
   const seen = new Set<string>();
   const out: string[] = [];
   for (const raw of tags) {

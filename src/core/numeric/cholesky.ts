@@ -5,7 +5,7 @@
  * `relative` times its diagonal element (that parameter is then, to working precision, a combination of
  * the earlier ones). Returns −1 on success, else the column where it failed.
  */
-export function choleskyFactorRelative(m: Float64Array, n: number, relative: number): number {
+function choleskyFactorRelative(m: Float64Array, n: number, relative: number): number {
   for (let j = 0; j < n; j++) {
     const diagonal = m[j * n + j];
     let d = diagonal;

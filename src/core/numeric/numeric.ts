@@ -65,7 +65,7 @@ export function normalTwoSidedP(z: number): number {
 }
 
 /** ln Γ(x), x > 0: Lanczos approximation (g = 7, n = 9), Lanczos, SIAM J. Numer. Anal. B 1, 86 (1964). */
-export function logGamma(x: number): number {
+function logGamma(x: number): number {
   const c = [
     0.99999999999980993, 676.5203681218851, -1259.1392167224028, 771.32342877765313, -176.61502916214059,
     12.507343278686905, -0.13857109526572012, 9.9843695780195716e-6, 1.5056327351493116e-7,
@@ -82,7 +82,7 @@ export function logGamma(x: number): number {
  * Regularized upper incomplete gamma Q(a, x): power series below x = a + 1, Lentz continued fraction
  * above (the standard split; e.g. Press et al., Numerical Recipes, 3rd ed., §6.2).
  */
-export function gammaQ(a: number, x: number): number {
+function gammaQ(a: number, x: number): number {
   if (x <= 0) return 1;
   const lnPrefactor = -x + a * Math.log(x) - logGamma(a);
   if (x < a + 1) {
@@ -302,12 +302,6 @@ export function incompleteBeta(x: number, a: number, b: number): number {
     if (Math.abs(delta - 1) < 1e-15) break;
   }
   return (Math.exp(lnFront) * h) / a;
-}
-
-/** Upper tail P(F ≥ f) of the F distribution with (d1, d2) degrees of freedom. */
-export function fDistributionSurvival(f: number, d1: number, d2: number): number {
-  if (!(f > 0)) return 1;
-  return incompleteBeta(d2 / (d2 + d1 * f), d2 / 2, d1 / 2);
 }
 
 /** Median of a non-empty list (mean of the middle two for an even count). */

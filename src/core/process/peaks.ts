@@ -20,7 +20,7 @@ import type { NoiseEstimate, NoiseModel, PeakGuess, PeakSearchOptions, PeakSearc
  * (Kα2 modelled), and a fitted peak is kept only if its height and its area are each at least
  * thresholdSigma standard uncertainties, and it is broader than a spike.
  */
-export const DEFAULT_THRESHOLD_SIGMA = 3;
+const DEFAULT_THRESHOLD_SIGMA = 3;
 /** 2θ lies strictly between 0° and 180° (Bragg's law: 0 < θ < 90°). */
 const TWO_THETA_LIMIT_DEG = 180;
 const DEFAULT_SMOOTH_WINDOW_DEG = 0.05;
@@ -318,7 +318,7 @@ const SG7_RESIDUAL_VARIANCE = 1 - 7 / 21;
  * is unmoved by the peaks, and the smooth follows peaks and background slopes, so only the scatter is left.
  * A smooth curve (a noise-free simulation) leaves next to no residual: then counting statistics are used.
  */
-export function estimateNoise(pattern: Pattern, background: Float64Array, noise: NoiseModel): NoiseEstimate {
+function estimateNoise(pattern: Pattern, background: Float64Array, noise: NoiseModel): NoiseEstimate {
   if (noise === 'pattern') return { model: 'pattern', scale: 1, notCounts: null, note: null };
   const notCounts = noise === 'counts' ? null : notCountsReason(pattern);
   if (notCounts === null) return { model: 'counts', scale: 1, notCounts: null, note: null };
@@ -370,7 +370,7 @@ function backgroundFloor(background: Float64Array, counts: boolean): number {
 }
 
 /** σ of the background at each point: the pattern's own sigma, or the noise scale times √background. */
-export function backgroundSigma(pattern: Pattern, background: Float64Array, noise: NoiseModel | NoiseEstimate): Float64Array {
+function backgroundSigma(pattern: Pattern, background: Float64Array, noise: NoiseModel | NoiseEstimate): Float64Array {
   const estimate = typeof noise === 'string' ? estimateNoise(pattern, background, noise) : noise;
   const n = pattern.y.length;
   const sigma = new Float64Array(n);

@@ -23,7 +23,7 @@ export function pseudoVoigt(dx: number, fwhm: number, eta: number): number {
 }
 
 /** Peak height of a unit-area pseudo-Voigt. */
-export function pseudoVoigtPeakHeight(fwhm: number, eta: number): number {
+function pseudoVoigtPeakHeight(fwhm: number, eta: number): number {
   return (eta * LORENTZ_NORM + (1 - eta) * GAUSS_NORM) / fwhm;
 }
 

@@ -36,7 +36,7 @@ export interface ReferenceFileContents {
 }
 
 /** References in a file's text: the reference JSON format, a CSV peak list, or a structure CIF (every phase block). */
-export function parseReferenceFileContents(text: string, fileName: string, options: ReferenceFileOptions = {}): ReferenceFileContents {
+function parseReferenceFileContents(text: string, fileName: string, options: ReferenceFileOptions = {}): ReferenceFileContents {
   switch (referenceFileKind(text, fileName)) {
     case 'json':
       return { references: parseReferenceJson(text, fileName), skipped: [] };

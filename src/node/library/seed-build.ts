@@ -118,7 +118,7 @@ export function buildSeedReferences(cifFolder: string = join(seedFolder(), 'cif'
 }
 
 /** File name of a seed reference in reference-patterns/: its name in lower case with hyphens. */
-export function seedFileName(ref: Reference): string {
+function seedFileName(ref: Reference): string {
   return `${ref.name.toLowerCase().replace(/[^a-z0-9]+/g, '-')}.json`;
 }
 

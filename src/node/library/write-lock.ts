@@ -45,7 +45,7 @@ export function forgetHolder(libraryPath: string): void {
 }
 
 /** The writer named by the note, when the note is there and its process still runs; else null. */
-export function currentHolder(libraryPath: string): LockHolder | null {
+function currentHolder(libraryPath: string): LockHolder | null {
   let holder: Partial<LockHolder>;
   try {
     holder = JSON.parse(readFileSync(holderFile(libraryPath), 'utf8')) as Partial<LockHolder>;

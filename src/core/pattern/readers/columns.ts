@@ -27,7 +27,7 @@ const NON_FINITE_WORD = /^"?[-+]?(nan|inf|infinity|1\.#inf|1\.#ind|1\.#qnan|-?na
 const NUMBER_WORD = /^"?[-+]?(\d+([.,]\d*)?|[.,]\d+)([eE][-+]?\d+)?"?$/;
 
 /** Separator of a data row: ';' if present, else ',' unless the commas are decimal commas between blanks. */
-export function detectSeparator(line: string): Separator {
+function detectSeparator(line: string): Separator {
   if (line.includes(';')) return ';';
   if (!line.includes(',')) return 'blank';
   const words = line.trim().split(/[ \t]+/);
