@@ -5,6 +5,7 @@
  * half-time t½ = (ln 2)^(1/n)/k, and only when the data support it.
  */
 import { invertSmall, quadraticForm } from '../numeric/numeric.js';
+import { LevenbergMarquardt, type NormalEquationsTarget } from '../numeric/levenberg-marquardt.js';
 
 export type GrowthModel = 'first-order' | 'jmak';
 
@@ -83,67 +84,52 @@ interface LmResult {
   ssr: number;
 }
 
-/** Levenberg–Marquardt on a small problem with a numerical Jacobian; returns null when it does not settle. */
-function levenbergMarquardt(residuals: (p: Float64Array) => Float64Array, start: number[], maxIterations = 200): LmResult | null {
+/**
+ * The weighted least-squares fit of a growth model by the one Levenberg–Marquardt (core/numeric), its
+ * normal matrix from a forward-difference Jacobian of the residuals; null when the normal matrix at the
+ * end cannot be inverted (the parameters are not determined by the points).
+ */
+function leastSquares(residuals: (p: Float64Array) => Float64Array, start: number[], maxIterations = 200): LmResult | null {
   const m = start.length;
-  let p = Float64Array.from(start);
-  let r = residuals(p);
-  const n = r.length;
-  let ssr = r.reduce((s, v) => s + v * v, 0);
-  let lambda = 1e-3;
-  const jac = new Float64Array(n * m);
-  const jacobian = (at: Float64Array) => {
-    for (let j = 0; j < m; j++) {
-      const h = 1e-6 * Math.max(1, Math.abs(at[j]));
-      const q = Float64Array.from(at);
-      q[j] += h;
-      const rq = residuals(q);
-      for (let i = 0; i < n; i++) jac[i * m + j] = (rq[i] - r[i]) / h;
-    }
+  const target: NormalEquationsTarget = {
+    evaluate(at, normal, gradient) {
+      const r = residuals(at);
+      const n = r.length;
+      let ssr = 0;
+      for (let i = 0; i < n; i++) ssr += r[i] * r[i];
+      if (!Number.isFinite(ssr)) return Infinity;
+      normal.fill(0, 0, m * m);
+      gradient.fill(0, 0, m);
+      const jac = new Float64Array(n * m);
+      for (let j = 0; j < m; j++) {
+        const h = 1e-6 * Math.max(1, Math.abs(at[j]));
+        const q = Float64Array.from(at);
+        q[j] += h;
+        const rq = residuals(q);
+        for (let i = 0; i < n; i++) jac[i * m + j] = (rq[i] - r[i]) / h;
+      }
+      // The residuals are (model − data)/σ, so the solver's gradient Jᵀ(data − model)/σ² is −Jᵀr.
+      for (let i = 0; i < n; i++) {
+        for (let a = 0; a < m; a++) {
+          gradient[a] -= jac[i * m + a] * r[i];
+          for (let b = 0; b < m; b++) normal[a * m + b] += jac[i * m + a] * jac[i * m + b];
+        }
+      }
+      return ssr;
+    },
   };
-  for (let iter = 0; iter < maxIterations; iter++) {
-    jacobian(p);
-    const jtj = new Float64Array(m * m);
-    const jtr = new Float64Array(m);
-    for (let i = 0; i < n; i++) {
-      for (let a = 0; a < m; a++) {
-        jtr[a] += jac[i * m + a] * r[i];
-        for (let b = 0; b < m; b++) jtj[a * m + b] += jac[i * m + a] * jac[i * m + b];
-      }
-    }
-    let improved = false;
-    while (lambda < 1e12) {
-      const damped = Float64Array.from(jtj);
-      for (let a = 0; a < m; a++) damped[a * m + a] *= 1 + lambda;
-      const inv = invertSmall(damped, m);
-      if (!inv) {
-        lambda *= 10;
-        continue;
-      }
-      const trial = Float64Array.from(p);
-      for (let a = 0; a < m; a++) for (let b = 0; b < m; b++) trial[a] -= inv[a * m + b] * jtr[b];
-      const rt = residuals(trial);
-      const st = rt.reduce((s, v) => s + v * v, 0);
-      if (Number.isFinite(st) && st < ssr) {
-        const converged = ssr - st < 1e-12 * Math.max(ssr, 1e-30);
-        p = trial;
-        r = rt;
-        ssr = st;
-        lambda = Math.max(lambda / 10, 1e-12);
-        improved = true;
-        if (converged) iter = maxIterations;
-        break;
-      }
-      lambda *= 10;
-    }
-    if (!improved) break;
-  }
-  jacobian(p);
-  const jtj = new Float64Array(m * m);
-  for (let i = 0; i < n; i++) for (let a = 0; a < m; a++) for (let b = 0; b < m; b++) jtj[a * m + b] += jac[i * m + a] * jac[i * m + b];
-  const inv = invertSmall(jtj, m);
+  const params = Float64Array.from(start);
+  const solver = new LevenbergMarquardt();
+  const { chi2 } = solver.minimise(target, params, m, {
+    lower: new Float64Array(m).fill(-Infinity),
+    upper: new Float64Array(m).fill(Infinity),
+    maxIterations,
+    relativeTolerance: 1e-12,
+  });
+  if (!Number.isFinite(chi2)) return null;
+  const inv = invertSmall(Float64Array.from(solver.normalMatrix.subarray(0, m * m)), m);
   if (!inv) return null;
-  return { params: p, covariance: inv, ssr };
+  return { params, covariance: inv, ssr: chi2 };
 }
 
 interface Candidate {
@@ -168,7 +154,7 @@ function fitModel(points: readonly GrowthPoint[], sigmas: readonly number[], c: 
   const initial = [start.plateau, Math.log(start.k)];
   if (jmak) initial.push(Math.log(start.n));
   if (c.induction) initial.push(start.t0);
-  const lm = levenbergMarquardt(residuals, initial);
+  const lm = leastSquares(residuals, initial);
   if (!lm) return null;
   const m = initial.length;
   const { A, k, n, t0 } = unpack(lm.params);
