@@ -125,8 +125,22 @@ function dropImpossibleAngles(
     );
   }
   // Stray rows inside 0–180° but far from the scan: more than STRAY_GAP_STEPS median steps from both neighbours.
-  const inside = Array.from({ length: n }, (_, i) => i).filter((i) => !bad[i]).sort((a, b) => x[a]! - x[b]!);
-  const steps = inside.slice(1).map((k, j) => x[k]! - x[inside[j]!]!).filter((d) => d > 0).sort((a, b) => a - b);
+  // (Typed arrays throughout: this runs on every file read; the order is sorted only when the rows are not.)
+  let inside = new Int32Array(n - impossible);
+  let ascending = true;
+  for (let i = 0, j = 0; i < n; i++) {
+    if (bad[i]) continue;
+    if (j > 0 && x[i]! < x[inside[j - 1]!]!) ascending = false;
+    inside[j++] = i;
+  }
+  if (!ascending) inside = Int32Array.from(Array.from(inside).sort((a, b) => x[a]! - x[b]!));
+  const positiveSteps = new Float64Array(Math.max(0, inside.length - 1));
+  let stepCount = 0;
+  for (let j = 1; j < inside.length; j++) {
+    const d = x[inside[j]!]! - x[inside[j - 1]!]!;
+    if (d > 0) positiveSteps[stepCount++] = d;
+  }
+  const steps = positiveSteps.subarray(0, stepCount).sort();
   const typical = steps.length ? steps[steps.length >> 1]! : 0;
   let stray = 0;
   if (typical > 0) {
