@@ -23,6 +23,11 @@ function crystallog(...args: string[]) {
   return spawnSync(process.execPath, [cli, ...args], { encoding: 'utf8', cwd: dir });
 }
 
+/** As root file modes do not bind, so the command runs as the unprivileged user "nobody" (uid 65534) to meet a read-only file. */
+const asUnprivileged = process.getuid?.() === 0 ? { uid: 65534, gid: 65534 } : {};
+/** Whether that user can run the command from where this checkout lies (a checkout under a private home folder cannot). */
+const unprivilegedCanRun = spawnSync(process.execPath, ['-e', `require('fs').accessSync(${JSON.stringify(cli)}, require('fs').constants.R_OK)`], asUnprivileged).status === 0;
+
 /** Run a command on a copy of a file and give back its exit, messages and whether the bytes changed. */
 function onFile(path: string, ...args: string[]) {
   const before = readFileSync(path);
@@ -122,12 +127,16 @@ describe('library files that are not what they seem', () => {
     expect(listed.changed).toBe(false);
   });
 
-  // root writes through file modes, so there is no read-only file to meet as root.
-  it.skipIf(process.getuid?.() === 0)('refuses to import into a read-only library with a sentence, leaving it as it is', () => {
+  it.skipIf(!unprivilegedCanRun)('refuses to import into a read-only library with a sentence, leaving it as it is', () => {
     const readOnly = join(dir, 'read-only-import.sqlite');
     copyFileSync(good, readOnly);
     chmodSync(readOnly, 0o444);
-    const { run, changed } = onFile(readOnly, 'library', 'import', referenceFile(), '--library', readOnly);
+    const reference = referenceFile();
+    chmodSync(dir, 0o755);
+    const before = readFileSync(readOnly);
+    const run = spawnSync(process.execPath, [cli, 'library', 'import', reference, '--library', readOnly], { encoding: 'utf8', cwd: dir, ...asUnprivileged });
+    chmodSync(dir, 0o700);
+    const changed = !before.equals(readFileSync(readOnly));
     expect(run.status, run.stderr).toBe(2);
     expect(run.stderr).toMatch(/read-only-import\.sqlite: cannot write to this reference-library file: it or its folder is read-only/);
     expect(changed).toBe(false);
