@@ -177,6 +177,8 @@ export function startDemoProject(workspace: Workspace): { state: ProjectState; s
   const standard = workspace.addSample(standardFile, bytes, { label: 'LaB6 standard', variant: null, hours: null });
   try {
     workspace.saveInstrument(standard.id, stored.get('standard')!.name);
+    // Analysed again with its own profile, so the standard is not shown out of date on first open.
+    workspace.reanalyze(standard.id);
   } catch {
     // Without a usable standard fit the demo still works; sizes are then uncorrected lower bounds.
   }

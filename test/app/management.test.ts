@@ -75,3 +75,19 @@ describe('the demo button', () => {
     expect(demos).toHaveLength(1);
   }, 120_000);
 });
+
+describe('the demo project on first open', () => {
+  it('shows no sample out of date, the standard included', async () => {
+    const fresh = createAppApi({ mode: 'browser', dataDir: freshDataDir() });
+    try {
+      const reply = await fresh.call('project.demo', {});
+      if (!reply.ok) throw new Error(reply.error.message);
+      const { state } = reply.result as ApiResults['project.demo'];
+      const standard = state.samples.find((s) => /LaB6/.test(s.fileName))!;
+      expect(standard.verdict).toBe('instrument standard');
+      expect(state.samples.filter((s) => s.stale).map((s) => s.name)).toEqual([]);
+    } finally {
+      fresh.close();
+    }
+  }, 120_000);
+});
