@@ -1,12 +1,12 @@
 // The desktop shell: one window, the menu, native dialogs and the IPC bridge. Everything else is in src/app,
 // run by the system's Node.js in a process of its own (engine-client.ts): this runtime's Node.js has another ABI.
 import { app, BrowserWindow, dialog, ipcMain, Menu, protocol, session, shell, type IpcMainInvokeEvent, type MenuItemConstructorOptions } from 'electron';
-import { readFile, writeFile } from 'node:fs/promises';
+import { readFile, stat, writeFile } from 'node:fs/promises';
 import { basename, dirname, extname, join, normalize, sep } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { z } from 'zod';
 import { startEngine } from '../src/app/engine-client.js';
-import { IPC, type MenuAction, type PickedFile } from '../src/api/bridge.js';
+import { IPC, MAX_PATTERN_MB_SETTING, maxPatternBytes, tooLargeMessage, type MenuAction, type PickedFile } from '../src/api/bridge.js';
 import { CONTENT_SECURITY_POLICY } from '../src/api/csp.js';
 
 const here = dirname(fileURLToPath(import.meta.url));
@@ -51,7 +51,13 @@ function registerIpc(): void {
     const result = await dialog.showOpenDialog(mainWindow!, { properties: ['openFile', 'multiSelections'], filters });
     if (result.canceled) return [];
     const files: PickedFile[] = [];
-    for (const path of result.filePaths) files.push({ name: basename(path), bytesBase64: (await readFile(path)).toString('base64') });
+    // Only regular files within the size cap are read, as on the command line (a FIFO or a device would never end).
+    const maxBytes = maxPatternBytes(process.env[MAX_PATTERN_MB_SETTING]);
+    for (const path of result.filePaths) {
+      const info = await stat(path);
+      const refused = !info.isFile() ? 'this is not a regular file (a pipe, a device or a socket); save the pattern to a file first' : info.size > maxBytes ? tooLargeMessage(info.size, maxBytes) : null;
+      files.push(refused ? { name: basename(path), bytesBase64: '', refused } : { name: basename(path), bytesBase64: (await readFile(path)).toString('base64') });
+    }
     return files;
   });
   handle(IPC.saveFile, async (_event, requestArg) => {

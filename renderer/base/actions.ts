@@ -18,6 +18,8 @@ export async function addPatternFiles(files: PickedFile[]): Promise<void> {
   const added: SampleSummary[] = [];
   const refused: string[] = [];
   const duplicates: string[] = [];
+  for (const file of files) if (file.refused) refused.push(`${file.name}: ${file.refused}`);
+  files = files.filter((f) => !f.refused);
   const { cancelled } = await withProgress(`Analysing ${files.length} pattern file${files.length === 1 ? '' : 's'}`, files, async (file) => {
     try {
       const sample = await call('sample.add', { fileName: file.name, bytesBase64: file.bytesBase64 });

@@ -79,6 +79,10 @@ async function importFiles(refresh: () => Promise<void>, right: HTMLElement): Pr
   const files = await pickFiles('references');
   const names: string[] = [];
   await withProgress('Importing references', files, async (file) => {
+    if (file.refused) {
+      notify(`${file.name}: ${file.refused}`, 'error');
+      return;
+    }
     try {
       const text = new TextDecoder().decode(Uint8Array.from(atob(file.bytesBase64), (c) => c.charCodeAt(0)));
       const result = await call('library.import', { fileName: file.name, text });

@@ -8,7 +8,11 @@ import type { ApiReply } from './reply.js';
 export interface PickedFile {
   name: string;
   bytesBase64: string;
+  /** Why the shell did not read it (not a regular file, over the size cap); bytesBase64 is then empty. */
+  refused?: string;
 }
+
+export { MAX_PATTERN_MB_SETTING, maxPatternBytes, tooLargeMessage } from '../core/model/file-limits.js';
 
 export interface SaveRequest {
   suggestedName: string;

@@ -1,14 +1,13 @@
 import { createHash } from 'node:crypto';
 import { closeSync, constants, fstatSync, openSync, readSync } from 'node:fs';
 import { InputError } from '../core/errors.js';
+import { MAX_PATTERN_MB_SETTING, maxPatternBytes, tooLargeMessage } from '../core/model/file-limits.js';
 import type { Pattern } from '../core/model/pattern.js';
 import { readPatternBytes } from '../core/pattern/read.js';
 
-/** Largest pattern file read unless the caller allows more (a 2 M-line export is about 40 MB). */
-const DEFAULT_MAX_PATTERN_BYTES = 200 * 1024 * 1024;
 
 export interface ReadFileOptions {
-  /** Refuse files larger than this, bytes (default DEFAULT_MAX_PATTERN_BYTES). */
+  /** Refuse files larger than this, bytes (default: CRYSTALLOG_MAX_FILE_MB, else 200 MB; core/model/file-limits.ts). */
   maxBytes?: number;
 }
 
@@ -17,7 +16,7 @@ export interface ReadFileOptions {
  * a byte is read (reading /dev/zero would never end), and so is a file over the size cap.
  */
 function readRegularFile(path: string, options: ReadFileOptions = {}): Uint8Array {
-  const maxBytes = options.maxBytes ?? DEFAULT_MAX_PATTERN_BYTES;
+  const maxBytes = options.maxBytes ?? maxPatternBytes(process.env[MAX_PATTERN_MB_SETTING]);
   let fd: number;
   try {
     // Non-blocking, so that opening a FIFO with no writer returns at once (and is then refused).
@@ -30,7 +29,7 @@ function readRegularFile(path: string, options: ReadFileOptions = {}): Uint8Arra
     if (stat.isDirectory()) throw new InputError('this is a folder, not a file; check the path', { file: path });
     if (!stat.isFile()) throw new InputError('this is not a regular file (a pipe, a device or a socket); save the pattern to a file and give its path', { file: path });
     if (stat.size > maxBytes) {
-      throw new InputError(`the file has ${(stat.size / 1048576).toFixed(0)} MB, more than the ${(maxBytes / 1048576).toFixed(0)} MB a pattern file may have here; check that this is a pattern, or allow larger files`, { file: path });
+      throw new InputError(tooLargeMessage(stat.size, maxBytes), { file: path });
     }
     const bytes = new Uint8Array(stat.size);
     let filled = 0;
