@@ -14,6 +14,6 @@ export function maxPatternBytes(userMegabytes: string | undefined): number {
 
 /** The sentence for a file over the cap. */
 export function tooLargeMessage(sizeBytes: number, maxBytes: number): string {
-  const mb = (bytes: number): string => (bytes >= 10 * 1048576 ? (bytes / 1048576).toFixed(0) : String(Number((bytes / 1048576).toPrecision(2))));
+  const mb = (bytes: number): string => (bytes / 1048576).toFixed(0);
   return `the file has ${mb(sizeBytes)} MB, more than the ${mb(maxBytes)} MB a pattern file may have here; check that this is a pattern, or set ${MAX_PATTERN_MB_SETTING} to a larger number of MB`;
 }
