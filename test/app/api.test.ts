@@ -2,15 +2,9 @@ import { existsSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createAppApi } from '../../src/app/api.js';
 import type { ApiReply } from '../../src/api/reply.js';
-import { b64, freshDataDir, SILICON, siliconPatternText } from './fixtures.js';
+import { b64, SILICON, siliconPatternText, testApi } from './fixtures.js';
 
-const dataDir = freshDataDir();
-const api = createAppApi({ mode: 'browser', dataDir });
-const ok = async <T>(method: string, params: unknown): Promise<T> => {
-  const reply = await api.call(method, params);
-  if (!reply.ok) throw new Error(`${method}: ${reply.error.message}`);
-  return reply.result as T;
-};
+const { dataDir, api, ok } = testApi();
 
 afterAll(() => api.close());
 

@@ -1,15 +1,9 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createAppApi } from '../../src/app/api.js';
 import type { ProjectState, SeriesView } from '../../src/api/contract.js';
 import { DEMO_EXPOSURE_HOURS, DEMO_VARIANT_SIZES_NM, demoImpurityScales, demoTruth } from '../../src/app/demo.js';
-import { freshDataDir } from './fixtures.js';
+import { testApi } from './fixtures.js';
 
-const api = createAppApi({ mode: 'browser', dataDir: freshDataDir('crystallog-demo-') });
-const ok = async <T>(method: string, params: unknown): Promise<T> => {
-  const reply = await api.call(method, params);
-  if (!reply.ok) throw new Error(`${method}: ${reply.error.message}`);
-  return reply.result as T;
-};
+const { api, ok } = testApi('crystallog-demo-');
 let state: ProjectState;
 
 beforeAll(async () => {

@@ -4,6 +4,7 @@ import { join } from 'node:path';
 import { patternToXyText, simulatePattern } from '../../src/core/crystal/simulate.js';
 import type { Reference } from '../../src/core/model/reference.js';
 import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import { createAppApi } from '../../src/app/api.js';
 
 /** A fresh app-data folder per test file. */
 export function freshDataDir(prefix = 'crystallog-app-'): string {
@@ -50,3 +51,15 @@ export function siliconPatternText(options: { sizeNm?: number; extraLowAngleD?: 
 }
 
 export const b64 = (text: string): string => Buffer.from(text, 'utf8').toString('base64');
+
+/** The app's API in a fresh data folder, and `ok`: a method's result, or its sentence thrown. */
+export function testApi(prefix?: string) {
+  const dataDir = freshDataDir(prefix);
+  const api = createAppApi({ mode: 'browser', dataDir });
+  const ok = async <T>(method: string, params: unknown): Promise<T> => {
+    const reply = await api.call(method, params);
+    if (!reply.ok) throw new Error(`${method}: ${reply.error.message}`);
+    return reply.result as T;
+  };
+  return { dataDir, api, ok };
+}

@@ -3,15 +3,9 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { createAppApi } from '../../src/app/api.js';
 import type { AddedSample, ApiResults, ProjectState, SampleSummary } from '../../src/api/contract.js';
 import type { ApiReply } from '../../src/api/reply.js';
-import { b64, freshDataDir, SILICON, siliconPatternText } from './fixtures.js';
+import { b64, freshDataDir, SILICON, siliconPatternText, testApi } from './fixtures.js';
 
-const dataDir = freshDataDir();
-const api = createAppApi({ mode: 'browser', dataDir });
-const ok = async <T>(method: string, params: unknown): Promise<T> => {
-  const reply = await api.call(method, params);
-  if (!reply.ok) throw new Error(`${method}: ${reply.error.message}`);
-  return reply.result as T;
-};
+const { dataDir, api, ok } = testApi();
 afterAll(() => api.close());
 
 describe('managing projects and samples', () => {

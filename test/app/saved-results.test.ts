@@ -1,19 +1,12 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createAppApi } from '../../src/app/api.js';
 import type { ProjectState, SampleDetail, SampleSummary } from '../../src/api/contract.js';
 import { analyzePatternWithCurves, createAnalysisContext } from '../../src/core/analysis/analyse.js';
 import { readPatternBytes } from '../../src/core/pattern/read.js';
 import { openDatabase, schemaVersion } from '../../src/node/library/sqlite.js';
 import { PROJECT_MIGRATIONS, ProjectStore } from '../../src/node/project-store.js';
-import { b64, freshDataDir, SILICON, siliconPatternText } from './fixtures.js';
+import { b64, freshDataDir, SILICON, siliconPatternText, testApi } from './fixtures.js';
 
-const dataDir = freshDataDir();
-const api = createAppApi({ mode: 'browser', dataDir });
-const ok = async <T>(method: string, params: unknown): Promise<T> => {
-  const reply = await api.call(method, params);
-  if (!reply.ok) throw new Error(`${method}: ${reply.error.message}`);
-  return reply.result as T;
-};
+const { dataDir, api, ok } = testApi();
 const decode = (base64: string): Float32Array => {
   const bytes = Buffer.from(base64, 'base64');
   return new Float32Array(bytes.buffer, bytes.byteOffset, bytes.byteLength / 4);

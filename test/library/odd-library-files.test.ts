@@ -27,6 +27,10 @@ function crystallog(...args: string[]) {
 const asUnprivileged = process.getuid?.() === 0 ? { uid: 65534, gid: 65534 } : {};
 /** Whether that user can run the command from where this checkout lies (a checkout under a private home folder cannot). */
 const unprivilegedCanRun = spawnSync(process.execPath, ['-e', `require('fs').accessSync(${JSON.stringify(cli)}, require('fs').constants.R_OK)`], asUnprivileged).status === 0;
+if (!unprivilegedCanRun) {
+  // Said out loud, not skipped silently: the read-only import test below cannot run here.
+  console.warn(`odd-library-files: the read-only import test is skipped: run as root, and the user "nobody" cannot read ${cli} (a checkout in a private folder); run the suite from a readable folder to include it`);
+}
 
 /** Run a command on a copy of a file and give back its exit, messages and whether the bytes changed. */
 function onFile(path: string, ...args: string[]) {

@@ -265,11 +265,11 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
     .filter(([r], i) => i < 2 * listAbsent || r === targetIndex || setAside.has(r));
   if (targetIndex >= 0 && !promising.some(([r]) => r === targetIndex) && !accepted.some((a) => a.ref === targetIndex)) promising.push([targetIndex, firstEvaluation.get(targetIndex)!]);
   const others = promising.map(([r]) => ({ ref: r, evaluation: evaluatePhase(linesOf(r), table, finalShift, claims) }));
-  others.sort((a, b) => b.evaluation.score - a.evaluation.score);
   // References whose absence the chemist wants bounded (decomposition products, impurities) are always listed.
-  const bounded = (r: number): boolean => refs[r].tags.some((t) => BOUNDED_ABSENCE_TAGS.includes(t));
-  for (let r = 0; r < refs.length; r++) {
-    if (!bounded(r) || accepted.some((a) => a.ref === r) || others.some((o) => o.ref === r) || linesOf(r).count === 0) continue;
+  const boundedRefs = boundedReferences(refs);
+  const bounded = (r: number): boolean => boundedRefs.includes(r);
+  for (const r of boundedRefs) {
+    if (accepted.some((a) => a.ref === r) || others.some((o) => o.ref === r) || linesOf(r).count === 0) continue;
     others.push({ ref: r, evaluation: evaluatePhase(linesOf(r), table, finalShift, claims) });
   }
   others.sort((a, b) => b.evaluation.score - a.evaluation.score);
@@ -365,6 +365,18 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
     toleranceDeg: tol,
     reasons: patternReasons(table, featureless, clearPeaks, accepted, refs, shift, fit, bounds, unexplained, unexplainedAreaShare, firstLineEvaluation),
   };
+}
+
+/** The library's references tagged for a bounded absence, found once per library (a batch matches many patterns against one). */
+const boundedByLibrary = new WeakMap<readonly StoredReference[], number[]>();
+function boundedReferences(refs: readonly StoredReference[]): number[] {
+  let found = boundedByLibrary.get(refs);
+  if (!found) {
+    found = [];
+    for (let r = 0; r < refs.length; r++) if (refs[r].tags.some((t) => BOUNDED_ABSENCE_TAGS.includes(t))) found.push(r);
+    boundedByLibrary.set(refs, found);
+  }
+  return found;
 }
 
 /** At most this many look-alikes are set aside per pattern (each costs a rebuilt explanation). */
