@@ -18,6 +18,8 @@ export interface FittedPeak {
   /** Integral breadth (area / height), degrees 2θ. */
   integralBreadth: number;
   integralBreadthSigma: number;
+  /** Correlation coefficient of the FWHM and integral breadth from the fit's covariance (both come from the same widths and η). */
+  fwhmBreadthCorrelation?: number;
   /** Pseudo-Voigt Lorentzian fraction, 0 (Gaussian) to 1 (Lorentzian). */
   eta: number;
   etaSigma: number;

@@ -73,14 +73,16 @@ export function describeGroupPeaks(setting: PeakFitSetting, fit: GroupFitOutcome
   // A parameter held fixed (degenerate, see groupCovariance) adds nothing to the σ of what derives from it:
   // those σ are conditional on it; its own σ is unknown (∞).
   const isFixed = (index: number): boolean => Number.isNaN(covariance[index * paramCount + index]);
-  const sigmaOf = (base: number): number => {
+  const covarianceOf = (base: number, g1: Float64Array, g2: Float64Array): number => {
     let v = 0;
     for (let a = 0; a < perPeak; a++) {
-      if (grad[a] === 0 || isFixed(base + a)) continue;
-      for (let b = 0; b < perPeak; b++) if (!isFixed(base + b)) v += grad[a] * grad[b] * covariance[(base + a) * paramCount + base + b];
+      if (g1[a] === 0 || isFixed(base + a)) continue;
+      for (let b = 0; b < perPeak; b++) if (!isFixed(base + b)) v += g1[a] * g2[b] * covariance[(base + a) * paramCount + base + b];
     }
-    return Math.sqrt(Math.max(v, 0));
+    return v;
   };
+  const sigmaOf = (base: number): number => Math.sqrt(Math.max(covarianceOf(base, grad, grad), 0));
+  const fwhmGrad = new Float64Array(perPeak);
   const single = (base: number, slot: number): number => {
     if (isFixed(base + slot)) return Number.POSITIVE_INFINITY;
     grad.fill(0);
@@ -103,12 +105,15 @@ export function describeGroupPeaks(setting: PeakFitSetting, fit: GroupFitOutcome
     grad[WIDTH_A] = dwA;
     grad[WIDTH_B] = dwB;
     const fwhmSigma = sigmaOf(base);
+    fwhmGrad.set(grad);
     grad[WIDTH_A] = deA;
     grad[WIDTH_B] = deB;
     const etaSigma = sigmaOf(base);
     grad[WIDTH_A] = dBreadthDw * dwA + dBreadthDeta * deA;
     grad[WIDTH_B] = dBreadthDw * dwB + dBreadthDeta * deB;
     const breadthSigma = sigmaOf(base);
+    const widthCovariance = covarianceOf(base, fwhmGrad, grad);
+    const fwhmBreadthCorrelation = fwhmSigma > 0 && breadthSigma > 0 ? Math.max(-1, Math.min(1, widthCovariance / (fwhmSigma * breadthSigma))) : 0;
     grad[WIDTH_A] *= height;
     grad[WIDTH_B] *= height;
     grad[HEIGHT] = breadth;
@@ -128,6 +133,7 @@ export function describeGroupPeaks(setting: PeakFitSetting, fit: GroupFitOutcome
       fwhmSigma,
       integralBreadth: breadth,
       integralBreadthSigma: breadthSigma,
+      fwhmBreadthCorrelation,
       eta,
       etaSigma,
       group: fit.group,

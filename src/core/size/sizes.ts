@@ -1,6 +1,7 @@
 /**
  * Crystallite sizes from fitted peaks: per-peak Scherrer sizes after instrument correction, their
- * weighted mean, Williamson–Hall size and strain, and the limits of what the widths can tell.
+ * weighted mean, the size–strain plots (Halder–Wagner, and Williamson–Hall on the Voigt parts), and the
+ * limits of what the widths can tell.
  */
 import { InputError } from '../errors.js';
 import type { Hkl } from '../model/cell.js';
@@ -16,12 +17,16 @@ import { resolveScherrerK, SCHERRER_K_PRESETS, scherrerSizeNm } from './scherrer
 import {
   breadthsFromPseudoVoigt,
   pickBreadth,
+  PHI_GAUSSIAN,
   PHI_LORENTZIAN,
   sampleBreadths,
+  voigtParts,
   type BreadthKind,
   type CorrectionKind,
   type ProfileBreadths,
 } from './voigt.js';
+import { halderWagner, type SizeStrainResult } from './halder-wagner.js';
+import type { SizeStrainPoint } from './size-strain-points.js';
 import { williamsonHall, type WilliamsonHallResult } from './williamson-hall.js';
 
 export type SizeLimit = 'instrument' | 'overlap' | null;
@@ -106,7 +111,12 @@ export interface SizeResult {
   correction: CorrectionKind | 'none';
   peaks: PeakSize[];
   scherrer: ScherrerSummary;
+  /** Williamson–Hall on the Voigt parts; null with williamsonHallReason when it is no result. */
   williamsonHall: WilliamsonHallResult | null;
+  williamsonHallReason?: string;
+  /** The size–strain result to quote (Halder–Wagner); null with sizeStrainReason when it is no result. */
+  sizeStrain: SizeStrainResult | null;
+  sizeStrainReason?: string;
   /** Voigt correction only: mean of the Lorentzian-part sizes and of the Gaussian-part strains. */
   singleLine: { sizeNm: number | null; sizeSigmaNm: number | null; strain: number | null; strainSigma: number | null } | null;
   zeroShiftDeg: number;
@@ -118,34 +128,38 @@ export interface SizeResult {
 export const SIZE_CAUTIONS: readonly string[] = [
   'Scherrer and Williamson–Hall sizes are volume-weighted apparent sizes of the coherently diffracting domains; they are not the particle or aggregate size seen in microscopy, which is often 10–1000 times larger.',
   'Where strain or defects also broaden the peaks, a Scherrer size is a lower bound.',
+  'Size–strain plots assume one size and one strain for every direction; their sizes and strains depend on the stated convention (K, breadth) and are comparable only within it.',
 ];
 
 /** Floor on a fitted breadth's relative uncertainty (a fit never knows a width better than this in practice). */
 const MIN_SIGMA_RELATIVE = 0.002;
 
 type Quad = [number, number, number, number];
-type Triple = [number, number, number];
+/** [sample breadth of the chosen kind, its Lorentzian part, its Gaussian part (both of the chosen kind), its integral breadth], degrees 2θ. */
+type SampleWidths = [number, number, number, number];
 
 /**
- * Sample breadth of the chosen kind and its Lorentzian and Gaussian integral breadths (degrees 2θ; NaN
- * parts without Voigt), from v = [observed FWHM, observed integral breadth, instrument FWHM, instrument η].
+ * The sample's breadths from v = [observed FWHM, observed integral breadth, instrument FWHM, instrument η]:
+ * the chosen kind, its Voigt parts in that kind (de Keijser et al. 1982; from the observed profile when
+ * there is no instrument profile), and the integral breadth.
  */
-function sampleOf(v: Quad, correction: CorrectionKind | 'none', kind: BreadthKind): Triple {
+function sampleOf(v: Quad, correction: CorrectionKind | 'none', kind: BreadthKind): SampleWidths {
   const observed = { fwhm: v[0], integralBreadth: v[1] };
-  if (correction === 'none') return [pickBreadth(observed, kind), Number.NaN, Number.NaN];
-  const sample = sampleBreadths(observed, breadthsFromPseudoVoigt(v[2], v[3]), correction);
-  return [pickBreadth(sample, kind), sample.parts?.lorentzian ?? Number.NaN, sample.parts?.gaussian ?? Number.NaN];
+  const sample = correction === 'none' ? { ...observed, parts: null } : sampleBreadths(observed, breadthsFromPseudoVoigt(v[2], v[3]), correction);
+  const parts = sample.parts ?? voigtParts(sample);
+  const [l, g] = kind === 'fwhm' ? [parts.lorentzian * PHI_LORENTZIAN, parts.gaussian * PHI_GAUSSIAN] : [parts.lorentzian, parts.gaussian];
+  return [pickBreadth(sample, kind), l, g, sample.integralBreadth];
 }
 
-/** Standard uncertainties of the sample breadths by numerical differentiation, split into the peak's fit and the instrument's share. */
-function propagate(
-  x: Quad,
-  sx: Quad,
-  f: (v: Quad) => Triple,
-): { fit: Triple; instrument: Triple } {
-  const fit: Triple = [0, 0, 0];
-  const instrument: Triple = [0, 0, 0];
+/**
+ * Standard uncertainties of the sample widths by numerical differentiation, split into the peak's fit and
+ * the instrument's share. The observed FWHM and integral breadth come from one fit and are correlated
+ * (coefficient rho, from the fit's covariance): their contributions are added with that correlation.
+ */
+function propagate(x: Quad, sx: Quad, rho: number, f: (v: Quad) => SampleWidths): { fit: SampleWidths; instrument: SampleWidths } {
+  const gradient: number[][] = [];
   for (let j = 0; j < 4; j++) {
+    gradient.push([0, 0, 0, 0]);
     if (!(sx[j] > 0)) continue;
     const isEta = j === 3;
     const h = isEta ? 1e-4 : 1e-4 * x[j];
@@ -157,10 +171,11 @@ function propagate(
     if (!(span > 0)) continue;
     const fu = f(up);
     const fd = f(down);
-    const target = j < 2 ? fit : instrument;
-    for (let o = 0; o < 3; o++) target[o] += (((fu[o] - fd[o]) / span) * sx[j]) ** 2;
+    for (let o = 0; o < 4; o++) gradient[j][o] = ((fu[o] - fd[o]) / span) * sx[j];
   }
-  return { fit: fit.map(Math.sqrt) as Triple, instrument: instrument.map(Math.sqrt) as Triple };
+  const fit = [0, 1, 2, 3].map((o) => Math.sqrt(Math.max(0, gradient[0][o] ** 2 + gradient[1][o] ** 2 + 2 * rho * gradient[0][o] * gradient[1][o]))) as SampleWidths;
+  const instrument = [0, 1, 2, 3].map((o) => Math.hypot(gradient[2][o], gradient[3][o])) as SampleWidths;
+  return { fit, instrument };
 }
 
 interface Candidate {
@@ -175,9 +190,13 @@ interface PeakWork {
   /** Breadth uncertainty from the peak's own fit and from the instrument profile, degrees 2θ. */
   fitSigmaDeg: number;
   instrumentSigmaDeg: number;
+  /** The sample's Voigt parts in the chosen breadth kind and its integral breadth, with σ, degrees 2θ. */
   lorentzianDeg: number;
   lorentzianSigmaDeg: number;
+  gaussianDeg: number;
   gaussianSigmaDeg: number;
+  integralBreadthDeg: number;
+  integralBreadthSigmaDeg: number;
 }
 
 /** Crystallite sizes from a pattern's fitted peaks. */
@@ -232,9 +251,9 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
       inst?.fwhmSigma ?? 0,
       inst?.etaSigma ?? 0,
     ];
-    const f = (v: Quad): Triple => sampleOf(v, correction, breadth);
-    const [sampleDeg, lorentzianDeg, gaussianDeg] = f(x);
-    const sig = propagate(x, sx, f);
+    const f = (v: Quad): SampleWidths => sampleOf(v, correction, breadth);
+    const [sampleDeg, lorentzianDeg, gaussianDeg, integralBreadthDeg] = f(x);
+    const sig = propagate(x, sx, peak.fwhmBreadthCorrelation ?? 0, f);
     const sampleSigmaDeg = Math.hypot(sig.fit[0], sig.instrument[0]);
     const observedBreadthDeg = pickBreadth(peak, breadth);
     const instrumentBreadthDeg = inst ? pickBreadth(inst.breadths, breadth) : null;
@@ -256,7 +275,7 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
       statement = `${sizeNm.toPrecision(3)} ± ${sizeSigmaNm.toPrecision(2)} nm`;
     }
     const resolved = limit === null;
-    const lorentzianWidth = breadth === 'fwhm' ? lorentzianDeg * PHI_LORENTZIAN : lorentzianDeg;
+    const voigtSplit = correction === 'voigt';
     work.push({
       size: {
         twoTheta: tt,
@@ -270,14 +289,17 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
         sampleBreadthDeg: sampleDeg,
         sampleBreadthSigmaDeg: sampleSigmaDeg,
         sampleBreadthSigmaFitDeg: sig.fit[0],
-        lorentzianSizeNm: resolved && lorentzianWidth > 0 ? scherrerSizeNm(lorentzianWidth, tt, lambda, k) : null,
-        gaussianStrain: resolved && Number.isFinite(gaussianDeg) ? (gaussianDeg * DEG_TO_RAD) / (4 * Math.tan((tt / 2) * DEG_TO_RAD)) : null,
+        lorentzianSizeNm: voigtSplit && resolved && lorentzianDeg > 0 ? scherrerSizeNm(lorentzianDeg, tt, lambda, k) : null,
+        gaussianStrain: voigtSplit && resolved && Number.isFinite(gaussianDeg) ? (gaussianDeg * DEG_TO_RAD) / (4 * Math.tan((tt / 2) * DEG_TO_RAD)) : null,
       },
       fitSigmaDeg: sig.fit[0],
       instrumentSigmaDeg: sig.instrument[0],
       lorentzianDeg,
       lorentzianSigmaDeg: Math.hypot(sig.fit[1], sig.instrument[1]),
+      gaussianDeg,
       gaussianSigmaDeg: Math.hypot(sig.fit[2], sig.instrument[2]),
+      integralBreadthDeg,
+      integralBreadthSigmaDeg: Math.hypot(sig.fit[3], sig.instrument[3]),
     });
   }
   if (extrapolated) warnings.push(`${extrapolated} peak(s) lie more than 5° 2θ outside the standard's peaks; the instrument width there is extrapolated`);
@@ -305,13 +327,28 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
   }
   const atLimit = sizes.filter((s) => s.limit === 'instrument').length;
   if (scherrer.peaksUsed > 0 && atLimit > 0) warnings.push(`${atLimit} peak(s) at the instrument limit were left out of the mean size`);
-  const wh = sizes
-    .filter((s) => s.limit === null && s.sampleBreadthDeg > 0)
-    .map((s) => ({ twoThetaDeg: s.twoTheta, breadthDeg: s.sampleBreadthDeg, breadthSigmaDeg: s.sampleBreadthSigmaDeg, hkl: s.hkl }));
   const standardWithoutSize = scherrer.statement.startsWith('instrument standard');
-  const whResult = wh.length >= 2 && !standardWithoutSize ? williamsonHall(wh, { wavelengthAngstrom: lambda, k }) : null;
+  const plotPoints: SizeStrainPoint[] = work
+    .filter((w) => w.size.limit === null && w.size.sampleBreadthDeg > 0)
+    .map((w) => ({
+      twoThetaDeg: w.size.twoTheta,
+      lorentzianDeg: w.lorentzianDeg,
+      lorentzianSigmaDeg: w.lorentzianSigmaDeg,
+      gaussianDeg: w.gaussianDeg,
+      gaussianSigmaDeg: w.gaussianSigmaDeg,
+      integralBreadthDeg: w.integralBreadthDeg,
+      integralBreadthSigmaDeg: w.integralBreadthSigmaDeg,
+      hkl: w.size.hkl,
+    }));
+  const convention = { k, breadth, wavelengthAngstrom: lambda };
+  const standardReason = `instrument standard: the widths of ${options.phase?.name ?? 'the standard'} are the instrument's, so no size–strain plot is made`;
+  const whOutcome = standardWithoutSize ? { reason: standardReason } : williamsonHall(plotPoints, convention);
+  const hwOutcome = standardWithoutSize ? { reason: standardReason } : halderWagner(plotPoints, convention);
+  const whResult = 'reason' in whOutcome ? null : whOutcome;
+  const hwResult = 'reason' in hwOutcome ? null : hwOutcome;
   if (whResult) warnings.push(...whResult.warnings);
-  else if (wh.length > 0 && !standardWithoutSize) warnings.push('fewer than 2 resolved peaks: no Williamson–Hall analysis');
+  if (hwResult) warnings.push(...hwResult.warnings);
+  if (!instrument && hwResult) warnings.push('no instrument profile: the size–strain plots include the instrument\'s broadening (sizes too small, strains too large)');
   if (whResult?.anisotropy?.detected) warnings.push(whResult.anisotropy.statement);
 
   const settings: SizeSettings = {
@@ -332,6 +369,9 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
     peaks: sizes,
     scherrer,
     williamsonHall: whResult,
+    ...('reason' in whOutcome ? { williamsonHallReason: whOutcome.reason } : {}),
+    sizeStrain: hwResult,
+    ...('reason' in hwOutcome ? { sizeStrainReason: hwOutcome.reason } : {}),
     singleLine: correction === 'voigt' ? singleLineSummary(work) : null,
     zeroShiftDeg,
     settings,

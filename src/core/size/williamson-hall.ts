@@ -1,54 +1,67 @@
 /**
- * Williamson–Hall analysis, uniform deformation model: β cosθ = Kλ/D + 4ε sinθ
- * (Williamson & Hall, Acta Metall. 1, 22 (1953)), as a weighted straight-line fit with uncertainties,
- * and a check whether hkl families disagree beyond their errors (anisotropic broadening).
+ * Williamson–Hall analysis on the Voigt parts of each reflection's sample broadening: the Lorentzian
+ * part gives the size (w_L·cosθ = Kλ/D, the same for every order), the Gaussian part the strain
+ * (w_G·cosθ = 4ε·sinθ) (Williamson & Hall, Acta Metall. 1, 22 (1953); Voigt separation after de Keijser,
+ * Langford, Mittemeijer & Vogels, J. Appl. Cryst. 15, 308 (1982)). Adding whole Voigt widths linearly,
+ * as the plain plot does, mixes the two and overstates the size. Also checks whether hkl families
+ * disagree beyond their errors (anisotropic broadening).
  */
 import type { Hkl } from '../model/cell.js';
 import { DEG_TO_RAD } from '../model/units.js';
-import { chiSquareSurvival, weightedLinearFit } from '../numeric/numeric.js';
+import { chiSquareSurvival, weightedMean } from '../numeric/numeric.js';
+import {
+  describeConvention,
+  sizeStrainRefusal,
+  STRAIN_SIGNIFICANT_SIGMAS,
+  strainStatementOf,
+  twoThetaSpan,
+  type SizeStrainConvention,
+  type SizeStrainPoint,
+} from './size-strain-points.js';
 
-export interface BreadthPoint {
-  twoThetaDeg: number;
-  /** Sample breadth, degrees 2θ. */
-  breadthDeg: number;
-  breadthSigmaDeg: number;
-  hkl: Hkl | null;
-}
-
-export interface WilliamsonHallOptions {
-  wavelengthAngstrom: number;
-  k: number;
-  /** Below this many peaks the result carries a warning (default 4). */
-  minPeaks?: number;
+export interface WilliamsonHallOptions extends SizeStrainConvention {
   /** p-value below which the peaks are said to disagree (default 0.001). */
   disagreementP?: number;
 }
 
-/** A strain smaller than this many σ is reported as not detected. */
-const STRAIN_SIGNIFICANT_SIGMAS = 2;
+/** One reflection on the plot: x = 4 sinθ, y = w cosθ (radians) of the Lorentzian (size) and Gaussian (strain) parts. */
+export interface WilliamsonHallPlotPoint {
+  twoThetaDeg: number;
+  hkl: Hkl | null;
+  x: number;
+  sizeY: number;
+  sizeSigmaY: number;
+  strainY: number;
+  strainSigmaY: number;
+}
 
 export interface WilliamsonHallResult {
-  /** Size in nm, or the lower bound when `limit` is "instrument" (intercept not above zero by 2σ). */
+  method: 'williamson-hall-voigt';
+  /** The size and strain definitions used (K, breadth kind), in words. */
+  convention: string;
+  /** Size in nm, or the lower bound when `limit` is "instrument" (Lorentzian part not above zero by 2σ). */
   sizeNm: number | null;
   sizeSigmaNm: number | null;
   limit: 'instrument' | null;
-  /** Microstrain ε (dimensionless; β cosθ = Kλ/D + 4ε sinθ), as fitted even when not significant. */
+  /** Microstrain ε (ε = w_G/(4 tanθ)), as fitted even when not significant. */
   strain: number;
   strainSigma: number;
   /** |ε| ≥ 2σ: a strain is reported; otherwise "no strain detected". */
   strainDetected: boolean;
-  /** The strain as a chemist reads it: "microstrain 1.10e-3 ± 2.0e-4", or "no strain detected (|ε| < 2σ = 4.0e-4)". */
   strainStatement: string;
+  /** Uncentred r² of the strain line through the origin. */
   r2: number;
   peaksUsed: number;
-  /** Intercept Kλ/D and slope ε with their uncertainties (β in radians). */
+  twoThetaSpanDeg: { min: number; max: number };
+  /** Kλ/D (the mean of w_L cosθ, radians) and its uncertainty. */
   intercept: number;
   interceptSigma: number;
-  /** χ² of the breadths about the line and its tail probability. */
+  /** χ² of the Lorentzian parts about one size, and its tail probability. */
   chi2: number;
   dof: number;
   pValue: number;
   anisotropy: AnisotropyNote | null;
+  plot: WilliamsonHallPlotPoint[];
   statement: string;
   warnings: string[];
 }
@@ -85,77 +98,89 @@ export function hklFamily(hkl: Hkl): Hkl {
 
 const Z_FAMILY = 3;
 
-export function williamsonHall(points: readonly BreadthPoint[], options: WilliamsonHallOptions): WilliamsonHallResult | null {
+/** A Voigt-part Williamson–Hall result, or the reason there is none (too few reflections, too short a span). */
+export function williamsonHall(points: readonly SizeStrainPoint[], options: WilliamsonHallOptions): WilliamsonHallResult | { reason: string } {
+  const refusal = sizeStrainRefusal(points);
+  if (refusal) return { reason: refusal };
   const n = points.length;
-  if (n < 2) return null;
-  const minPeaks = options.minPeaks ?? 4;
-  const design = new Float64Array(n * 2);
-  const y = new Float64Array(n);
-  const weights = new Float64Array(n);
-  points.forEach((pt, i) => {
-    const theta = (pt.twoThetaDeg / 2) * DEG_TO_RAD;
-    design[2 * i] = 1;
-    design[2 * i + 1] = 4 * Math.sin(theta);
-    y[i] = pt.breadthDeg * DEG_TO_RAD * Math.cos(theta);
-    const sigma = Math.max(pt.breadthSigmaDeg, 1e-6) * DEG_TO_RAD * Math.cos(theta);
-    weights[i] = 1 / (sigma * sigma);
-  });
-  const fit = weightedLinearFit(design, y, weights, 2);
-  if (!fit) return null;
-  const scale = fit.dof > 0 ? Math.max(1, fit.chi2 / fit.dof) : 1;
-  const intercept = fit.coefficients[0];
-  const slope = fit.coefficients[1];
-  const interceptSigma = Math.sqrt(fit.covariance[0] * scale);
-  const strainSigma = Math.sqrt(fit.covariance[3] * scale);
-  const pValue = fit.dof > 0 ? chiSquareSurvival(fit.chi2, fit.dof) : 1;
-  const warnings: string[] = [];
-  if (n < minPeaks) warnings.push(`only ${n} usable peaks: the Williamson–Hall line needs at least ${minPeaks} to be trusted`);
-  if (slope < -2 * strainSigma) {
-    warnings.push(
-      'negative Williamson–Hall slope: no physical strain; the breadths do not follow the uniform-deformation model (anisotropic size or strain, or unreliable breadths)',
-    );
-  } else if (slope < 0) {
-    warnings.push('the Williamson–Hall slope is negative but zero within its uncertainty: no measurable strain');
-  }
-  // Strain is reported only when it stands above its own uncertainty (2σ, common practice).
-  const strainDetected = Math.abs(slope) >= STRAIN_SIGNIFICANT_SIGMAS * strainSigma && strainSigma > 0 ? slope > 0 : false;
-  const strainStatement = strainDetected
-    ? `microstrain ${slope.toExponential(2)} ± ${strainSigma.toExponential(1)}`
-    : `no strain detected (|ε| < ${STRAIN_SIGNIFICANT_SIGMAS}σ = ${(STRAIN_SIGNIFICANT_SIGMAS * strainSigma).toExponential(1)})`;
   const kLambdaNm = (options.k * options.wavelengthAngstrom) / 10;
+  const plot: WilliamsonHallPlotPoint[] = points.map((p) => {
+    const theta = (p.twoThetaDeg / 2) * DEG_TO_RAD;
+    const c = Math.cos(theta) * DEG_TO_RAD;
+    return {
+      twoThetaDeg: p.twoThetaDeg,
+      hkl: p.hkl,
+      x: 4 * Math.sin(theta),
+      sizeY: p.lorentzianDeg * c,
+      sizeSigmaY: Math.max(p.lorentzianSigmaDeg, 1e-7) * c,
+      strainY: p.gaussianDeg * c,
+      strainSigmaY: Math.max(p.gaussianSigmaDeg, 1e-7) * c,
+    };
+  });
+  const warnings: string[] = [];
+
+  // Size: one Kλ/D for every reflection, the weighted mean of the Lorentzian parts.
+  const mean = weightedMean(plot.map((q) => q.sizeY), plot.map((q) => q.sizeSigmaY))!;
+  const residuals = new Float64Array(plot.map((q) => q.sizeY - mean.mean));
+  const weights = new Float64Array(plot.map((q) => 1 / q.sizeSigmaY ** 2));
+  const pValue = mean.dof > 0 ? chiSquareSurvival(mean.chi2, mean.dof) : 1;
+
+  // Strain: a line through the origin, w_G cosθ = ε·4 sinθ, σ scaled by √(χ²/dof) when the scatter exceeds the errors.
+  let sxx = 0;
+  let sxy = 0;
+  let syy = 0;
+  for (const q of plot) {
+    const w = 1 / q.strainSigmaY ** 2;
+    sxx += w * q.x * q.x;
+    sxy += w * q.x * q.strainY;
+    syy += w * q.strainY * q.strainY;
+  }
+  const strain = sxy / sxx;
+  let strainChi2 = 0;
+  for (const q of plot) strainChi2 += ((q.strainY - strain * q.x) / q.strainSigmaY) ** 2;
+  const strainSigma = Math.sqrt(Math.max(1, strainChi2 / (n - 1)) / sxx);
+  const r2 = syy > 0 ? 1 - strainChi2 / syy : 0;
+  const strainDetected = strainSigma > 0 && strain >= STRAIN_SIGNIFICANT_SIGMAS * strainSigma;
+  const strainStatement = strainStatementOf(strain, strainSigma, strainDetected);
+
   let sizeNm: number | null;
   let sizeSigmaNm: number | null;
   let limit: 'instrument' | null = null;
   let statement: string;
-  if (intercept > 2 * interceptSigma) {
-    sizeNm = kLambdaNm / intercept;
-    sizeSigmaNm = (sizeNm * interceptSigma) / intercept;
+  if (mean.mean > 2 * mean.sigma) {
+    sizeNm = kLambdaNm / mean.mean;
+    sizeSigmaNm = (sizeNm * mean.sigma) / mean.mean;
     statement = `${sizeNm.toPrecision(3)} ± ${sizeSigmaNm.toPrecision(2)} nm, ${strainStatement}`;
   } else {
-    const bound = intercept + 2 * interceptSigma;
+    const bound = mean.mean + 2 * mean.sigma;
     sizeNm = bound > 0 ? kLambdaNm / bound : null;
     sizeSigmaNm = null;
     limit = 'instrument';
-    statement = sizeNm === null ? 'size beyond the resolvable range' : `larger than ${Math.floor(sizeNm)} nm (intercept not above zero by 2σ)`;
-    warnings.push('the Williamson–Hall intercept is not significantly above zero: the size is beyond the resolvable range');
+    statement = sizeNm === null ? `size beyond the resolvable range, ${strainStatement}` : `larger than ${Math.floor(sizeNm)} nm (Lorentzian part not above zero by 2σ), ${strainStatement}`;
+    warnings.push('the Lorentzian (size) part of the breadths is not significantly above zero: the size is beyond the resolvable range');
   }
-  const anisotropy = fit.dof > 0 ? anisotropyNote(points, fit.residuals, weights, pValue, options.disagreementP ?? 0.001) : null;
+  if (r2 < 0.5 && strainDetected) warnings.push(`the strain line fits poorly (r² = ${r2.toFixed(2)}): treat the strain as an estimate`);
+  const anisotropy = mean.dof > 0 ? anisotropyNote(points, residuals, weights, pValue, options.disagreementP ?? 0.001) : null;
   return {
+    method: 'williamson-hall-voigt',
+    convention: describeConvention(options),
     sizeNm,
     sizeSigmaNm,
     limit,
-    strain: slope,
+    strain,
     strainSigma,
     strainDetected,
     strainStatement,
-    r2: fit.r2,
+    r2,
     peaksUsed: n,
-    intercept,
-    interceptSigma,
-    chi2: fit.chi2,
-    dof: fit.dof,
+    twoThetaSpanDeg: twoThetaSpan(points),
+    intercept: mean.mean,
+    interceptSigma: mean.sigma,
+    chi2: mean.chi2,
+    dof: mean.dof,
     pValue,
     anisotropy,
+    plot,
     statement,
     warnings,
   };
@@ -165,7 +190,7 @@ function familyLabel(f: Hkl): string {
   return `{${f.join(' ')}}`;
 }
 
-function anisotropyNote(points: readonly BreadthPoint[], residuals: Float64Array, weights: Float64Array, pValue: number, threshold: number): AnisotropyNote {
+function anisotropyNote(points: readonly { hkl: Hkl | null }[], residuals: Float64Array, weights: Float64Array, pValue: number, threshold: number): AnisotropyNote {
   const groups = new Map<string, { family: Hkl; sw: number; swr: number; count: number }>();
   points.forEach((pt, i) => {
     if (!pt.hkl) return;
@@ -191,7 +216,7 @@ function anisotropyNote(points: readonly BreadthPoint[], residuals: Float64Array
     const parts: string[] = [];
     if (broader.length) parts.push(`${broader.join(', ')} broader`);
     if (narrower.length) parts.push(`${narrower.join(', ')} narrower`);
-    statement = `anisotropic broadening: hkl families disagree beyond their errors (${parts.join('; ')} than the Williamson–Hall line; p = ${pValue.toExponential(1)}); the crystallites are not the same size in every direction, or strain differs by direction`;
+    statement = `anisotropic broadening: hkl families disagree beyond their errors (${parts.join('; ')} than one size; p = ${pValue.toExponential(1)}); the crystallites are not the same size in every direction, or strain differs by direction`;
   } else {
     statement = `the peaks disagree beyond their errors (p = ${pValue.toExponential(1)}) but no hkl family stands out; the uniform-deformation model does not describe these breadths well`;
   }

@@ -1,0 +1,69 @@
+/**
+ * What a size–strain plot is made from, and when it is a result at all. Each point is one resolved
+ * reflection's sample broadening (instrument removed), split into its Lorentzian (size) and Gaussian
+ * (strain) parts (de Keijser, Langford, Mittemeijer & Vogels, J. Appl. Cryst. 15, 308 (1982)).
+ */
+import type { Hkl } from '../model/cell.js';
+import { DEG_TO_RAD } from '../model/units.js';
+import type { BreadthKind } from './voigt.js';
+
+export interface SizeStrainPoint {
+  twoThetaDeg: number;
+  /** The sample's Lorentzian and Gaussian parts, in the breadth kind of the convention (FWHM or integral breadth), degrees 2θ. */
+  lorentzianDeg: number;
+  lorentzianSigmaDeg: number;
+  gaussianDeg: number;
+  gaussianSigmaDeg: number;
+  /** The sample's whole integral breadth (Voigt of the two parts), degrees 2θ. */
+  integralBreadthDeg: number;
+  integralBreadthSigmaDeg: number;
+  hkl: Hkl | null;
+}
+
+/**
+ * The convention every size–strain result states: size D = Kλ/(w_L cosθ) from the Lorentzian part's
+ * width w_L, strain ε = w_G/(4 tanθ) from the Gaussian part's width w_G, both widths of the same kind.
+ */
+export interface SizeStrainConvention {
+  k: number;
+  breadth: BreadthKind;
+  wavelengthAngstrom: number;
+}
+
+export function describeConvention(c: SizeStrainConvention): string {
+  const w = c.breadth === 'fwhm' ? 'FWHM' : 'integral breadth';
+  return `size D = Kλ/(w_L·cosθ) with K = ${c.k} and w_L the ${w} of the Lorentzian part; strain ε = w_G/(4·tanθ) with w_G the ${w} of the Gaussian part`;
+}
+
+/** At least this many resolved reflections make a size–strain plot (common practice). */
+export const MIN_SIZE_STRAIN_REFLECTIONS = 4;
+/** The reflections must span at least this ratio of sinθ (of d*) to separate a constant from a d*-proportional breadth. */
+export const MIN_SIN_THETA_RATIO = 1.5;
+
+/** Why these points make no size–strain result, or null when they do. */
+export function sizeStrainRefusal(points: readonly SizeStrainPoint[]): string | null {
+  if (points.length < MIN_SIZE_STRAIN_REFLECTIONS) {
+    return `${points.length} resolved reflection(s); a size–strain plot needs at least ${MIN_SIZE_STRAIN_REFLECTIONS}`;
+  }
+  const sines = points.map((p) => Math.sin((p.twoThetaDeg / 2) * DEG_TO_RAD));
+  const ratio = Math.max(...sines) / Math.min(...sines);
+  if (!(ratio >= MIN_SIN_THETA_RATIO)) {
+    const span = twoThetaSpan(points);
+    return `the resolved reflections span only ${span.min.toFixed(1)}–${span.max.toFixed(1)}° 2θ (sinθ ratio ${ratio.toFixed(2)}; at least ${MIN_SIN_THETA_RATIO} is needed to tell size from strain)`;
+  }
+  return null;
+}
+
+export function twoThetaSpan(points: readonly SizeStrainPoint[]): { min: number; max: number } {
+  const tt = points.map((p) => p.twoThetaDeg);
+  return { min: Math.min(...tt), max: Math.max(...tt) };
+}
+
+/** Strain is reported only when it stands above its own uncertainty by this many σ (common practice). */
+export const STRAIN_SIGNIFICANT_SIGMAS = 2;
+
+export function strainStatementOf(strain: number, sigma: number, detected: boolean): string {
+  return detected
+    ? `microstrain ${strain.toExponential(2)} ± ${sigma.toExponential(1)}`
+    : `no strain detected (|ε| < ${STRAIN_SIGNIFICANT_SIGMAS}σ = ${(STRAIN_SIGNIFICANT_SIGMAS * sigma).toExponential(1)})`;
+}

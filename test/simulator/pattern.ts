@@ -1,0 +1,149 @@
+/**
+ * A powder-pattern simulator for the accuracy tests, independent of the code it checks: its own
+ * d-spacings (cubic metric), its own true-Voigt profiles (./voigt.ts), its own doublet and noise. It
+ * shares only the Pattern type and the seeded random numbers with the app. Every pattern it makes is
+ * labelled simulated.
+ *
+ * Broadening, each stated as a FWHM in degrees 2θ and combined exactly (Gaussians add in quadrature,
+ * Lorentzians linearly, and the Voigt is their convolution):
+ * - instrument: Gaussian FWHM² = U tan²θ + V tanθ + W (Caglioti, Paoletti & Ricci, Nucl. Instrum. 3, 223
+ *   (1958)), Lorentzian FWHM = X tanθ + Y / cosθ;
+ * - size: Lorentzian FWHM = Kλ/(D cosθ) with K = 0.9 (Scherrer 1918);
+ * - strain: Gaussian FWHM = 4ε tanθ (Stokes & Wilson 1944).
+ */
+import type { Pattern } from '../../src/core/model/pattern.js';
+import { poissonDeviate, seededUniform } from '../../src/core/numeric/random.js';
+import { gammaOfLorentzianFwhm, sigmaOfGaussianFwhm, voigtProfile } from './voigt.js';
+
+const RAD = Math.PI / 180;
+
+/** Cu Kα1 and Kα2 wavelengths, Å (Hölzer et al., Phys. Rev. A 56, 4554 (1997)); Kα2/Kα1 intensity 0.5 (common practice). */
+export const CU_KALPHA1 = 1.5405929;
+export const CU_KALPHA2 = 1.5444274;
+export const KALPHA2_RATIO = 0.5;
+
+export interface InstrumentWidths {
+  u: number;
+  v: number;
+  w: number;
+  x: number;
+  y: number;
+}
+
+/** A typical laboratory Bragg–Brentano instrument (from memory): about 0.06° FWHM at 30° 2θ. */
+export const LAB_INSTRUMENT: InstrumentWidths = { u: 0.004, v: -0.002, w: 0.0018, x: 0.018, y: 0.012 };
+
+export interface CubicPhase {
+  a: number;
+  /** Relative intensities per reflection, by h² + k² + l² (absent: no line). */
+  intensities: ReadonlyMap<number, number>;
+  sizeNm?: number;
+  strain?: number;
+}
+
+export interface SimulationSettings {
+  phases: readonly CubicPhase[];
+  twoThetaMinDeg: number;
+  twoThetaMaxDeg: number;
+  stepDeg: number;
+  /** Counts at the top of the strongest line. */
+  peakCounts: number;
+  backgroundCounts: number;
+  seed: number;
+  instrument?: InstrumentWidths;
+  name?: string;
+}
+
+interface Line {
+  twoThetaDeg: number;
+  intensity: number;
+  gaussianFwhm: number;
+  lorentzianFwhm: number;
+}
+
+function linesOf(phase: CubicPhase, lambda: number, instrument: InstrumentWidths, maxDeg: number): Line[] {
+  const lines: Line[] = [];
+  for (const [s, intensity] of phase.intensities) {
+    const d = phase.a / Math.sqrt(s);
+    const sinTheta = lambda / (2 * d);
+    if (sinTheta >= 1) continue;
+    const theta = Math.asin(sinTheta);
+    const twoThetaDeg = (2 * theta) / RAD;
+    if (twoThetaDeg > maxDeg + 2) continue;
+    const tan = Math.tan(theta);
+    const cos = Math.cos(theta);
+    const g2 = instrument.u * tan * tan + instrument.v * tan + instrument.w;
+    const strainFwhm = phase.strain ? (4 * phase.strain * tan) / RAD : 0;
+    const sizeFwhm = phase.sizeNm ? (0.9 * lambda) / (phase.sizeNm * 10 * cos) / RAD : 0;
+    lines.push({
+      twoThetaDeg,
+      intensity,
+      gaussianFwhm: Math.sqrt(g2 + strainFwhm * strainFwhm),
+      lorentzianFwhm: instrument.x * tan + instrument.y / cos + sizeFwhm,
+    });
+  }
+  return lines;
+}
+
+export function simulateCubicPattern(settings: SimulationSettings): Pattern {
+  const instrument = settings.instrument ?? LAB_INSTRUMENT;
+  const n = Math.floor((settings.twoThetaMaxDeg - settings.twoThetaMinDeg) / settings.stepDeg + 1e-9) + 1;
+  const x = new Float64Array(n);
+  for (let i = 0; i < n; i++) x[i] = settings.twoThetaMinDeg + i * settings.stepDeg;
+  const intensity = new Float64Array(n);
+  const lines = settings.phases.flatMap((p) => [
+    ...linesOf(p, CU_KALPHA1, instrument, settings.twoThetaMaxDeg).map((l) => ({ ...l, weight: 1 })),
+    ...linesOf(p, CU_KALPHA2, instrument, settings.twoThetaMaxDeg).map((l) => ({ ...l, weight: KALPHA2_RATIO })),
+  ]);
+  for (const line of lines) {
+    const sigma = sigmaOfGaussianFwhm(line.gaussianFwhm);
+    const gamma = gammaOfLorentzianFwhm(line.lorentzianFwhm);
+    // Profiles are drawn out to 60 FWHM: beyond that a Lorentzian tail is below the noise.
+    const reach = 60 * (line.gaussianFwhm + line.lorentzianFwhm);
+    for (let i = 0; i < n; i++) {
+      const dx = x[i] - line.twoThetaDeg;
+      if (Math.abs(dx) > reach) continue;
+      intensity[i] += line.weight * line.intensity * voigtProfile(dx, sigma, gamma);
+    }
+  }
+  let top = 0;
+  for (const v of intensity) top = Math.max(top, v);
+  const uniform = seededUniform(settings.seed);
+  const y = new Float64Array(n);
+  const sigmaY = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const mean = settings.backgroundCounts + (settings.peakCounts * intensity[i]) / top;
+    y[i] = poissonDeviate(mean, uniform);
+    sigmaY[i] = Math.sqrt(Math.max(y[i], 1));
+  }
+  return {
+    x,
+    y,
+    sigma: sigmaY,
+    wavelength: null,
+    source: { file: `${settings.name ?? 'test pattern'} (simulated)`, sha256: '', byteLength: 0, format: 'simulated' },
+    meta: { simulated: 'yes: made by the accuracy-test simulator' },
+    readerNotes: [],
+  };
+}
+
+/** Reflection classes h² + k² + l² of a face-centred cubic lattice up to a limit (all h, k, l even or all odd). */
+export function faceCentredClasses(limit: number): number[] {
+  const out = new Set<number>();
+  for (let h = 0; h * h <= limit; h++)
+    for (let k = 0; k <= h; k++)
+      for (let l = 0; l <= k; l++) {
+        const s = h * h + k * k + l * l;
+        const parity = (h % 2) + (k % 2) + (l % 2);
+        if (s > 0 && s <= limit && (parity === 0 || parity === 3)) out.add(s);
+      }
+  return [...out].sort((a, b) => a - b);
+}
+
+/** One h k l (h ≥ k ≥ l ≥ 0) with h² + k² + l² = s, or null. */
+export function hklOfClass(s: number): [number, number, number] | null {
+  for (let h = 0; h * h <= s; h++)
+    for (let k = 0; k <= h; k++)
+      for (let l = 0; l <= k; l++) if (h * h + k * k + l * l === s) return [h, k, l];
+  return null;
+}
