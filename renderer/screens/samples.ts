@@ -3,6 +3,7 @@ import { call, decodeFloats, saveFile } from '../base/api.js';
 import { timings } from '../base/actions.js';
 import { COLORS, PatternChart, type PatternSeries, type PeakMark, type PatternViewModel } from '../chart/pattern-chart.js';
 import { chartToSvg } from '../chart/svg.js';
+import { sizeStrainChart } from '../chart/size-strain-chart.js';
 import { append, field, fmt, h, hklText, sizeText } from '../base/dom.js';
 import { app, changed, verdictClass } from '../base/state.js';
 import { notify, showError } from '../base/ui.js';
@@ -240,7 +241,12 @@ function verdictCard(detail: SampleDetail): HTMLElement {
   if (size?.scherrer) {
     append(card, [
       h('div', { class: 'size-line', 'data-testid': 'size' }, `Scherrer: ${sizeText(size.scherrer.sizeNm, Number.isFinite(size.scherrer.sizeSigmaNm) ? size.scherrer.sizeSigmaNm : null)}`),
-      size.williamsonHall ? h('div', {}, `Williamson–Hall: ${size.williamsonHall.sizeNm === null ? '—' : `${size.williamsonHall.sizeNm.toFixed(1)} nm`}, ${size.williamsonHall.strainStatement}, R² ${fmt(size.williamsonHall.r2, 2)}`) : null,
+      size.sizeStrain
+        ? h('div', { 'data-testid': 'size-strain' }, `Size–strain (Halder–Wagner, ${size.sizeStrain.reflections} reflections): ${size.sizeStrain.statement}, R² ${fmt(size.sizeStrain.r2, 3)}`)
+        : h('div', { class: 'small', 'data-testid': 'size-strain' }, `No size–strain plot: ${size.sizeStrainReason ?? 'not available'}.`),
+      size.williamsonHall ? h('div', {}, `Williamson–Hall (Voigt parts): ${size.williamsonHall.sizeNm === null ? '—' : `${size.williamsonHall.sizeNm.toFixed(1)} nm`}, ${size.williamsonHall.strainStatement}, R² ${fmt(size.williamsonHall.r2, 2)}`) : null,
+      size.sizeStrain ? h('figure', { class: 'size-strain' }, sizeStrainChart(size.sizeStrain), h('figcaption', { class: 'small' }, size.sizeStrain.convention)) : null,
+      sizePeakTable(size.peaks, size.breadth),
       h('div', { class: 'small' }, `K = ${size.k}, ${size.breadth === 'fwhm' ? 'FWHM' : 'integral breadth'}, ${size.instrumentCorrected ? `instrument-corrected (${size.correction})` : 'not corrected for the instrument (lower bound)'}${size.phase ? `, lines of ${size.phase}` : ''}.`),
     ]);
   } else {
@@ -250,6 +256,33 @@ function verdictCard(detail: SampleDetail): HTMLElement {
   card.append(labelsForm(detail));
   for (const note of detail.readerNotes) card.append(h('div', { class: 'small' }, `Reader: ${note}`));
   return card;
+}
+
+/** Per-peak sizes: hkl, 2θ, observed and sample breadth, size ± σ and its limit, every row shown. */
+function sizePeakTable(peaks: NonNullable<SampleDetail['size']>['peaks'], breadth: string): HTMLElement {
+  const kind = breadth === 'fwhm' ? 'FWHM' : 'integral breadth';
+  const limitText = (limit: string | null): string => (limit === 'instrument' ? 'at the instrument limit (lower bound)' : limit === 'overlap' ? 'overlapped: no size' : '');
+  return h(
+    'table',
+    { class: 'size-peaks', 'data-testid': 'size-peaks' },
+    h('thead', {}, h('tr', {}, ...['hkl', '2θ (°)', `observed ${kind} (°)`, `sample ${kind} (°)`, 'size (nm)', 'limit'].map((c) => h('th', {}, c)))),
+    h(
+      'tbody',
+      {},
+      ...peaks.map((p) =>
+        h(
+          'tr',
+          {},
+          h('td', {}, p.hkl ? hklText(p.hkl) : '—'),
+          h('td', {}, p.twoTheta.toFixed(3)),
+          h('td', {}, p.observedBreadthDeg.toFixed(4)),
+          h('td', {}, p.sampleBreadthDeg.toFixed(4)),
+          h('td', {}, sizeText(p.sizeNm, p.sizeSigmaNm)),
+          h('td', {}, limitText(p.limit)),
+        ),
+      ),
+    ),
+  );
 }
 
 function labelsForm(detail: SampleDetail): HTMLElement {

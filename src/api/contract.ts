@@ -150,6 +150,26 @@ export interface SizePeakView {
   sizeNm: number | null;
   sizeSigmaNm: number | null;
   limit: 'instrument' | 'overlap' | null;
+  /** Observed breadth and the sample's own (instrument removed), degrees 2θ, of the kind the sizes use. */
+  observedBreadthDeg: number;
+  sampleBreadthDeg: number;
+}
+
+export interface SizeStrainView {
+  method: string;
+  convention: string;
+  sizeNm: number | null;
+  sizeSigmaNm: number | null;
+  strain: number;
+  strainSigma: number;
+  strainDetected: boolean;
+  statement: string;
+  r2: number;
+  reflections: number;
+  /** The plot: y = (β* / d*)² against x = β* / d*², with the fitted line y = slope·x + intercept. */
+  points: Array<{ twoTheta: number; x: number; y: number; sigmaY: number }>;
+  slope: number;
+  intercept: number;
 }
 
 export interface SizeView {
@@ -161,6 +181,9 @@ export interface SizeView {
   peaks: SizePeakView[];
   scherrer: { sizeNm: number; sizeSigmaNm: number } | null;
   williamsonHall: { sizeNm: number | null; strain: number; strainDetected: boolean; strainStatement: string; r2: number } | null;
+  /** The size–strain result to quote (Halder–Wagner), with its plot; null with the reason when it is no result. */
+  sizeStrain: SizeStrainView | null;
+  sizeStrainReason: string | null;
   notes: string[];
 }
 

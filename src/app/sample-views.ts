@@ -124,12 +124,30 @@ export function sizeView(result: AnalysisResult): SizeView {
     correction: size.correction,
     phase: result.settings.sizePhase,
     instrumentCorrected: size.settings.instrument !== null,
-    peaks: size.peaks.map((p) => ({ twoTheta: p.twoTheta, hkl: p.hkl, sizeNm: p.sizeNm, sizeSigmaNm: p.sizeSigmaNm, limit: p.limit })),
+    peaks: size.peaks.map((p) => ({ twoTheta: p.twoTheta, hkl: p.hkl, sizeNm: p.sizeNm, sizeSigmaNm: p.sizeSigmaNm, limit: p.limit, observedBreadthDeg: p.observedBreadthDeg, sampleBreadthDeg: p.sampleBreadthDeg })),
     scherrer: size.scherrer.sizeNm !== null ? { sizeNm: size.scherrer.sizeNm, sizeSigmaNm: size.scherrer.sizeSigmaNm ?? Number.NaN } : null,
     williamsonHall:
       wh && typeof wh.strain === 'number'
         ? { sizeNm: wh.sizeNm ?? null, strain: wh.strain, strainDetected: wh.strainDetected ?? true, strainStatement: wh.strainStatement ?? `microstrain ${wh.strain.toExponential(2)}`, r2: wh.r2 ?? Number.NaN }
         : null,
+    sizeStrain: size.sizeStrain
+      ? {
+          method: size.sizeStrain.method,
+          convention: size.sizeStrain.convention,
+          sizeNm: size.sizeStrain.sizeNm,
+          sizeSigmaNm: size.sizeStrain.sizeSigmaNm,
+          strain: size.sizeStrain.strain,
+          strainSigma: size.sizeStrain.strainSigma,
+          strainDetected: size.sizeStrain.strainDetected,
+          statement: size.sizeStrain.statement,
+          r2: size.sizeStrain.r2,
+          reflections: size.sizeStrain.reflections,
+          points: size.sizeStrain.plot.map((q) => ({ twoTheta: q.twoThetaDeg, x: q.x, y: q.y, sigmaY: q.sigmaY })),
+          slope: size.sizeStrain.slope,
+          intercept: size.sizeStrain.intercept,
+        }
+      : null,
+    sizeStrainReason: size.sizeStrain ? null : (size.sizeStrainReason ?? null),
     notes: [size.scherrer.statement, ...size.warnings].filter((s) => !!s),
   };
 }

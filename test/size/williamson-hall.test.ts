@@ -77,7 +77,7 @@ describe('Williamson–Hall on the Voigt parts', () => {
 });
 
 describe('Halder–Wagner plot', () => {
-  it('recovers size within 3 % and strain within 5 % from exact Voigt breadths (the plot's approximation refined with the exact Voigt breadth)', () => {
+  it("recovers size within 3 % and strain within 5 % from exact Voigt breadths (the plot's approximation refined with the exact Voigt breadth)", () => {
     for (const [d, e] of [[20, 0.001], [40, 0.002], [100, 0.003]] as const) {
       const r = halderWagner(exactPoints(d, e, ANGLES), FWHM);
       if ('reason' in r) throw new Error(r.reason);

@@ -60,7 +60,9 @@ function sizeText(r: SizeCommandResult): string {
   const out = [`${r.file}: K = ${r.k}, breadth ${r.breadth}, correction ${r.correction}`];
   for (const p of r.peaks) out.push(`  2θ ${p.twoTheta.toFixed(3)}°  ${p.hkl ? p.hkl.join(' ').padEnd(8) : ''.padEnd(8)} ${p.statement}`);
   out.push(`Scherrer: ${r.scherrer.statement}`);
-  out.push(`Williamson–Hall: ${r.williamsonHall ? `${r.williamsonHall.statement}, R² = ${r.williamsonHall.r2.toFixed(3)}` : 'not available'}`);
+  out.push(`Size–strain (Halder–Wagner): ${r.sizeStrain ? `${r.sizeStrain.statement}, R² = ${r.sizeStrain.r2.toFixed(3)}` : `none: ${r.sizeStrainReason ?? 'not available'}`}`);
+  out.push(`Williamson–Hall (Voigt parts): ${r.williamsonHall ? `${r.williamsonHall.statement}, R² = ${r.williamsonHall.r2.toFixed(3)}` : `none: ${r.williamsonHallReason ?? 'not available'}`}`);
+  if (r.sizeStrain) out.push(`  convention: ${r.sizeStrain.convention}`);
   if (r.singleLine?.sizeNm) out.push(`Voigt single-line: size ${r.singleLine.sizeNm.toPrecision(3)} nm, microstrain ${r.singleLine.strain?.toExponential(2) ?? '—'}`);
   for (const w of r.warnings) out.push(`warning: ${w}`);
   for (const c of r.cautions) out.push(`note: ${c}`);

@@ -113,7 +113,16 @@ function sizeOn(sample: SizeForComparison, shared: ReadonlySet<string> | null): 
     used.push(r.hkl);
   }
   if (sw === 0) return null;
-  return { sizeNm: swx / sw, fitSigmaNm: 1 / Math.sqrt(sw), reflections: used };
+  const mean = swx / sw;
+  // Reflections that scatter beyond their own σ (strain, shape, an optimistic fit) widen the mean's σ by the
+  // Birge ratio √(χ²/ν) (Birge, Phys. Rev. 40, 207 (1932)), as the sample's own Scherrer mean does with τ².
+  let chi2 = 0;
+  for (const r of sample.reflections) {
+    if (r.hkl === null || !shared.has(r.hkl) || !(r.sizeSigmaNm > 0)) continue;
+    chi2 += ((r.sizeNm - mean) / r.sizeSigmaNm) ** 2;
+  }
+  const birge = used.length > 1 ? Math.max(1, Math.sqrt(chi2 / (used.length - 1))) : 1;
+  return { sizeNm: mean, fitSigmaNm: birge / Math.sqrt(sw), reflections: used };
 }
 
 /** The reflections every sample sized; null when one has no indexed reflections (then whole means compare). */
