@@ -39,7 +39,7 @@ export function sizeStrainChart(view: SizeStrainView): SVGElement {
   svg.append(node('line', { x1: px(0), y1: py(yMin), x2: px(xMax), y2: py(yMin), class: 'axis' }));
   svg.append(node('line', { x1: px(0), y1: py(yMin), x2: px(0), y2: py(yMax), class: 'axis' }));
   for (const t of ticks(0, xMax)) svg.append(node('text', { x: px(t), y: HEIGHT - MARGIN.bottom + 14, 'text-anchor': 'middle', class: 'tick' }, t.toPrecision(2)));
-  for (const t of ticks(yMin, yMax)) svg.append(node('text', { x: MARGIN.left - 4, y: py(t) + 3, 'text-anchor': 'end', class: 'tick' }, t.toExponential(0)));
+  for (const t of ticks(yMin, yMax)) svg.append(node('text', { x: MARGIN.left - 4, y: py(t) + 3, 'text-anchor': 'end', class: 'tick' }, t === 0 ? '0' : t.toExponential(0)));
   svg.append(node('text', { x: (px(0) + px(xMax)) / 2, y: HEIGHT - 6, 'text-anchor': 'middle', class: 'axis-title' }, 'β* / d*² (Å)'));
   svg.append(node('text', { x: 12, y: (py(yMin) + py(yMax)) / 2, 'text-anchor': 'middle', class: 'axis-title', transform: `rotate(-90 12 ${(py(yMin) + py(yMax)) / 2})` }, '(β* / d*)²'));
   svg.append(node('line', { x1: px(0), y1: py(view.intercept), x2: px(xMax), y2: py(view.intercept + view.slope * xMax), class: 'fit-line' }));

@@ -242,7 +242,7 @@ function verdictCard(detail: SampleDetail): HTMLElement {
     append(card, [
       h('div', { class: 'size-line', 'data-testid': 'size' }, `Scherrer: ${sizeText(size.scherrer.sizeNm, Number.isFinite(size.scherrer.sizeSigmaNm) ? size.scherrer.sizeSigmaNm : null)}`),
       size.sizeStrain
-        ? h('div', { 'data-testid': 'size-strain' }, `Size–strain (Halder–Wagner, ${size.sizeStrain.reflections} reflections): ${size.sizeStrain.statement}, R² ${fmt(size.sizeStrain.r2, 3)}`)
+        ? h('div', { 'data-testid': 'size-strain' }, `Size–strain: ${size.sizeStrain.statement}, R² ${fmt(size.sizeStrain.r2, 3)}`)
         : h('div', { class: 'small', 'data-testid': 'size-strain' }, `No size–strain plot: ${size.sizeStrainReason ?? 'not available'}.`),
       size.williamsonHall ? h('div', {}, `Williamson–Hall (Voigt parts): ${size.williamsonHall.sizeNm === null ? '—' : `${size.williamsonHall.sizeNm.toFixed(1)} nm`}, ${size.williamsonHall.strainStatement}, R² ${fmt(size.williamsonHall.r2, 2)}`) : null,
       size.sizeStrain ? h('figure', { class: 'size-strain' }, sizeStrainChart(size.sizeStrain), h('figcaption', { class: 'small' }, size.sizeStrain.convention)) : null,
@@ -260,12 +260,12 @@ function verdictCard(detail: SampleDetail): HTMLElement {
 
 /** Per-peak sizes: hkl, 2θ, observed and sample breadth, size ± σ and its limit, every row shown. */
 function sizePeakTable(peaks: NonNullable<SampleDetail['size']>['peaks'], breadth: string): HTMLElement {
-  const kind = breadth === 'fwhm' ? 'FWHM' : 'integral breadth';
-  const limitText = (limit: string | null): string => (limit === 'instrument' ? 'at the instrument limit (lower bound)' : limit === 'overlap' ? 'overlapped: no size' : '');
-  return h(
+  const kind = breadth === 'fwhm' ? 'FWHM' : 'β';
+  const limitText = (limit: string | null): string => (limit === 'instrument' ? 'instrument limit (lower bound)' : limit === 'overlap' ? 'overlapped' : '');
+  const table = h(
     'table',
     { class: 'size-peaks', 'data-testid': 'size-peaks' },
-    h('thead', {}, h('tr', {}, ...['hkl', '2θ (°)', `observed ${kind} (°)`, `sample ${kind} (°)`, 'size (nm)', 'limit'].map((c) => h('th', {}, c)))),
+    h('thead', {}, h('tr', {}, ...['hkl', '2θ (°)', `observed ${kind} (°)`, `sample ${kind} (°)`, 'size (nm)', 'no size because'].map((c) => h('th', {}, c)))),
     h(
       'tbody',
       {},
@@ -283,6 +283,7 @@ function sizePeakTable(peaks: NonNullable<SampleDetail['size']>['peaks'], breadt
       ),
     ),
   );
+  return h('div', { class: 'table-scroll' }, table);
 }
 
 function labelsForm(detail: SampleDetail): HTMLElement {
