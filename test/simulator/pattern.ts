@@ -33,8 +33,25 @@ export interface InstrumentWidths {
 /** A typical laboratory Bragg–Brentano instrument (from memory): about 0.06° FWHM at 30° 2θ. */
 export const LAB_INSTRUMENT: InstrumentWidths = { u: 0.004, v: -0.002, w: 0.0018, x: 0.018, y: 0.012 };
 
+/** Cu Kβ1 and W Lα1 wavelengths, Å, from xraylib LineEnergy (Cu KM3 8.9053 keV, W L3M5 8.3976 keV; Cu KL3 8.0478 keV for Kα1) with λ = 12.39842 Å·keV / E. */
+export const CU_KBETA1 = 12.39842 / 8.9053;
+export const W_LALPHA1 = 12.39842 / 8.3976;
+
+/** A beam component: wavelength and its intensity relative to Kα1 (or to the main line). */
+export interface BeamLine {
+  lambda: number;
+  weight: number;
+}
+
+export const CU_KALPHA_DOUBLET: readonly BeamLine[] = [
+  { lambda: CU_KALPHA1, weight: 1 },
+  { lambda: CU_KALPHA2, weight: KALPHA2_RATIO },
+];
+
 export interface CubicPhase {
   a: number;
+  /** Multiplies the phase's intensities (for mixtures); default 1. */
+  scale?: number;
   /** Relative intensities per reflection, by h² + k² + l² (absent: no line). */
   intensities: ReadonlyMap<number, number>;
   sizeNm?: number;
@@ -52,6 +69,10 @@ export interface SimulationSettings {
   seed: number;
   instrument?: InstrumentWidths;
   name?: string;
+  /** The beam: default the Cu Kα doublet; add Cu Kβ or W Lα lines for satellites, or one line for a synchrotron. */
+  beam?: readonly BeamLine[];
+  /** Broad humps (amorphous content): centre and FWHM in degrees 2θ, area relative to the crystalline area. */
+  humps?: ReadonlyArray<{ centerDeg: number; fwhmDeg: number; areaRelative: number }>;
 }
 
 interface Line {
@@ -91,10 +112,10 @@ export function simulateCubicPattern(settings: SimulationSettings): Pattern {
   const x = new Float64Array(n);
   for (let i = 0; i < n; i++) x[i] = settings.twoThetaMinDeg + i * settings.stepDeg;
   const intensity = new Float64Array(n);
-  const lines = settings.phases.flatMap((p) => [
-    ...linesOf(p, CU_KALPHA1, instrument, settings.twoThetaMaxDeg).map((l) => ({ ...l, weight: 1 })),
-    ...linesOf(p, CU_KALPHA2, instrument, settings.twoThetaMaxDeg).map((l) => ({ ...l, weight: KALPHA2_RATIO })),
-  ]);
+  const beam = settings.beam ?? CU_KALPHA_DOUBLET;
+  const lines = settings.phases.flatMap((p) =>
+    beam.flatMap((b) => linesOf(p, b.lambda, instrument, settings.twoThetaMaxDeg).map((l) => ({ ...l, weight: b.weight * (p.scale ?? 1) }))),
+  );
   for (const line of lines) {
     const sigma = sigmaOfGaussianFwhm(line.gaussianFwhm);
     const gamma = gammaOfLorentzianFwhm(line.lorentzianFwhm);
@@ -108,6 +129,12 @@ export function simulateCubicPattern(settings: SimulationSettings): Pattern {
   }
   let top = 0;
   for (const v of intensity) top = Math.max(top, v);
+  let crystallineArea = 0;
+  for (const line of lines) crystallineArea += line.weight * line.intensity;
+  for (const hump of settings.humps ?? []) {
+    const sigma = sigmaOfGaussianFwhm(hump.fwhmDeg);
+    for (let i = 0; i < n; i++) intensity[i] += (hump.areaRelative * crystallineArea * voigtProfile(x[i] - hump.centerDeg, sigma, 0));
+  }
   const uniform = seededUniform(settings.seed);
   const y = new Float64Array(n);
   const sigmaY = new Float64Array(n);
