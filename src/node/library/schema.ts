@@ -49,6 +49,20 @@ export const LIBRARY_MIGRATIONS: readonly Migration[] = [
         JOIN reference_version v ON v.entry_id = e.id AND v.version = e.current_version, json_each(v.details, '$.tags') j;
     `);
   },
+  // 3: every current line in one d-sorted table (packed typed arrays), kept at import time so that
+  // matching loads it in one read; `digest` is the library digest (names and versions) it was built for.
+  (db) => {
+    db.exec(`
+      CREATE TABLE line_index (
+        id INTEGER PRIMARY KEY CHECK (id = 1),
+        digest TEXT NOT NULL,
+        reference_count INTEGER NOT NULL,
+        d BLOB NOT NULL,             -- Float64, ascending, Å
+        reference_of BLOB NOT NULL,  -- Int32, position of the line's reference in the name-sorted list
+        intensity BLOB NOT NULL      -- Float32, relative intensity (unknown counted as in reference-index.ts)
+      ) STRICT;
+    `);
+  },
 ];
 
 export const LIBRARY_KIND = 'reference-library';

@@ -8,6 +8,8 @@ import { DEFAULT_BUSY_TIMEOUT_MS, openDatabase, readMeta, schemaVersion, writeMe
 import { describeHolder, forgetHolder, recordHolder } from './write-lock.js';
 import { createHash } from 'node:crypto';
 import { canonicalContent, checkReferences } from '../../core/library/validate.js';
+import { libraryDigest } from '../../core/analysis/analyse.js';
+import { lineIntensity, referenceIndexFromPacked, sortLineIndex, type PackedLineIndex, type ReferenceIndex } from '../../core/match/reference-index.js';
 
 export { parseReferenceJson, formatReferenceJson } from '../../core/library/json-format.js';
 export { parseReferenceCsv, type CsvReferenceMeta } from '../../core/library/csv-format.js';
@@ -136,6 +138,7 @@ export class ReferenceLibrary {
     return this.write(() => {
       const summary: ImportSummary = { added: [], updated: [], unchanged: [] };
       for (const ref of checked) summary[this.storeVersion(ref, change)].push(ref.name);
+      if (summary.added.length + summary.updated.length > 0 || !this.storedIndex(this.all())) this.storeLineIndex();
       return summary;
     });
   }
@@ -170,6 +173,40 @@ export class ReferenceLibrary {
     const refs = this.statements.all.all().map(storedFromRow);
     this.cache = { dataVersion, writes: this.writes, refs };
     return refs.slice();
+  }
+
+  /**
+   * Every current reference with the d-sorted index over their lines: the index as stored at import
+   * time, read in one query when it was built for this library state (same digest); otherwise built
+   * from the packed line arrays (never from line objects) and, when the file is writable, stored.
+   */
+  referencesWithIndex(): { references: StoredReference[]; index: ReferenceIndex } {
+    const references = this.all();
+    const stored = this.storedIndex(references);
+    if (stored) return { references, index: referenceIndexFromPacked(references, stored) };
+    const packed = packedIndexOf(references);
+    if (!this.db.readonly) this.write(() => this.saveLineIndex(references, packed));
+    return { references, index: referenceIndexFromPacked(references, packed) };
+  }
+
+  /** The stored line index when it belongs to exactly these references (by digest), else null. */
+  private storedIndex(references: readonly StoredReference[]): PackedLineIndex | null {
+    const row = this.statements.lineIndex.get();
+    if (!row || row.reference_count !== references.length || row.digest !== libraryDigest(references)) return null;
+    const n = row.d.byteLength / 8;
+    if (row.reference_of.byteLength !== 4 * n || row.intensity.byteLength !== 4 * n) return null;
+    return { d: typedView(Float64Array, row.d), referenceOf: typedView(Int32Array, row.reference_of), intensity: typedView(Float32Array, row.intensity) };
+  }
+
+  /** Build and store the line index for the current references (inside the caller's transaction). */
+  private storeLineIndex(): void {
+    const references = this.all();
+    this.saveLineIndex(references, packedIndexOf(references));
+  }
+
+  private saveLineIndex(references: readonly StoredReference[], packed: PackedLineIndex): void {
+    const bytes = (a: Float64Array | Int32Array | Float32Array) => Buffer.from(a.buffer, a.byteOffset, a.byteLength);
+    this.statements.saveLineIndex.run(libraryDigest(references), references.length, bytes(packed.d), bytes(packed.referenceOf), bytes(packed.intensity));
   }
 
   /**
@@ -420,6 +457,11 @@ function prepareStatements(db: Db) {
     markDeleted: db.prepare(`UPDATE reference_entry SET deleted_at = ? WHERE id = ?`),
     clearTags: db.prepare(`DELETE FROM reference_tag WHERE entry_id = ?`),
     insertTag: db.prepare(`INSERT OR IGNORE INTO reference_tag (entry_id, tag) VALUES (?, ?)`),
+    lineIndex: db.prepare(`SELECT digest, reference_count, d, reference_of, intensity FROM line_index WHERE id = 1`) as Statement<
+      [],
+      { digest: string; reference_count: number; d: Buffer; reference_of: Buffer; intensity: Buffer }
+    >,
+    saveLineIndex: db.prepare(`INSERT OR REPLACE INTO line_index (id, digest, reference_count, d, reference_of, intensity) VALUES (1, ?, ?, ?, ?, ?)`),
   };
 }
 
@@ -476,6 +518,45 @@ function storedFromRow([id, version, name, source, detailsJson, createdAt, count
  * stored bytes for references loaded from a library (no copy, no per-line objects).
  */
 export function lineArrays(ref: Reference): { d: Float64Array; intensity: Float64Array } {
-  const packed = packedOf.get(ref) ?? packLines(ref.lines);
+  const packed = packedLinesOf(ref);
   return unpackValues(packed.values, packed.count);
+}
+
+/** A reference's lines packed (packing.ts): the stored bytes for references loaded from a library. */
+export function packedLinesOf(ref: Reference): PackedLines {
+  return packedOf.get(ref) ?? packLines(ref.lines);
+}
+
+/** Gather every line of the references from their packed arrays (no line objects) and sort by d. */
+function packedIndexOf(references: readonly StoredReference[]): PackedLineIndex {
+  let total = 0;
+  const arrays = references.map((ref) => {
+    const a = lineArrays(ref);
+    total += a.d.length;
+    return a;
+  });
+  const gathered: PackedLineIndex = { d: new Float64Array(total), referenceOf: new Int32Array(total), intensity: new Float32Array(total) };
+  let n = 0;
+  arrays.forEach(({ d, intensity }, r) => {
+    gathered.d.set(d, n);
+    gathered.referenceOf.fill(r, n, n + d.length);
+    for (let i = 0; i < d.length; i++) {
+      const value = intensity[i]!;
+      gathered.intensity[n + i] = lineIntensity(Number.isNaN(value) ? null : value);
+    }
+    n += d.length;
+  });
+  return sortLineIndex(gathered);
+}
+
+/** A typed array over stored bytes; copied only when SQLite handed back a misaligned buffer. */
+function typedView<T extends Float64Array | Int32Array | Float32Array>(
+  Kind: { new (buffer: ArrayBufferLike, byteOffset: number, length: number): T; BYTES_PER_ELEMENT: number },
+  bytes: Buffer,
+): T {
+  const length = bytes.byteLength / Kind.BYTES_PER_ELEMENT;
+  if (bytes.byteOffset % Kind.BYTES_PER_ELEMENT === 0) return new Kind(bytes.buffer, bytes.byteOffset, length);
+  const copy = new Uint8Array(bytes.byteLength);
+  copy.set(bytes);
+  return new Kind(copy.buffer, 0, length);
 }
