@@ -54,9 +54,14 @@ function expectSameMatches(references: StoredReference[], stored: ReferenceIndex
 
 describe('the line index stored with the library', () => {
   it('is the index built from the line objects, and matches the seed library alike', () => {
-    const library = ReferenceLibrary.open(join(dir, 'seed.sqlite'));
-    library.importReferences(loadSeedReferences());
+    const path = join(dir, 'seed.sqlite');
+    const writer = ReferenceLibrary.open(path);
+    writer.importReferences(loadSeedReferences());
+    writer.close();
+    const library = ReferenceLibrary.open(path, { readOnly: true });
     const { references, index } = library.referencesWithIndex();
+    // The snapshot's references are the stored rows' references, lines (with hkl) and all.
+    expect(references).toEqual(library.all());
     expectSameIndex(index, buildReferenceIndex(references));
     expectSameMatches(references, index, [[0, 1], [2, 3]]);
     library.close();

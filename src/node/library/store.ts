@@ -138,7 +138,8 @@ export class ReferenceLibrary {
     return this.write(() => {
       const summary: ImportSummary = { added: [], updated: [], unchanged: [] };
       for (const ref of checked) summary[this.storeVersion(ref, change)].push(ref.name);
-      if (summary.added.length + summary.updated.length > 0 || !this.storedIndex(this.all())) this.storeLineIndex();
+      const references = this.all();
+      this.saveSnapshot(references, packedIndexOf(references));
       return summary;
     });
   }
@@ -176,37 +177,51 @@ export class ReferenceLibrary {
   }
 
   /**
-   * Every current reference with the d-sorted index over their lines: the index as stored at import
-   * time, read in one query when it was built for this library state (same digest); otherwise built
-   * from the packed line arrays (never from line objects) and, when the file is writable, stored.
+   * Every current reference with the d-sorted index over their lines, from the snapshot kept with the
+   * library (one read, one JSON parse, lines decoded only for the references a match looks at). When
+   * the snapshot is missing or older than the library, it is made from the packed line arrays (never
+   * from line objects) and, when the file is writable, stored.
    */
   referencesWithIndex(): { references: StoredReference[]; index: ReferenceIndex } {
+    const row = this.statements.snapshot.get();
+    if (row && row.stamp === this.stamp()) {
+      const references = referencesFromSnapshot(row);
+      const index = { d: typedView(Float64Array, row.d), referenceOf: typedView(Int32Array, row.reference_of), intensity: typedView(Float32Array, row.intensity) };
+      return { references, index: referenceIndexFromPacked(references, index) };
+    }
     const references = this.all();
-    const stored = this.storedIndex(references);
-    if (stored) return { references, index: referenceIndexFromPacked(references, stored) };
     const packed = packedIndexOf(references);
-    if (!this.db.readonly) this.write(() => this.saveLineIndex(references, packed));
+    if (!this.db.readonly) this.write(() => this.saveSnapshot(references, packed));
     return { references, index: referenceIndexFromPacked(references, packed) };
   }
 
-  /** The stored line index when it belongs to exactly these references (by digest), else null. */
-  private storedIndex(references: readonly StoredReference[]): PackedLineIndex | null {
-    const row = this.statements.lineIndex.get();
-    if (!row || row.reference_count !== references.length || row.digest !== libraryDigest(references)) return null;
-    const n = row.d.byteLength / 8;
-    if (row.reference_of.byteLength !== 4 * n || row.intensity.byteLength !== 4 * n) return null;
-    return { d: typedView(Float64Array, row.d), referenceOf: typedView(Int32Array, row.reference_of), intensity: typedView(Float32Array, row.intensity) };
+  /** The library state in a few numbers: any import, edit, delete, undelete or restore changes it. */
+  private stamp(): string {
+    const { n, versions, last } = this.statements.stamp.get()!;
+    return `${n}:${versions}:${last}`;
   }
 
-  /** Build and store the line index for the current references (inside the caller's transaction). */
-  private storeLineIndex(): void {
-    const references = this.all();
-    this.saveLineIndex(references, packedIndexOf(references));
-  }
-
-  private saveLineIndex(references: readonly StoredReference[], packed: PackedLineIndex): void {
+  private saveSnapshot(references: readonly StoredReference[], packed: PackedLineIndex): void {
     const bytes = (a: Float64Array | Int32Array | Float32Array) => Buffer.from(a.buffer, a.byteOffset, a.byteLength);
-    this.statements.saveLineIndex.run(libraryDigest(references), references.length, bytes(packed.d), bytes(packed.referenceOf), bytes(packed.intensity));
+    const lines = references.map(packedLinesOf);
+    const indexStart = new Int32Array(references.length);
+    let ints = 0;
+    lines.forEach((p, r) => {
+      indexStart[r] = p.indices ? ints : -1;
+      if (p.indices) ints += 4 * p.count;
+    });
+    const heads = references.map((r, k) => [r.id, r.version, r.name, r.source, detailsOf(r), r.createdAt, lines[k]!.count]);
+    this.statements.saveSnapshot.run({
+      stamp: this.stamp(),
+      digest: libraryDigest(references),
+      heads: JSON.stringify(heads),
+      line_values: Buffer.concat(lines.map((p) => p.values)),
+      line_indices: Buffer.concat(lines.flatMap((p) => (p.indices ? [p.indices] : []))),
+      index_start: bytes(indexStart),
+      d: bytes(packed.d),
+      reference_of: bytes(packed.referenceOf),
+      intensity: bytes(packed.intensity),
+    });
   }
 
   /**
@@ -330,6 +345,7 @@ export class ReferenceLibrary {
     const noted = this.path !== ':memory:';
     if (noted) recordHolder(this.path);
     try {
+      this.statements.dropSnapshot.run(); // every change makes the snapshot old; an import makes a new one
       const result = this.db.transaction(work)();
       if (noted) forgetHolder(this.path); // before COMMIT releases the lock: never the next writer's note
       this.db.exec('COMMIT');
@@ -420,6 +436,33 @@ export class ReferenceLibrary {
   }
 }
 
+/** The snapshot row (schema.ts, step 3). */
+interface SnapshotRow {
+  stamp: string;
+  digest: string;
+  heads: string;
+  line_values: Buffer;
+  line_indices: Buffer;
+  index_start: Buffer;
+  d: Buffer;
+  reference_of: Buffer;
+  intensity: Buffer;
+}
+
+/** The references of a snapshot: heads from one JSON array, lines as views on the packed bytes. */
+function referencesFromSnapshot(row: SnapshotRow): StoredReference[] {
+  const heads = JSON.parse(row.heads) as Array<[number, number, string, string, VersionDetails, string, number]>;
+  const indexStart = typedView(Int32Array, row.index_start);
+  let doubles = 0;
+  return heads.map(([id, version, name, source, details, createdAt, count], r) => {
+    const values = row.line_values.subarray(8 * doubles, 8 * (doubles + 2 * count));
+    doubles += 2 * count;
+    const start = indexStart[r]!;
+    const indices = start < 0 ? null : row.line_indices.subarray(4 * start, 4 * (start + 4 * count));
+    return storedReference(id, version, name, source, details, createdAt, { count, values, indices });
+  });
+}
+
 interface EntryRow {
   id: number;
   name: string;
@@ -457,11 +500,12 @@ function prepareStatements(db: Db) {
     markDeleted: db.prepare(`UPDATE reference_entry SET deleted_at = ? WHERE id = ?`),
     clearTags: db.prepare(`DELETE FROM reference_tag WHERE entry_id = ?`),
     insertTag: db.prepare(`INSERT OR IGNORE INTO reference_tag (entry_id, tag) VALUES (?, ?)`),
-    lineIndex: db.prepare(`SELECT digest, reference_count, d, reference_of, intensity FROM line_index WHERE id = 1`) as Statement<
-      [],
-      { digest: string; reference_count: number; d: Buffer; reference_of: Buffer; intensity: Buffer }
-    >,
-    saveLineIndex: db.prepare(`INSERT OR REPLACE INTO line_index (id, digest, reference_count, d, reference_of, intensity) VALUES (1, ?, ?, ?, ?, ?)`),
+    snapshot: db.prepare(`SELECT * FROM line_index WHERE id = 1`) as Statement<[], SnapshotRow>,
+    stamp: db.prepare(`SELECT count(*) AS n, total(current_version) AS versions, (SELECT max(rowid) FROM reference_version) AS last
+      FROM reference_entry WHERE deleted_at IS NULL`) as Statement<[], { n: number; versions: number; last: number | null }>,
+    saveSnapshot: db.prepare(`INSERT OR REPLACE INTO line_index (id, stamp, digest, heads, line_values, line_indices, index_start, d, reference_of, intensity)
+      VALUES (1, @stamp, @digest, @heads, @line_values, @line_indices, @index_start, @d, @reference_of, @intensity)`),
+    dropSnapshot: db.prepare(`DELETE FROM line_index`),
   };
 }
 
@@ -486,8 +530,10 @@ const packedOf = new WeakMap<object, PackedLines>();
  * so loading many references for a screen that reads only their typed arrays stays fast.
  */
 function storedFromRow([id, version, name, source, detailsJson, createdAt, count, values, indices]: VersionRow): StoredReference {
-  const packed: PackedLines = { count, values, indices };
-  const details = JSON.parse(detailsJson) as VersionDetails;
+  return storedReference(id, version, name, source, JSON.parse(detailsJson) as VersionDetails, createdAt, { count, values, indices });
+}
+
+function storedReference(id: number, version: number, name: string, source: string, details: VersionDetails, createdAt: string, packed: PackedLines): StoredReference {
   let lines: ReferenceLine[] | null = null;
   const ref: StoredReference = {
     id,
