@@ -1,7 +1,7 @@
 import type { Statement } from 'better-sqlite3';
 import { InputError } from '../../core/errors.js';
 import { formatReferenceJson, toFileEntry } from '../../core/library/json-format.js';
-import { packLines, unpackLines, unpackValues, type PackedLines } from './packing.js';
+import { forgetPacked, packLines, packedLinesOf, rememberPacked, unpackLines, unpackValues, type PackedLines } from './packing.js';
 import type { Reference, ReferenceLine, StoredReference } from '../../core/model/reference.js';
 import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from './schema.js';
 import { DEFAULT_BUSY_TIMEOUT_MS, openDatabase, readMeta, schemaVersion, writeMeta, type Db } from './sqlite.js';
@@ -522,8 +522,6 @@ function detailsOf(ref: Reference): VersionDetails {
   return details;
 }
 
-/** Packed lines of references read from a store, for `lineArrays` (no per-line objects needed). */
-const packedOf = new WeakMap<object, PackedLines>();
 
 /**
  * A stored reference from its row. Its `lines` are decoded from the packed arrays on first use,
@@ -548,14 +546,14 @@ function storedReference(id: number, version: number, name: string, source: stri
     },
     set lines(value: ReferenceLine[]) {
       lines = value;
-      packedOf.delete(ref);
+      forgetPacked(ref);
     },
   };
   if (details.notes !== undefined) ref.notes = details.notes;
   if (details.rir !== undefined) ref.rir = details.rir;
   if (details.cell) ref.cell = details.cell;
   if (details.intensityBasis !== undefined) ref.intensityBasis = details.intensityBasis;
-  packedOf.set(ref, packed);
+  rememberPacked(ref, packed);
   return ref;
 }
 
@@ -568,10 +566,6 @@ export function lineArrays(ref: Reference): { d: Float64Array; intensity: Float6
   return unpackValues(packed.values, packed.count);
 }
 
-/** A reference's lines packed (packing.ts): the stored bytes for references loaded from a library. */
-export function packedLinesOf(ref: Reference): PackedLines {
-  return packedOf.get(ref) ?? packLines(ref.lines);
-}
 
 /** Gather every line of the references from their packed arrays (no line objects) and sort by d. */
 function packedIndexOf(references: readonly StoredReference[]): PackedLineIndex {
