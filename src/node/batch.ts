@@ -158,11 +158,21 @@ function referencesFromShared(heads: readonly ReferenceHead[], shared: SharedLin
   });
 }
 
+/**
+ * A reference's fields without its lines, copied key by key: destructuring `{ lines, ...head }` would
+ * read `lines` and so decode every line of a library's lazily decoded references.
+ */
+function headOf(ref: StoredReference): ReferenceHead {
+  const head: Record<string, unknown> = {};
+  for (const key of Object.keys(ref)) if (key !== 'lines') head[key] = (ref as unknown as Record<string, unknown>)[key];
+  return head as unknown as ReferenceHead;
+}
+
 /** Index the references once and put the index and the lines where every worker can read them without a copy. */
 function shareSetup(setup: BatchSetup): SharedSetup {
   const index = setup.index ?? buildReferenceIndex(setup.references);
   return {
-    heads: setup.references.map(({ lines: _lines, ...head }) => head),
+    heads: setup.references.map(headOf),
     lines: shareLines(setup.references),
     instrument: setup.instrument,
     settings: setup.settings,
