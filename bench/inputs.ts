@@ -110,7 +110,7 @@ export function flatLibraryJson(refs: Reference[]): string {
   return JSON.stringify({ names, offsets, d, intensity });
 }
 
-function cacheDir(): string {
+export function cacheDir(): string {
   return join(tmpdir(), `crystallog-bench-v${INPUTS_VERSION}`);
 }
 

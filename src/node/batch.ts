@@ -9,7 +9,7 @@ import { availableParallelism } from 'node:os';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { StoredReference } from '../core/model/reference.js';
-import { packLines, unpackLines } from './library/packing.js';
+import { packedLinesOf, unpackLines } from './library/packing.js';
 import { buildReferenceIndex, type ReferenceIndex } from '../core/match/reference-index.js';
 import type { InstrumentProfile } from '../core/size/instrument.js';
 import { checkTarget, createAnalysisContext, type AnalysisContext, type AnalysisSettings } from '../core/analysis/analyse.js';
@@ -17,6 +17,8 @@ import { checkTarget, createAnalysisContext, type AnalysisContext, type Analysis
 /** What a batch needs besides the files. */
 export interface BatchSetup {
   references: readonly StoredReference[];
+  /** The d-sorted line index over `references`, as the library stores it (built here when absent). */
+  index?: ReferenceIndex;
   instrument: InstrumentProfile | null;
   settings: Partial<AnalysisSettings>;
 }
@@ -91,6 +93,17 @@ export function defaultWorkerCount(): number {
   return Math.max(1, availableParallelism());
 }
 
+/**
+ * Below this many files per extra worker, a second worker costs more to start (0.5–0.8 s CPU each,
+ * issue 15) than it saves: a small batch runs on one worker unless more are asked for.
+ */
+const FILES_PER_EXTRA_WORKER = 16;
+
+/** Workers for a batch of `files` when none are asked for: one for a small batch, else one per core. */
+export function workersFor(files: number): number {
+  return Math.max(1, Math.min(defaultWorkerCount(), Math.ceil(files / FILES_PER_EXTRA_WORKER)));
+}
+
 function shareTyped<T extends Float64Array | Int32Array | Float32Array>(array: T): SharedArrayBuffer {
   const buffer = new SharedArrayBuffer(array.byteLength);
   new Uint8Array(buffer).set(new Uint8Array(array.buffer, array.byteOffset, array.byteLength));
@@ -100,7 +113,7 @@ function shareTyped<T extends Float64Array | Int32Array | Float32Array>(array: T
 /** Pack every reference's lines into two shared buffers, once for all workers. */
 function shareLines(references: readonly StoredReference[]): SharedLines {
   const n = references.length;
-  const packed = references.map((r) => packLines(r.lines));
+  const packed = references.map(packedLinesOf);
   const valueStart = new Int32Array(n);
   const indexStart = new Int32Array(n);
   const count = new Int32Array(n);
@@ -145,11 +158,21 @@ function referencesFromShared(heads: readonly ReferenceHead[], shared: SharedLin
   });
 }
 
+/**
+ * A reference's fields without its lines, copied key by key: destructuring `{ lines, ...head }` would
+ * read `lines` and so decode every line of a library's lazily decoded references.
+ */
+function headOf(ref: StoredReference): ReferenceHead {
+  const head: Record<string, unknown> = {};
+  for (const key of Object.keys(ref)) if (key !== 'lines') head[key] = (ref as unknown as Record<string, unknown>)[key];
+  return head as unknown as ReferenceHead;
+}
+
 /** Index the references once and put the index and the lines where every worker can read them without a copy. */
 function shareSetup(setup: BatchSetup): SharedSetup {
-  const index = buildReferenceIndex(setup.references);
+  const index = setup.index ?? buildReferenceIndex(setup.references);
   return {
-    heads: setup.references.map(({ lines: _lines, ...head }) => head),
+    heads: setup.references.map(headOf),
     lines: shareLines(setup.references),
     instrument: setup.instrument,
     settings: setup.settings,
@@ -188,7 +211,7 @@ export function analyzeFiles(files: readonly string[], setup: BatchSetup, option
   // Checked here, in the calling thread, so a bad target fails once and not once per file.
   checkTarget(setup.references, setup.settings.target ?? null);
   const shared = shareSetup(setup);
-  const poolSize = Math.max(1, Math.min(options.workers ?? defaultWorkerCount(), files.length));
+  const poolSize = Math.max(1, Math.min(options.workers ?? workersFor(files.length), files.length));
   const script = options.workerScript ?? defaultWorkerScript();
   const keepJson = options.keepJson ?? true;
   const outcomes: BatchFileOutcome[] = new Array(files.length);

@@ -4,7 +4,7 @@ import { analyzeFiles, defaultWorkerCount, type BatchFileOutcome } from '../../n
 import type { AnalysisResult, AnalysisSettings } from '../../core/analysis/analyse.js';
 import { InputError } from '../../core/errors.js';
 import { parseInstrumentProfile, type InstrumentProfile } from '../../core/size/instrument.js';
-import { loadAllReferences } from '../common/io.js';
+import { loadReferencesWithIndex } from '../common/io.js';
 import { settingsFromFlags } from '../common/settings-flags.js';
 import { BACKGROUND_OPTION_HELP, numberOption, runCommand } from '../common/run-command.js';
 
@@ -55,7 +55,7 @@ export function registerAnalyze(program: Command): void {
     .option('--breadth <kind>', 'fwhm or integral (default fwhm)')
     .option('--correction <kind>', 'voigt, lorentzian or gaussian (default voigt)')
     .option('--background <deg>', BACKGROUND_OPTION_HELP)
-    .option('--workers <n>', `worker threads (default: the number of cores, here ${defaultWorkerCount()})`)
+    .option('--workers <n>', `worker threads (default: one per 16 files, at most the number of cores, here ${defaultWorkerCount()})`)
     .option('--files-from <list>', 'read more file paths from this list, one per line ("-" for standard input)')
     .option('--jsonl', 'print one JSON line per file as each finishes (with its input index)')
     .option('--json', 'print one JSON document {files: [...]} in input order')
@@ -83,14 +83,14 @@ export async function analyzeCommand(files: string[], o: AnalyzeCommandOptions, 
   if (allFiles.length === 0) throw new InputError('no pattern files given; name them after "analyze" or list them with --files-from');
   const settings = settingsFromOptions(o);
   const workers = numberOption('--workers', o.workers, (v) => Number.isInteger(v) && v >= 1 && v <= 256, 'give a whole number of worker threads, 1 or more');
-  const references = loadAllReferences(o.library);
+  const { references, index } = loadReferencesWithIndex(o.library);
   const instrument = o.instrument ? loadInstrument(o.instrument) : null;
 
   const progress = io.progress ? progressBar(allFiles.length, io.stderr) : null;
   const streaming = Boolean(o.jsonl);
   // --json is written in input order as results arrive, so the results are never all held at once.
   const document = o.json && !streaming ? jsonDocumentWriter(io.stdout) : null;
-  const outcomes = await analyzeFiles(allFiles, { references, instrument, settings }, {
+  const outcomes = await analyzeFiles(allFiles, { references, index, instrument, settings }, {
     ...(workers !== undefined ? { workers } : {}),
     ...(io.workerScript ? { workerScript: io.workerScript } : {}),
     keepJson: false,

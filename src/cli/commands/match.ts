@@ -2,7 +2,7 @@ import type { Command } from 'commander';
 import { analyzePattern, createAnalysisContext } from '../../core/analysis/analyse.js';
 import type { MatchResult } from '../../core/match/types.js';
 import { readPatternFile } from '../../node/files.js';
-import { loadAllReferences, printWarnings } from '../common/io.js';
+import { loadReferencesWithIndex, printWarnings } from '../common/io.js';
 import { runCommand } from '../common/run-command.js';
 import { settingsFromFlags } from '../common/settings-flags.js';
 
@@ -40,8 +40,8 @@ export function registerMatch(program: Command): void {
 /** The match part of the one analysis of the pattern (peaks → match → sizes), as `analyze` gives it. */
 function matchCommand(file: string, o: MatchCommandOptions): MatchCommandResult {
   const settings = settingsFromFlags(o);
-  const references = loadAllReferences(o.library);
-  const analysis = analyzePattern(readPatternFile(file), createAnalysisContext(references, null, settings));
+  const { references, index } = loadReferencesWithIndex(o.library);
+  const analysis = analyzePattern(readPatternFile(file), createAnalysisContext(references, null, settings, index));
   printWarnings(analysis.warnings);
   const { wavelength } = analysis;
   return {

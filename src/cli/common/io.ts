@@ -1,3 +1,4 @@
+import type { ReferenceIndex } from '../../core/match/reference-index.js';
 import { existsSync, renameSync, rmSync, writeFileSync } from 'node:fs';
 import { InputError } from '../../core/errors.js';
 import type { StoredReference } from '../../core/model/reference.js';
@@ -40,6 +41,13 @@ export function loadAllReferences(path: string): StoredReference[] {
   const references = withLibrary(path, (library) => library.all());
   if (references.length === 0) throw new InputError(`the library ${path} holds no references; add some with: crystallog library import FILE --library ${path}`);
   return references;
+}
+
+/** Every current reference with the library's stored d-sorted line index (for match and analyze). */
+export function loadReferencesWithIndex(path: string): { references: StoredReference[]; index: ReferenceIndex } {
+  const loaded = withLibrary(path, (library) => library.referencesWithIndex());
+  if (loaded.references.length === 0) throw new InputError(`the library ${path} holds no references; add some with: crystallog library import FILE --library ${path}`);
+  return loaded;
 }
 
 /** Write a whole file or nothing: a temporary file beside it, flushed, then renamed over it. */

@@ -107,7 +107,8 @@ function findByName(references: readonly StoredReference[], name: string): Store
 
 export function libraryDigest(references: readonly StoredReference[]): string {
   const hash = sha256Stream();
-  for (const r of references) hash.update(`${r.name}\u0000${r.version}\u0000`);
+  // One update over the joined text (the same bytes as one update per reference, far fewer calls).
+  hash.update(references.map((r) => `${r.name}\u0000${r.version}\u0000`).join(''));
   return hash.hex();
 }
 

@@ -23,32 +23,71 @@ export function lineIntensity(value: number | null): number {
   return value === null ? UNKNOWN_LINE_INTENSITY : value;
 }
 
-/** Build the d-sorted index over every line of every reference. */
+/**
+ * Every line of a library as flat typed arrays: d (Å), which reference (its position in the
+ * library's list), relative intensity. Sorted by d when it is an index; in any order as gathered.
+ */
+export interface PackedLineIndex {
+  d: Float64Array;
+  referenceOf: Int32Array;
+  intensity: Float32Array;
+}
+
+/** Build the d-sorted index over every line of every reference (from the line objects). */
 export function buildReferenceIndex(references: readonly StoredReference[]): ReferenceIndex {
   let total = 0;
   for (const ref of references) total += ref.lines.length;
-  const dRaw = new Float64Array(total);
-  const refRaw = new Int32Array(total);
-  const intensityRaw = new Float32Array(total);
+  const gathered: PackedLineIndex = { d: new Float64Array(total), referenceOf: new Int32Array(total), intensity: new Float32Array(total) };
   let n = 0;
   references.forEach((ref, r) => {
     for (const line of ref.lines) {
-      if (!(line.d > 0)) continue;
-      dRaw[n] = line.d;
-      refRaw[n] = r;
-      intensityRaw[n] = lineIntensity(line.intensity);
+      gathered.d[n] = line.d;
+      gathered.referenceOf[n] = r;
+      gathered.intensity[n] = lineIntensity(line.intensity);
       n++;
     }
   });
-  const order = sortedOrder(dRaw.subarray(0, n));
+  return referenceIndexFromPacked(references, sortLineIndex(gathered));
+}
+
+/**
+ * Sort gathered lines by d (lines without a positive d are dropped): what a library stores at
+ * import time, so that matching never sorts or decodes line objects.
+ */
+export function sortLineIndex(lines: PackedLineIndex): PackedLineIndex {
+  const total = lines.d.length;
+  const keep = new Uint32Array(total);
+  let n = 0;
+  for (let i = 0; i < total; i++) if (lines.d[i]! > 0) keep[n++] = i;
+  const dKept = new Float64Array(n);
+  for (let i = 0; i < n; i++) dKept[i] = lines.d[keep[i]!]!;
+  const order = sortedOrder(dKept);
   const d = new Float64Array(n);
   const referenceOf = new Int32Array(n);
   const intensity = new Float32Array(n);
   for (let i = 0; i < n; i++) {
-    const k = order[i];
-    d[i] = dRaw[k];
-    referenceOf[i] = refRaw[k];
-    intensity[i] = intensityRaw[k];
+    const k = order[i]!;
+    d[i] = dKept[k]!;
+    referenceOf[i] = lines.referenceOf[keep[k]!]!;
+    intensity[i] = lines.intensity[keep[k]!]!;
+  }
+  return { d, referenceOf, intensity };
+}
+
+/**
+ * The index over references from a d-sorted packed line table (as stored with the library):
+ * checked for shape (equal lengths, d ascending, every reference number in range), never copied.
+ */
+export function referenceIndexFromPacked(references: readonly StoredReference[], packed: PackedLineIndex): ReferenceIndex {
+  const { d, referenceOf, intensity } = packed;
+  const n = d.length;
+  if (referenceOf.length !== n || intensity.length !== n) throw new Error(`packed line index has arrays of unequal length (${n}, ${referenceOf.length}, ${intensity.length})`);
+  const refs = references.length;
+  for (let i = 0; i < n; i++) {
+    const r = referenceOf[i]!;
+    if (!(r >= 0 && r < refs) || !(d[i]! > 0) || (i > 0 && d[i]! < d[i - 1]!)) {
+      throw new Error(`packed line index is not a d-sorted index over these ${refs} references (line ${i})`);
+    }
   }
   return { references, d, referenceOf, intensity };
 }

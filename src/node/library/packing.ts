@@ -1,5 +1,5 @@
 import type { Hkl } from '../../core/model/cell.js';
-import type { ReferenceLine } from '../../core/model/reference.js';
+import type { Reference, ReferenceLine } from '../../core/model/reference.js';
 
 /**
  * Compact storage of a reference's lines, so that loading 100 000 references stays fast:
@@ -75,4 +75,21 @@ function viewAs<T extends Float64Array | Int32Array>(
   const copy = new Uint8Array(bytes.byteLength);
   copy.set(bytes);
   return new Kind(copy.buffer, 0, length);
+}
+
+/** The packed lines of references read from a store (their stored bytes), so no line objects are needed. */
+const packedOf = new WeakMap<object, PackedLines>();
+
+export function rememberPacked(ref: Reference, packed: PackedLines): void {
+  packedOf.set(ref, packed);
+}
+
+/** After a reference's lines were replaced, its stored bytes no longer describe them. */
+export function forgetPacked(ref: Reference): void {
+  packedOf.delete(ref);
+}
+
+/** A reference's lines packed: the stored bytes for references loaded from a library, else packed now. */
+export function packedLinesOf(ref: Reference): PackedLines {
+  return packedOf.get(ref) ?? packLines(ref.lines);
 }

@@ -49,6 +49,26 @@ export const LIBRARY_MIGRATIONS: readonly Migration[] = [
         JOIN reference_version v ON v.entry_id = e.id AND v.version = e.current_version, json_each(v.details, '$.tags') j;
     `);
   },
+  // 3: a snapshot of the current references for matching, kept in the same transaction as every
+  // change (an import rebuilds it, other changes drop it until the next read rebuilds it): their heads
+  // as one JSON array, their packed lines end to end, and every line in one d-sorted table, so that
+  // `match` loads the whole library in one read. `stamp` is the library state it was made from.
+  (db) => {
+    db.exec(`
+      CREATE TABLE line_index (
+        id INTEGER PRIMARY KEY CHECK (id = 1),
+        stamp TEXT NOT NULL,
+        digest TEXT NOT NULL,        -- the library digest (names and versions, analyse.ts)
+        heads TEXT NOT NULL CHECK (json_valid(heads)), -- [id, version, name, source, details, created_at, line_count] per reference, name order
+        line_values BLOB NOT NULL,   -- each reference's packed line values (packing.ts), end to end
+        line_indices BLOB NOT NULL,  -- each reference's packed h, k, l, multiplicity, end to end (none: nothing)
+        index_start BLOB NOT NULL,   -- Int32 per reference: its first Int32 in line_indices, or -1 when it has none
+        d BLOB NOT NULL,             -- Float64, ascending, Å
+        reference_of BLOB NOT NULL,  -- Int32, position of the line's reference in heads
+        intensity BLOB NOT NULL      -- Float32, relative intensity (unknown counted as in reference-index.ts)
+      ) STRICT;
+    `);
+  },
 ];
 
 export const LIBRARY_KIND = 'reference-library';

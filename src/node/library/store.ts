@@ -1,13 +1,15 @@
 import type { Statement } from 'better-sqlite3';
 import { InputError } from '../../core/errors.js';
 import { formatReferenceJson, toFileEntry } from '../../core/library/json-format.js';
-import { packLines, unpackLines, unpackValues, type PackedLines } from './packing.js';
+import { forgetPacked, packLines, packedLinesOf, rememberPacked, unpackLines, unpackValues, type PackedLines } from './packing.js';
 import type { Reference, ReferenceLine, StoredReference } from '../../core/model/reference.js';
 import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from './schema.js';
 import { DEFAULT_BUSY_TIMEOUT_MS, openDatabase, readMeta, schemaVersion, writeMeta, type Db } from './sqlite.js';
 import { describeHolder, forgetHolder, recordHolder } from './write-lock.js';
 import { createHash } from 'node:crypto';
 import { canonicalContent, checkReferences } from '../../core/library/validate.js';
+import { libraryDigest } from '../../core/analysis/analyse.js';
+import { lineIntensity, referenceIndexFromPacked, sortLineIndex, type PackedLineIndex, type ReferenceIndex } from '../../core/match/reference-index.js';
 
 export { parseReferenceJson, formatReferenceJson } from '../../core/library/json-format.js';
 export { parseReferenceCsv, type CsvReferenceMeta } from '../../core/library/csv-format.js';
@@ -136,6 +138,8 @@ export class ReferenceLibrary {
     return this.write(() => {
       const summary: ImportSummary = { added: [], updated: [], unchanged: [] };
       for (const ref of checked) summary[this.storeVersion(ref, change)].push(ref.name);
+      const references = this.all();
+      this.saveSnapshot(references, packedIndexOf(references));
       return summary;
     });
   }
@@ -170,6 +174,54 @@ export class ReferenceLibrary {
     const refs = this.statements.all.all().map(storedFromRow);
     this.cache = { dataVersion, writes: this.writes, refs };
     return refs.slice();
+  }
+
+  /**
+   * Every current reference with the d-sorted index over their lines, from the snapshot kept with the
+   * library (one read, one JSON parse, lines decoded only for the references a match looks at). When
+   * the snapshot is missing or older than the library, it is made from the packed line arrays (never
+   * from line objects) and, when the file is writable, stored.
+   */
+  referencesWithIndex(): { references: StoredReference[]; index: ReferenceIndex } {
+    const row = this.statements.snapshot.get();
+    if (row && row.stamp === this.stamp()) {
+      const references = referencesFromSnapshot(row);
+      const index = { d: typedView(Float64Array, row.d), referenceOf: typedView(Int32Array, row.reference_of), intensity: typedView(Float32Array, row.intensity) };
+      return { references, index: referenceIndexFromPacked(references, index) };
+    }
+    const references = this.all();
+    const packed = packedIndexOf(references);
+    if (!this.db.readonly) this.write(() => this.saveSnapshot(references, packed));
+    return { references, index: referenceIndexFromPacked(references, packed) };
+  }
+
+  /** The library state in a few numbers: any import, edit, delete, undelete or restore changes it. */
+  private stamp(): string {
+    const { n, versions, last } = this.statements.stamp.get()!;
+    return `${n}:${versions}:${last}`;
+  }
+
+  private saveSnapshot(references: readonly StoredReference[], packed: PackedLineIndex): void {
+    const bytes = (a: Float64Array | Int32Array | Float32Array) => Buffer.from(a.buffer, a.byteOffset, a.byteLength);
+    const lines = references.map(packedLinesOf);
+    const indexStart = new Int32Array(references.length);
+    let ints = 0;
+    lines.forEach((p, r) => {
+      indexStart[r] = p.indices ? ints : -1;
+      if (p.indices) ints += 4 * p.count;
+    });
+    const heads = references.map((r, k) => [r.id, r.version, r.name, r.source, detailsOf(r), r.createdAt, lines[k]!.count]);
+    this.statements.saveSnapshot.run({
+      stamp: this.stamp(),
+      digest: libraryDigest(references),
+      heads: JSON.stringify(heads),
+      line_values: Buffer.concat(lines.map((p) => p.values)),
+      line_indices: Buffer.concat(lines.flatMap((p) => (p.indices ? [p.indices] : []))),
+      index_start: bytes(indexStart),
+      d: bytes(packed.d),
+      reference_of: bytes(packed.referenceOf),
+      intensity: bytes(packed.intensity),
+    });
   }
 
   /**
@@ -293,6 +345,7 @@ export class ReferenceLibrary {
     const noted = this.path !== ':memory:';
     if (noted) recordHolder(this.path);
     try {
+      this.statements.dropSnapshot.run(); // every change makes the snapshot old; an import makes a new one
       const result = this.db.transaction(work)();
       if (noted) forgetHolder(this.path); // before COMMIT releases the lock: never the next writer's note
       this.db.exec('COMMIT');
@@ -383,6 +436,33 @@ export class ReferenceLibrary {
   }
 }
 
+/** The snapshot row (schema.ts, step 3). */
+interface SnapshotRow {
+  stamp: string;
+  digest: string;
+  heads: string;
+  line_values: Buffer;
+  line_indices: Buffer;
+  index_start: Buffer;
+  d: Buffer;
+  reference_of: Buffer;
+  intensity: Buffer;
+}
+
+/** The references of a snapshot: heads from one JSON array, lines as views on the packed bytes. */
+function referencesFromSnapshot(row: SnapshotRow): StoredReference[] {
+  const heads = JSON.parse(row.heads) as Array<[number, number, string, string, VersionDetails, string, number]>;
+  const indexStart = typedView(Int32Array, row.index_start);
+  let doubles = 0;
+  return heads.map(([id, version, name, source, details, createdAt, count], r) => {
+    const values = row.line_values.subarray(8 * doubles, 8 * (doubles + 2 * count));
+    doubles += 2 * count;
+    const start = indexStart[r]!;
+    const indices = start < 0 ? null : row.line_indices.subarray(4 * start, 4 * (start + 4 * count));
+    return storedReference(id, version, name, source, details, createdAt, { count, values, indices });
+  });
+}
+
 interface EntryRow {
   id: number;
   name: string;
@@ -420,6 +500,12 @@ function prepareStatements(db: Db) {
     markDeleted: db.prepare(`UPDATE reference_entry SET deleted_at = ? WHERE id = ?`),
     clearTags: db.prepare(`DELETE FROM reference_tag WHERE entry_id = ?`),
     insertTag: db.prepare(`INSERT OR IGNORE INTO reference_tag (entry_id, tag) VALUES (?, ?)`),
+    snapshot: db.prepare(`SELECT * FROM line_index WHERE id = 1`) as Statement<[], SnapshotRow>,
+    stamp: db.prepare(`SELECT count(*) AS n, total(current_version) AS versions, (SELECT max(rowid) FROM reference_version) AS last
+      FROM reference_entry WHERE deleted_at IS NULL`) as Statement<[], { n: number; versions: number; last: number | null }>,
+    saveSnapshot: db.prepare(`INSERT OR REPLACE INTO line_index (id, stamp, digest, heads, line_values, line_indices, index_start, d, reference_of, intensity)
+      VALUES (1, @stamp, @digest, @heads, @line_values, @line_indices, @index_start, @d, @reference_of, @intensity)`),
+    dropSnapshot: db.prepare(`DELETE FROM line_index`),
   };
 }
 
@@ -436,16 +522,16 @@ function detailsOf(ref: Reference): VersionDetails {
   return details;
 }
 
-/** Packed lines of references read from a store, for `lineArrays` (no per-line objects needed). */
-const packedOf = new WeakMap<object, PackedLines>();
 
 /**
  * A stored reference from its row. Its `lines` are decoded from the packed arrays on first use,
  * so loading many references for a screen that reads only their typed arrays stays fast.
  */
 function storedFromRow([id, version, name, source, detailsJson, createdAt, count, values, indices]: VersionRow): StoredReference {
-  const packed: PackedLines = { count, values, indices };
-  const details = JSON.parse(detailsJson) as VersionDetails;
+  return storedReference(id, version, name, source, JSON.parse(detailsJson) as VersionDetails, createdAt, { count, values, indices });
+}
+
+function storedReference(id: number, version: number, name: string, source: string, details: VersionDetails, createdAt: string, packed: PackedLines): StoredReference {
   let lines: ReferenceLine[] | null = null;
   const ref: StoredReference = {
     id,
@@ -460,14 +546,14 @@ function storedFromRow([id, version, name, source, detailsJson, createdAt, count
     },
     set lines(value: ReferenceLine[]) {
       lines = value;
-      packedOf.delete(ref);
+      forgetPacked(ref);
     },
   };
   if (details.notes !== undefined) ref.notes = details.notes;
   if (details.rir !== undefined) ref.rir = details.rir;
   if (details.cell) ref.cell = details.cell;
   if (details.intensityBasis !== undefined) ref.intensityBasis = details.intensityBasis;
-  packedOf.set(ref, packed);
+  rememberPacked(ref, packed);
   return ref;
 }
 
@@ -476,6 +562,41 @@ function storedFromRow([id, version, name, source, detailsJson, createdAt, count
  * stored bytes for references loaded from a library (no copy, no per-line objects).
  */
 export function lineArrays(ref: Reference): { d: Float64Array; intensity: Float64Array } {
-  const packed = packedOf.get(ref) ?? packLines(ref.lines);
+  const packed = packedLinesOf(ref);
   return unpackValues(packed.values, packed.count);
+}
+
+
+/** Gather every line of the references from their packed arrays (no line objects) and sort by d. */
+function packedIndexOf(references: readonly StoredReference[]): PackedLineIndex {
+  let total = 0;
+  const arrays = references.map((ref) => {
+    const a = lineArrays(ref);
+    total += a.d.length;
+    return a;
+  });
+  const gathered: PackedLineIndex = { d: new Float64Array(total), referenceOf: new Int32Array(total), intensity: new Float32Array(total) };
+  let n = 0;
+  arrays.forEach(({ d, intensity }, r) => {
+    gathered.d.set(d, n);
+    gathered.referenceOf.fill(r, n, n + d.length);
+    for (let i = 0; i < d.length; i++) {
+      const value = intensity[i]!;
+      gathered.intensity[n + i] = lineIntensity(Number.isNaN(value) ? null : value);
+    }
+    n += d.length;
+  });
+  return sortLineIndex(gathered);
+}
+
+/** A typed array over stored bytes; copied only when SQLite handed back a misaligned buffer. */
+function typedView<T extends Float64Array | Int32Array | Float32Array>(
+  Kind: { new (buffer: ArrayBufferLike, byteOffset: number, length: number): T; BYTES_PER_ELEMENT: number },
+  bytes: Buffer,
+): T {
+  const length = bytes.byteLength / Kind.BYTES_PER_ELEMENT;
+  if (bytes.byteOffset % Kind.BYTES_PER_ELEMENT === 0) return new Kind(bytes.buffer, bytes.byteOffset, length);
+  const copy = new Uint8Array(bytes.byteLength);
+  copy.set(bytes);
+  return new Kind(copy.buffer, 0, length);
 }

@@ -1,0 +1,118 @@
+/**
+ * Speed at library scale (issue 15), measured as whole `crystallog` commands in child processes, CPU
+ * time (user + system, GNU time) and peak RSS rather than wall time, because the machine is shared:
+ * importing a 100 000-reference JSON file, `match` of one file against it, `analyze` set-up with it,
+ * and single-file `peaks` start-up above a bare `node -e 0`. The commands run interleaved, round by
+ * round, so a drift of the machine's speed touches every figure alike.
+ * Sizes: CRYSTALLOG_BENCH_SCALE_REFS (default 100 000), CRYSTALLOG_BENCH_SCALE_ROUNDS (default 3).
+ * Inputs are simulated (seeded synthetic references, one simulated two-phase pattern).
+ */
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { formatReferenceJson } from '../src/core/library/json-format.js';
+import { patternToXyText, simulatePattern } from '../src/core/crystal/simulate.js';
+import { BENCH_WAVELENGTH, cacheDir, syntheticLibrary } from './inputs.js';
+import { timeStats, type BenchRow } from './types.js';
+
+const CLI = join(dirname(fileURLToPath(import.meta.url)), '..', '..', 'bin', 'crystallog.js');
+const REFS = Number(process.env.CRYSTALLOG_BENCH_SCALE_REFS ?? 100_000);
+const ROUNDS = Number(process.env.CRYSTALLOG_BENCH_SCALE_ROUNDS ?? 3);
+/** Two batch sizes, both small enough for one worker: their difference gives the per-file cost, the rest is set-up. */
+const BATCH_SMALL = 4;
+const BATCH_LARGE = 12;
+
+interface Usage {
+  cpuMs: number;
+  rssMb: number;
+}
+
+/** Run a command under GNU time: its CPU time (user + system, all threads) and peak RSS. */
+function measured(args: string[]): Usage {
+  const child = spawnSync('/usr/bin/time', ['-f', 'usage %U %S %M', process.execPath, ...args], { stdio: ['ignore', 'ignore', 'pipe'], maxBuffer: 2 ** 28 });
+  const usage = /usage ([\d.]+) ([\d.]+) (\d+)/.exec(child.stderr.toString());
+  if (child.status !== 0 || !usage) throw new Error(`${args.join(' ')} failed (exit ${child.status}): ${child.stderr.toString().slice(-400)}`);
+  return { cpuMs: 1000 * (Number(usage[1]) + Number(usage[2])), rssMb: Number(usage[3]) / 1024 };
+}
+
+function median(values: number[]): number {
+  return timeStats(values).medianMs;
+}
+
+function verdict(value: number, limit: number): string {
+  return value <= limit ? 'met' : 'NOT met';
+}
+
+function writePattern(file: string, lines: ReturnType<typeof syntheticLibrary>): void {
+  const pattern = simulatePattern({
+    phases: [
+      { lines: lines[137]!.lines, scale: 1, sizeNm: 60 },
+      { lines: lines[211]!.lines, scale: 0.1, sizeNm: 60 },
+    ],
+    wavelength: BENCH_WAVELENGTH,
+    twoThetaMinDeg: 5,
+    twoThetaMaxDeg: 85,
+    stepDeg: 0.01,
+    zeroShiftDeg: 0.03,
+    peakCounts: 10_000,
+    noiseSeed: 9100,
+    name: 'bench scale pattern (simulated)',
+  });
+  writeFileSync(file, patternToXyText(pattern));
+}
+
+export async function run(): Promise<BenchRow[]> {
+  if (!existsSync('/usr/bin/time')) return [{ name: 'scale: skipped (needs GNU time: apt-get install time)', medianMs: 0, minMs: 0, maxMs: 0 }];
+  const dir = join(cacheDir(), 'scale');
+  mkdirSync(dir, { recursive: true });
+  const library = syntheticLibrary(REFS);
+  const json = join(dir, `library-${REFS}.json`);
+  if (!existsSync(json)) writeFileSync(json, formatReferenceJson(library));
+  const pattern = join(dir, 'pattern.xy');
+  writePattern(pattern, library);
+  const list = (n: number) => {
+    const file = join(dir, `files-${n}.txt`);
+    writeFileSync(file, Array.from({ length: n }, () => pattern).join('\n') + '\n');
+    return file;
+  };
+  const small = list(BATCH_SMALL);
+  const large = list(BATCH_LARGE);
+  const db = join(dir, `library-${REFS}.sqlite`);
+  for (const f of [db, `${db}-wal`, `${db}-shm`]) rmSync(f, { force: true });
+
+  const imported = measured([CLI, 'library', 'import', json, '--library', db]);
+  const runs = { bare: [] as Usage[], peaks: [] as Usage[], match: [] as Usage[], small: [] as Usage[], large: [] as Usage[] };
+  for (let round = 0; round < ROUNDS; round++) {
+    runs.bare.push(measured(['-e', '0']));
+    runs.peaks.push(measured([CLI, 'peaks', pattern, '--json']));
+    runs.match.push(measured([CLI, 'match', pattern, '--library', db, '--json']));
+    runs.small.push(measured([CLI, 'analyze', '--files-from', small, '--library', db, '--json']));
+    runs.large.push(measured([CLI, 'analyze', '--files-from', large, '--library', db, '--json']));
+  }
+  const cpu = (u: Usage[]) => u.map((x) => x.cpuMs);
+  const rss = (u: Usage[]) => Math.max(...u.map((x) => x.rssMb));
+  const refs = REFS.toLocaleString('en');
+  const full = REFS === 100_000;
+  const matchCpu = median(cpu(runs.match));
+  const matchRss = rss(runs.match);
+  const perFile = (median(cpu(runs.large)) - median(cpu(runs.small))) / (BATCH_LARGE - BATCH_SMALL);
+  const setup = median(cpu(runs.small)) - BATCH_SMALL * perFile;
+  const analyzeRss = rss([...runs.small, ...runs.large]);
+  const startUp = median(cpu(runs.peaks)) - median(cpu(runs.bare));
+  const row = (name: string, values: number[], target: string, note: string): BenchRow => ({ name, ...timeStats(values), target, note });
+  return [
+    row(`scale: library import of ${refs} references (CLI, CPU)`, [imported.cpuMs], full ? '≤ 6 000 ms CPU, ≤ 500 MB' : '(100 000 in full run)',
+      `peak RSS ${imported.rssMb.toFixed(0)} MB; CPU ${verdict(imported.cpuMs, 6000)}, memory ${verdict(imported.rssMb, 500)}`),
+    row(`scale: match one file vs ${refs} references, whole command (CPU)`, cpu(runs.match), full ? '≤ 1 500 ms CPU, ≤ 300 MB' : '(100 000 in full run)',
+      `peak RSS ${matchRss.toFixed(0)} MB; CPU ${verdict(matchCpu, 1500)}, memory ${verdict(matchRss, 300)}; ratio to target ${(matchCpu / 1500).toFixed(2)}`),
+    row(`scale: analyze set-up with ${refs} references (CPU; from ${BATCH_SMALL}- and ${BATCH_LARGE}-file runs, one worker)`, [setup], full ? '≤ 3 000 ms CPU, peak RSS ≤ 600 MB' : '(100 000 in full run)',
+      `per file ${perFile.toFixed(0)} ms CPU; peak RSS ${analyzeRss.toFixed(0)} MB (${BATCH_LARGE} files, not 1 000); set-up ${verdict(setup, 3000)}, memory ${verdict(analyzeRss, 600)}`),
+    row('scale: single-file peaks, module load + first call above bare node -e 0 (CPU)', cpu(runs.peaks).map((c, i) => c - runs.bare[i]!.cpuMs), '≤ 250 ms CPU',
+      `bare node ${median(cpu(runs.bare)).toFixed(0)} ms, peaks ${median(cpu(runs.peaks)).toFixed(0)} ms (medians of ${ROUNDS} interleaved rounds); ${verdict(startUp, 250)}`),
+  ];
+}
+
+if (import.meta.url === `file://${process.argv[1]}`) {
+  for (const r of await run()) console.log(`${r.name}: median ${r.medianMs.toFixed(0)} ms; target ${r.target}; ${r.note}`);
+}

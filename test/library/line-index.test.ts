@@ -1,0 +1,118 @@
+/**
+ * The d-sorted line index a library stores at import time (issue 15): the same index and the same
+ * match results as building it from the line objects, on the seed library and on random libraries;
+ * rebuilt when the library changes; a bad import file leaves library and index as they were.
+ */
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { buildReferenceIndex, type ReferenceIndex } from '../../src/core/match/reference-index.js';
+import { matchPhases } from '../../src/core/match/match.js';
+import type { Reference, StoredReference } from '../../src/core/model/reference.js';
+import { anodeWavelength } from '../../src/core/model/wavelengths.js';
+import { seededUniform } from '../../src/core/numeric/random.js';
+import { parseReferenceFile } from '../../src/node/library/import-files.js';
+import { loadSeedReferences } from '../../src/node/library/seed.js';
+import { ReferenceLibrary } from '../../src/node/library/store.js';
+import { flatBackground, linesAt, peaksOf } from '../match/synthetic.js';
+
+const cu = anodeWavelength('Cu');
+const L = cu.lambda1;
+const dir = mkdtempSync(join(tmpdir(), 'crystallog-line-index-'));
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+function randomReferences(count: number, seed: number): Reference[] {
+  const uniform = seededUniform(seed);
+  return Array.from({ length: count }, (_, i) => ({
+    name: `random phase ${i}`,
+    formula: `X${i}`,
+    tags: ['simulated'],
+    source: `simulated for the line index test (seed ${seed})`,
+    lines: linesAt(L, Array.from({ length: 25 }, (_, j) => [8 + 80 * uniform(), j === 0 ? 100 : 1 + 99 * uniform()] as [number, number])),
+  }));
+}
+
+function expectSameIndex(a: ReferenceIndex, b: ReferenceIndex): void {
+  expect(a.d.length).toBeGreaterThan(0);
+  expect(Array.from(a.d)).toEqual(Array.from(b.d));
+  expect(Array.from(a.referenceOf)).toEqual(Array.from(b.referenceOf));
+  expect(Array.from(a.intensity)).toEqual(Array.from(b.intensity));
+}
+
+/** Match two phases of the library mixed, with the stored index and with the index built from line objects. */
+function expectSameMatches(references: StoredReference[], stored: ReferenceIndex, picks: Array<[number, number]>): void {
+  const background = flatBackground(100);
+  for (const [main, minor] of picks) {
+    const peaks = peaksOf([{ lines: references[main]!.lines, scale: 10 }, { lines: references[minor]!.lines, scale: 2 }], L, { minArea: 3 });
+    const fromObjects = matchPhases(peaks, references, { wavelength: cu, background });
+    const fromStored = matchPhases(peaks, references, { wavelength: cu, background, index: stored });
+    expect(fromStored).toEqual(fromObjects);
+    expect(fromStored.phases.some((p) => p.name === references[main]!.name && p.verdict === 'present')).toBe(true);
+  }
+}
+
+describe('the line index stored with the library', () => {
+  it('is the index built from the line objects, and matches the seed library alike', () => {
+    const path = join(dir, 'seed.sqlite');
+    const writer = ReferenceLibrary.open(path);
+    writer.importReferences(loadSeedReferences());
+    writer.close();
+    const library = ReferenceLibrary.open(path, { readOnly: true });
+    const { references, index } = library.referencesWithIndex();
+    // The snapshot's references are the stored rows' references, lines (with hkl) and all.
+    expect(references).toEqual(library.all());
+    expectSameIndex(index, buildReferenceIndex(references));
+    expectSameMatches(references, index, [[0, 1], [2, 3]]);
+    library.close();
+  });
+
+  it('is read back in a read-only connection and matches a random library alike', () => {
+    const path = join(dir, 'random.sqlite');
+    const writer = ReferenceLibrary.open(path);
+    writer.importReferences(randomReferences(1500, 7));
+    writer.close();
+    const reader = ReferenceLibrary.open(path, { readOnly: true });
+    const { references, index } = reader.referencesWithIndex();
+    expect(references).toHaveLength(1500);
+    expectSameIndex(index, buildReferenceIndex(references));
+    expectSameMatches(references, index, [[17, 1200], [640, 3]]);
+    reader.close();
+  });
+
+  it('follows every change: an edit, a delete, an undelete', () => {
+    const library = ReferenceLibrary.open(join(dir, 'changes.sqlite'));
+    library.importReferences(randomReferences(200, 11));
+    const before = library.referencesWithIndex().index;
+    library.edit('random phase 5', { lines: linesAt(L, [[30, 100], [45, 40]]) });
+    let now = library.referencesWithIndex();
+    expect(now.index.d.length).toBe(before.d.length - 23);
+    expectSameIndex(now.index, buildReferenceIndex(now.references));
+    library.remove('random phase 9');
+    now = library.referencesWithIndex();
+    expect(now.references).toHaveLength(199);
+    expectSameIndex(now.index, buildReferenceIndex(now.references));
+    library.undelete('random phase 9');
+    now = library.referencesWithIndex();
+    expectSameIndex(now.index, buildReferenceIndex(now.references));
+    library.close();
+  });
+
+  it('stays as it was when an import file is malformed, and the message names file and line', () => {
+    const library = ReferenceLibrary.open(join(dir, 'bad-import.sqlite'));
+    library.importReferences(randomReferences(50, 13));
+    const before = library.referencesWithIndex().index;
+    const bad = '[\n  {"name": "odd one", "formula": "X", "source": "test", "lines": [{"d": 2.5, "intensity": 100}]},\n  {"name": "broken", "lines": [\n]';
+    let message = '';
+    try {
+      library.importReferences(parseReferenceFile(bad, 'broken-refs.json'));
+    } catch (err) {
+      message = (err as Error).message;
+    }
+    expect(message).toMatch(/broken-refs\.json/);
+    expect(message).toMatch(/line \d+/);
+    expect(library.count()).toBe(50);
+    expectSameIndex(library.referencesWithIndex().index, before);
+    library.close();
+  });
+});
