@@ -116,3 +116,22 @@ describe('the line index stored with the library', () => {
     library.close();
   });
 });
+
+describe('a library from the version before the stored index', () => {
+  it('is brought up to date when first read, with a note, and then matches as before', async () => {
+    const path = join(dir, 'older.db');
+    const library = ReferenceLibrary.open(path);
+    library.importReferences(loadSeedReferences().slice(0, 5));
+    library.close();
+    // Make it look like the schema before step 3: no line_index table, user_version 2.
+    const Database = (await import('better-sqlite3')).default;
+    const raw = new Database(path);
+    raw.exec('DROP TABLE line_index');
+    raw.pragma('user_version = 2');
+    raw.close();
+    const reopened = ReferenceLibrary.open(path, { readOnly: true });
+    expect(reopened.openNotes.some((n) => /brought up to date from schema version 2/.test(n))).toBe(true);
+    expect(reopened.all()).toHaveLength(5);
+    reopened.close();
+  });
+});

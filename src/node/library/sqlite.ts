@@ -23,6 +23,8 @@ export interface OpenDatabaseOptions {
 /** What opening found and did that the user should hear of (an unclean shutdown checked, say). */
 export interface OpenNotes {
   notes: string[];
+  /** Set while opening a file of an older schema for reading: its version, before it is brought up to date. */
+  olderSchema?: number;
 }
 
 /** A wait long enough for another process to finish a large import (common practice for shared SQLite files). */
@@ -39,6 +41,12 @@ export function openDatabase(path: string, options: OpenDatabaseOptions, found: 
   if (!isNew) inspectExisting(path, options, found);
   if (options.readOnly) {
     if (isNew) throw new InputError(`the ${options.kind} file does not exist`, { file: path });
+    if (found.olderSchema !== undefined) {
+      // A file from an earlier version is brought up to date once (its migrations only add), then read.
+      openDatabase(path, { ...options, readOnly: false }, found).close();
+      found.notes.push(`${path}: brought up to date from schema version ${found.olderSchema} to ${options.migrations.length}`);
+      found.olderSchema = undefined;
+    }
     return openReadOnly(path, options);
   }
   let db: Db;
@@ -112,9 +120,7 @@ function inspectReadOnly(path: string, options: OpenDatabaseOptions, found: Open
       }
       found.notes.push(`${path}: a write-ahead log was left beside it (an earlier session ended without closing it); the file was checked and is whole, its committed changes kept`);
     }
-    if (options.readOnly && schemaVersion(db) < options.migrations.length && schemaVersion(db) > 0) {
-      throw new InputError(`this ${options.kind} file has an older schema (version ${schemaVersion(db)}); open it once with a command that writes (an import) to bring it up to date`, { file: path });
-    }
+    if (options.readOnly && schemaVersion(db) < options.migrations.length && schemaVersion(db) > 0) found.olderSchema = schemaVersion(db);
   } catch (err) {
     throw asInputError(err, path, options.kind);
   } finally {
