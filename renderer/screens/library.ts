@@ -217,8 +217,10 @@ function editor(right: HTMLElement, ref: StoredReference | null, refresh: () => 
   );
   const wavelength = h('input', { type: 'text', value: app.project?.settings.wavelength ?? 'Cu', 'aria-label': 'Wavelength of the 2θ values', 'data-testid': 'ref-wavelength', size: 8 });
   const wavelengthField = field('Wavelength', wavelength, 'Cu, Co, Mo… or λ in Å.');
-  wavelengthField.hidden = true;
-  column.addEventListener('change', () => (wavelengthField.hidden = column.value !== 'twoTheta'));
+  // Shown only for 2θ (the field class sets display, which the hidden attribute alone would not override).
+  const showWavelength = (): void => void (wavelengthField.style.display = column.value === 'twoTheta' ? '' : 'none');
+  showWavelength();
+  column.addEventListener('change', showWavelength);
   const form = h(
     'form',
     { class: 'panel stack' },
