@@ -5,8 +5,7 @@ import { COLORS, PatternChart } from '../chart/pattern-chart.js';
 import { clear, field, h, hklText } from '../base/dom.js';
 import { app } from '../base/state.js';
 import { errorText, notify, showError, withProgress } from '../base/ui.js';
-import { parseHandLines, type HandColumn } from '../../src/core/library/hand-entry.js';
-import { InputError } from '../../src/core/errors.js';
+import { parseHandLines, type HandColumn } from '../../src/core/model/hand-entry.js';
 import { parseWavelength } from '../../src/core/model/wavelengths.js';
 
 const TAGS = ['target', 'impurity', 'precursor', 'decomposition product', 'standard'];
@@ -250,7 +249,7 @@ function editor(right: HTMLElement, ref: StoredReference | null, refresh: () => 
       await renderDetail(right, refresh);
     } catch (err) {
       // The lines box's own sentences (checked here before anything is sent) read as the app's.
-      if (err instanceof InputError) notify(`${err.message.charAt(0).toUpperCase()}${err.message.slice(1)}.`, 'error');
+      if (err instanceof Error && err.name === 'InputError') notify(`${err.message.charAt(0).toUpperCase()}${err.message.slice(1)}.`, 'error');
       else showError(err);
     }
   });
@@ -289,7 +288,7 @@ function cellForm(right: HTMLElement, refresh: () => Promise<void>): void {
       await renderDetail(right, refresh);
     } catch (err) {
       // The lines box's own sentences (checked here before anything is sent) read as the app's.
-      if (err instanceof InputError) notify(`${err.message.charAt(0).toUpperCase()}${err.message.slice(1)}.`, 'error');
+      if (err instanceof Error && err.name === 'InputError') notify(`${err.message.charAt(0).toUpperCase()}${err.message.slice(1)}.`, 'error');
       else showError(err);
     }
   });

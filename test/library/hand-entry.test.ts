@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { parseHandLines } from '../../src/core/library/hand-entry.js';
+import { parseHandLines } from '../../src/core/model/hand-entry.js';
 
 // Silicon, Cu Kα1 (λ = 1.540593 Å): 111 at 28.443° 2θ, d = 3.1356 Å; 220 at 47.303°, d = 1.9201 Å;
 // 311 at 56.123°, d = 1.6375 Å (NIST SRM 640 certificate values, from memory).

@@ -4,8 +4,8 @@
  * against the range each column can hold, and a list of d values that reads as 2θ is caught.
  */
 import { InputError } from '../errors.js';
-import type { Reference } from '../model/reference.js';
-import { dFromTwoTheta } from '../model/units.js';
+import type { Reference } from './reference.js';
+import { dFromTwoTheta } from './units.js';
 
 export type HandColumn = 'd' | 'twoTheta';
 
