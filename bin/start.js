@@ -2,7 +2,8 @@
 // `npm start`: the desktop window when the Electron runtime is installed and can run here; otherwise
 // browser mode, saying why. Flags: --browser (always browser mode), --no-open (print the address only).
 import { spawn, spawnSync } from 'node:child_process';
-import { existsSync, readFileSync } from 'node:fs';
+import { existsSync, readdirSync, readFileSync } from 'node:fs';
+import { homedir } from 'node:os';
 import { createRequire } from 'node:module';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -29,7 +30,12 @@ function electronRuntime() {
   let executable = installedExecutable(dir);
   if (!executable) {
     // The electron package installs without its runtime and fetches it at first launch, with its own downloader.
-    process.stderr.write('Crystallog: the desktop runtime (Electron) is not on this computer yet; trying to fetch it (about 100 MB) for the first launch…\n');
+    const cached = cachedRuntimeZip(dir);
+    process.stderr.write(
+      cached
+        ? 'Crystallog: unpacking the desktop runtime (Electron) from its download cache for the first launch…\n'
+        : 'Crystallog: the desktop runtime (Electron) is not on this computer yet; fetching it (about 100 MB) for the first launch…\n',
+    );
     const fetched = spawnSync(process.execPath, [join(dir, 'install.js')], { stdio: ['ignore', 'inherit', 'pipe'], encoding: 'utf8', timeout: RUNTIME_FETCH_LIMIT_MS });
     executable = installedExecutable(dir);
     if (!executable) {
@@ -37,9 +43,43 @@ function electronRuntime() {
       const why = fetched.error ? fetched.error.message : (firstLine ?? `the download ended with exit code ${fetched.status}`);
       return { reason: `the desktop runtime could not be fetched (${why}; offline?)` };
     }
-    process.stderr.write('Crystallog: the desktop runtime was fetched.\n');
+    process.stderr.write(cached ? 'Crystallog: the desktop runtime is ready.\n' : 'Crystallog: the desktop runtime was fetched.\n');
   }
   return { executable };
+}
+
+/**
+ * The runtime's zip in the download cache of the electron package's downloader (@electron/get: its
+ * cache folder per platform, or electron_config_cache), if an earlier install left one there: then
+ * the first launch only unpacks it and fetches nothing.
+ */
+function cachedRuntimeZip(dir) {
+  let version;
+  try {
+    version = JSON.parse(readFileSync(join(dir, 'package.json'), 'utf8')).version;
+  } catch {
+    return null;
+  }
+  const home = homedir();
+  const roots = process.env.electron_config_cache
+    ? [process.env.electron_config_cache]
+    : process.platform === 'darwin'
+      ? [join(home, 'Library', 'Caches', 'electron')]
+      : process.platform === 'win32'
+        ? [join(process.env.LOCALAPPDATA ?? join(home, 'AppData', 'Local'), 'electron', 'Cache')]
+        : [join(process.env.XDG_CACHE_HOME ?? join(home, '.cache'), 'electron')];
+  const wanted = `electron-v${version}-${process.platform}-${process.env.ELECTRON_INSTALL_ARCH ?? process.arch}.zip`;
+  for (const root of roots) {
+    let folders = [];
+    try {
+      folders = readdirSync(root, { withFileTypes: true });
+    } catch {
+      continue;
+    }
+    if (folders.some((f) => f.isFile() && f.name === wanted)) return join(root, wanted);
+    for (const f of folders) if (f.isDirectory() && existsSync(join(root, f.name, wanted))) return join(root, f.name, wanted);
+  }
+  return null;
 }
 
 /** The Electron executable the package recorded, if it is on disk. */

@@ -5,6 +5,8 @@ import { COLORS, PatternChart } from '../chart/pattern-chart.js';
 import { clear, field, h, hklText } from '../base/dom.js';
 import { app } from '../base/state.js';
 import { errorText, notify, showError, withProgress } from '../base/ui.js';
+import { parseHandLines, type HandColumn } from '../../src/core/model/hand-entry.js';
+import { parseWavelength } from '../../src/core/model/wavelengths.js';
 
 const TAGS = ['target', 'impurity', 'precursor', 'decomposition product', 'standard'];
 let selectedName: string | null = null;
@@ -193,22 +195,6 @@ function linesToText(ref: Reference | null): string {
   return (ref?.lines ?? []).map((l) => [l.d.toFixed(5), l.intensity === null ? '-' : l.intensity.toFixed(1), ...(l.hkl ?? [])].join(' ')).join('\n');
 }
 
-/** "d intensity [h k l]" per line; "-" for an unknown intensity. */
-function parseLines(text: string): Reference['lines'] {
-  const out: Reference['lines'] = [];
-  text.split('\n').forEach((raw, index) => {
-    const line = raw.trim();
-    if (!line || line.startsWith('#')) return;
-    const parts = line.split(/[\s,;]+/);
-    const d = Number(parts[0]);
-    const intensity = parts[1] === undefined || parts[1] === '-' ? null : Number(parts[1]);
-    if (!(d > 0) || (intensity !== null && !(intensity >= 0 && intensity <= 100))) throw new Error(`line ${index + 1} of the lines box: give d in Å (above 0) and an intensity 0–100 or "-"`);
-    const hkl = parts.length >= 5 ? ([Number(parts[2]), Number(parts[3]), Number(parts[4])] as [number, number, number]) : undefined;
-    out.push(hkl && hkl.every(Number.isInteger) ? { d, intensity, hkl } : { d, intensity });
-  });
-  return out;
-}
-
 function editor(right: HTMLElement, ref: StoredReference | null, refresh: () => Promise<void>): void {
   miniChart?.destroy();
   miniChart = null;
@@ -221,12 +207,26 @@ function editor(right: HTMLElement, ref: StoredReference | null, refresh: () => 
   const notes = h('input', { type: 'text', value: ref?.notes ?? '', 'aria-label': 'Notes' });
   const lines = h('textarea', { rows: 12, 'aria-label': 'Lines', 'data-testid': 'ref-lines' });
   lines.value = linesToText(ref);
+  // The first column of the lines box: d as stored, or 2θ with the wavelength it belongs to.
+  const column = h(
+    'select',
+    { 'aria-label': 'First column', 'data-testid': 'ref-column' },
+    h('option', { value: 'd' }, 'd (Å)'),
+    h('option', { value: 'twoTheta' }, '2θ (°) at the wavelength'),
+  );
+  const wavelength = h('input', { type: 'text', value: app.project?.settings.wavelength ?? 'Cu', 'aria-label': 'Wavelength of the 2θ values', 'data-testid': 'ref-wavelength', size: 8 });
+  const wavelengthField = field('Wavelength', wavelength, 'Cu, Co, Mo… or λ in Å.');
+  // Shown only for 2θ (the field class sets display, which the hidden attribute alone would not override).
+  const showWavelength = (): void => void (wavelengthField.style.display = column.value === 'twoTheta' ? '' : 'none');
+  showWavelength();
+  column.addEventListener('change', showWavelength);
   const form = h(
     'form',
     { class: 'panel stack' },
     h('h2', {}, ref ? `Edit ${ref.name}` : 'New reference'),
     h('div', { class: 'form' }, field('Name', name), field('Formula', formula), field('Tags', tags, 'Comma separated.'), field('Source', source, 'Required: paper, database entry, or measurement.'), field('Notes', notes)),
-    field('Lines', lines, 'One line each: d (Å), relative intensity 0–100 (or -), optionally h k l.'),
+    h('div', { class: 'row' }, field('First column', column, 'Which position the lines give.'), wavelengthField),
+    field('Lines', lines, 'One line each: the position (d or 2θ, as chosen above), relative intensity 0–100 (or -), optionally h k l. Stored as d.'),
     h('div', { class: 'row' }, h('button', { type: 'submit', 'data-testid': 'ref-save' }, 'Save as new version'), h('button', { type: 'button', class: 'secondary', onclick: () => void renderDetail(right, refresh) }, 'Cancel')),
   );
   form.addEventListener('submit', async (event) => {
@@ -240,7 +240,7 @@ function editor(right: HTMLElement, ref: StoredReference | null, refresh: () => 
         ...(notes.value.trim() ? { notes: notes.value.trim() } : {}),
         ...(ref?.cell ? { cell: ref.cell } : {}),
         ...(ref?.rir ? { rir: ref.rir } : {}),
-        lines: parseLines(lines.value),
+        lines: parseHandLines(lines.value, column.value as HandColumn, column.value === 'twoTheta' ? parseWavelength(wavelength.value).lambda1 : 1),
       };
       const saved = await call('library.save', { reference });
       selectedName = saved.name;
@@ -248,7 +248,9 @@ function editor(right: HTMLElement, ref: StoredReference | null, refresh: () => 
       await refresh();
       await renderDetail(right, refresh);
     } catch (err) {
-      showError(err);
+      // The lines box's own sentences (checked here before anything is sent) read as the app's.
+      if (err instanceof Error && err.name === 'InputError') notify(`${err.message.charAt(0).toUpperCase()}${err.message.slice(1)}.`, 'error');
+      else showError(err);
     }
   });
   right.append(form);
@@ -285,7 +287,9 @@ function cellForm(right: HTMLElement, refresh: () => Promise<void>): void {
       await refresh();
       await renderDetail(right, refresh);
     } catch (err) {
-      showError(err);
+      // The lines box's own sentences (checked here before anything is sent) read as the app's.
+      if (err instanceof Error && err.name === 'InputError') notify(`${err.message.charAt(0).toUpperCase()}${err.message.slice(1)}.`, 'error');
+      else showError(err);
     }
   });
   right.append(form);

@@ -1,3 +1,4 @@
+import { cifFormula } from './formula.js';
 import { InputError } from '../errors.js';
 import { isUnknownValue, parseCif, problemInLoop, requireCifNumber, type CifBlock, type CifLoop, type CifProblem, type CifValue } from '../cif/syntax.js';
 import { baseName } from '../model/file-name.js';
@@ -56,7 +57,6 @@ const TAGS = {
   hm: ['_space_group_name_h-m_alt', '_symmetry_space_group_name_h-m', '_space_group_name_h-m'],
   number: ['_space_group_it_number', '_symmetry_int_tables_number'],
   name: ['_pd_phase_name', '_chemical_name_common', '_chemical_name_mineral', '_chemical_name_systematic'],
-  formula: ['_chemical_formula_sum', '_chemical_formula_structural'],
   sites: '_atom_site_fract_x',
   reflections: ['_refln_index_h', '_pd_refln_index_h'],
   pattern: ['_pd_meas_counts_total', '_pd_meas_intensity_total', '_pd_proc_intensity_total', '_pd_calc_intensity_total'],
@@ -280,7 +280,7 @@ function readBlockReflections(view: BlockView, notes: string[]): CifReflectionLi
     });
   }
   if (reflections.length === 0) fail('the reflection list gives no reflection with a known intensity', fileName, loop.line);
-  const formula = view.text(TAGS.formula)?.replace(/\s+/g, '') ?? null;
+  const formula = cifFormula(view.text(['_chemical_formula_structural']), view.text(['_chemical_formula_sum']));
   const basis = fSquared ? `${fSquared.tag} with ${multiplicity!.tag}` : amplitude ? `${amplitude.tag} squared with ${multiplicity!.tag}` : `${intensity!.tag} as given`;
   return { name: view.text(TAGS.name) ?? formula ?? '', block: block.name, line: block.line, formula, cell, reflections, basis, source: citation(view), notes, fileName };
 }
@@ -293,7 +293,7 @@ function readBlockStructure(view: BlockView, notes: string[]): CrystalStructure 
   if (sites.length === 0) fail('no atom site with a non-zero occupancy', fileName, block.line);
   const comment = view.text(['_publ_section_comment']);
   if (comment) notes.push(comment);
-  const formula = view.text(TAGS.formula)?.replace(/\s+/g, '') ?? null;
+  const formula = cifFormula(view.text(['_chemical_formula_structural']), view.text(['_chemical_formula_sum']));
   return {
     name: view.text(TAGS.name) ?? formula ?? '',
     block: block.name,
