@@ -1,6 +1,6 @@
 /**
  * A powder-pattern simulator for the accuracy tests, independent of the code it checks: its own
- * d-spacings (cubic metric), its own true-Voigt profiles (./voigt.ts), its own doublet and noise. It
+ * d-spacings (cubic metric), its own true-Voigt profiles (./voigt.ts, Weideman's Faddeeva expansion), its own doublet and noise. It
  * shares only the Pattern type and the seeded random numbers with the app. Every pattern it makes is
  * labelled simulated.
  *
@@ -13,7 +13,11 @@
  */
 import type { Pattern } from '../../src/core/model/pattern.js';
 import { poissonDeviate, seededUniform } from '../../src/core/numeric/random.js';
-import { gammaOfLorentzianFwhm, sigmaOfGaussianFwhm, voigtProfile } from './voigt.js';
+import { GAUSS_FWHM_PER_SIGMA, voigtProfile } from './voigt.js';
+
+/** σ of a Gaussian with this FWHM, and γ (half width at half maximum) of a Lorentzian with this FWHM. */
+const sigmaOfGaussianFwhm = (fwhm: number): number => fwhm / GAUSS_FWHM_PER_SIGMA;
+const gammaOfLorentzianFwhm = (fwhm: number): number => fwhm / 2;
 
 const RAD = Math.PI / 180;
 

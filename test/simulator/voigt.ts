@@ -1,72 +1,68 @@
 /**
- * The Voigt profile (a Gaussian convolved with a Lorentzian) for the test simulator, written apart from
- * the app's code: V(x; σ, γ) = Re w(z) / (σ√(2π)), z = (x + iγ)/(σ√2), with the Faddeeva function w(z)
- * by Humlíček's four-region rational approximation (J. Quant. Spectrosc. Radiat. Transfer 27, 437
- * (1982), "W4"; relative error below about 1e-4). Checked against scipy.special.voigt_profile in
- * test/simulator/simulator.test.ts.
+ * Voigt profile (convolution of a Gaussian and a Lorentzian) through the Faddeeva function w(z),
+ * written for the accuracy tests, independent of the profile code under test.
+ * w(z) by Weideman's rational expansion: J. A. C. Weideman, SIAM J. Numer. Anal. 31, 1497 (1994),
+ * valid for Im z ≥ 0. V(x; σ, γ) = Re w((x + iγ)/(σ√2)) / (σ√(2π)).
  */
 
-interface Complex {
-  re: number;
-  im: number;
-}
+const TERMS = 40;
+const L = Math.sqrt(TERMS / Math.SQRT2);
 
-const c = (re: number, im = 0): Complex => ({ re, im });
-const add = (a: Complex, b: Complex): Complex => c(a.re + b.re, a.im + b.im);
-const sub = (a: Complex, b: Complex): Complex => c(a.re - b.re, a.im - b.im);
-const mul = (a: Complex, b: Complex): Complex => c(a.re * b.re - a.im * b.im, a.re * b.im + a.im * b.re);
-const scale = (a: Complex, s: number): Complex => c(a.re * s, a.im * s);
-function div(a: Complex, b: Complex): Complex {
+/** Weideman's coefficients a_1..a_N: cosine transform of exp(−t²)(L² + t²), t = L tan(θ/2). */
+const COEFFS: number[] = (() => {
+  const m = 2 * TERMS;
+  const out: number[] = [];
+  for (let n = 1; n <= TERMS; n++) {
+    let s = 0;
+    for (let k = -m + 1; k <= m - 1; k++) {
+      const t = L * Math.tan((k * Math.PI) / m / 2);
+      s += Math.exp(-t * t) * (L * L + t * t) * Math.cos((Math.PI * k * n) / m);
+    }
+    out.push(s / (2 * m));
+  }
+  return out;
+})();
+
+interface Complex { re: number; im: number }
+const mul = (a: Complex, b: Complex): Complex => ({ re: a.re * b.re - a.im * b.im, im: a.re * b.im + a.im * b.re });
+const div = (a: Complex, b: Complex): Complex => {
   const d = b.re * b.re + b.im * b.im;
-  return c((a.re * b.re + a.im * b.im) / d, (a.im * b.re - a.re * b.im) / d);
-}
-function cexp(a: Complex): Complex {
-  const m = Math.exp(a.re);
-  return c(m * Math.cos(a.im), m * Math.sin(a.im));
-}
-/** Horner evaluation of a polynomial with real coefficients (highest power first) at a complex point. */
-function poly(coefficients: readonly number[], z: Complex): Complex {
-  let r = c(coefficients[0]);
-  for (let k = 1; k < coefficients.length; k++) r = add(mul(r, z), c(coefficients[k]));
-  return r;
+  return { re: (a.re * b.re + a.im * b.im) / d, im: (a.im * b.re - a.re * b.im) / d };
+};
+
+/** Faddeeva function w(z) = exp(−z²) erfc(−iz) for Im z ≥ 0. */
+export function faddeeva(re: number, im: number): Complex {
+  if (im < 0) throw new Error('faddeeva: this expansion needs Im z ≥ 0');
+  const lMinusIz: Complex = { re: L + im, im: -re }; // L − i z
+  const lPlusIz: Complex = { re: L - im, im: re }; // L + i z
+  const zz = div(lPlusIz, lMinusIz);
+  let p: Complex = { re: 0, im: 0 };
+  for (let n = TERMS - 1; n >= 0; n--) p = { re: mul(p, zz).re + COEFFS[n]!, im: mul(p, zz).im };
+  const denom = mul(lMinusIz, lMinusIz);
+  const first = div({ re: 2 * p.re, im: 2 * p.im }, denom);
+  const second = div({ re: 1 / Math.sqrt(Math.PI), im: 0 }, lMinusIz);
+  return { re: first.re + second.re, im: first.im + second.im };
 }
 
-/** Faddeeva w(x + iy) for y ≥ 0, Humlíček (1982) W4. Uses t = y − ix. */
-export function faddeeva(x: number, y: number): Complex {
-  const t = c(y, -x);
-  const s = Math.abs(x) + y;
-  if (s >= 15) {
-    // Region I: w ≈ t·0.5641896 / (0.5 + t²).
-    return div(scale(t, 0.5641896), add(c(0.5), mul(t, t)));
-  }
-  if (s >= 5.5) {
-    // Region II.
-    const u = mul(t, t);
-    const num = mul(t, add(c(1.410474), mul(u, c(0.5641896))));
-    const den = add(c(0.75), mul(u, add(c(3), u)));
-    return div(num, den);
-  }
-  if (y >= 0.195 * Math.abs(x) - 0.176) {
-    // Region III.
-    const num = poly([0.5642236, 3.778987, 11.96482, 20.20933, 16.4955], t);
-    const den = poly([1, 6.699398, 21.69274, 39.27121, 38.82363, 16.4955], t);
-    return div(num, den);
-  }
-  // Region IV: w = exp(u) − t·P(u)/Q(u), u = t².
-  const u = mul(t, t);
-  const num = mul(t, poly([-0.56419, 1.320522, -35.76683, 219.0313, -1540.787, 3186.733, -36183.31], u));
-  const den = poly([1, -1.841439, 61.57037, -364.2191, 2186.181, -9022.228, 24322.84, -32066.6], u);
-  return sub(cexp(u), div(num, den));
+/** erfcx(y) = exp(y²) erfc(y) = w(iy) for real y ≥ 0. */
+export function scaledErfc(y: number): number {
+  return faddeeva(0, y).re;
 }
 
-/** Voigt profile of unit area: Gaussian standard deviation σ, Lorentzian half width at half maximum γ. */
+/** Normalised Voigt profile: Gaussian standard deviation σ, Lorentzian half width γ (same units as x). */
 export function voigtProfile(x: number, sigma: number, gamma: number): number {
   if (sigma <= 0) return gamma / (Math.PI * (x * x + gamma * gamma));
-  if (gamma <= 0) return Math.exp(-(x * x) / (2 * sigma * sigma)) / (sigma * Math.sqrt(2 * Math.PI));
-  const w = faddeeva(x / (sigma * Math.SQRT2), gamma / (sigma * Math.SQRT2));
-  return w.re / (sigma * Math.sqrt(2 * Math.PI));
+  const s = sigma * Math.SQRT2;
+  return faddeeva(x / s, gamma / s).re / (sigma * Math.sqrt(2 * Math.PI));
 }
 
-/** σ of a Gaussian with this FWHM, and γ (HWHM) of a Lorentzian with this FWHM. */
-export const sigmaOfGaussianFwhm = (fwhm: number): number => fwhm / (2 * Math.sqrt(2 * Math.LN2));
-export const gammaOfLorentzianFwhm = (fwhm: number): number => fwhm / 2;
+/** Conversions between FWHM and the Voigt parameters (Gaussian FWHM = 2√(2 ln 2) σ, Lorentzian FWHM = 2γ). */
+export const GAUSS_FWHM_PER_SIGMA = 2 * Math.sqrt(2 * Math.LN2);
+
+/**
+ * Integral breadth of a Voigt from its parts' integral breadths (Gaussian βG, Lorentzian βL):
+ * β = βG exp(−k²) / erfc(k) = βG / erfcx(k), k = βL / (√π βG). Langford, J. Appl. Cryst. 11, 10 (1978).
+ */
+export function voigtIntegralBreadth(betaG: number, betaL: number, erfcx: (y: number) => number = scaledErfc): number {
+  return betaG / erfcx(betaL / (Math.sqrt(Math.PI) * betaG));
+}
