@@ -218,6 +218,7 @@ function verdictCard(detail: SampleDetail): HTMLElement {
   }
   const match = detail.match;
   const phase: PhaseMatch | undefined = detail.phase ? match?.phases.find((p) => p.name === detail.phase!.name) : undefined;
+  card.append(h('p', { class: `headline ${verdictClass(detail.verdict)}`, 'data-testid': 'headline' }, headline(detail)));
   card.append(h('div', { class: `verdict-title ${verdictClass(detail.verdict)}`, 'data-testid': 'verdict' }, sentenceCase(detail.verdict)));
   if (detail.stale) {
     card.append(h('div', { class: 'caution', 'data-testid': 'stale' }, h('strong', {}, 'Out of date: '), `${detail.staleReason ?? 'the settings changed'}. `, h('button', { type: 'button', class: 'secondary', onclick: () => void reanalyze(detail.id) }, 'Analyse again')));
@@ -284,6 +285,28 @@ function sizePeakTable(peaks: NonNullable<SampleDetail['size']>['peaks'], breadt
     ),
   );
   return h('div', { class: 'table-scroll' }, table);
+}
+
+/** The answer in one sentence, before any evidence: target present or not, what else and its share, the low-angle alarm, the size. */
+function headline(detail: SampleDetail): string {
+  const parts: string[] = [];
+  const target = detail.phase;
+  parts.push(target ? `${target.name} ${target.verdict}` : 'No target phase set');
+  const others = (detail.match?.phases ?? []).filter((p) => p.verdict !== 'not-seen' && p.name !== target?.name);
+  if (others.length) parts.push(`with ${others.map(shareText).join(', ')}`);
+  const sentence = [parts.join(' ')];
+  const low = detail.lowAnglePeaks.length;
+  if (low) sentence.push(`${low} low-angle extra peak${low > 1 ? 's' : ''} (possible hydrolysis)`);
+  const scherrer = detail.size?.scherrer;
+  if (scherrer) sentence.push(`size ${sizeText(scherrer.sizeNm, Number.isFinite(scherrer.sizeSigmaNm) ? scherrer.sizeSigmaNm : null)}`);
+  return `${sentence.join(' · ')}.`;
+}
+
+/** A phase with its weight % where quantified, else its share of the peak area. */
+function shareText(p: PhaseMatch): string {
+  const uncertain = p.verdict === 'uncertain' ? ' (uncertain)' : '';
+  if (p.weightFraction !== null) return `${p.name} ${(100 * p.weightFraction).toFixed(0)} %${uncertain}`;
+  return `${p.name} ${(100 * p.explainedAreaShare).toFixed(0)} % of peak area${uncertain}`;
 }
 
 function labelsForm(detail: SampleDetail): HTMLElement {

@@ -41,6 +41,8 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     await page.locator('[data-testid="sample-list"] li', { hasText: 'MAPbI3 as made' }).click();
     await page.getByTestId('verdict').waitFor();
     expect(await page.getByTestId('verdict').textContent()).toBe('Target');
+    // The answer comes first: target verdict word and size in one sentence above the evidence.
+    expect(await page.getByTestId('headline').textContent()).toMatch(/^methylammonium lead iodide present.* · size \d+\.\d ± \d+\.\d nm\.$/);
     expect(await page.getByTestId('size').textContent()).toMatch(/Scherrer: \d+\.\d ± \d+\.\d nm/);
     await shot('02-samples-as-made');
   });
@@ -51,6 +53,7 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     await page.getByTestId('low-angle').waitFor();
     expect(await page.getByTestId('low-angle').textContent()).toMatch(/Low-angle extra peaks? below the target’s first line: \d+\.\d+° 2θ/);
     expect(await page.getByTestId('verdict').textContent()).toBe('Target with extra peaks');
+    expect(await page.getByTestId('headline').textContent()).toMatch(/\d+ low-angle extra peaks? \(possible hydrolysis\)/);
     await shot('03-samples-humid-48h');
   });
 
