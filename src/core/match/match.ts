@@ -38,6 +38,7 @@ import { cellReport, describePhase, lookAlikeReason, patternReasons, sampleShift
 import { round } from './format.js';
 import { describeTolerance, windowDeg, type FwhmAt, type MatchTolerance } from './tolerance.js';
 import { median } from '../numeric/numeric.js';
+import { solidSolutionOf, solidSolutionPartners } from './solid-solution.js';
 import type { PeakTable } from './peak-table.js';
 import { satelliteMarks } from './satellites.js';
 import { BOUNDED_ABSENCE_TAGS, detectionLimitWeightPercent, medianBreadthCos } from './detection-limit.js';
@@ -110,6 +111,14 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   const refs = index.references;
   const targetIndex = findTarget(refs, options.target);
 
+  // Solid-solution end members of one structure type: a cell may be refined from one towards the other.
+  const partners = solidSolutionPartners(refs);
+  const spanOf = (r: number): UnitCell[] => (partners.get(r) ?? []).map((j) => usableCell(refs[j].cell)).filter((c): c is UnitCell => c !== null);
+  const partnerScales = (r: number): number[] => {
+    const own = usableCell(refs[r].cell);
+    return own ? spanOf(r).map((c) => Math.cbrt(cellMetric(c).volume / cellMetric(own).volume)) : [];
+  };
+
   // Lines of each reference, from its refined cell once it has one (matching uses the refined cell).
   const refinedCells = new Map<number, UnitCell>();
   const lineCache = new Map<number, PhaseLines>();
@@ -136,7 +145,7 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   const startScale = new Map<number, number>();
   const evaluateCandidate = (r: number, lines: PhaseLines, shift: MatchShift | null, claims: Claims): PhaseEvaluation => {
     if (!refinedCells.has(r) && usableCell(refs[r].cell)) {
-      const { scale } = searchCellScale(lines, table, bounds, cellBound, shift);
+      const { scale } = searchCellScale(lines, table, bounds, cellBound, shift, partnerScales(r));
       if (scale !== 1) {
         startScale.set(r, scale);
         const scaled = phaseLines(scaledReference(refs[r], scale), lambda, table.rangeMin, table.rangeMax);
@@ -214,6 +223,7 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
         peakOf: a.evaluation.peakOf,
         referenceCell: usableCell(refs[a.ref].cell),
         currentCell: refinedCells.get(a.ref) ?? scaledCell(usableCell(refs[a.ref].cell), startScale.get(a.ref) ?? 1),
+        span: spanOf(a.ref),
       })),
       table,
       { lambda, start: explanation.shift, maxZeroDeg: bounds.maxZeroDeg, maxDisplacementDeg: bounds.maxDisplacementDeg, cellBound, ...(fixedZero !== undefined ? { fixedZeroDeg: fixedZero } : {}) },
@@ -224,7 +234,7 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
     const reference = usableCell(refs[c.ref].cell);
     if (!reference) return null;
     const alone = fitSampleAndCells(
-      [{ lines: c.evaluation.lines, peakOf: c.evaluation.peakOf, referenceCell: reference, currentCell: refinedCells.get(c.ref) ?? scaledCell(reference, startScale.get(c.ref) ?? 1) }],
+      [{ lines: c.evaluation.lines, peakOf: c.evaluation.peakOf, referenceCell: reference, currentCell: refinedCells.get(c.ref) ?? scaledCell(reference, startScale.get(c.ref) ?? 1), span: spanOf(c.ref) }],
       table,
       { lambda, start: shift, maxZeroDeg: bounds.maxZeroDeg, maxDisplacementDeg: bounds.maxDisplacementDeg, cellBound, fixedShift: true },
     );
@@ -314,8 +324,20 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   accepted.forEach((a, i) => {
     const verdict = acceptedVerdict(a.evaluation);
     const described = describePhase(a.evaluation, verdict, claims, accepted, table, fractions[i], unquantified, null, exclusive[i]);
-    phases.push({ ...described, scale: scales[i], weightFractionSigma: fractionSigmas[i] === null ? null : round(fractionSigmas[i]!, 4), ...cellReport(fit.cells[i], usableCell(refs[a.ref].cell), cellBound, described.reasons) });
+    const phase: PhaseMatch = { ...described, scale: scales[i], weightFractionSigma: fractionSigmas[i] === null ? null : round(fractionSigmas[i]!, 4), ...cellReport(fit.cells[i], usableCell(refs[a.ref].cell), cellBound, described.reasons) };
+    const cellFit = fit.cells[i];
+    const ends = partners.get(a.ref);
+    if (typeof cellFit !== 'string' && ends && phase.cellChangeSigmas !== null && Math.abs(phase.cellChangeSigmas ?? 0) >= CELL_CHANGE_SIGNIFICANT) {
+      const solution = solidSolutionOf(refs[a.ref], ends.map((j) => refs[j]), cellFit.cell, cellFit.sigma, cellFit.free);
+      if (solution) {
+        phase.solidSolution = { ...solution, fraction: round(solution.fraction, 4), fractionSigma: round(solution.fractionSigma, 4) };
+        phase.reasons.push(solution.statement);
+      }
+    }
+    phases.push(phase);
   });
+  // An end member whose peaks are those of a solid solution reported on its partner says so.
+  const solutionOf = (name: string): PhaseMatch | undefined => phases.find((p) => p.solidSolution?.between.includes(name) && p.name !== name);
   /**
    * A phase left out as uncertain beside the phase that took its peaks: when its peaks are nearly all
    * that phase's, compare the cell change each needs alone under the sample's shift (the look-alike rule).
@@ -345,6 +367,12 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
     const described = describePhase(o.evaluation, lookAlikeVerdict?.verdict ?? verdict, claims, accepted, table, null, unquantified, rival, 0);
     if (lookAlikeVerdict) described.reasons[described.reasons.length - 1] = `${lookAlikeReason(lookAlikeVerdict)} (absence holds only above the detection limit)`;
     phases.push(described);
+  }
+  for (const p of phases) {
+    const solution = p.inExplanation ? undefined : solutionOf(p.name);
+    if (!solution || p.verdict === 'present') continue;
+    const s = solution.solidSolution!;
+    p.reasons.push(`its peaks are those of the solid solution between ${s.between[0]} and ${s.between[1]} reported with ${solution.name} (x = ${s.fraction.toFixed(3)} ± ${s.fractionSigma.toFixed(3)}): present only as an end member of it, not as itself`);
   }
   // How much of each bounded phase could hide below the detection level of this pattern.
   const breadthCos = medianBreadthCos(table);

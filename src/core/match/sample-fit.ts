@@ -46,6 +46,11 @@ export interface SampleFitPhase {
   referenceCell: UnitCell | null;
   /** The cell the lines were computed from (the reference's, or last round's refined one). */
   currentCell: UnitCell | null;
+  /**
+   * Cells of other references of the same structure type (solid-solution end members): the bounds
+   * reach from the smallest to the largest of these and the reference's, widened by the cell bound.
+   */
+  span?: readonly UnitCell[];
 }
 
 export interface SampleFitOptions {
@@ -203,7 +208,7 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
     const block = new Float64Array(par.names.length ** 2);
     const so = spread.layout.cellOffset[i];
     for (let r = 0; r < par.names.length; r++) for (let c = 0; c < par.names.length; c++) block[r * par.names.length + c] = covariance[(so + r) * spread.layout.size + so + c];
-    cells[i] = describeCell(cell, par, values, block, phase.referenceCell!, options.cellBound, observations.filter((o) => o.phase === i && o.hkl).length);
+    cells[i] = describeCell(cell, par, values, block, parameterRange(par, phase, options.cellBound), observations.filter((o) => o.phase === i && o.hkl).length);
   });
   const zero = layout.withZero ? x[0] : 0;
   const displacement = layout.withDisplacement ? x[displacementIndex(layout)] : 0;
@@ -315,10 +320,10 @@ function runFit(
     if (offset < 0) return;
     const par = param[i]!;
     const current = par.fromCell(phase.currentCell!);
-    const reference = par.fromCell(phase.referenceCell!);
+    const range = parameterRange(par, phase, options.cellBound);
     par.names.forEach((_, q) => {
-      lower[offset + q] = reference[q] * (1 - options.cellBound);
-      upper[offset + q] = reference[q] * (1 + options.cellBound);
+      lower[offset + q] = range.lower[q];
+      upper[offset + q] = range.upper[q];
       x[offset + q] = clamp(current[q], lower[offset + q], upper[offset + q]);
     });
   });
@@ -390,8 +395,7 @@ function describeCell(
   par: CellParameterisation,
   values: number[],
   covariance: Float64Array,
-  reference: UnitCell,
-  bound: number,
+  range: { lower: number[]; upper: number[] },
   linesUsed: number,
 ): CellFit {
   const m = par.names.length;
@@ -417,9 +421,16 @@ function describeCell(
   });
   let variance = 0;
   for (let r = 0; r < m; r++) for (let c = 0; c < m; c++) variance += gradient[r] * covariance[r * m + c] * gradient[c];
-  const referenceValues = par.fromCell(reference);
-  const atBound = par.names.filter((_, q) => Math.abs(values[q] - referenceValues[q]) >= bound * referenceValues[q] * (1 - 1e-9));
+  const atBound = par.names.filter((_, q) => values[q] <= range.lower[q] * (1 + 1e-9) || values[q] >= range.upper[q] * (1 - 1e-9));
   return { cell, sigma, volume, volumeSigma: Math.sqrt(Math.max(variance, 0)), free: par.names, linesUsed, atBound };
+}
+
+/** Each free parameter's bounds: the reference's value (and its solid-solution partners') widened by the cell bound. */
+function parameterRange(par: CellParameterisation, phase: SampleFitPhase, bound: number): { lower: number[]; upper: number[] } {
+  const values = [phase.referenceCell!, ...(phase.span ?? [])].map((cell) => par.fromCell(cell));
+  const lower = par.names.map((_, q) => Math.min(...values.map((v) => v[q])) * (1 - bound));
+  const upper = par.names.map((_, q) => Math.max(...values.map((v) => v[q])) * (1 + bound));
+  return { lower, upper };
 }
 
 /** Where the displacement sits in the parameter vector: after the zero, when the zero is refined. */

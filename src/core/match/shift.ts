@@ -158,7 +158,15 @@ const SCALE_ACCEPT_ABOVE = 0.75;
  * ±maxScale, under the sample's shift where it is known, else with a constant offset searched on the
  * same grid (the first phase's search). Returns 1 when the reference's own cell fits or nothing fits better.
  */
-export function searchCellScale(lines: PhaseLines, peaks: PeakTable, bounds: ShiftBounds, maxScale: number, shift: MatchShift | null): { scale: number; offsetDeg: number } {
+export function searchCellScale(
+  lines: PhaseLines,
+  peaks: PeakTable,
+  bounds: ShiftBounds,
+  maxScale: number,
+  shift: MatchShift | null,
+  /** Isotropic scales to the reference's solid-solution partners: the search reaches them too (widened by maxScale). */
+  partnerScales: readonly number[] = [],
+): { scale: number; offsetDeg: number } {
   const used = Math.min(lines.count, SEARCH_LINES);
   let total = 0;
   for (let m = 0; m < used; m++) total += lines.intensity[lines.byIntensity[m]];
@@ -179,7 +187,9 @@ export function searchCellScale(lines: PhaseLines, peaks: PeakTable, bounds: Shi
   const own = best(1);
   if (own.value >= SCALE_SEARCH_BELOW * total) return { scale: 1, offsetDeg: own.offset };
   let chosen = { scale: 1, ...own };
-  for (let s = 1 - maxScale; s <= 1 + maxScale + 1e-12; s += SCALE_STEP) {
+  const lowest = Math.min(1, ...partnerScales) * (1 - maxScale);
+  const highest = Math.max(1, ...partnerScales) * (1 + maxScale);
+  for (let s = lowest; s <= highest + 1e-12; s += SCALE_STEP) {
     const trial = best(s);
     if (trial.value > chosen.value + 1e-9) chosen = { scale: s, ...trial };
   }

@@ -165,6 +165,13 @@ export interface PhaseMatch {
   cellChangePercent?: number;
   /** That change in units of its σ (null when σ is 0). */
   cellChangeSigmas?: number | null;
+  /**
+   * Where the refined cell lies significantly between this reference and another of its structure
+   * type (same space group, similar cell): the two end members (smaller cell first), Vegard's-law
+   * fraction x of the second with its σ from the cell σ, and the sentence (with the caution that
+   * Vegard's law is an approximation).
+   */
+  solidSolution?: { between: [string, string]; fraction: number; fractionSigma: number; statement: string };
   /** Mean |Δ2θ| of the matched lines after the shift, degrees. */
   meanResidualDeg: number;
   lines: MatchedLine[];
