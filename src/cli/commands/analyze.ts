@@ -5,10 +5,10 @@ import type { AnalysisResult, AnalysisSettings } from '../../core/analysis/analy
 import { InputError } from '../../core/errors.js';
 import { parseInstrumentProfile, type InstrumentProfile } from '../../core/size/instrument.js';
 import { loadReferencesWithIndex } from '../common/io.js';
-import { settingsFromFlags } from '../common/settings-flags.js';
+import { addMatchFlags, settingsFromFlags, TOLERANCE_HELP, type AnalysisFlags } from '../common/settings-flags.js';
 import { BACKGROUND_OPTION_HELP, numberOption, runCommand } from '../common/run-command.js';
 
-export interface AnalyzeCommandOptions {
+export interface AnalyzeCommandOptions extends AnalysisFlags {
   library: string;
   target?: string;
   instrument?: string;
@@ -41,7 +41,7 @@ export interface AnalyzeIo {
  * Peaks, match and sizes for many files on a pool of worker threads.
  */
 export function registerAnalyze(program: Command): void {
-  program
+  const command = program
     .command('analyze')
     .description('Peaks, phase verdicts and crystallite sizes for many patterns at once (worker threads; results in input order).')
     .argument('[files...]', 'pattern files (xy text, CSV or pdCIF)')
@@ -49,7 +49,7 @@ export function registerAnalyze(program: Command): void {
     .option('--target <name>', 'the phase you expect')
     .option('--instrument <profile>', 'instrument profile JSON from "crystallog instrument" (corrects the peak breadths)')
     .option('--wavelength <w>', 'Cu, Co, Fe, Cr, Mo, Ag or a number in Å (default: from each file, else Cu)')
-    .option('--tolerance <deg>', 'matching tolerance, degrees 2θ (default 0.1)')
+    .option('--tolerance <deg>', TOLERANCE_HELP)
     .option('--source <kind>', 'the beam: ni-filter (default), no-filter, monochromator or synchrotron (which Kβ and W Lα satellites to expect)')
     .option('--k <k>', 'Scherrer K, a number or preset (default 0.9)')
     .option('--breadth <kind>', 'fwhm or integral (default fwhm)')
@@ -58,8 +58,8 @@ export function registerAnalyze(program: Command): void {
     .option('--workers <n>', `worker threads (default: one per 16 files, at most the number of cores, here ${defaultWorkerCount()})`)
     .option('--files-from <list>', 'read more file paths from this list, one per line ("-" for standard input)')
     .option('--jsonl', 'print one JSON line per file as each finishes (with its input index)')
-    .option('--json', 'print one JSON document {files: [...]} in input order')
-    .action(async (files: string[], o: AnalyzeCommandOptions) => {
+    .option('--json', 'print one JSON document {files: [...]} in input order');
+  addMatchFlags(command).action(async (files: string[], o: AnalyzeCommandOptions) => {
       const io: AnalyzeIo = {
         stdout: (text) => process.stdout.write(text),
         stderr: (text) => process.stderr.write(text),
@@ -124,7 +124,7 @@ function settingsFromOptions(o: AnalyzeCommandOptions): AnalysisSettings {
   return settingsFromFlags(o);
 }
 
-function loadInstrument(path: string): InstrumentProfile {
+export function loadInstrument(path: string): InstrumentProfile {
   if (!existsSync(path)) throw new InputError(`instrument profile ${path} does not exist; make one with "crystallog instrument"`);
   return parseInstrumentProfile(readFileSync(path, 'utf8'), path);
 }

@@ -4,14 +4,12 @@ import type { MatchResult } from '../../core/match/types.js';
 import { readPatternFile } from '../../node/files.js';
 import { loadReferencesWithIndex, printWarnings } from '../common/io.js';
 import { runCommand } from '../common/run-command.js';
-import { settingsFromFlags } from '../common/settings-flags.js';
+import { addMatchFlags, settingsFromFlags, TOLERANCE_HELP, type AnalysisFlags } from '../common/settings-flags.js';
+import { loadInstrument } from './analyze.js';
 
-interface MatchCommandOptions {
+interface MatchCommandOptions extends AnalysisFlags {
   library: string;
-  source?: string;
-  target?: string;
-  tolerance?: string;
-  wavelength?: string;
+  instrument?: string;
   json?: boolean;
 }
 
@@ -24,24 +22,25 @@ export interface MatchCommandResult extends MatchResult {
 
 /** `crystallog match FILE --library DB [--target NAME] [--tolerance DEG] [--wavelength W] [--json]` */
 export function registerMatch(program: Command): void {
-  program
+  const command = program
     .command('match')
     .description('Which reference phases explain a pattern: verdicts with reasons, shift, unexplained peaks, weight fractions.')
     .argument('<file>', 'pattern file (xy text, CSV or pdCIF)')
     .requiredOption('--library <db>', 'reference library file')
     .option('--target <name>', 'the phase you expect (explains the pattern first)')
-    .option('--tolerance <deg>', 'matching tolerance, degrees 2θ (default 0.1)')
+    .option('--tolerance <deg>', TOLERANCE_HELP)
     .option('--source <kind>', 'the beam: ni-filter (default), no-filter, monochromator or synchrotron (which Kβ and W Lα satellites to expect)')
     .option('--wavelength <w>', 'Cu, Co, Fe, Cr, Mo, Ag or a number in Å (default: from the file, else Cu)')
-    .option('--json', 'print the result as JSON')
-    .action((file: string, o: MatchCommandOptions) => runCommand(Boolean(o.json), () => matchCommand(file, o), matchText, file));
+    .option('--instrument <profile>', "instrument profile JSON from \"crystallog instrument\" (its zero offset is held; its FWHM sets --tolerance-fwhm)")
+    .option('--json', 'print the result as JSON');
+  addMatchFlags(command).action((file: string, o: MatchCommandOptions) => runCommand(Boolean(o.json), () => matchCommand(file, o), matchText, file));
 }
 
 /** The match part of the one analysis of the pattern (peaks → match → sizes), as `analyze` gives it. */
 function matchCommand(file: string, o: MatchCommandOptions): MatchCommandResult {
   const settings = settingsFromFlags(o);
   const { references, index } = loadReferencesWithIndex(o.library);
-  const analysis = analyzePattern(readPatternFile(file), createAnalysisContext(references, null, settings, index));
+  const analysis = analyzePattern(readPatternFile(file), createAnalysisContext(references, o.instrument ? loadInstrument(o.instrument) : null, settings, index));
   printWarnings(analysis.warnings);
   const { wavelength } = analysis;
   return {
@@ -54,7 +53,8 @@ function matchCommand(file: string, o: MatchCommandOptions): MatchCommandResult 
 }
 
 function matchText(r: MatchCommandResult): string {
-  const out: string[] = [`${r.file}: matched against ${r.references} references (tolerance ${r.toleranceDeg}° 2θ, ${r.wavelength.label})`];
+  const tolerance = r.tolerance ? `${r.tolerance.description}; median half-window ${r.tolerance.medianWindowDeg}° here` : `${r.toleranceDeg}° 2θ`;
+  const out: string[] = [`${r.file}: matched against ${r.references} references (tolerance ${tolerance}, ${r.wavelength.label})`];
   const sigma = (v: number | null): string => (v === null ? '' : ` ± ${v.toFixed(4)}`);
   out.push(
     `shift (one for the sample): zero ${r.shift.zeroDeg.toFixed(4)}${sigma(r.shift.zeroSigmaDeg)}°, displacement ${r.shift.displacementCosDeg.toFixed(4)}${sigma(r.shift.displacementSigmaDeg)}°·cosθ ` +

@@ -1,3 +1,4 @@
+import type { Command } from 'commander';
 import { resolveAnalysisSettings, type AnalysisSettings } from '../../core/analysis/settings.js';
 
 /** The analysis flags the commands share, as commander hands them over (text). */
@@ -12,6 +13,22 @@ export interface AnalysisFlags {
   threshold?: string;
   phase?: string;
   source?: string;
+  toleranceD?: string;
+  toleranceFwhm?: string;
+  phaseLimit?: string;
+  refineZero?: boolean;
+}
+
+/** The help of --tolerance wherever a command matches lines to peaks. */
+export const TOLERANCE_HELP = 'matching tolerance, degrees 2θ at Cu Kα, held as the same precision in d at any wavelength (default 0.1)';
+
+/** The matching flags beyond --tolerance that `match` and `analyze` share. */
+export function addMatchFlags(command: Command): Command {
+  return command
+    .option('--tolerance-d <angstrom>', 'matching tolerance directly in d, Å (instead of --tolerance)')
+    .option('--tolerance-fwhm <multiple>', "matching tolerance in units of the instrument profile's FWHM, or each peak's own without one (instead of --tolerance)")
+    .option('--phase-limit <n>', 'most phases the explanation may take (default 12; it stops earlier when nothing significant is left)')
+    .option('--refine-zero', "refine the zero offset even when the instrument profile gives one (default: hold the profile's)");
 }
 
 /** Which flag sets which setting, so that a message names the flag the user typed. */
@@ -26,6 +43,10 @@ const FLAG_OF: Partial<Record<keyof AnalysisSettings, string>> = {
   thresholdSigma: '--threshold',
   sizePhase: '--phase',
   source: '--source',
+  toleranceDAngstrom: '--tolerance-d',
+  toleranceFwhm: '--tolerance-fwhm',
+  phaseLimit: '--phase-limit',
+  zeroFromInstrument: '--refine-zero',
 };
 
 /** A number as typed (decimal comma allowed); text that is no number stays NaN and fails the range check. */
@@ -53,6 +74,10 @@ export function settingsFromFlags(flags: AnalysisFlags): AnalysisSettings {
     thresholdSigma: flags.threshold,
     sizePhase: flags.phase,
     source: flags.source,
+    toleranceDAngstrom: flags.toleranceD,
+    toleranceFwhm: flags.toleranceFwhm,
+    phaseLimit: flags.phaseLimit,
+    zeroFromInstrument: flags.refineZero ? 'given' : undefined,
   };
   const names = Object.fromEntries(
     Object.entries(FLAG_OF).map(([setting, flag]) => [setting, `option ${flag} ${given[setting as keyof AnalysisSettings] ?? ''}`.trimEnd()]),
@@ -69,6 +94,10 @@ export function settingsFromFlags(flags: AnalysisFlags): AnalysisSettings {
       thresholdSigma: numberText(flags.threshold),
       sizePhase: flags.phase,
       source: flags.source?.toLowerCase(),
+      toleranceDAngstrom: numberText(flags.toleranceD),
+      toleranceFwhm: numberText(flags.toleranceFwhm),
+      phaseLimit: numberText(flags.phaseLimit),
+      zeroFromInstrument: flags.refineZero ? false : undefined,
     },
     names,
   );

@@ -8,7 +8,8 @@ import { sha256Stream } from '../model/checksum.js';
 import type { StoredReference } from '../model/reference.js';
 import { buildReferenceIndex, type ReferenceIndex } from '../match/reference-index.js';
 import { matchPhases } from '../match/match.js';
-import { type MatchResult } from '../match/types.js';
+import { type MatchOptions, type MatchResult } from '../match/types.js';
+import { instrumentWidthAt } from '../size/instrument-width.js';
 import type { MatchedLine, PhaseMatch } from '../match/types.js';
 import type { Pattern } from '../model/pattern.js';
 import type { Wavelength } from '../model/wavelengths.js';
@@ -133,9 +134,13 @@ export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisCont
   const search = searchPeaks(pattern, settings, wavelength);
   if (search.noise.note) warnings.push(search.noise.note);
   const peaks = search.peaks;
+  const instrument = context.instrument;
+  const fixedZero = settings.zeroFromInstrument && instrument && Number.isFinite(instrument.zeroShiftDeg) ? instrument.zeroShiftDeg : undefined;
   const match = matchPhases(peaks, references, {
     wavelength,
-    toleranceDeg: settings.toleranceDeg,
+    ...matchTolerance(settings, instrument),
+    ...(fixedZero !== undefined ? { fixedZeroDeg: fixedZero } : {}),
+    maxPhases: settings.phaseLimit,
     target: settings.target ?? undefined,
     background: { x: pattern.x, y: search.background, sigma: search.noiseSigma },
     twoThetaRangeDeg: { min: pattern.x[0], max: pattern.x[pattern.x.length - 1] },
@@ -193,6 +198,13 @@ export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisCont
     warnings,
   };
   return { result, curves: { background: search.background, model: search.model } };
+}
+
+/** The matching tolerance as the settings state it: in d, in FWHM units (the profile's FWHM where there is one), or in 2θ at Cu Kα. */
+function matchTolerance(settings: AnalysisSettings, instrument: InstrumentProfile | null): Pick<MatchOptions, 'toleranceDeg' | 'toleranceD' | 'toleranceFwhm' | 'instrumentFwhmAt'> {
+  if (settings.toleranceDAngstrom !== null) return { toleranceD: settings.toleranceDAngstrom };
+  if (settings.toleranceFwhm !== null) return { toleranceFwhm: settings.toleranceFwhm, ...(instrument ? { instrumentFwhmAt: (tt: number) => instrumentWidthAt(instrument, tt).fwhm } : {}) };
+  return { toleranceDeg: settings.toleranceDeg };
 }
 
 /**

@@ -23,8 +23,16 @@ export function settingNumber(name: NumberSettingName): z.ZodNumber {
 export interface AnalysisSettings {
   /** The user's wavelength; null means the one named in the file, else Cu Kα1/Kα2. */
   wavelength: Wavelength | null;
-  /** Matching tolerance, degrees 2θ. */
+  /** Matching tolerance, degrees 2θ at Cu Kα1: held as the same precision in d at the pattern's wavelength. */
   toleranceDeg: number;
+  /** Matching tolerance directly in d, Å; when set it replaces toleranceDeg. */
+  toleranceDAngstrom: number | null;
+  /** Matching tolerance in units of the instrument's FWHM (each peak's own without a profile); when set it replaces toleranceDeg. */
+  toleranceFwhm: number | null;
+  /** Most phases the explanation may take (it stops earlier when nothing significant is left). */
+  phaseLimit: number;
+  /** Hold the zero offset at the instrument profile's (measured on its standard) and refine only the displacement. */
+  zeroFromInstrument: boolean;
   /** Scherrer K as a number or preset name. */
   k: number | string;
   breadth: BreadthKind;
@@ -44,6 +52,10 @@ export interface AnalysisSettings {
 export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
   wavelength: null,
   toleranceDeg: 0.1,
+  toleranceDAngstrom: null,
+  toleranceFwhm: null,
+  phaseLimit: 12,
+  zeroFromInstrument: true,
   k: 0.9,
   breadth: 'fwhm',
   correction: 'voigt',
@@ -62,6 +74,10 @@ const analysisSettingsInput = z
   .object({
     wavelength: z.string().trim().min(1).max(20).nullable(),
     toleranceDeg: settingNumber('toleranceDeg'),
+    toleranceDAngstrom: settingNumber('toleranceDAngstrom').nullable(),
+    toleranceFwhm: settingNumber('toleranceFwhm').nullable(),
+    phaseLimit: settingNumber('phaseLimit').int({ error: rangeMessage('phaseLimit') }),
+    zeroFromInstrument: z.boolean({ error: 'zeroFromInstrument must be true or false' }),
     k: z.union([settingNumber('scherrerK'), z.string().trim().toLowerCase().refine((v) => presetIds.includes(v))], { error: kMessage }),
     breadth: z.enum(BREADTH_KINDS as [BreadthKind, ...BreadthKind[]], { error: `breadth must be ${BREADTH_KINDS.join(' or ')}` }),
     correction: z.enum(CORRECTION_KINDS as [CorrectionKind, ...CorrectionKind[]], { error: `correction must be ${CORRECTION_KINDS.join(', ')}` }),
@@ -89,6 +105,10 @@ export function resolveAnalysisSettings(input: unknown, names: Partial<Record<ke
     throw new InputError(`${where}${issue.message}`);
   }
   const { wavelength, ...rest } = parsed.data;
+  if (rest.toleranceDAngstrom != null && rest.toleranceFwhm != null) {
+    const where = [names.toleranceDAngstrom, names.toleranceFwhm].filter(Boolean).join(' and ');
+    throw new InputError(`${where ? `${where}: ` : ''}give the matching tolerance one way only (in d or in FWHM units)`);
+  }
   const defined = Object.fromEntries(Object.entries(rest).filter(([, v]) => v !== undefined));
   const settings: AnalysisSettings = {
     ...DEFAULT_ANALYSIS_SETTINGS,

@@ -36,10 +36,20 @@ import {
 import { countClear, firstLineTwoTheta, lowAngleOpenPeaks, linesOnPeaks, groupIntensities, exclusiveAreaShares, unexplainedPeaks } from './peak-accounting.js';
 import { cellReport, describePhase, lookAlikeReason, patternReasons, sampleShift } from './reasons.js';
 import { round } from './format.js';
+import { describeTolerance, windowDeg, type FwhmAt, type MatchTolerance } from './tolerance.js';
+import { median } from '../numeric/numeric.js';
+import { solidSolutionOf, solidSolutionPartners } from './solid-solution.js';
+import type { PeakTable } from './peak-table.js';
 import { satelliteMarks } from './satellites.js';
 import { BOUNDED_ABSENCE_TAGS, detectionLimitWeightPercent, medianBreadthCos } from './detection-limit.js';
 
 const DEFAULT_TOLERANCE_DEG = 0.1;
+
+/**
+ * The explanation takes phases while they explain significant open peaks; this bound only stops a
+ * runaway (a reaction mixture holds 6–8 phases; beyond a dozen a lab pattern cannot resolve them).
+ */
+export const DEFAULT_PHASE_LIMIT = 12;
 
 const DEFAULT_MAX_ZERO_DEG = 0.15;
 
@@ -64,6 +74,8 @@ interface Explanation {
   latest: Map<number, PhaseEvaluation>;
   claims: Claims;
   shift: MatchShift;
+  /** The phase limit stopped the explanation while significant peaks were still open. */
+  limitReached: boolean;
 }
 
 /**
@@ -75,12 +87,21 @@ interface Explanation {
  * refined cells, unexplained peaks and Chung weight fractions.
  */
 export function matchPhases(peaks: readonly FittedPeak[], references: readonly StoredReference[], options: MatchOptions): MatchResult {
-  const tol = options.toleranceDeg ?? DEFAULT_TOLERANCE_DEG;
-  checkSettingRange('toleranceDeg', tol);
+  const tolerance = toleranceOf(options);
+  const fwhmAt: FwhmAt = options.instrumentFwhmAt ?? null;
+  const lambda = options.wavelength.lambda1;
+  const table = buildPeakTable([...peaks], options.background, options.twoThetaRangeDeg, (p) => windowDeg(tolerance, p.twoTheta, lambda, p.fwhm, fwhmAt));
+  // One typical half-window (the median over the peaks) steers the shift search's grid and the low-angle and satellite tests; matching uses each peak's own.
+  const tol = typicalToleranceDeg(table, tolerance, lambda, fwhmAt);
+  let widestWindow = tol;
+  for (let k = 0; k < table.count; k++) widestWindow = Math.max(widestWindow, table.window[k]);
+  const fixedZero = options.fixedZeroDeg;
+  if (fixedZero !== undefined && !(Number.isFinite(fixedZero) && Math.abs(fixedZero) <= 2)) throw new InputError(`zero offset ${fixedZero}° 2θ from the instrument profile is not usable; it must lie within ±2°`);
   const bounds: ShiftBounds = {
     toleranceDeg: tol,
     maxZeroDeg: nonNegative(options.maxZeroDeg ?? DEFAULT_MAX_ZERO_DEG, 'maximum zero offset'),
     maxDisplacementDeg: nonNegative(options.maxDisplacementDeg ?? DEFAULT_MAX_DISPLACEMENT_DEG, 'maximum displacement'),
+    ...(fixedZero !== undefined ? { fixedZeroDeg: fixedZero } : {}),
   };
   const cellBound = options.cellBoundFraction ?? DEFAULT_CELL_BOUND;
   if (!(cellBound >= 0 && cellBound <= 0.2)) throw new InputError(`cell bound ${cellBound} is not usable; give a fraction between 0 and 0.2 (0.02 lets each edge move ±2 %)`);
@@ -88,9 +109,15 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   if (!(radiusMm > 0 && radiusMm <= 2000)) throw new InputError(`goniometer radius ${radiusMm} mm is not usable; give the radius in mm (lab instruments: about 150–300)`);
   const index = options.index ?? buildReferenceIndex(references);
   const refs = index.references;
-  const lambda = options.wavelength.lambda1;
-  const table = buildPeakTable([...peaks], options.background, options.twoThetaRangeDeg, tol);
   const targetIndex = findTarget(refs, options.target);
+
+  // Solid-solution end members of one structure type: a cell may be refined from one towards the other.
+  const partners = solidSolutionPartners(refs);
+  const spanOf = (r: number): UnitCell[] => (partners.get(r) ?? []).map((j) => usableCell(refs[j].cell)).filter((c): c is UnitCell => c !== null);
+  const partnerScales = (r: number): number[] => {
+    const own = usableCell(refs[r].cell);
+    return own ? spanOf(r).map((c) => Math.cbrt(cellMetric(c).volume / cellMetric(own).volume)) : [];
+  };
 
   // Lines of each reference, from its refined cell once it has one (matching uses the refined cell).
   const refinedCells = new Map<number, UnitCell>();
@@ -107,7 +134,8 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
 
   const clearPeaks = countClear(table, null);
   const featureless = clearPeaks === 0;
-  const maxPhases = options.maxPhases ?? 5;
+  const maxPhases = options.maxPhases ?? DEFAULT_PHASE_LIMIT;
+  if (!(Number.isInteger(maxPhases) && maxPhases >= 1 && maxPhases <= 50)) throw new InputError(`phase limit ${maxPhases} is not usable; give a whole number of phases between 1 and 50`);
   const candidateCount = options.candidates ?? 40;
   const dMin = dFromTwoTheta(Math.min(table.rangeMax, 179), lambda);
   const dMax = table.rangeMin > 0 ? dFromTwoTheta(table.rangeMin, lambda) : Infinity;
@@ -117,7 +145,7 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   const startScale = new Map<number, number>();
   const evaluateCandidate = (r: number, lines: PhaseLines, shift: MatchShift | null, claims: Claims): PhaseEvaluation => {
     if (!refinedCells.has(r) && usableCell(refs[r].cell)) {
-      const { scale } = searchCellScale(lines, table, bounds, cellBound, shift);
+      const { scale } = searchCellScale(lines, table, bounds, cellBound, shift, partnerScales(r));
       if (scale !== 1) {
         startScale.set(r, scale);
         const scaled = phaseLines(scaledReference(refs[r], scale), lambda, table.rangeMin, table.rangeMax);
@@ -146,7 +174,7 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
       const candidates = screenReferences(index, {
         twoTheta: Float64Array.from(open, (k) => table.twoTheta[k]),
         lambda,
-        windowDeg: 2 * tol + bounds.maxZeroDeg + bounds.maxDisplacementDeg,
+        windowDeg: 2 * widestWindow + bounds.maxZeroDeg + bounds.maxDisplacementDeg,
         dMin,
         dMax,
         // After the first phase the open peaks are few and screen sharply: half the candidates suffice.
@@ -181,7 +209,11 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
       accepted.push(choice);
       shift ??= choice.evaluation.shift;
     }
-    return { accepted, firstEvaluation, latest, claims, shift: shift ?? { zeroDeg: 0, displacementCosDeg: 0 } };
+    // The bound was what stopped it when significant open peaks remain after its last phase.
+    let openLeft = 0;
+    for (let k = 0; k < table.count; k++) if (claims.claimed[k] < 0) openLeft++;
+    const limitReached = accepted.length >= maxPhases && explainsSignificantPeaks({ clear: countClear(table, claims), all: openLeft });
+    return { accepted, firstEvaluation, latest, claims, shift: shift ?? { zeroDeg: bounds.fixedZeroDeg ?? 0, displacementCosDeg: 0 }, limitReached };
   };
 
   const fitOf = (explanation: Explanation): SampleFit =>
@@ -191,9 +223,10 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
         peakOf: a.evaluation.peakOf,
         referenceCell: usableCell(refs[a.ref].cell),
         currentCell: refinedCells.get(a.ref) ?? scaledCell(usableCell(refs[a.ref].cell), startScale.get(a.ref) ?? 1),
+        span: spanOf(a.ref),
       })),
       table,
-      { lambda, start: explanation.shift, maxZeroDeg: bounds.maxZeroDeg, maxDisplacementDeg: bounds.maxDisplacementDeg, cellBound },
+      { lambda, start: explanation.shift, maxZeroDeg: bounds.maxZeroDeg, maxDisplacementDeg: bounds.maxDisplacementDeg, cellBound, ...(fixedZero !== undefined ? { fixedZeroDeg: fixedZero } : {}) },
     );
 
   /** Volume change a candidate's cell needs when refined alone on its matched peaks under a fixed sample shift. */
@@ -201,7 +234,7 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
     const reference = usableCell(refs[c.ref].cell);
     if (!reference) return null;
     const alone = fitSampleAndCells(
-      [{ lines: c.evaluation.lines, peakOf: c.evaluation.peakOf, referenceCell: reference, currentCell: refinedCells.get(c.ref) ?? scaledCell(reference, startScale.get(c.ref) ?? 1) }],
+      [{ lines: c.evaluation.lines, peakOf: c.evaluation.peakOf, referenceCell: reference, currentCell: refinedCells.get(c.ref) ?? scaledCell(reference, startScale.get(c.ref) ?? 1), span: spanOf(c.ref) }],
       table,
       { lambda, start: shift, maxZeroDeg: bounds.maxZeroDeg, maxDisplacementDeg: bounds.maxDisplacementDeg, cellBound, fixedShift: true },
     );
@@ -291,8 +324,20 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   accepted.forEach((a, i) => {
     const verdict = acceptedVerdict(a.evaluation);
     const described = describePhase(a.evaluation, verdict, claims, accepted, table, fractions[i], unquantified, null, exclusive[i]);
-    phases.push({ ...described, scale: scales[i], weightFractionSigma: fractionSigmas[i] === null ? null : round(fractionSigmas[i]!, 4), ...cellReport(fit.cells[i], usableCell(refs[a.ref].cell), cellBound, described.reasons) });
+    const phase: PhaseMatch = { ...described, scale: scales[i], weightFractionSigma: fractionSigmas[i] === null ? null : round(fractionSigmas[i]!, 4), ...cellReport(fit.cells[i], usableCell(refs[a.ref].cell), cellBound, described.reasons) };
+    const cellFit = fit.cells[i];
+    const ends = partners.get(a.ref);
+    if (typeof cellFit !== 'string' && ends && phase.cellChangeSigmas !== null && Math.abs(phase.cellChangeSigmas ?? 0) >= CELL_CHANGE_SIGNIFICANT) {
+      const solution = solidSolutionOf(refs[a.ref], ends.map((j) => refs[j]), cellFit.cell, cellFit.sigma, cellFit.free);
+      if (solution) {
+        phase.solidSolution = { ...solution, fraction: round(solution.fraction, 4), fractionSigma: round(solution.fractionSigma, 4) };
+        phase.reasons.push(solution.statement);
+      }
+    }
+    phases.push(phase);
   });
+  // An end member whose peaks are those of a solid solution reported on its partner says so.
+  const solutionOf = (name: string): PhaseMatch | undefined => phases.find((p) => p.solidSolution?.between.includes(name) && p.name !== name);
   /**
    * A phase left out as uncertain beside the phase that took its peaks: when its peaks are nearly all
    * that phase's, compare the cell change each needs alone under the sample's shift (the look-alike rule).
@@ -323,6 +368,12 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
     if (lookAlikeVerdict) described.reasons[described.reasons.length - 1] = `${lookAlikeReason(lookAlikeVerdict)} (absence holds only above the detection limit)`;
     phases.push(described);
   }
+  for (const p of phases) {
+    const solution = p.inExplanation ? undefined : solutionOf(p.name);
+    if (!solution || p.verdict === 'present') continue;
+    const s = solution.solidSolution!;
+    p.reasons.push(`its peaks are those of the solid solution between ${s.between[0]} and ${s.between[1]} reported with ${solution.name} (x = ${s.fraction.toFixed(3)} ± ${s.fractionSigma.toFixed(3)}): present only as an end member of it, not as itself`);
+  }
   // How much of each bounded phase could hide below the detection level of this pattern.
   const breadthCos = medianBreadthCos(table);
   const presentForLimits = accepted.map((a, i) => ({ scale: scales[i], rir: refs[a.ref].rir }));
@@ -342,7 +393,7 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
 
   const firstLineEvaluation = targetIndex >= 0 ? accepted.find((a) => a.ref === targetIndex)?.evaluation ?? evaluatePhase(linesOf(targetIndex), table, finalShift, claims) : accepted[0]?.evaluation;
   const lowAngleLimit = firstLineTwoTheta(firstLineEvaluation, tol);
-  const unexplained = unexplainedPeaks(table, claims, lowAngleLimit, refs, lambda, finalShift, tol);
+  const unexplained = unexplainedPeaks(table, claims, lowAngleLimit, refs, lambda, finalShift);
   // A weak peak where a strong peak's Kβ or W Lα falls may be a satellite: no low-angle alarm, no unexplained area.
   const satellites = satelliteMarks(table, options.wavelength, options.source ?? 'ni-filter', tol);
   const tableIndexOf = new Map<number, number>();
@@ -354,7 +405,7 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   let unexplainedArea = 0;
   for (let k = 0; k < table.count; k++) if (claims.claimed[k] < 0 && satellites[k] === null) unexplainedArea += table.area[k];
   const unexplainedAreaShare = table.totalArea > 0 ? unexplainedArea / table.totalArea : 0;
-  const shift = sampleShift(fit, accepted.length > 0, radiusMm);
+  const shift = sampleShift(fit, accepted.length > 0, radiusMm, fixedZero);
 
   return {
     shift,
@@ -362,7 +413,15 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
     unexplained,
     unexplainedAreaShare,
     featureless,
-    toleranceDeg: tol,
+    toleranceDeg: round(tol, 5),
+    tolerance: { ...tolerance, description: describeTolerance(tolerance, fwhmAt), medianWindowDeg: round(tol, 5) },
+    phaseLimit: {
+      limit: maxPhases,
+      reached: explanation.limitReached,
+      reason: explanation.limitReached
+        ? `the explanation stopped at the phase limit of ${maxPhases} while significant peaks were still unexplained; raise the limit to explain them`
+        : `phases were taken while they explained significant open peaks (limit ${maxPhases}, not reached)`,
+    },
     reasons: patternReasons(table, featureless, clearPeaks, accepted, refs, shift, fit, bounds, unexplained, unexplainedAreaShare, firstLineEvaluation),
   };
 }
@@ -409,6 +468,22 @@ function withCell(reference: StoredReference, cell: UnitCell): StoredReference {
     ...reference,
     lines: reference.lines.map((line) => (line.hkl ? { ...line, d: 1 / Math.sqrt(inverseDSquared(gStar, line.hkl[0], line.hkl[1], line.hkl[2])) } : line)),
   };
+}
+
+/** The tolerance as the user stated it: in 2θ at Cu Kα (the default), in d, or in FWHM units; one way only. */
+function toleranceOf(options: MatchOptions): MatchTolerance {
+  const given = [options.toleranceDeg, options.toleranceD, options.toleranceFwhm].filter((v) => v !== undefined).length;
+  if (given > 1) throw new InputError('give the matching tolerance one way only: in degrees 2θ at Cu Kα, in Å of d, or in units of the FWHM');
+  if (options.toleranceD !== undefined) return { kind: 'd', angstrom: checkSettingRange('toleranceDAngstrom', options.toleranceD) };
+  if (options.toleranceFwhm !== undefined) return { kind: 'fwhm', multiple: checkSettingRange('toleranceFwhm', options.toleranceFwhm) };
+  return { kind: 'cu-two-theta', deg: checkSettingRange('toleranceDeg', options.toleranceDeg ?? DEFAULT_TOLERANCE_DEG) };
+}
+
+/** The median half-window over the peaks (the tolerance at 45° 2θ when there are none), degrees of this pattern's 2θ. */
+function typicalToleranceDeg(table: PeakTable, tolerance: MatchTolerance, lambda: number, fwhmAt: FwhmAt): number {
+  if (table.count === 0) return windowDeg(tolerance, 45, lambda, 0.1, fwhmAt);
+  const base = table.peaks.map((p) => windowDeg(tolerance, p.twoTheta, lambda, p.fwhm, fwhmAt));
+  return median(base);
 }
 
 function nonNegative(value: number, what: string): number {

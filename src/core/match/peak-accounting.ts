@@ -142,7 +142,6 @@ export function unexplainedPeaks(
   refs: readonly StoredReference[],
   lambda: number,
   shift: MatchShift,
-  tol: number,
 ): UnexplainedPeak[] {
   const decomposition = refs
     .filter((r) => r.tags.includes(DECOMPOSITION_TAG))
@@ -155,7 +154,7 @@ export function unexplainedPeaks(
       .filter((lines) => {
         for (let j = 0; j < lines.count; j++) {
           const expected = lines.twoTheta[j] + shift.zeroDeg + shift.displacementCosDeg * lines.cosTheta[j];
-          if (Math.abs(expected - tt) <= tol) return true;
+          if (Math.abs(expected - tt) <= table.window[k]) return true;
         }
         return false;
       })

@@ -62,7 +62,8 @@ export function buildPeakTable(
   input: readonly FittedPeak[],
   background: MatchBackground | undefined,
   range: { min: number; max: number } | undefined,
-  toleranceDeg: number,
+  /** The user's tolerance as a half-window at a peak, degrees 2θ of this pattern (see tolerance.ts). */
+  toleranceAt: (peak: FittedPeak) => number,
 ): PeakTable {
   const order = input.map((_, i) => i).filter((i) => Number.isFinite(input[i]!.twoTheta) && input[i]!.height > 0).sort((a, b) => input[a]!.twoTheta - input[b]!.twoTheta);
   const peaks = order.map((i) => input[i]!);
@@ -82,7 +83,8 @@ export function buildPeakTable(
     twoTheta[k] = p.twoTheta;
     cosTheta[k] = Math.cos((p.twoTheta / 2) * DEG_TO_RAD);
     height[k] = p.height;
-    window[k] = toleranceDeg + Math.min(3 * (Number.isFinite(p.twoThetaSigma) ? p.twoThetaSigma : 0), toleranceDeg);
+    const tolerance = toleranceAt(p);
+    window[k] = tolerance + Math.min(3 * (Number.isFinite(p.twoThetaSigma) ? p.twoThetaSigma : 0), tolerance);
     breadth[k] = p.integralBreadth > 0 ? p.integralBreadth : p.fwhm > 0 ? 1.2 * p.fwhm : 0.1;
     area[k] = p.area > 0 ? p.area : p.height * breadth[k];
     clear[k] = p.height >= CLEAR_PEAK_NOISE_LEVELS * noiseAt(p.twoTheta) ? 1 : 0;

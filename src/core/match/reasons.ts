@@ -9,15 +9,22 @@ import { type ShiftBounds } from './shift.js';
 import { displacementMillimetres, type CellFit, type SampleFit } from './sample-fit.js';
 import type { UnitCell } from '../model/cell.js';
 import { cellMetric } from '../crystal/metric.js';
-import type { MatchedLine, PhaseMatch, SampleShift, UnexplainedPeak, Verdict } from './types.js';
+import type { MatchedLine, PhaseMatch, SampleShift, ShiftTermStatus, UnexplainedPeak, Verdict } from './types.js';
 import { UNCERTAIN_SCORE, PRESENT_SCORE, CONFIRMING_LINES, CELL_CHANGE_SIGNIFICANT, requiredLines, type LookAlike } from './verdict-rules.js';
 import { fmt, pct, round, signed } from './format.js';
 
-/** The pattern's shift with σ, and the displacement in mm for the goniometer radius. */
-export function sampleShift(fit: SampleFit, fitted: boolean, radiusMm: number): SampleShift {
-  const zero = fitted ? fit.shift.zeroDeg : 0;
+/**
+ * A shift term whose σ, with the bounds taken as prior knowledge, is still this share of the σ the
+ * bound alone gives (bound/√3) is not determined by the lines: the data narrowed it by less than 30 %.
+ */
+const SHIFT_DETERMINED_SHARE = 0.7;
+
+/** The pattern's shift with σ, and the displacement in mm for the goniometer radius; each term says how it is known. */
+export function sampleShift(fit: SampleFit, fitted: boolean, radiusMm: number, fixedZeroDeg?: number): SampleShift {
+  const zero = fitted ? fit.shift.zeroDeg : (fixedZeroDeg ?? 0);
   const displacement = fitted ? fit.shift.displacementCosDeg : 0;
   const dSigma = fitted ? fit.displacementSigmaDeg : null;
+  const status = (sigma: number | null, prior: number): ShiftTermStatus => (sigma !== null && sigma >= SHIFT_DETERMINED_SHARE * prior ? 'bounded' : 'refined');
   return {
     zeroDeg: round(zero, 5),
     zeroSigmaDeg: fitted && fit.zeroSigmaDeg !== null ? round(fit.zeroSigmaDeg, 5) : null,
@@ -27,6 +34,8 @@ export function sampleShift(fit: SampleFit, fitted: boolean, radiusMm: number): 
     displacementMmSigma: dSigma === null ? null : round(Math.abs(displacementMillimetres(dSigma, radiusMm)), 4),
     goniometerRadiusMm: radiusMm,
     linesUsed: fitted ? fit.linesUsed : 0,
+    zeroStatus: fixedZeroDeg !== undefined ? 'instrument-profile' : status(fitted ? fit.zeroSigmaDeg : null, fit.zeroPriorSigmaDeg),
+    displacementStatus: dSigma === null ? 'not-kept' : status(dSigma, fit.displacementPriorSigmaDeg),
   };
 }
 
@@ -212,15 +221,23 @@ export function patternReasons(
   if (clearPeaks < CONFIRMING_LINES) reasons.push(`Only ${clearPeaks} clear peak(s): too few to confirm a phase.`);
   if (accepted.length > 0) {
     const sigma = (value: number | null): string => (value === null ? '' : ` ± ${value.toFixed(4)}`);
+    const zero =
+      shift.zeroStatus === 'instrument-profile'
+        ? `zero offset ${signed(shift.zeroDeg)}° taken from the instrument profile (measured on its standard; held, not refined)`
+        : shift.zeroStatus === 'bounded'
+          ? `zero offset not determined by these lines: it is known only to lie within ±${bounds.maxZeroDeg}° (best value ${signed(shift.zeroDeg)}°, σ ${shift.zeroSigmaDeg?.toFixed(3)}° is that of the bound)`
+          : `zero offset ${signed(shift.zeroDeg)}${sigma(shift.zeroSigmaDeg)}°`;
     const displacement =
-      shift.displacementSigmaDeg === null
+      shift.displacementStatus === 'bounded'
+        ? `specimen displacement not determined by these lines: only within ±${bounds.maxDisplacementDeg}°·cosθ (best value ${signed(shift.displacementCosDeg)}°·cosθ, ${signed(shift.displacementMm, 3)} mm)`
+        : shift.displacementSigmaDeg === null
         ? fit.sigmaIncludesDisplacement
           ? 'no specimen displacement kept (not significant beside the zero offset and the cells; the σ of the zero and the cells allow for one, which cannot be told apart from them on these lines)'
           : 'no specimen displacement (too few lines to refine one)'
         : `specimen displacement ${signed(shift.displacementCosDeg)}${sigma(shift.displacementSigmaDeg)}°·cosθ (${signed(shift.displacementMm, 3)} mm on a ${shift.goniometerRadiusMm} mm goniometer)`;
     reasons.push(
       `One shift for the sample, refined with the cells on ${fit.linesUsed} resolved lines of ${accepted.map((a) => refs[a.ref].name).join(', ')}: ` +
-        `zero offset ${signed(shift.zeroDeg)}${sigma(shift.zeroSigmaDeg)}°, ${displacement} (bounds ±${bounds.maxZeroDeg}° and ±${bounds.maxDisplacementDeg}°` +
+        `${zero}, ${displacement} (bounds ±${bounds.maxZeroDeg}° and ±${bounds.maxDisplacementDeg}°; σ take the bounds as known` +
         `${fit.zeroAtBound || fit.displacementAtBound ? '; at a bound, so the shift may be larger' : ''}).`,
     );
     reasons.push(`Explained with ${accepted.map((a) => refs[a.ref].name).join(', then ')}; overlapping lines are shared, not counted twice.`);

@@ -14,7 +14,7 @@
  */
 import type { UnitCell } from '../model/cell.js';
 import { cellMetric, inverseDSquared } from '../crystal/metric.js';
-import { weightedLinearFit } from '../numeric/numeric.js';
+import { invertSmall, weightedLinearFit } from '../numeric/numeric.js';
 import { DEG_TO_RAD } from '../model/units.js';
 import { cellParameterisation, type CellParameterisation, type CellParameterName } from './cell-parameters.js';
 import type { PeakTable } from './peak-table.js';
@@ -46,6 +46,11 @@ export interface SampleFitPhase {
   referenceCell: UnitCell | null;
   /** The cell the lines were computed from (the reference's, or last round's refined one). */
   currentCell: UnitCell | null;
+  /**
+   * Cells of other references of the same structure type (solid-solution end members): the bounds
+   * reach from the smallest to the largest of these and the reference's, widened by the cell bound.
+   */
+  span?: readonly UnitCell[];
 }
 
 export interface SampleFitOptions {
@@ -57,6 +62,8 @@ export interface SampleFitOptions {
   cellBound: number;
   /** Keep the start shift fixed and refine the cells only (to compare look-alikes under the sample's shift). */
   fixedShift?: boolean;
+  /** A zero offset measured on a standard: held there, and only the displacement (and the cells) refined. */
+  fixedZeroDeg?: number;
 }
 
 export interface CellFit {
@@ -84,6 +91,14 @@ export interface SampleFit {
   displacementAtBound: boolean;
   /** True when the σ allow for a displacement that was not significant enough to keep (see fitSampleAndCells). */
   sigmaIncludesDisplacement: boolean;
+  /** True when the zero was held at a value measured on a standard (then zeroSigmaDeg is null). */
+  zeroFixed: boolean;
+  /**
+   * The σ the bounds alone give each shift term (a value anywhere within ±bound: bound/√3), degrees;
+   * a refined σ near it means the lines do not determine that term (see SHIFT_DETERMINED_SHARE).
+   */
+  zeroPriorSigmaDeg: number;
+  displacementPriorSigmaDeg: number;
 }
 
 interface Observation {
@@ -109,7 +124,12 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
   const observations = collectObservations(phases, table);
   // A fixed shift is taken off the observations and is no parameter: the cells' σ are then those of a comparison under one shift.
   if (given.fixedShift) for (const o of observations) o.observed -= given.start.zeroDeg + given.start.displacementCosDeg * o.cosTheta;
-  const options: SampleFitOptions = given.fixedShift ? { ...given, start: { zeroDeg: 0, displacementCosDeg: 0 }, maxZeroDeg: 0, maxDisplacementDeg: 0 } : given;
+  else if (given.fixedZeroDeg !== undefined) for (const o of observations) o.observed -= given.fixedZeroDeg;
+  const options: SampleFitOptions = given.fixedShift
+    ? { ...given, start: { zeroDeg: 0, displacementCosDeg: 0 }, maxZeroDeg: 0, maxDisplacementDeg: 0 }
+    : given.fixedZeroDeg !== undefined
+      ? { ...given, start: { zeroDeg: 0, displacementCosDeg: given.start.displacementCosDeg }, maxZeroDeg: 0 }
+      : given;
   const param: Array<CellParameterisation | null> = phases.map((p) => (p.referenceCell && p.currentCell ? cellParameterisation(p.referenceCell) : null));
   const cells: Array<CellFit | string> = phases.map((p) => (p.referenceCell ? '' : 'no cell refined: the reference gives no unit cell'));
   // A cell is refined only from more resolved indexed lines than it has free parameters (plus the shift's two).
@@ -126,7 +146,7 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
   for (const o of observations) if (!refinable[o.phase]) o.hkl = null;
 
   const layoutOf = (withDisplacement: boolean): Layout => {
-    const withZero = !given.fixedShift;
+    const withZero = !given.fixedShift && given.fixedZeroDeg === undefined;
     let size = (withZero ? 1 : 0) + (withDisplacement ? 1 : 0);
     const cellOffset = phases.map((_, i) => {
       if (!refinable[i]) return -1;
@@ -155,20 +175,30 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
   }
   if (!chosen || observations.length === 0) {
     for (let i = 0; i < phases.length; i++) if (refinable[i]) cells[i] = 'no cell refined: the position fit failed';
-    return { shift: options.start, zeroSigmaDeg: null, displacementSigmaDeg: null, linesUsed, cells, zeroAtBound: false, displacementAtBound: false, sigmaIncludesDisplacement: false };
+    return {
+      shift: given.fixedShift ? given.start : { zeroDeg: given.fixedZeroDeg ?? options.start.zeroDeg, displacementCosDeg: options.start.displacementCosDeg },
+      zeroSigmaDeg: null, displacementSigmaDeg: null, linesUsed, cells, zeroAtBound: false, displacementAtBound: false, sigmaIncludesDisplacement: false,
+      zeroFixed: given.fixedZeroDeg !== undefined && !given.fixedShift,
+      zeroPriorSigmaDeg: options.maxZeroDeg / Math.sqrt(3),
+      displacementPriorSigmaDeg: options.maxDisplacementDeg / Math.sqrt(3),
+    };
   }
   const { x, layout } = chosen;
   // Without a significant displacement the values come from the fit without it, but the σ from the
   // fit with it: a displacement too small to be told apart from the cell and the zero still makes
   // them that uncertain (reporting the narrower σ would hide it).
   // Linearised at the fit without it (a bounded fit with it may end on a bound, where its covariance means nothing).
-  const lineariseAt: MatchShift = { zeroDeg: chosen.x[0], displacementCosDeg: 0 };
+  const lineariseAt: MatchShift = { zeroDeg: chosen.layout.withZero ? chosen.x[0] : 0, displacementCosDeg: 0 };
   const linearised =
     chosen === withoutD && withD
       ? runFit(observations, phases.map((ph, i) => (chosen.layout.cellOffset[i] >= 0 ? { ...ph, currentCell: param[i]!.toCell(chosen.x.subarray(chosen.layout.cellOffset[i], chosen.layout.cellOffset[i] + param[i]!.names.length)) } : ph)), param, layoutOf(true), { ...options, start: lineariseAt, cellBound: Infinity }, true)
       : null;
   const spread = linearised && linearised.dof >= 1 ? linearised : chosen;
-  const sigmaOf = (i: number): number => Math.sqrt(Math.max(spread.covariance[i * spread.layout.size + i], 0));
+  // The bounds are part of what is known: a shift term the lines hardly fix is known only to lie within them.
+  const zeroPrior = options.maxZeroDeg / Math.sqrt(3);
+  const displacementPrior = options.maxDisplacementDeg / Math.sqrt(3);
+  const covariance = withShiftPrior(spread, zeroPrior, displacementPrior);
+  const sigmaOf = (i: number): number => Math.sqrt(Math.max(covariance[i * spread.layout.size + i], 0));
   phases.forEach((phase, i) => {
     const offset = layout.cellOffset[i];
     if (offset < 0) return;
@@ -177,15 +207,18 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
     const cell = par.toCell(values);
     const block = new Float64Array(par.names.length ** 2);
     const so = spread.layout.cellOffset[i];
-    for (let r = 0; r < par.names.length; r++) for (let c = 0; c < par.names.length; c++) block[r * par.names.length + c] = spread.covariance[(so + r) * spread.layout.size + so + c];
-    cells[i] = describeCell(cell, par, values, block, phase.referenceCell!, options.cellBound, observations.filter((o) => o.phase === i && o.hkl).length);
+    for (let r = 0; r < par.names.length; r++) for (let c = 0; c < par.names.length; c++) block[r * par.names.length + c] = covariance[(so + r) * spread.layout.size + so + c];
+    cells[i] = describeCell(cell, par, values, block, parameterRange(par, phase, options.cellBound), observations.filter((o) => o.phase === i && o.hkl).length);
   });
   const zero = layout.withZero ? x[0] : 0;
-  const displacement = layout.withDisplacement ? x[1] : 0;
+  const displacement = layout.withDisplacement ? x[displacementIndex(layout)] : 0;
   return {
-    shift: given.fixedShift ? given.start : { zeroDeg: zero, displacementCosDeg: displacement },
+    shift: given.fixedShift ? given.start : { zeroDeg: given.fixedZeroDeg ?? zero, displacementCosDeg: displacement },
     zeroSigmaDeg: layout.withZero ? sigmaOf(0) : null,
-    displacementSigmaDeg: layout.withDisplacement ? sigmaOf(1) : null,
+    displacementSigmaDeg: layout.withDisplacement ? sigmaOf(displacementIndex(spread.layout)) : null,
+    zeroFixed: given.fixedZeroDeg !== undefined && !given.fixedShift,
+    zeroPriorSigmaDeg: zeroPrior,
+    displacementPriorSigmaDeg: displacementPrior,
     linesUsed,
     cells,
     sigmaIncludesDisplacement: spread !== chosen,
@@ -277,19 +310,20 @@ function runFit(
     upper[0] = options.maxZeroDeg;
   }
   if (layout.withDisplacement) {
-    x[1] = clamp(options.start.displacementCosDeg, -options.maxDisplacementDeg, options.maxDisplacementDeg);
-    lower[1] = -options.maxDisplacementDeg;
-    upper[1] = options.maxDisplacementDeg;
+    const at = displacementIndex(layout);
+    x[at] = clamp(options.start.displacementCosDeg, -options.maxDisplacementDeg, options.maxDisplacementDeg);
+    lower[at] = -options.maxDisplacementDeg;
+    upper[at] = options.maxDisplacementDeg;
   }
   phases.forEach((phase, i) => {
     const offset = layout.cellOffset[i];
     if (offset < 0) return;
     const par = param[i]!;
     const current = par.fromCell(phase.currentCell!);
-    const reference = par.fromCell(phase.referenceCell!);
+    const range = parameterRange(par, phase, options.cellBound);
     par.names.forEach((_, q) => {
-      lower[offset + q] = reference[q] * (1 - options.cellBound);
-      upper[offset + q] = reference[q] * (1 + options.cellBound);
+      lower[offset + q] = range.lower[q];
+      upper[offset + q] = range.upper[q];
       x[offset + q] = clamp(current[q], lower[offset + q], upper[offset + q]);
     });
   });
@@ -298,7 +332,7 @@ function runFit(
   const residual = new Float64Array(n);
   const weights = Float64Array.from(observations, (o) => o.weight);
   const model = (values: Float64Array, o: Observation): number => {
-    const shift = (layout.withZero ? values[0] : 0) + (layout.withDisplacement ? values[1] * o.cosTheta : 0);
+    const shift = (layout.withZero ? values[0] : 0) + (layout.withDisplacement ? values[displacementIndex(layout)] * o.cosTheta : 0);
     const offset = layout.cellOffset[o.phase];
     if (offset < 0 || !o.hkl) return o.fixedTwoTheta + shift;
     const par = param[o.phase]!;
@@ -312,7 +346,7 @@ function runFit(
       const at = model(x, o);
       residual[i] = o.observed - at;
       if (layout.withZero) design[i * p] = 1;
-      if (layout.withDisplacement) design[i * p + 1] = o.cosTheta;
+      if (layout.withDisplacement) design[i * p + displacementIndex(layout)] = o.cosTheta;
       const offset = layout.cellOffset[o.phase];
       if (offset < 0 || !o.hkl) continue;
       for (let q = 0; q < param[o.phase]!.names.length; q++) {
@@ -361,8 +395,7 @@ function describeCell(
   par: CellParameterisation,
   values: number[],
   covariance: Float64Array,
-  reference: UnitCell,
-  bound: number,
+  range: { lower: number[]; upper: number[] },
   linesUsed: number,
 ): CellFit {
   const m = par.names.length;
@@ -388,9 +421,41 @@ function describeCell(
   });
   let variance = 0;
   for (let r = 0; r < m; r++) for (let c = 0; c < m; c++) variance += gradient[r] * covariance[r * m + c] * gradient[c];
-  const referenceValues = par.fromCell(reference);
-  const atBound = par.names.filter((_, q) => Math.abs(values[q] - referenceValues[q]) >= bound * referenceValues[q] * (1 - 1e-9));
+  const atBound = par.names.filter((_, q) => values[q] <= range.lower[q] * (1 + 1e-9) || values[q] >= range.upper[q] * (1 - 1e-9));
   return { cell, sigma, volume, volumeSigma: Math.sqrt(Math.max(variance, 0)), free: par.names, linesUsed, atBound };
+}
+
+/** Each free parameter's bounds: the reference's value (and its solid-solution partners') widened by the cell bound. */
+function parameterRange(par: CellParameterisation, phase: SampleFitPhase, bound: number): { lower: number[]; upper: number[] } {
+  const values = [phase.referenceCell!, ...(phase.span ?? [])].map((cell) => par.fromCell(cell));
+  const lower = par.names.map((_, q) => Math.min(...values.map((v) => v[q])) * (1 - bound));
+  const upper = par.names.map((_, q) => Math.max(...values.map((v) => v[q])) * (1 + bound));
+  return { lower, upper };
+}
+
+/** Where the displacement sits in the parameter vector: after the zero, when the zero is refined. */
+function displacementIndex(layout: Layout): number {
+  return layout.withZero ? 1 : 0;
+}
+
+/**
+ * The covariance with the bounds taken as what is known beforehand: a zero offset and a displacement
+ * anywhere within ±bound have σ = bound/√3 (a uniform distribution), added as Gaussian prior
+ * information to the normal matrix, C' = (C⁻¹ + diag(1/σ²_prior))⁻¹. Where the lines fix a term well
+ * this changes nothing; where they do not (zero, displacement and cell nearly collinear), its σ stops
+ * at what the bound says instead of growing without limit, and the cells' σ with it.
+ */
+function withShiftPrior(fit: FitResult, zeroPriorDeg: number, displacementPriorDeg: number): Float64Array {
+  const { layout, covariance } = fit;
+  const p = layout.size;
+  const priors: Array<[number, number]> = [];
+  if (layout.withZero && zeroPriorDeg > 0) priors.push([0, zeroPriorDeg]);
+  if (layout.withDisplacement && displacementPriorDeg > 0) priors.push([displacementIndex(layout), displacementPriorDeg]);
+  if (priors.length === 0) return covariance;
+  const normal = invertSmall(covariance, p);
+  if (!normal) return covariance;
+  for (const [i, sigma] of priors) normal[i * p + i] += 1 / (sigma * sigma);
+  return invertSmall(normal, p) ?? covariance;
 }
 
 function clamp(v: number, lo: number, hi: number): number {

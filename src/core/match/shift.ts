@@ -7,6 +7,8 @@ export interface ShiftBounds {
   toleranceDeg: number;
   maxZeroDeg: number;
   maxDisplacementDeg: number;
+  /** A zero offset measured on a standard: the zero is held at it and only the displacement moves. */
+  fixedZeroDeg?: number;
 }
 
 /** Ridge on the displacement term (relative to the summed weights): zero and cosθ are nearly collinear. */
@@ -30,6 +32,18 @@ function displacementIsSignificant(
   if (!(gain > 0)) return false;
   if (rssBoth === 0) return true;
   return gain / (rssBoth / (count - 2)) > DISPLACEMENT_F_CRITICAL;
+}
+
+/** The same test with the zero held at a value measured on a standard (1 and n−1 degrees of freedom). */
+function displacementIsSignificantAtFixedZero(count: number, sw: number, sd: number, sdd: number, sc: number, scc: number, scd: number, z: number, dd: number): boolean {
+  if (count < 3) return false;
+  // Σw(Δ − Z)² without the displacement, Σw(Δ − Z − D·cosθ)² with it.
+  const rssWithout = Math.max(sdd - 2 * z * sd + z * z * sw, 0);
+  const rssWith = Math.max(rssWithout - 2 * dd * (scd - z * sc) + dd * dd * scc, 0);
+  const gain = rssWithout - rssWith;
+  if (!(gain > 0)) return false;
+  if (rssWith === 0) return true;
+  return gain / (rssWith / (count - 1)) > DISPLACEMENT_F_CRITICAL;
 }
 
 /** Lines used in the coarse search for the offset (the strongest ones carry the decision). */
@@ -65,18 +79,22 @@ function agreement(lines: PhaseLines, peaks: PeakTable, zero: number, displaceme
  */
 export function refineShift(lines: PhaseLines, peaks: PeakTable, bounds: ShiftBounds): MatchShift {
   const tol = bounds.toleranceDeg;
-  const reach = bounds.maxZeroDeg + bounds.maxDisplacementDeg;
+  const fixed = bounds.fixedZeroDeg;
+  const zeroLow = fixed ?? -bounds.maxZeroDeg;
+  const zeroHigh = fixed ?? bounds.maxZeroDeg;
+  const centre = fixed ?? 0;
+  const reach = (fixed === undefined ? bounds.maxZeroDeg : 0) + bounds.maxDisplacementDeg;
   const step = tol / 4;
-  let bestOffset = 0;
-  let bestValue = agreement(lines, peaks, 0, 0);
-  for (let c = -reach; c <= reach + 1e-12; c += step) {
+  let bestOffset = centre;
+  let bestValue = agreement(lines, peaks, centre, 0);
+  for (let c = centre - reach; c <= centre + reach + 1e-12; c += step) {
     const value = agreement(lines, peaks, c, 0);
     if (value > bestValue + 1e-9) {
       bestValue = value;
       bestOffset = c;
     }
   }
-  let zero = Math.max(-bounds.maxZeroDeg, Math.min(bounds.maxZeroDeg, bestOffset));
+  let zero = Math.max(zeroLow, Math.min(zeroHigh, bestOffset));
   let displacement = Math.max(-bounds.maxDisplacementDeg, Math.min(bounds.maxDisplacementDeg, bestOffset - zero));
   for (let iteration = 0; iteration < 3; iteration++) {
     // Normal equations of Σ w (Δ − Z − D c)² + ridge·Σw·D².
@@ -102,20 +120,25 @@ export function refineShift(lines: PhaseLines, peaks: PeakTable, bounds: ShiftBo
     if (!(Math.abs(det) > 1e-12 * a11 * a22)) break;
     let z = (sd * a22 - a12 * scd) / det;
     let dd = (a11 * scd - a12 * sd) / det;
-    if (!displacementIsSignificant(count, sw, sd, sdd, sc, scc, scd, z, dd)) {
+    if (fixed !== undefined) {
+      // The zero is the standard's: only the displacement is fitted to what it leaves.
+      z = fixed;
+      dd = (scd - fixed * sc) / a22;
+      if (!displacementIsSignificantAtFixedZero(count, sw, sd, sdd, sc, scc, scd, fixed, dd)) dd = 0;
+    } else if (!displacementIsSignificant(count, sw, sd, sdd, sc, scc, scd, z, dd)) {
       z = sd / sw;
       dd = 0;
     }
     const nextDisplacement = Math.max(-bounds.maxDisplacementDeg, Math.min(bounds.maxDisplacementDeg, dd));
     // With D clamped, Z is the weighted mean of what D leaves.
-    const nextZero = Math.max(-bounds.maxZeroDeg, Math.min(bounds.maxZeroDeg, nextDisplacement === dd ? z : (sd - nextDisplacement * sc) / sw));
+    const nextZero = fixed ?? Math.max(-bounds.maxZeroDeg, Math.min(bounds.maxZeroDeg, nextDisplacement === dd ? z : (sd - nextDisplacement * sc) / sw));
     const moved = Math.abs(nextZero - zero) + Math.abs(nextDisplacement - displacement);
     zero = nextZero;
     displacement = nextDisplacement;
     if (moved < 1e-5) break;
   }
   // Keep the least-squares shift only if it agrees with the peaks at least as well as the grid's offset.
-  const gridZero = Math.max(-bounds.maxZeroDeg, Math.min(bounds.maxZeroDeg, bestOffset));
+  const gridZero = Math.max(zeroLow, Math.min(zeroHigh, bestOffset));
   const gridShift = { zeroDeg: gridZero, displacementCosDeg: Math.max(-bounds.maxDisplacementDeg, Math.min(bounds.maxDisplacementDeg, bestOffset - gridZero)) };
   const refined = { zeroDeg: zero, displacementCosDeg: displacement };
   const all = lines.count;
@@ -135,18 +158,27 @@ const SCALE_ACCEPT_ABOVE = 0.75;
  * ±maxScale, under the sample's shift where it is known, else with a constant offset searched on the
  * same grid (the first phase's search). Returns 1 when the reference's own cell fits or nothing fits better.
  */
-export function searchCellScale(lines: PhaseLines, peaks: PeakTable, bounds: ShiftBounds, maxScale: number, shift: MatchShift | null): { scale: number; offsetDeg: number } {
+export function searchCellScale(
+  lines: PhaseLines,
+  peaks: PeakTable,
+  bounds: ShiftBounds,
+  maxScale: number,
+  shift: MatchShift | null,
+  /** Isotropic scales to the reference's solid-solution partners: the search reaches them too (widened by maxScale). */
+  partnerScales: readonly number[] = [],
+): { scale: number; offsetDeg: number } {
   const used = Math.min(lines.count, SEARCH_LINES);
   let total = 0;
   for (let m = 0; m < used; m++) total += lines.intensity[lines.byIntensity[m]];
   if (!(total > 0) || maxScale <= 0) return { scale: 1, offsetDeg: 0 };
-  const reach = bounds.maxZeroDeg + bounds.maxDisplacementDeg;
+  const centre = bounds.fixedZeroDeg ?? 0;
+  const reach = (bounds.fixedZeroDeg === undefined ? bounds.maxZeroDeg : 0) + bounds.maxDisplacementDeg;
   const step = bounds.toleranceDeg / 4;
   const best = (scale: number): { value: number; offset: number } => {
     if (shift) return { value: agreement(lines, peaks, shift.zeroDeg, shift.displacementCosDeg, SEARCH_LINES, scale), offset: 0 };
-    let value = agreement(lines, peaks, 0, 0, SEARCH_LINES, scale);
-    let offset = 0;
-    for (let c = -reach; c <= reach + 1e-12; c += step) {
+    let value = agreement(lines, peaks, centre, 0, SEARCH_LINES, scale);
+    let offset = centre;
+    for (let c = centre - reach; c <= centre + reach + 1e-12; c += step) {
       const v = agreement(lines, peaks, c, 0, SEARCH_LINES, scale);
       if (v > value + 1e-9) [value, offset] = [v, c];
     }
@@ -155,7 +187,9 @@ export function searchCellScale(lines: PhaseLines, peaks: PeakTable, bounds: Shi
   const own = best(1);
   if (own.value >= SCALE_SEARCH_BELOW * total) return { scale: 1, offsetDeg: own.offset };
   let chosen = { scale: 1, ...own };
-  for (let s = 1 - maxScale; s <= 1 + maxScale + 1e-12; s += SCALE_STEP) {
+  const lowest = Math.min(1, ...partnerScales) * (1 - maxScale);
+  const highest = Math.max(1, ...partnerScales) * (1 + maxScale);
+  for (let s = lowest; s <= highest + 1e-12; s += SCALE_STEP) {
     const trial = best(s);
     if (trial.value > chosen.value + 1e-9) chosen = { scale: s, ...trial };
   }

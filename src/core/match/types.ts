@@ -1,13 +1,28 @@
 import type { RadiationSource } from './satellites.js';
 import type { Wavelength } from '../model/wavelengths.js';
 import type { ReferenceIndex } from './reference-index.js';
+import type { MatchTolerance } from './tolerance.js';
 
 /** Options of `matchPhases`; every one but the wavelength has a documented default. */
 export interface MatchOptions {
   /** The wavelength the peaks were measured with (their 2θ are Kα1 positions). */
   wavelength: Wavelength;
-  /** Half-width of the matching window, degrees 2θ, converted to a d window per line (default 0.1). */
+  /**
+   * Half-width of the matching window in degrees 2θ at Cu Kα1 (default 0.1), held as the same
+   * precision in d at the pattern's wavelength (tolerance.ts). Give at most one of the three tolerances.
+   */
   toleranceDeg?: number;
+  /** The matching half-window directly in d, Å, for every line. */
+  toleranceD?: number;
+  /** The matching half-window in units of the FWHM (the instrument's where `instrumentFwhmAt` is given, else each peak's own). */
+  toleranceFwhm?: number;
+  /** The instrument profile's FWHM at a 2θ, degrees (its Caglioti curve), for `toleranceFwhm`. */
+  instrumentFwhmAt?: (twoThetaDeg: number) => number;
+  /**
+   * A zero offset measured on a standard (the instrument profile's), degrees 2θ: then the zero is
+   * held at it and only the specimen displacement is refined.
+   */
+  fixedZeroDeg?: number;
   /** Name of the phase the chemist expects; it explains the pattern first when it fits about as well as the best. */
   target?: string;
   /**
@@ -31,7 +46,7 @@ export interface MatchOptions {
   cellBoundFraction?: number;
   /** Goniometer radius for the specimen displacement in mm (default 240). */
   goniometerRadiusMm?: number;
-  /** Most phases the explanation may use (default 5). */
+  /** Most phases the explanation may use (default 12; it stops earlier when nothing significant is left). */
   maxPhases?: number;
   /** How many phases judged absent are listed after the present ones (default 5). */
   listAbsent?: number;
@@ -56,7 +71,17 @@ export interface SampleShift extends MatchShift {
   goniometerRadiusMm: number;
   /** Resolved lines the shift was refined on. */
   linesUsed: number;
+  /**
+   * How the zero offset is known: `refined` (its σ from the lines), `bounded` (the lines hardly fix
+   * it: it is known only to lie within its bound, and its σ is that of a value anywhere within it),
+   * `instrument-profile` (held at the zero measured on the standard; no σ of its own).
+   */
+  zeroStatus?: ShiftTermStatus;
+  /** The same for the displacement (`not-kept` when it was not significant). */
+  displacementStatus?: ShiftTermStatus | 'not-kept';
 }
+
+export type ShiftTermStatus = 'refined' | 'bounded' | 'instrument-profile';
 
 /** A refined cell, Å and degrees, with σ (0 for a parameter fixed or tied by symmetry to one whose σ it carries). */
 export interface RefinedCell {
@@ -140,6 +165,13 @@ export interface PhaseMatch {
   cellChangePercent?: number;
   /** That change in units of its σ (null when σ is 0). */
   cellChangeSigmas?: number | null;
+  /**
+   * Where the refined cell lies significantly between this reference and another of its structure
+   * type (same space group, similar cell): the two end members (smaller cell first), Vegard's-law
+   * fraction x of the second with its σ from the cell σ, and the sentence (with the caution that
+   * Vegard's law is an approximation).
+   */
+  solidSolution?: { between: [string, string]; fraction: number; fractionSigma: number; statement: string };
   /** Mean |Δ2θ| of the matched lines after the shift, degrees. */
   meanResidualDeg: number;
   lines: MatchedLine[];
@@ -168,6 +200,11 @@ export interface MatchResult {
   unexplainedAreaShare: number;
   /** True when the pattern shows too little to support any phase claim. */
   featureless: boolean;
+  /** Median matching half-window over the peaks, degrees of this pattern's 2θ (each peak has its own; see tolerance). */
   toleranceDeg: number;
+  /** The tolerance as stated (in 2θ at Cu Kα, in d, or in FWHM units), in words, and its median half-window here. */
+  tolerance?: MatchTolerance & { description: string; medianWindowDeg: number };
+  /** The bound on the number of phases in the explanation, and whether it stopped the explanation. */
+  phaseLimit?: { limit: number; reached: boolean; reason: string };
   reasons: string[];
 }

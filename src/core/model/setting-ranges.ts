@@ -17,7 +17,10 @@ export interface NumberSetting {
 
 /** Ranges of the numeric settings (typical matching tolerances 0.05–0.2° 2θ: common practice). */
 export const NUMBER_SETTINGS = {
-  toleranceDeg: { label: 'matching tolerance', min: 0.005, max: 1, unit: '° 2θ', example: 0.1 },
+  toleranceDeg: { label: 'matching tolerance', min: 0.005, max: 1, unit: '° 2θ at Cu Kα', example: 0.1 },
+  toleranceDAngstrom: { label: 'matching tolerance in d', min: 0.00005, max: 0.1, unit: 'Å', example: 0.002 },
+  toleranceFwhm: { label: 'matching tolerance in FWHM units', min: 0.1, max: 5, unit: '× FWHM', example: 1 },
+  phaseLimit: { label: 'phase limit', min: 1, max: 50, unit: 'phases', example: 12 },
   backgroundHalfWidthDeg: { label: 'background clipping half-width', min: 0.1, max: 20, unit: '° 2θ', example: 1 },
   scherrerK: { label: 'Scherrer K', min: 0.5, max: 2, unit: '', example: 0.9 },
   thresholdSigma: { label: 'peak detection threshold', min: 1, max: 100, unit: 'σ above the background', example: 3 },
