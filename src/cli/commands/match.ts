@@ -60,6 +60,7 @@ function matchText(r: MatchCommandResult): string {
     `shift (one for the sample): zero ${r.shift.zeroDeg.toFixed(4)}${sigma(r.shift.zeroSigmaDeg)}°, displacement ${r.shift.displacementCosDeg.toFixed(4)}${sigma(r.shift.displacementSigmaDeg)}°·cosθ ` +
       `(${r.shift.displacementMm.toFixed(3)} mm on a ${r.shift.goniometerRadiusMm} mm goniometer)`,
   );
+  if (r.amorphous) out.push(`amorphous (and unidentified) content: ${(100 * r.amorphous.fraction).toFixed(1)} ± ${(100 * r.amorphous.sigma).toFixed(1)} wt % of the unspiked sample`);
   for (const p of r.phases) {
     const fraction = p.weightFraction === null ? 'not quantified' : `${(100 * p.weightFraction).toFixed(1)} wt %`;
     // cellChangePercent is the refined cell's volume change from the reference, % (one number for every crystal system).

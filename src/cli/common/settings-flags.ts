@@ -17,6 +17,8 @@ export interface AnalysisFlags {
   toleranceFwhm?: string;
   phaseLimit?: string;
   refineZero?: boolean;
+  internalStandard?: string;
+  internalStandardPercent?: string;
 }
 
 /** The help of --tolerance wherever a command matches lines to peaks. */
@@ -28,7 +30,9 @@ export function addMatchFlags(command: Command): Command {
     .option('--tolerance-d <angstrom>', 'matching tolerance directly in d, Å (instead of --tolerance)')
     .option('--tolerance-fwhm <multiple>', "matching tolerance in units of the instrument profile's FWHM, or each peak's own without one (instead of --tolerance)")
     .option('--phase-limit <n>', 'most phases the explanation may take (default 12; it stops earlier when nothing significant is left)')
-    .option('--refine-zero', "refine the zero offset even when the instrument profile gives one (default: hold the profile's)");
+    .option('--refine-zero', "refine the zero offset even when the instrument profile gives one (default: hold the profile's)")
+    .option('--internal-standard <name>', 'a reference spiked into the sample (with --internal-standard-percent): absolute weight fractions and the amorphous content')
+    .option('--internal-standard-percent <wt%>', 'weight % of the internal standard in the spiked sample');
 }
 
 /** Which flag sets which setting, so that a message names the flag the user typed. */
@@ -47,6 +51,8 @@ const FLAG_OF: Partial<Record<keyof AnalysisSettings, string>> = {
   toleranceFwhm: '--tolerance-fwhm',
   phaseLimit: '--phase-limit',
   zeroFromInstrument: '--refine-zero',
+  internalStandard: '--internal-standard',
+  internalStandardPercent: '--internal-standard-percent',
 };
 
 /** A number as typed (decimal comma allowed); text that is no number stays NaN and fails the range check. */
@@ -78,6 +84,8 @@ export function settingsFromFlags(flags: AnalysisFlags): AnalysisSettings {
     toleranceFwhm: flags.toleranceFwhm,
     phaseLimit: flags.phaseLimit,
     zeroFromInstrument: flags.refineZero ? 'given' : undefined,
+    internalStandard: flags.internalStandard,
+    internalStandardPercent: flags.internalStandardPercent,
   };
   const names = Object.fromEntries(
     Object.entries(FLAG_OF).map(([setting, flag]) => [setting, `option ${flag} ${given[setting as keyof AnalysisSettings] ?? ''}`.trimEnd()]),
@@ -98,6 +106,8 @@ export function settingsFromFlags(flags: AnalysisFlags): AnalysisSettings {
       toleranceFwhm: numberText(flags.toleranceFwhm),
       phaseLimit: numberText(flags.phaseLimit),
       zeroFromInstrument: flags.refineZero ? false : undefined,
+      internalStandard: flags.internalStandard,
+      internalStandardPercent: numberText(flags.internalStandardPercent),
     },
     names,
   );

@@ -80,6 +80,7 @@ export function createAnalysisContext(
   const full: AnalysisSettings = { ...DEFAULT_ANALYSIS_SETTINGS, ...settings };
   checkTarget(references, full.target);
   checkPhaseNamed(references, full.sizePhase, 'the phase to size');
+  checkPhaseNamed(references, full.internalStandard, 'the internal standard');
   return {
     references,
     index: index ?? buildReferenceIndex(references),
@@ -141,6 +142,7 @@ export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisCont
     ...matchTolerance(settings, instrument),
     ...(fixedZero !== undefined ? { fixedZeroDeg: fixedZero } : {}),
     maxPhases: settings.phaseLimit,
+    internalStandard: settings.internalStandard !== null && settings.internalStandardPercent !== null ? { name: settings.internalStandard, weightFraction: settings.internalStandardPercent / 100 } : undefined,
     target: settings.target ?? undefined,
     background: { x: pattern.x, y: search.background, sigma: search.noiseSigma },
     twoThetaRangeDeg: { min: pattern.x[0], max: pattern.x[pattern.x.length - 1] },

@@ -31,6 +31,9 @@ export interface AnalysisSettings {
   toleranceFwhm: number | null;
   /** Most phases the explanation may take (it stops earlier when nothing significant is left). */
   phaseLimit: number;
+  /** A reference spiked into the sample at internalStandardPercent (weight % of the spiked sample), for absolute fractions and the amorphous content; null: none. */
+  internalStandard: string | null;
+  internalStandardPercent: number | null;
   /** Hold the zero offset at the instrument profile's (measured on its standard) and refine only the displacement. */
   zeroFromInstrument: boolean;
   /** Scherrer K as a number or preset name. */
@@ -55,6 +58,8 @@ export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
   toleranceDAngstrom: null,
   toleranceFwhm: null,
   phaseLimit: 12,
+  internalStandard: null,
+  internalStandardPercent: null,
   zeroFromInstrument: true,
   k: 0.9,
   breadth: 'fwhm',
@@ -77,6 +82,8 @@ const analysisSettingsInput = z
     toleranceDAngstrom: settingNumber('toleranceDAngstrom').nullable(),
     toleranceFwhm: settingNumber('toleranceFwhm').nullable(),
     phaseLimit: settingNumber('phaseLimit').int({ error: rangeMessage('phaseLimit') }),
+    internalStandard: z.string().trim().min(1).max(200).nullable(),
+    internalStandardPercent: settingNumber('internalStandardPercent').nullable(),
     zeroFromInstrument: z.boolean({ error: 'zeroFromInstrument must be true or false' }),
     k: z.union([settingNumber('scherrerK'), z.string().trim().toLowerCase().refine((v) => presetIds.includes(v))], { error: kMessage }),
     breadth: z.enum(BREADTH_KINDS as [BreadthKind, ...BreadthKind[]], { error: `breadth must be ${BREADTH_KINDS.join(' or ')}` }),
@@ -105,6 +112,10 @@ export function resolveAnalysisSettings(input: unknown, names: Partial<Record<ke
     throw new InputError(`${where}${issue.message}`);
   }
   const { wavelength, ...rest } = parsed.data;
+  if ((rest.internalStandard == null) !== (rest.internalStandardPercent == null)) {
+    const where = [names.internalStandard, names.internalStandardPercent].filter(Boolean).join(' and ');
+    throw new InputError(`${where ? `${where}: ` : ''}an internal standard needs both its name and its weight % in the spiked sample`);
+  }
   if (rest.toleranceDAngstrom != null && rest.toleranceFwhm != null) {
     const where = [names.toleranceDAngstrom, names.toleranceFwhm].filter(Boolean).join(' and ');
     throw new InputError(`${where ? `${where}: ` : ''}give the matching tolerance one way only (in d or in FWHM units)`);

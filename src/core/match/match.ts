@@ -314,7 +314,9 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   const scales = accepted.map((a, i) => (joint.scales[i] > 0 ? joint.scales[i] : a.evaluation.scale));
   const scaleSigmas = accepted.map((_, i) => (joint.scales[i] > 0 && Number.isFinite(joint.sigmas[i]) ? joint.sigmas[i] : 0));
   const exclusive = exclusiveAreaShares(linesOnPeaks(accepted.map((a) => a.evaluation), table), table);
-  const quantification = chungQuantification(accepted.map((a, i) => ({ scale: scales[i], scaleSigma: scaleSigmas[i], rir: refs[a.ref].rir })));
+  const spiked = options.internalStandard;
+  const standard = spiked ? { index: accepted.findIndex((a) => refs[a.ref].name.toLowerCase() === spiked.name.toLowerCase()), weightFraction: spiked.weightFraction } : undefined;
+  const quantification = chungQuantification(accepted.map((a, i) => ({ scale: scales[i], scaleSigma: scaleSigmas[i], rir: refs[a.ref].rir })), standard);
   const fractions = quantification.weightFraction;
   // A fraction's σ only when every quantified phase's scale σ could be measured (its groups left a degree of freedom).
   const everyScaleHasSigma = fractions.every((f, j) => f === null || scaleSigmas[j] > 0);
@@ -324,7 +326,14 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   accepted.forEach((a, i) => {
     const verdict = acceptedVerdict(a.evaluation);
     const described = describePhase(a.evaluation, verdict, claims, accepted, table, fractions[i], unquantified, null, exclusive[i]);
-    const phase: PhaseMatch = { ...described, scale: scales[i], weightFractionSigma: fractionSigmas[i] === null ? null : round(fractionSigmas[i]!, 4), ...cellReport(fit.cells[i], usableCell(refs[a.ref].cell), cellBound, described.reasons) };
+    const absolute = quantification.absoluteFraction[i];
+    const absoluteSigma = quantification.absoluteFractionSigma[i];
+    const phase: PhaseMatch = {
+      ...described,
+      scale: scales[i],
+      weightFractionSigma: fractionSigmas[i] === null ? null : round(fractionSigmas[i]!, 4),
+      ...(standard ? { absoluteWeightFraction: absolute === null ? null : round(absolute, 4), absoluteWeightFractionSigma: absoluteSigma === null ? null : round(absoluteSigma, 4) } : {}),
+      ...cellReport(fit.cells[i], usableCell(refs[a.ref].cell), cellBound, described.reasons) };
     const cellFit = fit.cells[i];
     const ends = partners.get(a.ref);
     if (typeof cellFit !== 'string' && ends && phase.cellChangeSigmas !== null && Math.abs(phase.cellChangeSigmas ?? 0) >= CELL_CHANGE_SIGNIFICANT) {
@@ -415,6 +424,8 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
     featureless,
     toleranceDeg: round(tol, 5),
     tolerance: { ...tolerance, description: describeTolerance(tolerance, fwhmAt), medianWindowDeg: round(tol, 5) },
+    amorphous: quantification.amorphous ? { fraction: round(quantification.amorphous.fraction, 4), sigma: round(quantification.amorphous.sigma, 4) } : null,
+    quantificationStatement: quantification.statement,
     phaseLimit: {
       limit: maxPhases,
       reached: explanation.limitReached,

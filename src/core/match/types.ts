@@ -46,6 +46,8 @@ export interface MatchOptions {
   cellBoundFraction?: number;
   /** Goniometer radius for the specimen displacement in mm (default 240). */
   goniometerRadiusMm?: number;
+  /** A reference spiked into the sample at a known weight fraction (0–1 of the spiked sample): absolute fractions and the amorphous content. */
+  internalStandard?: { name: string; weightFraction: number };
   /** Most phases the explanation may use (default 12; it stops earlier when nothing significant is left). */
   maxPhases?: number;
   /** How many phases judged absent are listed after the present ones (default 5). */
@@ -143,6 +145,9 @@ export interface PhaseMatch {
   /** For a reference tagged as a decomposition product or impurity and not seen: the weight % above which it would be seen here. */
   detectionLimitWeightPercent?: number | null;
   weightFractionSigma?: number | null;
+  /** With an internal standard: the weight fraction in the unspiked sample (amorphous matter counted), with σ. */
+  absoluteWeightFraction?: number | null;
+  absoluteWeightFractionSigma?: number | null;
   /** "quantified" or "not quantified" (no reference intensity ratio, or phase not present). */
   quantification: 'quantified' | 'not quantified';
   parts: ScoreParts;
@@ -206,5 +211,9 @@ export interface MatchResult {
   tolerance?: MatchTolerance & { description: string; medianWindowDeg: number };
   /** The bound on the number of phases in the explanation, and whether it stopped the explanation. */
   phaseLimit?: { limit: number; reached: boolean; reason: string };
+  /** With an internal standard: the amorphous (and unidentified) content of the unspiked sample, 0–1, with σ; null without one. */
+  amorphous?: { fraction: number; sigma: number } | null;
+  /** What the weight fractions assume, or how the internal standard was used. */
+  quantificationStatement?: string;
   reasons: string[];
 }
