@@ -30,6 +30,17 @@ describe('monohydrate share over exposure time (simulated, known wt %)', () => {
     expect(new Set(bases)).toEqual(new Set(['weight fraction']));
   });
 
+  it('carries each weight fraction\'s σ from the match into the series, where the growth fit weights by it', () => {
+    const matched = results.flatMap((r) => r.match.phases.filter((p) => p.name === HYDRATE && p.weightFraction !== null && p.inExplanation !== false));
+    const shares = series.rows.flatMap((r) => r.otherPhases.filter((p) => p.name === HYDRATE));
+    expect(shares.length).toBeGreaterThan(0);
+    for (const share of shares) {
+      const from = matched.find((p) => p.weightFraction === share.share)!;
+      expect(share.shareSigma).toBe(from.weightFractionSigma ?? null);
+    }
+    expect(shares.some((p) => typeof p.shareSigma === 'number' && p.shareSigma > 0)).toBe(true);
+  });
+
   it('tracks the true weight fraction where detected, and misses it only below 5 wt %', () => {
     // Semi-quantitative (RIR method): within 5 wt % absolute or 30 % relative, whichever is larger (common practice for lab PXRD).
     // About 1–5 wt % is the usual detection limit of lab PXRD (common practice): below it a miss reads 0.
@@ -69,7 +80,7 @@ describe('shares from match results', () => {
     ({ ...results[0], file, match: { ...results[0].match, phases } }) as AnalysisResult;
 
   it('gives a phase only listed as possible (not needed to explain the sample) no share, and keeps weight fractions elsewhere', () => {
-    const quantified = { weightFraction: 0.12, quantification: 'quantified' as const };
+    const quantified = { weightFraction: 0.12, weightFractionSigma: 0.015, quantification: 'quantified' as const };
     const samples = seriesSamplesFromAnalyses(
       [
         analysis('a', [phase('target', {}), phase('impurity', { verdict: 'uncertain', inExplanation: false, explainedAreaShare: 0.5, exclusiveAreaShare: 0 })]),
@@ -78,12 +89,12 @@ describe('shares from match results', () => {
       { target: 'target' },
     );
     expect(samples[0].otherPhases).toEqual([]);
-    expect(samples[1].otherPhases).toEqual([{ name: 'impurity', share: 0.12, basis: 'weight fraction' }]);
+    expect(samples[1].otherPhases).toEqual([{ name: 'impurity', share: 0.12, basis: 'weight fraction', shareSigma: 0.015 }]);
   });
 
   it('falls back to the peak area only the phase explains, and says so, when a reference has no RIR', () => {
     const samples = seriesSamplesFromAnalyses([analysis('a', [phase('target', {}), phase('impurity', { explainedAreaShare: 0.5, exclusiveAreaShare: 0.04 })])], { target: 'target' });
-    expect(samples[0].otherPhases).toEqual([{ name: 'impurity', share: 0.04, basis: 'peak area share' }]);
+    expect(samples[0].otherPhases).toEqual([{ name: 'impurity', share: 0.04, basis: 'peak area share', shareSigma: null }]);
     const r = analyzeSeries(samples.map((s) => ({ ...s, size: results[0].size })));
     expect(r.warnings.join(' ')).toMatch(/impurity is given as a share of the measured peak area on the peaks only that phase explains/);
   });

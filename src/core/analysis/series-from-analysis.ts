@@ -45,8 +45,9 @@ export function seriesSamplesFromAnalyses(results: readonly AnalysisResult[], la
       .filter((p) => explains(p) && p.name.toLowerCase() !== target)
       .map((p) =>
         weighedEverywhere.get(p.name) && p.weightFraction !== null
-          ? { name: p.name, share: p.weightFraction, basis: 'weight fraction' as const }
-          : { name: p.name, share: p.exclusiveAreaShare ?? 0, basis: 'peak area share' as const },
+          ? { name: p.name, share: p.weightFraction, basis: 'weight fraction' as const, shareSigma: p.weightFractionSigma ?? null }
+          : // A peak-area share has no σ of its own: the growth fit then uses its stated default.
+            { name: p.name, share: p.exclusiveAreaShare ?? 0, basis: 'peak area share' as const, shareSigma: null },
       );
     return {
       label: labels[i],
