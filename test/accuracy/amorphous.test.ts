@@ -7,7 +7,7 @@ import { describe, expect, it } from 'vitest';
 import { analyzePattern, createAnalysisContext } from '../../src/core/analysis/analyse.js';
 import { resolveAnalysisSettings } from '../../src/core/analysis/settings.js';
 import type { StoredReference } from '../../src/core/model/reference.js';
-import { faceCentredClasses, hklOfClass, simulateCubicPattern } from '../simulator/pattern.js';
+import { faceCentredClasses, hklOfClass, simulatePowderPattern } from '../simulator/pattern.js';
 
 const TARGET_CLASSES = new Map([1, 2, 3, 4, 5, 6, 8, 9, 10, 11, 12, 13, 14, 16, 17, 18, 19, 20].map((s, i) => [s, Math.round((100 * (i % 3 === 0 ? 1 : 0.55)) / (1 + 0.18 * i))]));
 const STANDARD_CLASSES = new Map(faceCentredClasses(40).map((s, i) => [s, Math.round(100 / (1 + 0.5 * i))]));
@@ -29,7 +29,7 @@ describe('amorphous content from a spiked internal standard', () => {
         // 20 wt % standard in the spiked mixture; the sample (80 %) is target + amorphous.
         const spike = 0.2;
         const target = (1 - spike) * (1 - amorphous);
-        const pattern = simulateCubicPattern({
+        const pattern = simulatePowderPattern({
           phases: [
             { a: 6.3, intensities: TARGET_CLASSES, sizeNm: 60, scale: target * RIR.target },
             { a: 4.05, intensities: STANDARD_CLASSES, sizeNm: 150, scale: spike * RIR.standard },

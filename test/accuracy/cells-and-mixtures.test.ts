@@ -6,7 +6,7 @@ import { describe, expect, it } from 'vitest';
 import { analyzePattern, createAnalysisContext } from '../../src/core/analysis/analyse.js';
 import type { StoredReference } from '../../src/core/model/reference.js';
 import { parseWavelength } from '../../src/core/model/wavelengths.js';
-import { faceCentredClasses, hklOfClass, simulateCubicPattern, type CubicPhase } from '../simulator/pattern.js';
+import { faceCentredClasses, hklOfClass, simulatePowderPattern, type CubicPhase } from '../simulator/pattern.js';
 
 /** Rock-salt intensities: all-even reflections strong, all-odd weak (K⁺ and Cl⁻ scatter alike; common practice). */
 const ROCKSALT = new Map(faceCentredClasses(60).map((s, i) => [s, Math.round((hklOfClass(s)![0] % 2 === 0 ? 100 : 6) / (1 + 0.2 * i))]));
@@ -28,7 +28,7 @@ describe('cells that are not the reference’s', () => {
     let reported = 0;
     const draws = 5;
     for (let seed = 0; seed < draws; seed++) {
-      const pattern = simulateCubicPattern({ phases: [{ a: 6.446, intensities: ROCKSALT, sizeNm: 80 }], twoThetaMinDeg: 15, twoThetaMaxDeg: 100, stepDeg: 0.02, peakCounts: 20000, backgroundCounts: 100, seed: 7000 + seed });
+      const pattern = simulatePowderPattern({ phases: [{ a: 6.446, intensities: ROCKSALT, sizeNm: 80 }], twoThetaMinDeg: 15, twoThetaMaxDeg: 100, stepDeg: 0.02, peakCounts: 20000, backgroundCounts: 100, seed: 7000 + seed });
       const r = analyzePattern(pattern, createAnalysisContext(library, null, {}));
       const solid = r.match.phases.map((p) => p.solidSolution).find((s) => s);
       if (solid && Math.abs(solid.fraction - truth) <= 3 * solid.fractionSigma) reported++;
@@ -50,7 +50,7 @@ describe('many phases at a synchrotron wavelength', () => {
     let total = 0;
     for (let seed = 0; seed < 3; seed++) {
       const phases: CubicPhase[] = cells.map((a, i) => ({ a, intensities: ROCKSALT, sizeNm: 100, scale: weights[i]! * 3 }));
-      const pattern = simulateCubicPattern({ phases, twoThetaMinDeg: 3, twoThetaMaxDeg: 30, stepDeg: 0.005, peakCounts: 30000, backgroundCounts: 200, seed: 8000 + seed, beam: [{ lambda, weight: 1 }], instrument: { u: 0, v: 0, w: 0.0004, x: 0, y: 0.004 } });
+      const pattern = simulatePowderPattern({ phases, twoThetaMinDeg: 3, twoThetaMaxDeg: 30, stepDeg: 0.005, peakCounts: 30000, backgroundCounts: 200, seed: 8000 + seed, beam: [{ lambda, weight: 1 }], instrument: { u: 0, v: 0, w: 0.0004, x: 0, y: 0.004 } });
       const r = analyzePattern(pattern, createAnalysisContext(library, null, { wavelength: parseWavelength(String(lambda)) }));
       const present = new Set(r.match.phases.filter((p) => p.verdict === 'present').map((p) => p.name));
       found += library.filter((ref) => present.has(ref.name)).length;

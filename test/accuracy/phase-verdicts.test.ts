@@ -7,7 +7,7 @@ import { describe, expect, it } from 'vitest';
 import { analyzePattern, createAnalysisContext, type AnalysisResult } from '../../src/core/analysis/analyse.js';
 import type { AnalysisSettings } from '../../src/core/analysis/settings.js';
 import type { StoredReference } from '../../src/core/model/reference.js';
-import { CU_KALPHA_DOUBLET, CU_KBETA1, faceCentredClasses, hklOfClass, simulateCubicPattern, W_LALPHA1, type BeamLine, type CubicPhase } from '../simulator/pattern.js';
+import { CU_KALPHA_DOUBLET, CU_KBETA1, faceCentredClasses, hklOfClass, simulatePowderPattern, W_LALPHA1, type BeamLine, type CubicPhase } from '../simulator/pattern.js';
 
 const TARGET = 'test cubic target';
 const PRODUCT = 'test decomposition product';
@@ -27,7 +27,7 @@ function stored(id: number, name: string, a: number, classes: ReadonlyMap<number
 const LIBRARY = [stored(1, TARGET, 6.3, TARGET_CLASSES, ['target']), stored(2, PRODUCT, 11.2, PRODUCT_CLASSES, ['decomposition product'])];
 
 function analyse(phases: CubicPhase[], seed: number, options: { beam?: readonly BeamLine[]; stepDeg?: number; humps?: Array<{ centerDeg: number; fwhmDeg: number; areaRelative: number }>; settings?: Partial<AnalysisSettings> } = {}): AnalysisResult {
-  const pattern = simulateCubicPattern({
+  const pattern = simulatePowderPattern({
     phases,
     twoThetaMinDeg: 8,
     twoThetaMaxDeg: 80,

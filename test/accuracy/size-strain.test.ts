@@ -9,7 +9,7 @@ import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 import { findPeaks } from '../../src/core/process/peaks.js';
 import { fitInstrumentProfile } from '../../src/core/size/instrument.js';
 import { crystalliteSizes, type SizeResult } from '../../src/core/size/sizes.js';
-import { faceCentredClasses, hklOfClass, simulateCubicPattern, type CubicPhase } from '../simulator/pattern.js';
+import { faceCentredClasses, hklOfClass, simulatePowderPattern, type CubicPhase } from '../simulator/pattern.js';
 
 const CU = anodeWavelength('Cu');
 const RANGE = { twoThetaMinDeg: 20, twoThetaMaxDeg: 130, stepDeg: 0.02 };
@@ -21,7 +21,7 @@ function referenceOf(name: string, a: number, classes: ReadonlyMap<number, numbe
 
 // A well-crystallised face-centred cubic standard (a = 4.157 Å) fixes the instrument profile.
 const STANDARD_CLASSES = new Map(faceCentredClasses(60).map((s, i) => [s, 100 / (1 + 0.3 * i)]));
-const standardPattern = simulateCubicPattern({ phases: [{ a: 4.157, intensities: STANDARD_CLASSES }], ...RANGE, peakCounts: 40000, backgroundCounts: 100, seed: 1, name: 'line-profile standard' });
+const standardPattern = simulatePowderPattern({ phases: [{ a: 4.157, intensities: STANDARD_CLASSES }], ...RANGE, peakCounts: 40000, backgroundCounts: 100, seed: 1, name: 'line-profile standard' });
 const instrument = fitInstrumentProfile(findPeaks(standardPattern, { wavelength: CU }).peaks, referenceOf('test standard', 4.157, STANDARD_CLASSES, ['standard']), {
   wavelength: CU,
   name: 'simulated instrument',
@@ -34,7 +34,7 @@ const sample = referenceOf('test sample', SAMPLE_A, SAMPLE_CLASSES, ['target']);
 
 function sizesOf(sizeNm: number, strain: number, seed: number, peakCounts = 20000): SizeResult {
   const phase: CubicPhase = { a: SAMPLE_A, intensities: SAMPLE_CLASSES, sizeNm, strain };
-  const pattern = simulateCubicPattern({ phases: [phase], ...RANGE, peakCounts, backgroundCounts: 100, seed });
+  const pattern = simulatePowderPattern({ phases: [phase], ...RANGE, peakCounts, backgroundCounts: 100, seed });
   return crystalliteSizes(findPeaks(pattern, { wavelength: CU }).peaks, { wavelength: CU, instrument, phase: { name: sample.name, lines: sample.lines }, phaseIsTarget: true });
 }
 

@@ -1,6 +1,6 @@
 /**
  * A powder-pattern simulator for the accuracy tests, independent of the code it checks: its own
- * d-spacings (cubic metric), its own true-Voigt profiles (./voigt.ts, Weideman's Faddeeva expansion), its own doublet and noise. It
+ * d-spacings (any cell, ./cell.ts), its own true-Voigt profiles (./voigt.ts, Weideman's Faddeeva expansion), its own doublet and noise. It
  * shares only the Pattern type and the seeded random numbers with the app. Every pattern it makes is
  * labelled simulated.
  *
@@ -10,9 +10,14 @@
  *   (1958)), Lorentzian FWHM = X tanθ + Y / cosθ;
  * - size: Lorentzian FWHM = Kλ/(D cosθ) with K = 0.9 (Scherrer 1918);
  * - strain: Gaussian FWHM = 4ε tanθ (Stokes & Wilson 1944).
+ *
+ * Line positions carry the sample's shift: a zero offset added to every 2θ and a specimen displacement
+ * s (mm, on a goniometer of radius R) giving Δ2θ = −2 s cosθ / R radians (Klug & Alexander, X-ray
+ * Diffraction Procedures, 2nd ed. 1974, from memory).
  */
 import type { Pattern } from '../../src/core/model/pattern.js';
 import { poissonDeviate, seededUniform } from '../../src/core/numeric/random.js';
+import { dSpacing, type SimulatedCell, type SimulatedReflection } from './cell.js';
 import { GAUSS_FWHM_PER_SIGMA, voigtProfile } from './voigt.js';
 
 /** σ of a Gaussian with this FWHM, and γ (half width at half maximum) of a Lorentzian with this FWHM. */
@@ -52,18 +57,39 @@ export const CU_KALPHA_DOUBLET: readonly BeamLine[] = [
   { lambda: CU_KALPHA2, weight: KALPHA2_RATIO },
 ];
 
-export interface CubicPhase {
-  a: number;
+interface PhaseBroadening {
   /** Multiplies the phase's intensities (for mixtures); default 1. */
   scale?: number;
-  /** Relative intensities per reflection, by h² + k² + l² (absent: no line). */
-  intensities: ReadonlyMap<number, number>;
   sizeNm?: number;
   strain?: number;
 }
 
+/** A cubic phase given by its edge and its intensities per reflection class h² + k² + l² (absent: no line). */
+export interface CubicPhase extends PhaseBroadening {
+  a: number;
+  intensities: ReadonlyMap<number, number>;
+}
+
+/** A phase of any cell given by its reflections (see reflectionList in ./cell.ts). */
+export interface CellPhase extends PhaseBroadening {
+  cell: SimulatedCell;
+  reflections: readonly SimulatedReflection[];
+}
+
+export type SimulatedPhase = CubicPhase | CellPhase;
+
+function asCellPhase(phase: SimulatedPhase): CellPhase {
+  if ('cell' in phase) return phase;
+  const { a, intensities, ...broadening } = phase;
+  return {
+    ...broadening,
+    cell: { a, b: a, c: a, alpha: 90, beta: 90, gamma: 90 },
+    reflections: [...intensities].map(([s, intensity]) => ({ hkl: hklOfClass(s)!, intensity })),
+  };
+}
+
 export interface SimulationSettings {
-  phases: readonly CubicPhase[];
+  phases: readonly SimulatedPhase[];
   twoThetaMinDeg: number;
   twoThetaMaxDeg: number;
   stepDeg: number;
@@ -77,6 +103,12 @@ export interface SimulationSettings {
   beam?: readonly BeamLine[];
   /** Broad humps (amorphous content): centre and FWHM in degrees 2θ, area relative to the crystalline area. */
   humps?: ReadonlyArray<{ centerDeg: number; fwhmDeg: number; areaRelative: number }>;
+  /** Zero offset, degrees 2θ, added to every line position. */
+  zeroDeg?: number;
+  /** Specimen displacement, mm (see the module comment for its sign). */
+  displacementMm?: number;
+  /** Goniometer radius, mm; default 240. */
+  goniometerRadiusMm?: number;
 }
 
 interface Line {
@@ -86,14 +118,20 @@ interface Line {
   lorentzianFwhm: number;
 }
 
-function linesOf(phase: CubicPhase, lambda: number, instrument: InstrumentWidths, maxDeg: number): Line[] {
+interface SampleShift {
+  zeroDeg: number;
+  /** −2s/R, radians per unit cosθ. */
+  displacementRad: number;
+}
+
+function linesOf(phase: CellPhase, lambda: number, instrument: InstrumentWidths, maxDeg: number, shift: SampleShift): Line[] {
   const lines: Line[] = [];
-  for (const [s, intensity] of phase.intensities) {
-    const d = phase.a / Math.sqrt(s);
+  for (const { hkl, intensity } of phase.reflections) {
+    const d = dSpacing(phase.cell, hkl);
     const sinTheta = lambda / (2 * d);
     if (sinTheta >= 1) continue;
     const theta = Math.asin(sinTheta);
-    const twoThetaDeg = (2 * theta) / RAD;
+    const twoThetaDeg = (2 * theta + shift.displacementRad * Math.cos(theta)) / RAD + shift.zeroDeg;
     if (twoThetaDeg > maxDeg + 2) continue;
     const tan = Math.tan(theta);
     const cos = Math.cos(theta);
@@ -110,15 +148,16 @@ function linesOf(phase: CubicPhase, lambda: number, instrument: InstrumentWidths
   return lines;
 }
 
-export function simulateCubicPattern(settings: SimulationSettings): Pattern {
+export function simulatePowderPattern(settings: SimulationSettings): Pattern {
   const instrument = settings.instrument ?? LAB_INSTRUMENT;
   const n = Math.floor((settings.twoThetaMaxDeg - settings.twoThetaMinDeg) / settings.stepDeg + 1e-9) + 1;
   const x = new Float64Array(n);
   for (let i = 0; i < n; i++) x[i] = settings.twoThetaMinDeg + i * settings.stepDeg;
   const intensity = new Float64Array(n);
   const beam = settings.beam ?? CU_KALPHA_DOUBLET;
-  const lines = settings.phases.flatMap((p) =>
-    beam.flatMap((b) => linesOf(p, b.lambda, instrument, settings.twoThetaMaxDeg).map((l) => ({ ...l, weight: b.weight * (p.scale ?? 1) }))),
+  const shift: SampleShift = { zeroDeg: settings.zeroDeg ?? 0, displacementRad: (-2 * (settings.displacementMm ?? 0)) / (settings.goniometerRadiusMm ?? 240) };
+  const lines = settings.phases.map(asCellPhase).flatMap((p) =>
+    beam.flatMap((b) => linesOf(p, b.lambda, instrument, settings.twoThetaMaxDeg, shift).map((l) => ({ ...l, weight: b.weight * (p.scale ?? 1) }))),
   );
   for (const line of lines) {
     const sigma = sigmaOfGaussianFwhm(line.gaussianFwhm);

@@ -1,10 +1,24 @@
 /** The accuracy-test pattern simulator checked against outside values (its Voigt: voigt.test.ts). */
+import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { CU_KALPHA1, faceCentredClasses, simulateCubicPattern } from './pattern.js';
+import { seededUniform } from '../../src/core/numeric/random.js';
+import { dSpacing, reflectionList, type Miller, type SimulatedCell } from './cell.js';
+import { CU_KALPHA1, faceCentredClasses, simulatePowderPattern } from './pattern.js';
+
+const golden = JSON.parse(readFileSync(new URL('../golden/simulator/d-spacings.json', import.meta.url), 'utf8')) as {
+  cells: Array<{ cell: number[]; d: Array<[number[], number]> }>;
+};
+
+/** 2θ of the highest point of a simulated pattern. */
+function apex(p: { x: Float64Array; y: Float64Array }): number {
+  let best = 0;
+  for (let i = 1; i < p.x.length; i++) if (p.y[i] > p.y[best]) best = i;
+  return p.x[best];
+}
 
 describe('test simulator', () => {
   it('puts silicon 111 at 28.441° 2θ for a = 5.43123 Å (NIST SRM 640d certificate) at Cu Kα1 (Bragg\'s law; 28.44° is the usual tabulated position, from memory)', () => {
-    const p = simulateCubicPattern({
+    const p = simulatePowderPattern({
       phases: [{ a: 5.43123, intensities: new Map([[3, 100]]) }],
       twoThetaMinDeg: 28,
       twoThetaMaxDeg: 29,
@@ -14,9 +28,7 @@ describe('test simulator', () => {
       seed: 1,
       instrument: { u: 0, v: 0, w: 1e-6, x: 0, y: 0.001 },
     });
-    let best = 0;
-    for (let i = 1; i < p.x.length; i++) if (p.y[i] > p.y[best]) best = i;
-    expect(Math.abs(p.x[best] - 28.441)).toBeLessThan(0.001);
+    expect(Math.abs(apex(p) - 28.441)).toBeLessThan(0.001);
     expect(CU_KALPHA1).toBe(1.5405929);
     expect(p.source.file).toContain('(simulated)');
   });
@@ -24,4 +36,37 @@ describe('test simulator', () => {
   it('lists the face-centred cubic classes 111, 200, 220, 311, 222, 400', () => {
     expect(faceCentredClasses(16)).toEqual([3, 4, 8, 11, 12, 16]);
   });
+
+  it('computes d-spacings of cubic to triclinic cells as gemmi does (golden file from gemmi UnitCell.calculate_d)', () => {
+    let checked = 0;
+    for (const row of golden.cells) {
+      const [a, b, c, alpha, beta, gamma] = row.cell as [number, number, number, number, number, number];
+      const cell: SimulatedCell = { a, b, c, alpha, beta, gamma };
+      for (const [hkl, d] of row.d) {
+        expect(dSpacing(cell, hkl as unknown as Miller)).toBeCloseTo(d, 10);
+        checked++;
+      }
+    }
+    expect(checked).toBe(42);
+  });
+
+  it('merges symmetry-equivalent reflections of a tetragonal cell into one line with its multiplicity', () => {
+    const cell: SimulatedCell = { a: 4.5937, b: 4.5937, c: 2.9587, alpha: 90, beta: 90, gamma: 90 };
+    const list = reflectionList(cell, 1.2, seededUniform(3));
+    const d = list.map((r) => dSpacing(cell, r.hkl));
+    for (let i = 1; i < d.length; i++) expect(d[i - 1]! - d[i]!).toBeGreaterThan(1e-7);
+    // 110 and 1-10 are one line; 101 and 011 are one line.
+    expect(list.filter((r) => Math.abs(dSpacing(cell, r.hkl) - dSpacing(cell, [1, 1, 0])) < 1e-9)).toHaveLength(1);
+    expect(Math.max(...list.map((r) => r.intensity))).toBeCloseTo(100, 9);
+  });
+
+  it('shifts lines by the zero offset and by −2s·cosθ/R for a displaced specimen (Klug & Alexander)', () => {
+    const base = { phases: [{ a: 5.43123, intensities: new Map([[3, 100]]) }], twoThetaMinDeg: 27.5, twoThetaMaxDeg: 29.5, stepDeg: 0.0002, peakCounts: 1e9, backgroundCounts: 0, seed: 1, instrument: { u: 0, v: 0, w: 1e-6, x: 0, y: 0.001 } };
+    const plain = apex(simulatePowderPattern(base));
+    expect(apex(simulatePowderPattern({ ...base, zeroDeg: 0.05 })) - plain).toBeCloseTo(0.05, 3);
+    // s = 0.2 mm on 240 mm at θ = 14.22°: Δ2θ = −2·0.2·cos(14.22°)/240 rad = −0.0926°.
+    const displaced = apex(simulatePowderPattern({ ...base, displacementMm: 0.2 }));
+    expect(displaced - plain).toBeCloseTo((-2 * 0.2 * Math.cos((14.2204 * Math.PI) / 180) / 240) * (180 / Math.PI), 3);
+  });
 });
+

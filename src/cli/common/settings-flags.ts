@@ -16,6 +16,8 @@ export interface AnalysisFlags {
   toleranceD?: string;
   toleranceFwhm?: string;
   phaseLimit?: string;
+  goniometerRadius?: string;
+  cellBound?: string;
   refineZero?: boolean;
   internalStandard?: string;
   internalStandardPercent?: string;
@@ -30,6 +32,8 @@ export function addMatchFlags(command: Command): Command {
     .option('--tolerance-d <angstrom>', 'matching tolerance directly in d, Å (instead of --tolerance)')
     .option('--tolerance-fwhm <multiple>', "matching tolerance in units of the instrument profile's FWHM, or each peak's own without one (instead of --tolerance)")
     .option('--phase-limit <n>', 'most phases the explanation may take (default 12; it stops earlier when nothing significant is left)')
+    .option('--goniometer-radius <mm>', 'goniometer radius, for the specimen displacement in mm (default 240)')
+    .option('--cell-bound <percent>', 'how far each refined cell edge may move from its reference, % (default 2)')
     .option('--refine-zero', "refine the zero offset even when the instrument profile gives one (default: hold the profile's)")
     .option('--internal-standard <name>', 'a reference spiked into the sample (with --internal-standard-percent): absolute weight fractions and the amorphous content')
     .option('--internal-standard-percent <wt%>', 'weight % of the internal standard in the spiked sample');
@@ -50,6 +54,8 @@ const FLAG_OF: Partial<Record<keyof AnalysisSettings, string>> = {
   toleranceDAngstrom: '--tolerance-d',
   toleranceFwhm: '--tolerance-fwhm',
   phaseLimit: '--phase-limit',
+  goniometerRadiusMm: '--goniometer-radius',
+  cellBoundPercent: '--cell-bound',
   zeroFromInstrument: '--refine-zero',
   internalStandard: '--internal-standard',
   internalStandardPercent: '--internal-standard-percent',
@@ -83,6 +89,8 @@ export function settingsFromFlags(flags: AnalysisFlags): AnalysisSettings {
     toleranceDAngstrom: flags.toleranceD,
     toleranceFwhm: flags.toleranceFwhm,
     phaseLimit: flags.phaseLimit,
+    goniometerRadiusMm: flags.goniometerRadius,
+    cellBoundPercent: flags.cellBound,
     zeroFromInstrument: flags.refineZero ? 'given' : undefined,
     internalStandard: flags.internalStandard,
     internalStandardPercent: flags.internalStandardPercent,
@@ -105,6 +113,8 @@ export function settingsFromFlags(flags: AnalysisFlags): AnalysisSettings {
       toleranceDAngstrom: numberText(flags.toleranceD),
       toleranceFwhm: numberText(flags.toleranceFwhm),
       phaseLimit: numberText(flags.phaseLimit),
+      goniometerRadiusMm: numberText(flags.goniometerRadius),
+      cellBoundPercent: numberText(flags.cellBound),
       zeroFromInstrument: flags.refineZero ? false : undefined,
       internalStandard: flags.internalStandard,
       internalStandardPercent: numberText(flags.internalStandardPercent),

@@ -142,6 +142,8 @@ export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisCont
     ...matchTolerance(settings, instrument),
     ...(fixedZero !== undefined ? { fixedZeroDeg: fixedZero } : {}),
     maxPhases: settings.phaseLimit,
+    goniometerRadiusMm: settings.goniometerRadiusMm,
+    cellBoundFraction: settings.cellBoundPercent / 100,
     internalStandard: settings.internalStandard !== null && settings.internalStandardPercent !== null ? { name: settings.internalStandard, weightFraction: settings.internalStandardPercent / 100 } : undefined,
     target: settings.target ?? undefined,
     background: { x: pattern.x, y: search.background, sigma: search.noiseSigma },

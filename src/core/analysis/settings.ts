@@ -31,6 +31,10 @@ export interface AnalysisSettings {
   toleranceFwhm: number | null;
   /** Most phases the explanation may take (it stops earlier when nothing significant is left). */
   phaseLimit: number;
+  /** Goniometer radius, mm: converts the refined specimen displacement from °·cosθ to mm. */
+  goniometerRadiusMm: number;
+  /** How far each refined cell edge may move from its reference, % (angles by the same share of 90°). */
+  cellBoundPercent: number;
   /** A reference spiked into the sample at internalStandardPercent (weight % of the spiked sample), for absolute fractions and the amorphous content; null: none. */
   internalStandard: string | null;
   internalStandardPercent: number | null;
@@ -58,6 +62,8 @@ export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
   toleranceDAngstrom: null,
   toleranceFwhm: null,
   phaseLimit: 12,
+  goniometerRadiusMm: 240,
+  cellBoundPercent: 2,
   internalStandard: null,
   internalStandardPercent: null,
   zeroFromInstrument: true,
@@ -82,6 +88,8 @@ const analysisSettingsInput = z
     toleranceDAngstrom: settingNumber('toleranceDAngstrom').nullable(),
     toleranceFwhm: settingNumber('toleranceFwhm').nullable(),
     phaseLimit: settingNumber('phaseLimit').int({ error: rangeMessage('phaseLimit') }),
+    goniometerRadiusMm: settingNumber('goniometerRadiusMm'),
+    cellBoundPercent: settingNumber('cellBoundPercent'),
     internalStandard: z.string().trim().min(1).max(200).nullable(),
     internalStandardPercent: settingNumber('internalStandardPercent').nullable(),
     zeroFromInstrument: z.boolean({ error: 'zeroFromInstrument must be true or false' }),

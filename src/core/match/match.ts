@@ -13,6 +13,7 @@ import { chungQuantification, fitPhaseScales } from './quantify.js';
 import { buildReferenceIndex, rangeTotals, screenReferences } from './reference-index.js';
 import { evaluatePhase, phaseLines, type Claims, type PhaseEvaluation, type PhaseLines } from './score.js';
 import { refineShift, searchCellScale, type ShiftBounds } from './shift.js';
+import { searchAnisotropicCell } from './cell-search.js';
 import { fitSampleAndCells, type SampleFit } from './sample-fit.js';
 import type { UnitCell } from '../model/cell.js';
 import { cellMetric, inverseDSquared } from '../crystal/metric.js';
@@ -28,6 +29,7 @@ import {
   notNeededVerdict,
   sharedPeakShare,
   UNCERTAIN_SCORE,
+  cellChangeFrom,
   type CellChange,
   type Contender,
   type LookAlike,
@@ -141,17 +143,30 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   const dMax = table.rangeMin > 0 ? dFromTwoTheta(table.rangeMin, lambda) : Infinity;
   const totals = featureless ? new Float64Array(0) : rangeTotals(index, dMin, dMax);
 
-  // Starting isotropic cell scale of a candidate whose reference cell does not fit (see searchCellScale); refined cells replace it.
-  const startScale = new Map<number, number>();
+  // Starting cell of a candidate whose reference cell does not fit: an isotropic scaling (searchCellScale) or, failing that, an anisotropic one (searchAnisotropicCell); refined cells replace it.
+  const startCell = new Map<number, UnitCell>();
+  // The start cell and its lines depend only on the reference and the shift (not on what is claimed): found once per pair.
+  const startFound = new Map<string, { cell: UnitCell; lines: PhaseLines } | null>();
+  const startOf = (r: number, lines: PhaseLines, own: UnitCell, shift: MatchShift | null): { cell: UnitCell; lines: PhaseLines } | null => {
+    const key = shift ? `${r} ${shift.zeroDeg} ${shift.displacementCosDeg}` : `${r}`;
+    if (startFound.has(key)) return startFound.get(key)!;
+    const search = searchCellScale(lines, table, bounds, cellBound, shift, partnerScales(r));
+    const anisotropic = search.anisotropicAbove === null ? null : searchAnisotropicCell(lines, table, own, lambda, cellBound, bounds, shift, search.best, search.anisotropicAbove);
+    // An isotropic scale moves every line (indexed or not); an anisotropic cell moves the indexed ones.
+    const moved = anisotropic ? withCell(refs[r], anisotropic.cell) : search.scale !== 1 ? scaledReference(refs[r], search.scale) : null;
+    const found = moved ? { cell: anisotropic ? anisotropic.cell : scaledCell(own, search.scale)!, lines: phaseLines(moved, lambda, table.rangeMin, table.rangeMax) } : null;
+    startFound.set(key, found);
+    return found;
+  };
   const evaluateCandidate = (r: number, lines: PhaseLines, shift: MatchShift | null, claims: Claims): PhaseEvaluation => {
-    if (!refinedCells.has(r) && usableCell(refs[r].cell)) {
-      const { scale } = searchCellScale(lines, table, bounds, cellBound, shift, partnerScales(r));
-      if (scale !== 1) {
-        startScale.set(r, scale);
-        const scaled = phaseLines(scaledReference(refs[r], scale), lambda, table.rangeMin, table.rangeMax);
-        return evaluatePhase(scaled, table, shift ?? refineShift(scaled, table, bounds), claims);
+    const own = usableCell(refs[r].cell);
+    if (!refinedCells.has(r) && own) {
+      const start = startOf(r, lines, own, shift);
+      if (start) {
+        startCell.set(r, start.cell);
+        return evaluatePhase(start.lines, table, shift ?? refineShift(start.lines, table, bounds), claims);
       }
-      startScale.delete(r);
+      startCell.delete(r);
     }
     return evaluatePhase(lines, table, shift ?? refineShift(lines, table, bounds), claims);
   };
@@ -222,7 +237,7 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
         lines: a.evaluation.lines,
         peakOf: a.evaluation.peakOf,
         referenceCell: usableCell(refs[a.ref].cell),
-        currentCell: refinedCells.get(a.ref) ?? scaledCell(usableCell(refs[a.ref].cell), startScale.get(a.ref) ?? 1),
+        currentCell: refinedCells.get(a.ref) ?? startCell.get(a.ref) ?? usableCell(refs[a.ref].cell),
         span: spanOf(a.ref),
       })),
       table,
@@ -234,14 +249,13 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
     const reference = usableCell(refs[c.ref].cell);
     if (!reference) return null;
     const alone = fitSampleAndCells(
-      [{ lines: c.evaluation.lines, peakOf: c.evaluation.peakOf, referenceCell: reference, currentCell: refinedCells.get(c.ref) ?? scaledCell(reference, startScale.get(c.ref) ?? 1), span: spanOf(c.ref) }],
+      [{ lines: c.evaluation.lines, peakOf: c.evaluation.peakOf, referenceCell: reference, currentCell: refinedCells.get(c.ref) ?? startCell.get(c.ref) ?? reference, span: spanOf(c.ref) }],
       table,
       { lambda, start: shift, maxZeroDeg: bounds.maxZeroDeg, maxDisplacementDeg: bounds.maxDisplacementDeg, cellBound, fixedShift: true },
     );
     const cell = alone.cells[0];
     if (typeof cell === 'string') return null;
-    const v0 = cellMetric(reference).volume;
-    return { percent: (100 * (cell.volume - v0)) / v0, sigma: (100 * cell.volumeSigma) / v0 };
+    return cellChangeFrom(reference, cell);
   };
   // Look-alikes set aside: the reference, the rival that explains the same peaks, and both cell changes.
   const setAside = new Map<number, LookAlike>();
@@ -509,3 +523,4 @@ function findTarget(refs: readonly StoredReference[], target: string | undefined
   if (i < 0) throw new InputError(`target phase "${target}" is not in the reference library; list the library's phases and give one of their names`);
   return i;
 }
+

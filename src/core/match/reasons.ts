@@ -35,7 +35,7 @@ export function sampleShift(fit: SampleFit, fitted: boolean, radiusMm: number, f
     goniometerRadiusMm: radiusMm,
     linesUsed: fitted ? fit.linesUsed : 0,
     zeroStatus: fixedZeroDeg !== undefined ? 'instrument-profile' : status(fitted ? fit.zeroSigmaDeg : null, fit.zeroPriorSigmaDeg),
-    displacementStatus: dSigma === null ? 'not-kept' : status(dSigma, fit.displacementPriorSigmaDeg),
+    displacementStatus: dSigma === null ? 'not-refined' : status(dSigma, fit.displacementPriorSigmaDeg),
   };
 }
 
@@ -231,9 +231,7 @@ export function patternReasons(
       shift.displacementStatus === 'bounded'
         ? `specimen displacement not determined by these lines: only within ±${bounds.maxDisplacementDeg}°·cosθ (best value ${signed(shift.displacementCosDeg)}°·cosθ, ${signed(shift.displacementMm, 3)} mm)`
         : shift.displacementSigmaDeg === null
-        ? fit.sigmaIncludesDisplacement
-          ? 'no specimen displacement kept (not significant beside the zero offset and the cells; the σ of the zero and the cells allow for one, which cannot be told apart from them on these lines)'
-          : 'no specimen displacement (too few lines to refine one)'
+        ? 'no specimen displacement (too few lines to refine one)'
         : `specimen displacement ${signed(shift.displacementCosDeg)}${sigma(shift.displacementSigmaDeg)}°·cosθ (${signed(shift.displacementMm, 3)} mm on a ${shift.goniometerRadiusMm} mm goniometer)`;
     reasons.push(
       `One shift for the sample, refined with the cells on ${fit.linesUsed} resolved lines of ${accepted.map((a) => refs[a.ref].name).join(', ')}: ` +
@@ -258,8 +256,8 @@ export function patternReasons(
 export function lookAlikeReason(lookAlike: LookAlike): string {
   const { significant, mine, theirs, rivalName, lines } = lookAlike;
   return (
-    `${significant ? 'not seen' : 'uncertain'}: the same peaks as ${rivalName}, needing a ${Math.abs(mine.percent).toFixed(2)} % ${mine.percent >= 0 ? 'larger' : 'smaller'} cell (volume) than its reference ` +
-    `where ${rivalName} needs ${signed(theirs.percent, 2)} % (each refined alone under the sample's shift)` +
+    `${significant ? 'not seen' : 'uncertain'}: the same peaks as ${rivalName}, needing its cell changed by ${mine.percent.toFixed(2)} % per edge (rms; volume ${signed(mine.volumePercent, 2)} %) from its reference ` +
+    `where ${rivalName} needs ${theirs.percent.toFixed(2)} % (volume ${signed(theirs.volumePercent, 2)} %; each refined alone under the sample's shift)` +
     (lines ? `, with ${lines.mine} lines matched against ${lines.theirs}` : '') +
     (significant ? '' : '; indistinguishable at this resolution')
   );

@@ -11,10 +11,17 @@
  * crystal system's free ones (cell-parameters.ts); lines without indices or a phase without a cell
  * take part with fixed positions (they still define the shift). Gauss–Newton with the bounds applied
  * after each step; σ from the covariance scaled by the reduced χ² where there are degrees of freedom.
+ *
+ * Zero and displacement are always refined together (where the scan gives lines enough), with the
+ * bounds taken as what is known beforehand: a term anywhere within ±bound has σ = bound/√3 (a uniform
+ * distribution), entered as a Gaussian prior about 0 (pseudo-observations in the fit itself, so that
+ * the values and their σ are those of one posterior; a regularised least squares, common practice).
+ * Where the lines fix a term this changes nothing; where zero, displacement and cell are nearly
+ * collinear, the term stays within what the bound says and the cells' σ include its uncertainty.
  */
 import type { UnitCell } from '../model/cell.js';
 import { cellMetric, inverseDSquared } from '../crystal/metric.js';
-import { invertSmall, weightedLinearFit } from '../numeric/numeric.js';
+import { weightedLinearFit } from '../numeric/numeric.js';
 import { DEG_TO_RAD } from '../model/units.js';
 import { cellParameterisation, type CellParameterisation, type CellParameterName } from './cell-parameters.js';
 import type { PeakTable } from './peak-table.js';
@@ -23,15 +30,6 @@ import type { MatchShift } from './types.js';
 
 const RAD_TO_DEG = 180 / Math.PI;
 
-/**
- * Zero offset and cosθ displacement are nearly collinear over a lab scan: the displacement is kept
- * only when it explains the positions significantly better than without it (extra-sum-of-squares
- * F-test, 1 and n−p degrees of freedom, against this critical value, about the 99.5 % point for a
- * dozen lines; common practice for nested fits).
- */
-const DISPLACEMENT_F_CRITICAL = 12;
-/** Residuals below this (degrees 2θ) are rounding, not evidence: the floor of the F-test's noise. */
-const POSITION_FLOOR_DEG = 1e-5;
 /** Smallest position σ used as a weight, degrees 2θ (a fit's σ below this is not believed). */
 const SIGMA_FLOOR_DEG = 1e-4;
 /** Lines of one phase on one peak count as one line when their d agree this closely (relative). */
@@ -89,8 +87,6 @@ export interface SampleFit {
   cells: Array<CellFit | string>;
   zeroAtBound: boolean;
   displacementAtBound: boolean;
-  /** True when the σ allow for a displacement that was not significant enough to keep (see fitSampleAndCells). */
-  sigmaIncludesDisplacement: boolean;
   /** True when the zero was held at a value measured on a standard (then zeroSigmaDeg is null). */
   zeroFixed: boolean;
   /**
@@ -157,48 +153,27 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
     return { withDisplacement, withZero, cellOffset, size };
   };
   const canDisplace = options.maxDisplacementDeg > 0 && observations.length >= 4;
+  const zeroPrior = options.maxZeroDeg / Math.sqrt(3);
+  const displacementPrior = options.maxDisplacementDeg / Math.sqrt(3);
+  const priors = { zeroDeg: zeroPrior, displacementDeg: displacementPrior };
+  const layout = layoutOf(canDisplace);
   // A line matched to the wrong peak would pull the whole fit: one robust rejection pass (see rejectOutliers).
-  const first = runFit(observations, phases, param, layoutOf(canDisplace && observations.length >= layoutOf(true).size + 2), options);
+  const first = runFit(observations, phases, param, layout, options, priors);
   if (first) rejectOutliers(observations, first);
-  const withoutD = runFit(observations, phases, param, layoutOf(false), options);
+  const chosen = runFit(observations, phases, param, layout, options, priors);
   const linesUsed = observations.length;
-  let chosen = withoutD;
-  let withD: FitResult | null = null;
-  if (canDisplace) {
-    withD = runFit(observations, phases, param, layoutOf(true), options);
-    if (withD && withoutD && withD.dof >= 1) {
-      const floor = POSITION_FLOOR_DEG * POSITION_FLOOR_DEG * observations.reduce((s, o) => s + o.weight, 0);
-      const gain = withoutD.chi2 - withD.chi2;
-      const f = gain / (Math.max(withD.chi2, floor) / withD.dof);
-      if (f > DISPLACEMENT_F_CRITICAL) chosen = withD;
-    } else if (withD && !withoutD) chosen = withD;
-  }
   if (!chosen || observations.length === 0) {
     for (let i = 0; i < phases.length; i++) if (refinable[i]) cells[i] = 'no cell refined: the position fit failed';
     return {
       shift: given.fixedShift ? given.start : { zeroDeg: given.fixedZeroDeg ?? options.start.zeroDeg, displacementCosDeg: options.start.displacementCosDeg },
-      zeroSigmaDeg: null, displacementSigmaDeg: null, linesUsed, cells, zeroAtBound: false, displacementAtBound: false, sigmaIncludesDisplacement: false,
+      zeroSigmaDeg: null, displacementSigmaDeg: null, linesUsed, cells, zeroAtBound: false, displacementAtBound: false,
       zeroFixed: given.fixedZeroDeg !== undefined && !given.fixedShift,
-      zeroPriorSigmaDeg: options.maxZeroDeg / Math.sqrt(3),
-      displacementPriorSigmaDeg: options.maxDisplacementDeg / Math.sqrt(3),
+      zeroPriorSigmaDeg: zeroPrior,
+      displacementPriorSigmaDeg: displacementPrior,
     };
   }
-  const { x, layout } = chosen;
-  // Without a significant displacement the values come from the fit without it, but the σ from the
-  // fit with it: a displacement too small to be told apart from the cell and the zero still makes
-  // them that uncertain (reporting the narrower σ would hide it).
-  // Linearised at the fit without it (a bounded fit with it may end on a bound, where its covariance means nothing).
-  const lineariseAt: MatchShift = { zeroDeg: chosen.layout.withZero ? chosen.x[0] : 0, displacementCosDeg: 0 };
-  const linearised =
-    chosen === withoutD && withD
-      ? runFit(observations, phases.map((ph, i) => (chosen.layout.cellOffset[i] >= 0 ? { ...ph, currentCell: param[i]!.toCell(chosen.x.subarray(chosen.layout.cellOffset[i], chosen.layout.cellOffset[i] + param[i]!.names.length)) } : ph)), param, layoutOf(true), { ...options, start: lineariseAt, cellBound: Infinity }, true)
-      : null;
-  const spread = linearised && linearised.dof >= 1 ? linearised : chosen;
-  // The bounds are part of what is known: a shift term the lines hardly fix is known only to lie within them.
-  const zeroPrior = options.maxZeroDeg / Math.sqrt(3);
-  const displacementPrior = options.maxDisplacementDeg / Math.sqrt(3);
-  const covariance = withShiftPrior(spread, zeroPrior, displacementPrior);
-  const sigmaOf = (i: number): number => Math.sqrt(Math.max(covariance[i * spread.layout.size + i], 0));
+  const { x, covariance } = chosen;
+  const sigmaOf = (i: number): number => Math.sqrt(Math.max(covariance[i * layout.size + i], 0));
   phases.forEach((phase, i) => {
     const offset = layout.cellOffset[i];
     if (offset < 0) return;
@@ -206,8 +181,7 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
     const values = Array.from(x.subarray(offset, offset + par.names.length));
     const cell = par.toCell(values);
     const block = new Float64Array(par.names.length ** 2);
-    const so = spread.layout.cellOffset[i];
-    for (let r = 0; r < par.names.length; r++) for (let c = 0; c < par.names.length; c++) block[r * par.names.length + c] = covariance[(so + r) * spread.layout.size + so + c];
+    for (let r = 0; r < par.names.length; r++) for (let c = 0; c < par.names.length; c++) block[r * par.names.length + c] = covariance[(offset + r) * layout.size + offset + c];
     cells[i] = describeCell(cell, par, values, block, parameterRange(par, phase, options.cellBound), observations.filter((o) => o.phase === i && o.hkl).length);
   });
   const zero = layout.withZero ? x[0] : 0;
@@ -215,13 +189,12 @@ export function fitSampleAndCells(phases: readonly SampleFitPhase[], table: Peak
   return {
     shift: given.fixedShift ? given.start : { zeroDeg: given.fixedZeroDeg ?? zero, displacementCosDeg: displacement },
     zeroSigmaDeg: layout.withZero ? sigmaOf(0) : null,
-    displacementSigmaDeg: layout.withDisplacement ? sigmaOf(displacementIndex(spread.layout)) : null,
+    displacementSigmaDeg: layout.withDisplacement ? sigmaOf(displacementIndex(layout)) : null,
     zeroFixed: given.fixedZeroDeg !== undefined && !given.fixedShift,
     zeroPriorSigmaDeg: zeroPrior,
     displacementPriorSigmaDeg: displacementPrior,
     linesUsed,
     cells,
-    sigmaIncludesDisplacement: spread !== chosen,
     zeroAtBound: Math.abs(zero) >= options.maxZeroDeg - 1e-12 && options.maxZeroDeg > 0,
     displacementAtBound: layout.withDisplacement && Math.abs(displacement) >= options.maxDisplacementDeg - 1e-12,
   };
@@ -295,12 +268,16 @@ function runFit(
   param: Array<CellParameterisation | null>,
   layout: Layout,
   options: SampleFitOptions,
-  /** Only linearise at the start (no steps): the covariance a free parameter would have there. */
-  lineariseOnly = false,
+  /** Prior σ of the shift terms, degrees (see the module comment); 0 leaves a term without one. */
+  priors: { zeroDeg: number; displacementDeg: number },
 ): FitResult | null {
   const n = observations.length;
   const p = layout.size;
   if (n < p) return null;
+  const priorRows: Array<{ index: number; sigma: number }> = [];
+  if (layout.withZero && priors.zeroDeg > 0) priorRows.push({ index: 0, sigma: priors.zeroDeg });
+  if (layout.withDisplacement && priors.displacementDeg > 0) priorRows.push({ index: displacementIndex(layout), sigma: priors.displacementDeg });
+  const rows = n + priorRows.length;
   const x = new Float64Array(p);
   const lower = new Float64Array(p);
   const upper = new Float64Array(p);
@@ -328,9 +305,12 @@ function runFit(
     });
   });
 
-  const design = new Float64Array(n * p);
-  const residual = new Float64Array(n);
-  const weights = Float64Array.from(observations, (o) => o.weight);
+  const design = new Float64Array(rows * p);
+  const residual = new Float64Array(rows);
+  const weights = new Float64Array(rows);
+  for (let i = 0; i < n; i++) weights[i] = observations[i].weight;
+  // The data's scale (reduced χ²) so far: prior rows are weighted against the data's real scatter, not its nominal σ.
+  let scale = 1;
   const model = (values: Float64Array, o: Observation): number => {
     const shift = (layout.withZero ? values[0] : 0) + (layout.withDisplacement ? values[displacementIndex(layout)] * o.cosTheta : 0);
     const offset = layout.cellOffset[o.phase];
@@ -360,9 +340,13 @@ function runFit(
         design[i * p + offset + q] = (plus - minus) / (2 * step);
       }
     }
+    priorRows.forEach((row, r) => {
+      design[(n + r) * p + row.index] = 1;
+      residual[n + r] = -x[row.index];
+      weights[n + r] = scale / (row.sigma * row.sigma);
+    });
     fit = weightedLinearFit(design, residual, weights, p);
     if (!fit) return null;
-    if (lineariseOnly) break;
     let moved = 0;
     for (let q = 0; q < p; q++) {
       const next = clamp(x[q] + fit.coefficients[q], lower[q], upper[q]);
@@ -370,6 +354,7 @@ function runFit(
       x[q] = next;
     }
     if (moved < 1e-10) break;
+    scale = dataScale(observations, x, model, n - p);
   }
   // χ² at the final parameters.
   let chi2 = 0;
@@ -381,8 +366,24 @@ function runFit(
     chi2 += normalised[i] * normalised[i];
   }
   const dof = n - p;
-  const covariance = Float64Array.from(fit!.covariance, (v) => (dof > 0 ? v * (chi2 / dof) : v));
+  // The fit's covariance is (JᵀWJ + s²·P)⁻¹ with s² the data's reduced χ²; times s² it is (JᵀWJ/s² + P)⁻¹.
+  const covariance = Float64Array.from(fit!.covariance, (v) => v * scale);
   return { x, covariance, chi2, dof, layout, normalised, residualDeg };
+}
+
+/** Residuals below this (degrees 2θ) are rounding, not evidence: the floor of the data's scatter. */
+const POSITION_FLOOR_DEG = 1e-5;
+
+/** Reduced χ² of the data at x (1 without degrees of freedom), never below the rounding floor's. */
+function dataScale(observations: readonly Observation[], x: Float64Array, model: (values: Float64Array, o: Observation) => number, dof: number): number {
+  if (dof <= 0) return 1;
+  let chi2 = 0;
+  let weights = 0;
+  for (const o of observations) {
+    chi2 += o.weight * (o.observed - model(x, o)) ** 2;
+    weights += o.weight;
+  }
+  return Math.max(chi2, POSITION_FLOOR_DEG * POSITION_FLOOR_DEG * weights) / dof;
 }
 
 function braggTwoTheta(cell: UnitCell, hkl: [number, number, number], lambda: number): number {
@@ -436,26 +437,6 @@ function parameterRange(par: CellParameterisation, phase: SampleFitPhase, bound:
 /** Where the displacement sits in the parameter vector: after the zero, when the zero is refined. */
 function displacementIndex(layout: Layout): number {
   return layout.withZero ? 1 : 0;
-}
-
-/**
- * The covariance with the bounds taken as what is known beforehand: a zero offset and a displacement
- * anywhere within ±bound have σ = bound/√3 (a uniform distribution), added as Gaussian prior
- * information to the normal matrix, C' = (C⁻¹ + diag(1/σ²_prior))⁻¹. Where the lines fix a term well
- * this changes nothing; where they do not (zero, displacement and cell nearly collinear), its σ stops
- * at what the bound says instead of growing without limit, and the cells' σ with it.
- */
-function withShiftPrior(fit: FitResult, zeroPriorDeg: number, displacementPriorDeg: number): Float64Array {
-  const { layout, covariance } = fit;
-  const p = layout.size;
-  const priors: Array<[number, number]> = [];
-  if (layout.withZero && zeroPriorDeg > 0) priors.push([0, zeroPriorDeg]);
-  if (layout.withDisplacement && displacementPriorDeg > 0) priors.push([displacementIndex(layout), displacementPriorDeg]);
-  if (priors.length === 0) return covariance;
-  const normal = invertSmall(covariance, p);
-  if (!normal) return covariance;
-  for (const [i, sigma] of priors) normal[i * p + i] += 1 / (sigma * sigma);
-  return invertSmall(normal, p) ?? covariance;
 }
 
 function clamp(v: number, lo: number, hi: number): number {

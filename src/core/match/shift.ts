@@ -62,14 +62,43 @@ function agreement(lines: PhaseLines, peaks: PeakTable, zero: number, displaceme
       const sinTheta = Math.sqrt(Math.max(0, 1 - lines.cosTheta[j] * lines.cosTheta[j]));
       position = 2 * Math.asin(Math.min(1, sinTheta / scale)) * RAD_TO_DEG;
     }
-    const tt = position + zero + displacement * lines.cosTheta[j];
-    const k = nearestPeak(peaks, tt);
-    if (k < 0) return 0;
-    const r = Math.abs(peaks.twoTheta[k] - tt);
-    const window = peaks.window[k];
-    if (r < window) sum += lines.intensity[j] * (1 - r / window);
+    sum += lineAgreement(peaks, position + zero + displacement * lines.cosTheta[j], lines.intensity[j]);
   }
   return sum;
+}
+
+/** One line's share of the agreement: its intensity times the triangle 1 − |Δ2θ|/window at the nearest peak. */
+function lineAgreement(peaks: PeakTable, tt: number, intensity: number): number {
+  const k = nearestPeak(peaks, tt);
+  if (k < 0) return 0;
+  const r = Math.abs(peaks.twoTheta[k] - tt);
+  const window = peaks.window[k];
+  return r < window ? intensity * (1 - r / window) : 0;
+}
+
+/**
+ * The same agreement for lines at given (unshifted) positions: under the sample's shift where it is
+ * known, else the best over constant offsets on the isotropic search's grid around `startOffsetDeg`.
+ */
+export function offsetAgreement(
+  positions: readonly number[],
+  cosTheta: readonly number[],
+  intensity: readonly number[],
+  peaks: PeakTable,
+  bounds: ShiftBounds,
+  shift: MatchShift | null,
+  startOffsetDeg: number,
+): number {
+  const at = (zero: number, displacement: number): number => {
+    let sum = 0;
+    for (let j = 0; j < positions.length; j++) sum += lineAgreement(peaks, positions[j]! + zero + displacement * cosTheta[j]!, intensity[j]!);
+    return sum;
+  };
+  if (shift) return at(shift.zeroDeg, shift.displacementCosDeg);
+  const step = bounds.toleranceDeg / 4;
+  let best = at(startOffsetDeg, 0);
+  for (let c = startOffsetDeg - 2 * step; c <= startOffsetDeg + 2 * step + 1e-12; c += step) best = Math.max(best, at(c, 0));
+  return best;
 }
 
 /**
@@ -151,6 +180,8 @@ const SCALE_STEP = 0.0005;
 const SCALE_SEARCH_BELOW = 0.5;
 /** …and a scaled cell is taken only when it matches this share of it (and 1.5× what the reference's own cell matches). */
 const SCALE_ACCEPT_ABOVE = 0.75;
+/** An anisotropic cell replaces an isotropic start that falls short of that only when it agrees this much better. */
+const ANISOTROPIC_GAIN = 1.2;
 
 /**
  * A starting isotropic cell scale for a candidate whose reference cell does not fit (thermal expansion,
@@ -166,11 +197,11 @@ export function searchCellScale(
   shift: MatchShift | null,
   /** Isotropic scales to the reference's solid-solution partners: the search reaches them too (widened by maxScale). */
   partnerScales: readonly number[] = [],
-): { scale: number; offsetDeg: number } {
+): CellScaleSearch {
   const used = Math.min(lines.count, SEARCH_LINES);
   let total = 0;
   for (let m = 0; m < used; m++) total += lines.intensity[lines.byIntensity[m]];
-  if (!(total > 0) || maxScale <= 0) return { scale: 1, offsetDeg: 0 };
+  if (!(total > 0) || maxScale <= 0) return { scale: 1, offsetDeg: 0, fits: true, best: { scale: 1, offsetDeg: 0, value: 0 }, anisotropicAbove: null };
   const centre = bounds.fixedZeroDeg ?? 0;
   const reach = (bounds.fixedZeroDeg === undefined ? bounds.maxZeroDeg : 0) + bounds.maxDisplacementDeg;
   const step = bounds.toleranceDeg / 4;
@@ -185,7 +216,10 @@ export function searchCellScale(
     return { value, offset };
   };
   const own = best(1);
-  if (own.value >= SCALE_SEARCH_BELOW * total) return { scale: 1, offsetDeg: own.offset };
+  const acceptAbove = Math.max(SCALE_ACCEPT_ABOVE * total, 1.5 * own.value);
+  // An anisotropic cell is tried where no isotropic one puts most of the intensity on peaks, and taken only when it does clearly better.
+  const anisotropicAbove = (value: number): number | null => (value >= SCALE_ACCEPT_ABOVE * total ? null : Math.max(SCALE_ACCEPT_ABOVE * total, ANISOTROPIC_GAIN * own.value));
+  if (own.value >= SCALE_SEARCH_BELOW * total) return { scale: 1, offsetDeg: own.offset, fits: true, best: { scale: 1, offsetDeg: own.offset, value: own.value }, anisotropicAbove: anisotropicAbove(own.value) };
   let chosen = { scale: 1, ...own };
   const lowest = Math.min(1, ...partnerScales) * (1 - maxScale);
   const highest = Math.max(1, ...partnerScales) * (1 + maxScale);
@@ -193,6 +227,19 @@ export function searchCellScale(
     const trial = best(s);
     if (trial.value > chosen.value + 1e-9) chosen = { scale: s, ...trial };
   }
-  if (chosen.scale !== 1 && chosen.value >= SCALE_ACCEPT_ABOVE * total && chosen.value >= 1.5 * own.value) return { scale: chosen.scale, offsetDeg: chosen.offset };
-  return { scale: 1, offsetDeg: own.offset };
+  const found = { scale: chosen.scale, offsetDeg: chosen.offset, value: chosen.value };
+  if (chosen.scale !== 1 && chosen.value >= acceptAbove) return { scale: chosen.scale, offsetDeg: chosen.offset, fits: true, best: found, anisotropicAbove: anisotropicAbove(chosen.value) };
+  return { scale: 1, offsetDeg: own.offset, fits: false, best: found, anisotropicAbove: anisotropicAbove(own.value) };
+}
+
+export interface CellScaleSearch {
+  /** The scale to start from (1: the reference's own cell) and its offset. */
+  scale: number;
+  offsetDeg: number;
+  /** Whether the reference's cell, or an isotropic scaling of it, puts enough of the strongest lines on peaks. */
+  fits: boolean;
+  /** The best isotropic scale found, taken or not, with its agreement (a start for an anisotropic search). */
+  best: { scale: number; offsetDeg: number; value: number };
+  /** Agreement an anisotropic cell must reach to be taken instead (null: the isotropic result is good enough to keep). */
+  anisotropicAbove: number | null;
 }

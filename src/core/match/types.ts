@@ -79,8 +79,8 @@ export interface SampleShift extends MatchShift {
    * `instrument-profile` (held at the zero measured on the standard; no σ of its own).
    */
   zeroStatus?: ShiftTermStatus;
-  /** The same for the displacement (`not-kept` when it was not significant). */
-  displacementStatus?: ShiftTermStatus | 'not-kept';
+  /** The same for the displacement (`not-refined` when the scan has too few lines for one). */
+  displacementStatus?: ShiftTermStatus | 'not-refined';
 }
 
 export type ShiftTermStatus = 'refined' | 'bounded' | 'instrument-profile';

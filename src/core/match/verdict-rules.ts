@@ -3,6 +3,9 @@
  * the explanation takes next, and how look-alikes (two references on the same peaks) are told apart.
  */
 import type { StoredReference } from '../model/reference.js';
+import type { UnitCell } from '../model/cell.js';
+import { cellMetric } from '../crystal/metric.js';
+import type { CellParameterName } from './cell-parameters.js';
 import { type PeakTable } from './peak-table.js';
 import { type Claims, type PhaseEvaluation } from './score.js';
 import type { Verdict } from './types.js';
@@ -27,10 +30,29 @@ export const LOOK_ALIKE_SHARED_SHARE = 0.8;
 
 export const DECOMPOSITION_TAG = 'decomposition product';
 
-/** Volume change of a cell refined alone, % of the reference's, with σ. */
+/**
+ * How far a cell refined alone moved from its reference: the rms of the relative changes of the
+ * crystal system's free parameters, %, with σ (the parameters' σ propagated, their correlations
+ * left out), and the volume change, %. An edge-by-edge measure, since two look-alikes can share a
+ * volume while their edges differ by a per cent each way.
+ */
 export interface CellChange {
   percent: number;
   sigma: number;
+  volumePercent: number;
+}
+
+export function cellChangeFrom(reference: UnitCell, refined: { cell: UnitCell; sigma: Record<CellParameterName, number>; free: readonly CellParameterName[]; volume: number }): CellChange {
+  const n = refined.free.length;
+  const relative = refined.free.map((name) => (refined.cell[name] - reference[name]) / reference[name]);
+  const relativeSigma = refined.free.map((name) => refined.sigma[name] / reference[name]);
+  const rms = Math.sqrt(relative.reduce((s, r) => s + r * r, 0) / n);
+  // ∂rms/∂r_i = r_i/(n·rms); at rms ≈ 0 the σ of the rms is that of one parameter, √(Σσ²/n).
+  const sigma = rms > 1e-12
+    ? Math.sqrt(relative.reduce((s, r, i) => s + ((r / (n * rms)) * relativeSigma[i]!) ** 2, 0))
+    : Math.sqrt(relativeSigma.reduce((s, v) => s + v * v, 0) / n);
+  const v0 = cellMetric(reference).volume;
+  return { percent: 100 * rms, sigma: 100 * sigma, volumePercent: (100 * (refined.volume - v0)) / v0 };
 }
 
 export interface LookAlike {

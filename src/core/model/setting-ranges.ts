@@ -21,6 +21,8 @@ export const NUMBER_SETTINGS = {
   toleranceDAngstrom: { label: 'matching tolerance in d', min: 0.00005, max: 0.1, unit: 'Å', example: 0.002 },
   toleranceFwhm: { label: 'matching tolerance in FWHM units', min: 0.1, max: 5, unit: '× FWHM', example: 1 },
   phaseLimit: { label: 'phase limit', min: 1, max: 50, unit: 'phases', example: 12 },
+  goniometerRadiusMm: { label: 'goniometer radius', min: 50, max: 2000, unit: 'mm', example: 240 },
+  cellBoundPercent: { label: 'cell bound', min: 0, max: 20, unit: '% per edge', example: 2 },
   internalStandardPercent: { label: 'internal standard weight', min: 0.1, max: 90, unit: 'wt % of the spiked sample', example: 20 },
   backgroundHalfWidthDeg: { label: 'background clipping half-width', min: 0.1, max: 20, unit: '° 2θ', example: 1 },
   scherrerK: { label: 'Scherrer K', min: 0.5, max: 2, unit: '', example: 0.9 },
