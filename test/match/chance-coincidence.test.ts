@@ -1,7 +1,10 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { binomialTail, chanceCoincidence, coveredFraction } from '../../src/core/match/chance-coincidence.js';
+import { matchPhases } from '../../src/core/match/match.js';
+import { singleWavelength } from '../../src/core/model/wavelengths.js';
 import { seededUniform } from '../../src/core/numeric/random.js';
+import { flatBackground, linesAt, peak, peaksOf, stored } from './synthetic.js';
 
 // Golden tails from scipy.stats.binom.sf (test/match/golden/binomial_tail.py).
 const golden = JSON.parse(readFileSync(new URL('./golden/binomial-tail.json', import.meta.url), 'utf8')) as Array<{ n: number; k: number; p: number; tail: number }>;
@@ -44,5 +47,27 @@ describe('chance coincidence of matched lines', () => {
     const expected = chanceCoincidence({ linesInRange: 30, matchedLines: 6, coveredFraction: f, screened }).expectedByChance;
     expect(expected).toBeGreaterThan(20);
     expect(Math.abs(atLeastSix - expected)).toBeLessThan(5 * Math.sqrt(expected));
+  });
+});
+
+describe('the chance check in the verdict', () => {
+  // A four-line phase on four strong peaks, among 40 weaker peaks of something unknown (random, seeded).
+  const lambda = 1.5405929;
+  const wavelength = singleWavelength(lambda);
+  const phase = stored('four-line phase', linesAt(lambda, [[21.3, 100], [37.9, 60], [52.4, 45], [66.8, 30]]));
+  const uniform = seededUniform(5);
+  const unknown = Array.from({ length: 40 }, () => peak(10 + 78 * uniform(), 20 + 20 * uniform(), lambda));
+  const peaks = [...peaksOf([{ lines: phase.lines, scale: 10 }], lambda), ...unknown].sort((a, b) => a.twoTheta - b.twoTheta);
+  const background = flatBackground(100);
+  // References whose lines all lie outside the scan: they are screened but match nothing.
+  const elsewhere = (count: number) => Array.from({ length: count }, (_, i) => stored(`elsewhere ${i}`, [{ d: 40 + i * 1e-4, intensity: 100 }]));
+
+  it('keeps a four-line phase present in a small library, and calls it uncertain, saying why, where 20 000 references were screened', () => {
+    const small = matchPhases(peaks, [phase, ...elsewhere(10)], { wavelength, background });
+    expect(small.phases.find((p) => p.name === phase.name)?.verdict).toBe('present');
+    const large = matchPhases(peaks, [phase, ...elsewhere(20_000)], { wavelength, background });
+    const judged = large.phases.find((p) => p.name === phase.name)!;
+    expect(judged.verdict).toBe('uncertain');
+    expect(judged.reasons.some((r) => /could be chance: .* of the 20001 references screened would agree as well by luck/.test(r))).toBe(true);
   });
 });

@@ -14,6 +14,7 @@ import { buildReferenceIndex, rangeTotals, screenReferences } from './reference-
 import { evaluatePhase, phaseLines, type Claims, type PhaseEvaluation, type PhaseLines } from './score.js';
 import { refineShift, searchCellScale, type ShiftBounds } from './shift.js';
 import { searchAnisotropicCell } from './cell-search.js';
+import { chanceCoincidence, coveredFraction, MAX_EXPECTED_BY_CHANCE } from './chance-coincidence.js';
 import { fitSampleAndCells, type SampleFit } from './sample-fit.js';
 import type { UnitCell } from '../model/cell.js';
 import { cellMetric, inverseDSquared } from '../crystal/metric.js';
@@ -337,9 +338,18 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
   const fractionSigmas = quantification.weightFractionSigma.map((sigma) => (everyScaleHasSigma ? sigma : null));
   const unquantified = accepted.filter((_, i) => fractions[i] === null).map((a) => refs[a.ref].name);
   const phases: PhaseMatch[] = [];
+  // A phase is present only when its agreement stands out from what chance gives over the whole library screened (chance-coincidence.ts).
+  const covered = coveredFraction(table.twoTheta, tol, table.rangeMin, table.rangeMax);
   accepted.forEach((a, i) => {
-    const verdict = acceptedVerdict(a.evaluation);
+    let verdict = acceptedVerdict(a.evaluation);
+    const chance = chanceCoincidence({ linesInRange: a.evaluation.visibleCount, matchedLines: Math.min(a.evaluation.matchedCount, a.evaluation.visibleCount), coveredFraction: covered, screened: refs.length });
+    if (verdict === 'present' && !chance.beyondChance) verdict = 'uncertain';
     const described = describePhase(a.evaluation, verdict, claims, accepted, table, fractions[i], unquantified, null, exclusive[i]);
+    if (!chance.beyondChance) {
+      described.reasons.push(
+        `its ${a.evaluation.matchedCount} matched lines of ${a.evaluation.visibleCount} could be chance: the peaks' windows cover ${(100 * covered).toFixed(0)} % of the scan, and about ${chance.expectedByChance.toPrecision(2)} of the ${refs.length} references screened would agree as well by luck (at most ${MAX_EXPECTED_BY_CHANCE} allowed for present)`,
+      );
+    }
     const absolute = quantification.absoluteFraction[i];
     const absoluteSigma = quantification.absoluteFractionSigma[i];
     const phase: PhaseMatch = {
