@@ -3,6 +3,7 @@
  * Used by the screens, by `crystallog analyze` and by the batch workers. Pure: the same pattern and
  * context give the same result, so batch output is byte-identical whatever the worker count.
  */
+import { crystallinityEstimate, type CrystallinityEstimate } from './crystallinity.js';
 import { InputError } from '../errors.js';
 import { sha256Stream } from '../model/checksum.js';
 import type { StoredReference } from '../model/reference.js';
@@ -54,6 +55,8 @@ export interface AnalysisResult {
   match: MatchResult;
   /** Sizes from the target's (or the best present phase's) lines; from every peak when no phase is present. */
   size: SizeResult;
+  /** Crystalline share of the scattering above the baseline, without a standard (crystallinity.ts); null when it cannot be formed. */
+  crystallinity: CrystallinityEstimate | null;
   settings: {
     wavelength: string;
     toleranceDeg: number;
@@ -187,6 +190,7 @@ export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisCont
     noise: search.noise,
     match,
     size,
+    crystallinity: crystallinityEstimate(pattern, peaks, wavelength.lambda2 ? wavelength.ratio : 0),
     settings: {
       wavelength: wavelength.label,
       toleranceDeg: settings.toleranceDeg,
