@@ -2,7 +2,7 @@ import { z } from 'zod';
 import type { MatchResult, Verdict } from '../core/match/types.js';
 export type { MatchResult, PhaseMatch, Verdict } from '../core/match/types.js';
 import type { StoredReference } from '../core/model/reference.js';
-import { settingNumber } from '../core/analysis/settings.js';
+import { NUMBER_SETTINGS, rangeMessage, type NumberSettingName } from '../core/analysis/settings.js';
 
 /**
  * The one API of the app: every method's input schema (checked at runtime wherever a call crosses
@@ -15,6 +15,13 @@ const name = z.string().trim().min(1, 'a name is needed').max(200).refine(hasNoC
 /** A file's name as the user's system gave it (only shown and stored, never used as a path). */
 const fileName = z.string().min(1, 'a file name is needed').max(300).refine(hasNoControls, 'a file name cannot hold control characters (such as NUL)');
 const finite = z.number().finite();
+
+/** A number within the settings table's range (core/model/setting-ranges.ts), with the table's sentence as its error. */
+function settingNumber(name: NumberSettingName): z.ZodNumber {
+  const s = NUMBER_SETTINGS[name];
+  const error = rangeMessage(name);
+  return z.number({ error }).finite({ error }).min(s.min, { error }).max(s.max, { error });
+}
 const base64 = z.string().max(90_000_000).regex(/^[A-Za-z0-9+/=\r\n]*$/, 'file bytes must be base64');
 
 export const settingsSchema = z

@@ -25,10 +25,8 @@ const coreRule = (room: string): LayerRule => {
   const below = CORE_ROOMS.slice(0, CORE_ROOMS.indexOf(room as (typeof CORE_ROOMS)[number])).map((r) => `core/${r}`);
   const packages: Record<string, string[]> = {
     model: ['@noble/hashes'],
-    pattern: ['papaparse'],
     library: ['zod', 'papaparse'],
     size: ['zod'],
-    analysis: ['zod'],
   };
   return { mayImport: below, packages: packages[room] ?? [] };
 };

@@ -3,8 +3,6 @@
  * reads when a value is out of range. The CLI flags, the app's project settings and the batch all
  * check their values here, so one option has one set of limits wherever it is given.
  */
-import { z } from 'zod';
-
 export { NUMBER_SETTINGS, rangeMessage, type NumberSettingName } from '../model/setting-ranges.js';
 import { InputError } from '../errors.js';
 import { NUMBER_SETTINGS, rangeMessage, type NumberSettingName } from '../model/setting-ranges.js';
@@ -12,13 +10,6 @@ import { anodeWavelength, parseWavelength, type Wavelength } from '../model/wave
 import { SCHERRER_K_PRESETS } from '../size/scherrer.js';
 import { RADIATION_SOURCES, type RadiationSource } from '../match/satellites.js';
 import { BREADTH_KINDS, CORRECTION_KINDS, type BreadthKind, type CorrectionKind } from '../size/voigt.js';
-
-/** A zod number within the table's range, with the table's sentence as its error. */
-export function settingNumber(name: NumberSettingName): z.ZodNumber {
-  const s = NUMBER_SETTINGS[name];
-  const error = rangeMessage(name);
-  return z.number({ error }).finite({ error }).min(s.min, { error }).max(s.max, { error });
-}
 
 export interface AnalysisSettings {
   /** The user's wavelength; null means the one named in the file, else Cu Kα1/Kα2. */
@@ -77,49 +68,114 @@ export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
   source: 'ni-filter',
 };
 
-const presetIds = SCHERRER_K_PRESETS.map((p) => p.id);
+const presetIds: readonly string[] = SCHERRER_K_PRESETS.map((p) => p.id);
 const kMessage = `${rangeMessage('scherrerK')}, or one of ${presetIds.join(', ')}`;
 
 /** Settings as they arrive from a flag, a form or a file: every field optional, names as above. */
-const analysisSettingsInput = z
-  .object({
-    wavelength: z.string().trim().min(1).max(20).nullable(),
-    toleranceDeg: settingNumber('toleranceDeg'),
-    toleranceDAngstrom: settingNumber('toleranceDAngstrom').nullable(),
-    toleranceFwhm: settingNumber('toleranceFwhm').nullable(),
-    phaseLimit: settingNumber('phaseLimit').int({ error: rangeMessage('phaseLimit') }),
-    goniometerRadiusMm: settingNumber('goniometerRadiusMm'),
-    cellBoundPercent: settingNumber('cellBoundPercent'),
-    internalStandard: z.string().trim().min(1).max(200).nullable(),
-    internalStandardPercent: settingNumber('internalStandardPercent').nullable(),
-    zeroFromInstrument: z.boolean({ error: 'zeroFromInstrument must be true or false' }),
-    k: z.union([settingNumber('scherrerK'), z.string().trim().toLowerCase().refine((v) => presetIds.includes(v))], { error: kMessage }),
-    breadth: z.enum(BREADTH_KINDS as [BreadthKind, ...BreadthKind[]], { error: `breadth must be ${BREADTH_KINDS.join(' or ')}` }),
-    correction: z.enum(CORRECTION_KINDS as [CorrectionKind, ...CorrectionKind[]], { error: `correction must be ${CORRECTION_KINDS.join(', ')}` }),
-    target: z.string().trim().min(1).max(200).nullable(),
-    backgroundHalfWidthDeg: settingNumber('backgroundHalfWidthDeg').nullable(),
-    thresholdSigma: settingNumber('thresholdSigma'),
-    sizePhase: z.string().trim().min(1).max(200).nullable(),
-    source: z.enum(RADIATION_SOURCES, { error: `the radiation source must be one of ${RADIATION_SOURCES.join(', ')}` }),
-  })
-  .partial()
-  .strict();
+export type AnalysisSettingsInput = {
+  [K in keyof AnalysisSettings]?: (K extends 'wavelength' ? string : K extends 'k' ? number | string : AnalysisSettings[K]) | (null extends AnalysisSettings[K] ? null : never);
+};
 
-export type AnalysisSettingsInput = z.input<typeof analysisSettingsInput>;
+/** One field's check: its accepted value (text trimmed, a preset name lower-cased) or the sentence for the user. */
+type FieldCheck = (value: unknown) => { value: unknown } | { message: string };
+
+/** What a value is, in the words of the messages ("received number"). */
+function kindOf(value: unknown): string {
+  if (value === null) return 'null';
+  if (Array.isArray(value)) return 'array';
+  if (typeof value === 'number' && Number.isNaN(value)) return 'NaN';
+  return typeof value;
+}
+
+/** A finite number within the setting table's range (whole with `whole`), with the table's sentence as its error. */
+function settingNumberCheck(name: NumberSettingName, { nullable = false, whole = false } = {}): FieldCheck {
+  const { min, max } = NUMBER_SETTINGS[name];
+  return (value) => {
+    if (value === null && nullable) return { value };
+    const ok = typeof value === 'number' && Number.isFinite(value) && value >= min && value <= max && (!whole || Number.isInteger(value));
+    return ok ? { value } : { message: rangeMessage(name) };
+  };
+}
+
+/** A name or symbol: text, trimmed, 1 to `maxLength` characters; null for none. */
+function textCheck(maxLength: number): FieldCheck {
+  return (value) => {
+    if (value === null) return { value };
+    if (typeof value !== 'string') return { message: `Invalid input: expected string, received ${kindOf(value)}` };
+    const text = value.trim();
+    if (text.length < 1) return { message: 'Too small: expected string to have >=1 characters' };
+    if (text.length > maxLength) return { message: `Too big: expected string to have <=${maxLength} characters` };
+    return { value: text };
+  };
+}
+
+function oneOfCheck(choices: readonly string[], message: string): FieldCheck {
+  return (value) => (typeof value === 'string' && choices.includes(value) ? { value } : { message });
+}
+
+/** Scherrer K: a number within the table's range, or a preset's name (any case, spaces around allowed). */
+const kCheck: FieldCheck = (value) => {
+  if (typeof value === 'string') {
+    const id = value.trim().toLowerCase();
+    return presetIds.includes(id) ? { value: id } : { message: 'Invalid input' };
+  }
+  if (typeof value === 'number' && Number.isFinite(value)) return settingNumberCheck('scherrerK')(value);
+  return { message: kMessage };
+};
+
+/** Every setting's check, in the order the fields are checked (the first failure is the one reported). */
+const FIELD_CHECKS: Record<keyof AnalysisSettings, FieldCheck> = {
+  wavelength: textCheck(20),
+  toleranceDeg: settingNumberCheck('toleranceDeg'),
+  toleranceDAngstrom: settingNumberCheck('toleranceDAngstrom', { nullable: true }),
+  toleranceFwhm: settingNumberCheck('toleranceFwhm', { nullable: true }),
+  phaseLimit: settingNumberCheck('phaseLimit', { whole: true }),
+  goniometerRadiusMm: settingNumberCheck('goniometerRadiusMm'),
+  cellBoundPercent: settingNumberCheck('cellBoundPercent'),
+  internalStandard: textCheck(200),
+  internalStandardPercent: settingNumberCheck('internalStandardPercent', { nullable: true }),
+  zeroFromInstrument: (value) => (typeof value === 'boolean' ? { value } : { message: 'zeroFromInstrument must be true or false' }),
+  k: kCheck,
+  breadth: oneOfCheck(BREADTH_KINDS, `breadth must be ${BREADTH_KINDS.join(' or ')}`),
+  correction: oneOfCheck(CORRECTION_KINDS, `correction must be ${CORRECTION_KINDS.join(', ')}`),
+  target: textCheck(200),
+  backgroundHalfWidthDeg: settingNumberCheck('backgroundHalfWidthDeg', { nullable: true }),
+  thresholdSigma: settingNumberCheck('thresholdSigma'),
+  sizePhase: textCheck(200),
+  source: oneOfCheck(RADIATION_SOURCES, `the radiation source must be one of ${RADIATION_SOURCES.join(', ')}`),
+};
+
+/**
+ * The given fields, checked (an absent or undefined field is left out), or the first failure with the
+ * field it concerns. Plain checks rather than a schema library, so that a one-file command does not
+ * load one (issue 15: start-up).
+ */
+function checkSettingsInput(input: unknown): { data: Partial<Record<keyof AnalysisSettings, unknown>> } | { field: keyof AnalysisSettings | null; message: string } {
+  if (typeof input !== 'object' || input === null || Array.isArray(input)) return { field: null, message: `Invalid input: expected object, received ${kindOf(input)}` };
+  const given = input as Record<string, unknown>;
+  const data: Partial<Record<keyof AnalysisSettings, unknown>> = {};
+  for (const [field, check] of Object.entries(FIELD_CHECKS) as [keyof AnalysisSettings, FieldCheck][]) {
+    if (given[field] === undefined) continue;
+    const checked = check(given[field]);
+    if ('message' in checked) return { field, message: checked.message };
+    data[field] = checked.value;
+  }
+  const unknown = Object.keys(given).filter((key) => !Object.hasOwn(FIELD_CHECKS, key));
+  if (unknown.length > 0) return { field: null, message: `Unrecognized key${unknown.length > 1 ? 's' : ''}: ${unknown.map((key) => JSON.stringify(key)).join(', ')}` };
+  return { data };
+}
 
 /**
  * Check settings and fill in the defaults. `names` says what each field is called where the user gave
  * it (a flag such as "--tolerance"), so the message points at the thing they typed.
  */
 export function resolveAnalysisSettings(input: unknown, names: Partial<Record<keyof AnalysisSettings, string>> = {}): AnalysisSettings {
-  const parsed = analysisSettingsInput.safeParse(input);
-  if (!parsed.success) {
-    const issue = parsed.error.issues[0]!;
-    const field = String(issue.path[0] ?? '') as keyof AnalysisSettings;
-    const where = names[field] ? `${names[field]}: ` : '';
-    throw new InputError(`${where}${issue.message}`);
+  const checked = checkSettingsInput(input);
+  if ('message' in checked) {
+    const where = checked.field !== null && names[checked.field] ? `${names[checked.field]}: ` : '';
+    throw new InputError(`${where}${checked.message}`);
   }
-  const { wavelength, ...rest } = parsed.data;
+  const { wavelength, ...rest } = checked.data as Partial<AnalysisSettings> & { wavelength?: string | null };
   if ((rest.internalStandard == null) !== (rest.internalStandardPercent == null)) {
     const where = [names.internalStandard, names.internalStandardPercent].filter(Boolean).join(' and ');
     throw new InputError(`${where ? `${where}: ` : ''}an internal standard needs both its name and its weight % in the spiked sample`);

@@ -1,6 +1,6 @@
-import Papa from 'papaparse';
 import { InputError } from '../../errors.js';
 import type { RawPattern } from './finish.js';
+import { firstCsvRow } from './csv-row.js';
 import { readTextMetadata } from './metadata.js';
 import { scanNumber, scanState } from '../../numeric/number-scan.js';
 
@@ -122,9 +122,7 @@ interface DataStart {
 /** Split a header line into column names (quoted CSV names allowed). */
 function headerNames(line: string, separator: Separator): string[] {
   if (separator === 'blank') return line.trim().split(/[ \t]+/).map((w) => w.replace(/^"|"$/g, ''));
-  const parsed = Papa.parse<string[]>(line, { delimiter: separator, quoteChar: '"' });
-  const row = parsed.data[0] ?? [];
-  const names = row.map((w) => w.trim());
+  const names = firstCsvRow(line, separator).map((w) => w.trim());
   while (names.length > 0 && names[names.length - 1] === '') names.pop();
   return names;
 }

@@ -1,0 +1,38 @@
+/**
+ * A one-file command loads only what it needs (issue 15: start-up): `crystallog peaks FILE` loads the
+ * CLI frame, its own command module and the peak search, and no schema library, CSV package, SQLite
+ * binding or other command's module. Checked on the compiled CLI as a user runs it (`npm test` builds
+ * it first), by a module resolve hook that lists every module the process loads.
+ */
+import { spawnSync } from 'node:child_process';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { dirname, join } from 'node:path';
+import { fileURLToPath, pathToFileURL } from 'node:url';
+import { describe, expect, it } from 'vitest';
+
+const root = join(dirname(fileURLToPath(import.meta.url)), '..', '..');
+
+/** Every module URL the command resolves (stderr of a resolve hook), and its exit status. */
+function modulesLoadedBy(args: string[]): { modules: string[]; status: number | null } {
+  const dir = mkdtempSync(join(tmpdir(), 'crystallog-modules-'));
+  const hook = join(dir, 'hook.mjs');
+  writeFileSync(hook, "export async function resolve(spec, context, next) { const found = await next(spec, context); process.stderr.write(`module ${found.url}\\n`); return found; }\n");
+  const register = `import { register } from 'node:module'; register(${JSON.stringify(pathToFileURL(hook).href)});`;
+  const run = spawnSync(process.execPath, ['--import', `data:text/javascript,${encodeURIComponent(register)}`, join(root, 'bin', 'crystallog.js'), ...args], { encoding: 'utf8' });
+  const modules = [...run.stderr.matchAll(/^module (.+)$/gm)].map((m) => m[1]!);
+  return { modules, status: run.status };
+}
+
+describe('start-up of a one-file command', () => {
+  it('peaks loads its own command and the peak search, and none of the heavy packages or other commands', () => {
+    const { modules, status } = modulesLoadedBy(['peaks', join(root, 'test', 'fixtures', 'patterns', 'simulated-si111-header.csv'), '--json']);
+    expect(status).toBe(0);
+    expect(modules.some((m) => m.endsWith('/dist/src/cli/commands/peaks.js'))).toBe(true);
+    expect(modules.some((m) => m.endsWith('/dist/src/core/process/peaks.js'))).toBe(true);
+    const heavy = modules.filter((m) => /\/node_modules\/(zod|papaparse|better-sqlite3)\//.test(m));
+    const otherCommands = modules.filter((m) => /\/cli\/commands\/(?!peaks\.js|index\.js)[^/]+\.js$/.test(m));
+    expect(heavy).toEqual([]);
+    expect(otherCommands).toEqual([]);
+  }, 60_000);
+});
