@@ -12,7 +12,7 @@ import { parseWavelength } from '../../src/core/model/wavelengths.js';
 import { seededUniform } from '../../src/core/numeric/random.js';
 import type { SimulatedReflection } from '../simulator/cell.js';
 import { simulatePowderPattern } from '../simulator/pattern.js';
-import { caseDraws, changedCell, RADIATIONS, rate, reflectionsOf, simulatedPhase, storedReference, TEST_PHASES } from './support.js';
+import { caseDraws, changedCell, RADIATIONS, rate, reflectionsOf, scanOf, simulatedPhase, storedReference, TEST_PHASES } from './support.js';
 
 const CASES = Number(process.env.CRYSTALLOG_LOOK_ALIKE_CASES ?? 100);
 const LIBRARY_D_MIN = 0.65;
@@ -50,14 +50,10 @@ describe('look-alike pairs (independent simulator)', () => {
       const radiation = RADIATIONS[Math.floor(i / (2 * pairs.length)) % RADIATIONS.length]!;
       const pattern = simulatePowderPattern({
         phases: [simulatedPhase(truth.cell, truth.reflections, draw.between(40, 200))],
-        twoThetaMinDeg: radiation.twoThetaMinDeg,
-        twoThetaMaxDeg: radiation.twoThetaMaxDeg,
-        stepDeg: radiation.stepDeg,
+        ...scanOf(radiation),
         peakCounts: Math.round(draw.between(8000, 40000)),
         backgroundCounts: Math.round(draw.between(50, 300)),
         seed: 33000 + i,
-        beam: radiation.beam,
-        instrument: radiation.instrument,
         zeroDeg: draw.between(-0.08, 0.08),
         displacementMm: draw.sign() * draw.between(0.1, 0.3),
       });

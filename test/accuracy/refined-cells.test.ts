@@ -10,7 +10,7 @@ import { describe, expect, it } from 'vitest';
 import { analyzePattern, createAnalysisContext } from '../../src/core/analysis/analyse.js';
 import { parseWavelength } from '../../src/core/model/wavelengths.js';
 import { simulatePowderPattern } from '../simulator/pattern.js';
-import { caseDraws, changedCell, FREE_PARAMETERS, RADIATIONS, rate, reflectionsOf, simulatedPhase, storedReference, TEST_PHASES } from './support.js';
+import { caseDraws, changedCell, FREE_PARAMETERS, RADIATIONS, rate, reflectionsOf, scanOf, simulatedPhase, storedReference, TEST_PHASES } from './support.js';
 
 const DRAWS = Number(process.env.CRYSTALLOG_CELL_DRAWS ?? 40);
 const LIBRARY_D_MIN = 0.65;
@@ -34,14 +34,10 @@ describe('refined cells (independent simulator)', () => {
       const shift = { zeroDeg: draw.between(-0.08, 0.08), displacementMm: draw.sign() * draw.between(0.1, 0.3) };
       const pattern = simulatePowderPattern({
         phases: [simulatedPhase(truth, reflections[k]!, draw.between(60, 200))],
-        twoThetaMinDeg: radiation.twoThetaMinDeg,
-        twoThetaMaxDeg: radiation.twoThetaMaxDeg,
-        stepDeg: radiation.stepDeg,
+        ...scanOf(radiation),
         peakCounts: Math.round(draw.between(8000, 40000)),
         backgroundCounts: Math.round(draw.between(50, 300)),
         seed: 23000 + i,
-        beam: radiation.beam,
-        instrument: radiation.instrument,
         ...shift,
       });
       const result = analyzePattern(pattern, createAnalysisContext(library, null, { wavelength: parseWavelength(radiation.wavelength) }));

@@ -73,6 +73,11 @@ export const RADIATIONS: readonly Radiation[] = [
   { label: 'synchrotron 0.4 Å', wavelength: '0.4', beam: [{ lambda: 0.4, weight: 1 }], twoThetaMinDeg: 3, twoThetaMaxDeg: 32, stepDeg: 0.005, instrument: { u: 0, v: 0, w: 0.0004, x: 0, y: 0.004 } },
 ];
 
+/** The simulator settings a radiation fixes: its scan range and step, its beam lines and its instrument widths. */
+export function scanOf(r: Radiation): Pick<Radiation, 'twoThetaMinDeg' | 'twoThetaMaxDeg' | 'stepDeg' | 'beam' | 'instrument'> {
+  return { twoThetaMinDeg: r.twoThetaMinDeg, twoThetaMaxDeg: r.twoThetaMaxDeg, stepDeg: r.stepDeg, beam: r.beam, instrument: r.instrument };
+}
+
 /** Shortest d a radiation's scan reaches, Å. */
 export function dMinOf(r: Radiation): number {
   const lambda = Math.min(...r.beam.map((b) => b.lambda));

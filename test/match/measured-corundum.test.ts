@@ -6,23 +6,11 @@
  * of the strong lines), which must be marked as such and never called a phase.
  */
 import { describe, expect, it } from 'vitest';
-import { matchPhases } from '../../src/core/match/match.js';
 import { anodeWavelength } from '../../src/core/model/wavelengths.js';
-import { findPeaks } from '../../src/core/process/peaks.js';
-import { readPatternFile } from '../../src/node/files.js';
-import { loadSeedReferences } from '../../src/node/library/seed.js';
+import { matchMeasuredAgainstSeeds } from './measured-support.js';
 
 describe('measured: NIST SRM 1976b corundum plate (Cu Kα1+Kα2)', () => {
-  const pattern = readPatternFile('test/fixtures/measured/corundum-1976b-cu-ka12.xy');
-  const wavelength = anodeWavelength('Cu');
-  const search = findPeaks(pattern, { wavelength });
-  const references = loadSeedReferences().map((r, i) => ({ ...r, id: i + 1, version: 1, createdAt: '2026-01-01T00:00:00Z' }));
-  const result = matchPhases(search.peaks, references, {
-    wavelength,
-    background: { x: pattern.x, y: search.background, sigma: search.noiseSigma },
-    twoThetaRangeDeg: { min: pattern.x[0], max: pattern.x[pattern.x.length - 1] },
-    goniometerRadiusMm: 280,
-  });
+  const result = matchMeasuredAgainstSeeds('test/fixtures/measured/corundum-1976b-cu-ka12.xy', anodeWavelength('Cu'), { goniometerRadiusMm: 280 });
 
   it('calls corundum present and nothing else, on most of its lines', () => {
     const present = result.phases.filter((p) => p.verdict === 'present').map((p) => p.name);

@@ -5,11 +5,8 @@
  * the zero offset and displacement reported, and the three holder lines left unexplained.
  */
 import { describe, expect, it } from 'vitest';
-import { matchPhases } from '../../src/core/match/match.js';
 import { singleWavelength } from '../../src/core/model/wavelengths.js';
-import { findPeaks } from '../../src/core/process/peaks.js';
-import { readPatternFile } from '../../src/node/files.js';
-import { loadSeedReferences } from '../../src/node/library/seed.js';
+import { matchMeasuredAgainstSeeds } from './measured-support.js';
 
 /** NIST SRM 640d certificate (revised 2010), as given in CHECK-VALUES.md. */
 const CERTIFIED_A = 5.43123;
@@ -17,15 +14,7 @@ const CERTIFIED_A = 5.43123;
 const HOLDER_LINES = [44.12, 51.27, 74.66];
 
 describe('measured: NIST SRM 640d silicon (Cu Kα1)', () => {
-  const pattern = readPatternFile('test/fixtures/measured/si-640d-cu-ka1-johansson.xy');
-  const wavelength = singleWavelength(1.5405929);
-  const search = findPeaks(pattern, { wavelength });
-  const references = loadSeedReferences().map((r, i) => ({ ...r, id: i + 1, version: 1, createdAt: '2026-01-01T00:00:00Z' }));
-  const result = matchPhases(search.peaks, references, {
-    wavelength,
-    background: { x: pattern.x, y: search.background, sigma: search.noiseSigma },
-    twoThetaRangeDeg: { min: pattern.x[0], max: pattern.x[pattern.x.length - 1] },
-  });
+  const result = matchMeasuredAgainstSeeds('test/fixtures/measured/si-640d-cu-ka1-johansson.xy', singleWavelength(1.5405929));
   const silicon = result.phases.find((p) => p.name === 'silicon')!;
 
   it('calls silicon present, alone, on its seven lines, and leaves the three holder lines unexplained', () => {

@@ -4,16 +4,10 @@
  * (International Tables for Crystallography Vol. B, §1.1.3), checked against gemmi's UnitCell
  * (test/golden/simulator/d-spacings.json, made by make_d_golden.py).
  */
+import type { UnitCell } from '../../src/core/model/cell.js';
 
-export interface SimulatedCell {
-  a: number;
-  b: number;
-  c: number;
-  /** Degrees. */
-  alpha: number;
-  beta: number;
-  gamma: number;
-}
+/** Edges in Å, angles in degrees (the app's cell shape; the space group plays no part here). */
+export type SimulatedCell = Omit<UnitCell, 'spaceGroup'>;
 
 export type Miller = readonly [number, number, number];
 
