@@ -274,6 +274,7 @@ export function analyzeFiles(files: readonly string[], setup: BatchSetup, option
       worker.on('message', (message: WorkerMessage) => {
         if ('ready' in message) {
           ready = true;
+          feed();
           return;
         }
         const outcome = message;
@@ -283,9 +284,10 @@ export function analyzeFiles(files: readonly string[], setup: BatchSetup, option
       });
       worker.on('error', (err) => onLost(err.message));
       worker.on('exit', (code) => {
-        if (inFlight.size > 0) onLost(`worker stopped with exit code ${code}`);
+        if (!ready || inFlight.size > 0) onLost(`worker stopped with exit code ${code}`);
       });
-      feed();
+      // Files are handed over only once the worker says it is ready, so a fault on a file can never
+      // be taken for a worker that failed to start (the two events would otherwise race).
     };
 
     for (let w = 0; w < poolSize; w++) startWorker();
