@@ -56,20 +56,30 @@ export function buildReferenceIndex(references: readonly StoredReference[]): Ref
  */
 export function sortLineIndex(lines: PackedLineIndex): PackedLineIndex {
   const total = lines.d.length;
-  const keep = new Uint32Array(total);
   let n = 0;
-  for (let i = 0; i < total; i++) if (lines.d[i]! > 0) keep[n++] = i;
-  const dKept = new Float64Array(n);
-  for (let i = 0; i < n; i++) dKept[i] = lines.d[keep[i]!]!;
-  const { order, sorted: d } = sortedOrder(dKept);
+  for (let i = 0; i < total; i++) if (lines.d[i]! > 0) n++;
+  const kept = n === total ? lines : dropNonPositive(lines, n);
+  const { order, sorted: d } = sortedOrder(kept.d);
   const referenceOf = new Int32Array(n);
   const intensity = new Float32Array(n);
   for (let i = 0; i < n; i++) {
     const k = order[i]!;
-    referenceOf[i] = lines.referenceOf[keep[k]!]!;
-    intensity[i] = lines.intensity[keep[k]!]!;
+    referenceOf[i] = kept.referenceOf[k]!;
+    intensity[i] = kept.intensity[k]!;
   }
   return { d, referenceOf, intensity };
+}
+
+function dropNonPositive(lines: PackedLineIndex, n: number): PackedLineIndex {
+  const kept: PackedLineIndex = { d: new Float64Array(n), referenceOf: new Int32Array(n), intensity: new Float32Array(n) };
+  let k = 0;
+  for (let i = 0; i < lines.d.length; i++) {
+    if (!(lines.d[i]! > 0)) continue;
+    kept.d[k] = lines.d[i]!;
+    kept.referenceOf[k] = lines.referenceOf[i]!;
+    kept.intensity[k++] = lines.intensity[i]!;
+  }
+  return kept;
 }
 
 /**

@@ -6,7 +6,7 @@ import type { Reference, ReferenceLine, StoredReference } from '../../core/model
 import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from './schema.js';
 import { DEFAULT_BUSY_TIMEOUT_MS, openDatabase, readMeta, schemaVersion, writeMeta, type Db } from './sqlite.js';
 import { describeHolder, forgetHolder, recordHolder } from './write-lock.js';
-import { createHash } from 'node:crypto';
+import { createHash, hash } from 'node:crypto';
 import { canonicalContent, checkReferences } from '../../core/library/validate.js';
 import { libraryDigest } from '../../core/analysis/analyse.js';
 import { lineIntensity, referenceIndexFromPacked, sortLineIndex, type PackedLineIndex, type ReferenceIndex } from '../../core/match/reference-index.js';
@@ -142,13 +142,29 @@ export class ReferenceLibrary {
     return this.write(() => {
       const summary: ImportSummary = { added: [], updated: [], unchanged: [] };
       const seen = new Set<string>();
+      const written = new Map<number, VersionRow>();
+      const store: StoreOptions = {
+        createdAt: new Date().toISOString(), // one import, one time
+        // An empty library has no entry to look up (a name twice in the import is refused just below).
+        lookUp: this.statements.entryCount.get()!.n > 0,
+        written: (row) => written.set(row[0], row),
+      };
       for (const ref of refs) {
         const key = ref.name.toLowerCase();
         if (seen.has(key)) throw new InputError(`the reference "${ref.name}" appears twice in one import; each name may appear once`);
         seen.add(key);
-        summary[this.storeVersion(ref, change)].push(ref.name);
+        summary[this.storeVersion(ref, change, store)].push(ref.name);
       }
-      this.saveSnapshot();
+      // When every current reference was written just now (an import into an empty library, say),
+      // the snapshot is made from the rows in hand; else from the stored rows.
+      const current = this.statements.currentIdsByName.all();
+      if (!current.every((id) => written.has(id))) {
+        written.clear();
+        this.saveSnapshot();
+      } else {
+        const lines = current.reduce((sum, id) => sum + written.get(id)![6], 0);
+        this.saveSnapshot({ references: current.length, lines, rows: takeRows(current, written) });
+      }
       return summary;
     });
   }
@@ -213,14 +229,15 @@ export class ReferenceLibrary {
   }
 
   /**
-   * Store the snapshot of the current references, made from their stored rows in one pass (packed
-   * line bytes copied end to end, heads from the stored details text): no reference or line objects.
+   * Store the snapshot of the current references, made from their rows (as stored, or the rows of
+   * every current reference in name order with their totals when the caller has them) in one pass: packed line bytes
+   * copied end to end, heads from the stored details text, no reference or line objects.
    */
-  private saveSnapshot(): void {
+  private saveSnapshot(given?: { references: number; lines: number; rows: Iterable<VersionRow> }): void {
     const bytes = (a: Float64Array | Int32Array | Float32Array) => Buffer.from(a.buffer, a.byteOffset, a.byteLength);
-    const { references, lines } = this.statements.currentTotals.get()!;
+    const { references, lines } = given ?? this.statements.currentTotals.get()!;
     const lineValues = new Float64Array(2 * lines);
-    const gathered: PackedLineIndex = { d: new Float64Array(lines), referenceOf: new Int32Array(lines), intensity: new Float32Array(lines) };
+    let gathered: PackedLineIndex | null = { d: new Float64Array(lines), referenceOf: new Int32Array(lines), intensity: new Float32Array(lines) };
     const indexStart = new Int32Array(references);
     const indices: Buffer[] = [];
     const heads: string[] = [];
@@ -228,7 +245,7 @@ export class ReferenceLibrary {
     let n = 0;
     let ints = 0;
     let r = 0;
-    for (const [id, version, name, source, details, createdAt, count, values, lineIndices] of this.statements.all.iterate()) {
+    for (const [id, version, name, source, details, createdAt, count, values, lineIndices] of given?.rows ?? this.statements.all.iterate()) {
       const { d, intensity } = unpackValues(values, count);
       lineValues.set(d, 2 * n);
       lineValues.set(intensity, 2 * n + count);
@@ -249,6 +266,7 @@ export class ReferenceLibrary {
       r++;
     }
     const packed = sortLineIndex(gathered);
+    gathered = null; // free before SQLite copies the snapshot's bytes
     this.statements.saveSnapshot.run({
       stamp: this.stamp(),
       digest: libraryDigest(digestOf),
@@ -423,12 +441,12 @@ export class ReferenceLibrary {
     }
   }
 
-  /** Add one checked reference as a new version when its content differs from the current one. */
-  private storeVersion(ref: Reference, change: string): keyof ImportSummary {
+  /** Add one checked reference as a new version when its content differs from the current one (its row told to `written`). */
+  private storeVersion(ref: Reference, change: string, options: StoreOptions = {}): keyof ImportSummary {
     const s = this.statements;
     const packed = packLines(ref.lines);
     const hash = contentHash(ref, packed);
-    const entry = s.entryByName.get(ref.name);
+    const entry = options.lookUp === false ? undefined : s.entryByName.get(ref.name);
     let entryId: number;
     let version: number;
     let outcome: keyof ImportSummary;
@@ -442,19 +460,10 @@ export class ReferenceLibrary {
       version = s.lastVersion.get(entry.id)!.last + 1;
       outcome = 'updated';
     }
-    s.insertVersion.run(
-      entryId,
-      version,
-      ref.name,
-      ref.source,
-      JSON.stringify(detailsOf(ref)),
-      packed.count,
-      packed.values,
-      packed.indices,
-      hash,
-      change,
-      new Date().toISOString(),
-    );
+    const details = JSON.stringify(detailsOf(ref));
+    const createdAt = options.createdAt ?? new Date().toISOString();
+    s.insertVersion.run(entryId, version, ref.name, ref.source, details, packed.count, packed.values, packed.indices, hash, change, createdAt);
+    options.written?.([entryId, version, ref.name, ref.source, details, createdAt, packed.count, packed.values, packed.indices]);
     if (outcome === 'updated') {
       s.setCurrent.run(version, ref.name, ref.formula, entryId);
       s.clearTags.run(entryId);
@@ -474,6 +483,25 @@ export class ReferenceLibrary {
     if (entry.deleted_at !== null) throw new InputError(`the reference "${entry.name}" is deleted; undelete or restore it first`);
     return this.get(name)!;
   }
+}
+
+/** The rows of these ids in this order, each let go of once handed out. */
+function* takeRows(ids: readonly number[], rows: Map<number, VersionRow>): Generator<VersionRow> {
+  for (const id of ids) {
+    const row = rows.get(id)!;
+    rows.delete(id);
+    yield row;
+  }
+}
+
+/** How storeVersion stores a version. */
+interface StoreOptions {
+  /** Its created_at (default now). */
+  createdAt?: string;
+  /** false: the name is known to be new (no lookup). */
+  lookUp?: boolean;
+  /** Told the row as stored. */
+  written?: (row: VersionRow) => void;
 }
 
 /** The snapshot row (schema.ts, step 3). */
@@ -528,6 +556,7 @@ function prepareStatements(db: Db) {
       { version: number; name: string; change: string; line_count: number; created_at: string }
     >,
     count: db.prepare(`SELECT count(*) AS n FROM reference_entry WHERE deleted_at IS NULL`) as Statement<[], { n: number }>,
+    entryCount: db.prepare(`SELECT count(*) AS n FROM reference_entry`) as Statement<[], { n: number }>,
     entryByName: db.prepare(`SELECT id, name, current_version, deleted_at FROM reference_entry WHERE name = ?`) as Statement<[string], EntryRow>,
     currentHash: db.prepare(`SELECT v.content_hash FROM reference_entry e JOIN reference_version v
       ON v.entry_id = e.id AND v.version = e.current_version WHERE e.id = ?`) as Statement<[number], { content_hash: string }>,
@@ -540,6 +569,7 @@ function prepareStatements(db: Db) {
     clearTags: db.prepare(`DELETE FROM reference_tag WHERE entry_id = ?`),
     insertTag: db.prepare(`INSERT OR IGNORE INTO reference_tag (entry_id, tag) VALUES (?, ?)`),
     snapshot: db.prepare(`SELECT * FROM line_index WHERE id = 1`) as Statement<[], SnapshotRow>,
+    currentIdsByName: (db.prepare(`SELECT e.id FROM reference_entry e WHERE e.deleted_at IS NULL ORDER BY e.name`) as Statement<[], number>).pluck(),
     currentTotals: db.prepare(`SELECT count(*) AS "references", coalesce(sum(v.line_count), 0) AS lines ${CURRENT}`) as Statement<[], { references: number; lines: number }>,
     stamp: db.prepare(`SELECT count(*) AS n, total(current_version) AS versions, (SELECT max(rowid) FROM reference_version) AS last
       FROM reference_entry WHERE deleted_at IS NULL`) as Statement<[], { n: number; versions: number; last: number | null }>,
@@ -559,12 +589,12 @@ function seconds(ms: number): string {
  * canonicalContent (validate.ts); sameContent still compares those.
  */
 const PACKED_HASH = 'packed:';
+const ZERO_BYTE = Buffer.from([0]);
 
 function contentHash(ref: Reference, packed: PackedLines): string {
   const fields = JSON.stringify([ref.name, ref.formula, ref.tags, ref.source, ref.notes ?? null, ref.rir ?? null, ref.cell ?? null, ref.intensityBasis ?? null]);
-  const hash = createHash('sha256').update(fields).update('\u0000').update(packed.values);
-  if (packed.indices) hash.update('\u0000').update(packed.indices);
-  return PACKED_HASH + hash.digest('hex');
+  const parts = [Buffer.from(fields), ZERO_BYTE, packed.values, ...(packed.indices ? [ZERO_BYTE, packed.indices] : [])];
+  return PACKED_HASH + hash('sha256', Buffer.concat(parts)); // one-shot: far cheaper than createHash per reference
 }
 
 /** Whether a stored content_hash (of either form) is that of this reference. */
