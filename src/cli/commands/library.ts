@@ -1,6 +1,8 @@
 import type { Command } from 'commander';
 import { InputError } from '../../core/errors.js';
-import { readReferenceFileContents } from '../../node/library/import-files.js';
+import { existsSync, rmSync } from 'node:fs';
+import { checkReferences } from '../../core/library/validate.js';
+import { streamReferenceFile } from '../../node/library/import-files.js';
 import type { SkippedCifBlock } from '../../core/crystal/structure.js';
 import { formatReferenceJson } from '../../core/library/json-format.js';
 import type { Reference } from '../../core/model/reference.js';
@@ -129,7 +131,11 @@ function withCifDetails(file: string, refs: Reference[], o: ImportOptions): Refe
   }));
 }
 
-/** Read every file first, then store all references in one transaction: one bad file changes nothing. */
+/**
+ * Store the references of every file in one transaction, each file read as it is stored (a large JSON
+ * file streamed): one bad reference in any file changes nothing, and a library file this import
+ * created is removed again.
+ */
 export function importCommand(files: string[], o: ImportOptions): ImportResult {
   const wavelength = o.wavelength === undefined ? undefined : parseWavelength(o.wavelength);
   const csv = {
@@ -138,25 +144,38 @@ export function importCommand(files: string[], o: ImportOptions): ImportResult {
     ...(o.formula !== undefined ? { formula: o.formula } : {}),
     ...(o.tag !== undefined && o.tag.length > 0 ? { tags: o.tag } : {}),
   };
-  const read: { file: string; refs: Reference[]; skipped: SkippedCifBlock[] }[] = files.map((file) => {
-    const contents = readReferenceFileContents(file, { csv, ...(wavelength ? { wavelength } : {}) });
-    return { file, refs: withCifDetails(file, contents.references, o), skipped: contents.skipped };
-  });
-  const all = read.flatMap((r) => r.refs);
-  const from = new Map<string, string>();
-  for (const { file, refs } of read) {
-    for (const ref of refs) {
-      const earlier = from.get(ref.name.toLowerCase());
-      if (earlier) throw new InputError(`the reference "${ref.name}" is also in ${earlier}; import one of them`, { file });
-      from.set(ref.name.toLowerCase(), file);
+  const read = files.map((file) => ({ file, references: [] as string[], skipped: [] as SkippedCifBlock[] }));
+  function* references(): Generator<Reference> {
+    const from = new Map<string, string>();
+    for (const entry of read) {
+      const { file } = entry;
+      const contents = streamReferenceFile(file, { csv, ...(wavelength ? { wavelength } : {}) });
+      // A streamed JSON file's references come checked; a CSV or CIF (read whole) is checked here, as the store would.
+      const refs = Array.isArray(contents.references) ? checkReferences(withCifDetails(file, contents.references, o)) : contents.references;
+      for (const ref of refs) {
+        const earlier = from.get(ref.name.toLowerCase());
+        if (earlier) throw new InputError(`the reference "${ref.name}" is also in ${earlier}; import one of them`, { file });
+        from.set(ref.name.toLowerCase(), file);
+        entry.references.push(ref.name);
+        yield ref;
+      }
+      entry.skipped = contents.skipped;
     }
   }
-  return withLibrary(
-    o.library,
-    (lib) => {
-      const summary = lib.importReferences(all, { change: `import from ${files.length === 1 ? files[0] : `${files.length} files`}` });
-      return { library: o.library, files: read.map(({ file, refs, skipped }) => ({ file, references: refs.map((r) => r.name), skipped })), ...summary };
-    }, 'create');
+  const created = !existsSync(o.library);
+  try {
+    return withLibrary(
+      o.library,
+      (lib) => {
+        const summary = lib.importCheckedReferences(references(), { change: `import from ${files.length === 1 ? files[0] : `${files.length} files`}` });
+        return { library: o.library, files: read, ...summary };
+      },
+      'create',
+    );
+  } catch (err) {
+    if (created) for (const f of [o.library, `${o.library}-wal`, `${o.library}-shm`]) rmSync(f, { force: true });
+    throw err;
+  }
 }
 
 function importText(r: ImportResult): string {

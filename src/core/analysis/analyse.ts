@@ -110,7 +110,7 @@ function findByName(references: readonly StoredReference[], name: string): Store
   return references.find((r) => r.name.toLowerCase() === key);
 }
 
-export function libraryDigest(references: readonly StoredReference[]): string {
+export function libraryDigest(references: readonly Pick<StoredReference, 'name' | 'version'>[]): string {
   const hash = sha256Stream();
   // One update over the joined text (the same bytes as one update per reference, far fewer calls).
   hash.update(references.map((r) => `${r.name}\u0000${r.version}\u0000`).join(''));

@@ -3,15 +3,18 @@ import { InputError, isInputError } from '../errors.js';
 import { dFromTwoTheta } from '../model/units.js';
 import { parseWavelength } from '../model/wavelengths.js';
 import { positionsFromCell } from './from-crystal.js';
-import { findJsonSyntaxError, findTooDeepNesting, JsonPlaces, type JsonPath } from './json-locate.js';
+import { JsonPlaces, type JsonPath } from './json-locate.js';
+import { LINE_HAS_D, LINE_HAS_HKL, LINE_HAS_INTENSITY, LINE_HAS_MULTIPLICITY, LINE_HAS_TWO_THETA, readReferenceList, type ListItem, type PlainLines } from './json-stream.js';
 import type { Reference, ReferenceLine } from '../model/reference.js';
 import {
   describeEntry,
   describeField,
   describeIssue,
+  markChecked,
   millerIndices,
   multiplicity,
   normalizeReference,
+  normalizeReferenceOwningLines,
   positiveD,
   referenceName,
   referenceSource,
@@ -47,7 +50,9 @@ const fileEntry = z.strictObject({
   lines: z.array(fileLine).optional(),
 });
 
-type FileEntry = z.infer<typeof fileEntry>;
+/** The entry without its lines (the fast reader reads those itself). */
+const fileEntryHead = fileEntry.omit({ lines: true });
+type FileEntryHead = z.infer<typeof fileEntryHead>;
 
 /** A problem found in one entry after the schema check, with the path it concerns. */
 class EntryProblem extends Error {
@@ -59,73 +64,98 @@ class EntryProblem extends Error {
   }
 }
 
-/** Levels a reference file uses at most: the list, a reference, its lines, a line, its hkl. */
-const REFERENCE_NESTING = 5;
-/** Deeper than this is no reference file (and would overflow the stack of the parser and checks). */
-const MAX_NESTING = 64;
-
 /** Read a reference JSON file; any problem is an InputError naming the file, the entry and the line. */
 export function parseReferenceJson(text: string, fileName: string): Reference[] {
-  const body = text.replace(/^\uFEFF/, '');
-  if (body.trim() === '') throw new InputError('the reference file is empty', { file: fileName });
-  const deep = findTooDeepNesting(body, MAX_NESTING);
-  if (deep) {
-    throw new InputError(
-      `the JSON nests arrays and objects more than ${MAX_NESTING} deep here; a reference file needs ${REFERENCE_NESTING} levels (list, reference, lines, line, hkl)`,
-      { file: fileName, line: deep.line },
-    );
-  }
-  let document: unknown;
-  try {
-    document = JSON.parse(body);
-  } catch (err) {
-    const problem = findJsonSyntaxError(body);
-    if (problem) throw new InputError(`this is not valid JSON: ${problem.message}`, { file: fileName, line: problem.line });
-    throw new InputError(`this is not valid JSON (${err instanceof Error ? err.message : String(err)})`, { file: fileName });
-  }
-  const several = Array.isArray(document);
-  const entries: unknown[] = several ? (document as unknown[]) : [document];
-  if (entries.length === 0) throw new InputError('the file holds an empty list: no references to import', { file: fileName });
+  return [...readReferenceJson([new TextEncoder().encode(text)], fileName)];
+}
 
-  let places: JsonPlaces | undefined;
-  const fail = (index: number, path: JsonPath, reason: string): never => {
-    places ??= new JsonPlaces(body);
-    const fullPath = several ? [index, ...path] : path;
-    const name = (entries[index] as { name?: unknown } | null)?.name;
-    const field = describeField(path);
-    throw new InputError(`${describeEntry(index, name, several)}${field ? `, ${field}` : ''}: ${reason}`, {
-      file: fileName,
-      line: places.lineOf(fullPath),
-    });
-  };
-
+/**
+ * The references of a reference JSON file given as byte chunks, one at a time as they are read,
+ * checked and in the store's normal form; any problem is an InputError naming the file, the entry
+ * and the line. A plain entry is built from the fast reader's arrays; any other goes through the
+ * schema check, which also gives the message for whatever the fast reader did not take.
+ */
+export function* readReferenceJson(chunks: Iterable<Uint8Array>, fileName: string): Generator<Reference> {
   const seen = new Map<string, number>();
-  return entries.map((entry, index) => {
-    if (typeof entry !== 'object' || entry === null || Array.isArray(entry)) {
-      return fail(index, [], 'a reference must be an object in curly braces, { "name": ..., "source": ..., "lines": [...] }');
-    }
-    const checked = fileEntry.safeParse(entry, { reportInput: true });
-    if (!checked.success) {
-      const issue = checked.error.issues[0]!;
-      return fail(index, issue.path, describeIssue(issue));
-    }
-    let ref: Reference;
-    try {
-      ref = normalizeReference(referenceFromEntry(checked.data));
-    } catch (err) {
-      if (err instanceof EntryProblem) return fail(index, err.path, err.message);
-      if (isInputError(err)) return fail(index, [], err.message);
-      throw err;
-    }
+  for (const item of readReferenceList(chunks, fileName)) {
+    const ref = (item.plain && referenceFromPlain(item.plain.head, item.plain.lines)) ?? referenceFromItem(item, fileName);
     const key = ref.name.toLowerCase();
     const earlier = seen.get(key);
-    if (earlier !== undefined) fail(index, ['name'], `the name "${ref.name}" was already used by entry ${earlier + 1}; each reference needs its own name`);
-    seen.set(key, index);
-    return ref;
+    if (earlier !== undefined) {
+      failAt(item, fileName, ['name'], `the name "${ref.name}" was already used by entry ${earlier + 1}; each reference needs its own name`);
+    }
+    seen.set(key, item.index);
+    yield markChecked(ref);
+  }
+}
+
+/** A problem in one item: its reason, with the line of the value at path (relative to the item). */
+function failAt(item: ListItem, fileName: string, path: JsonPath, reason: string, full = item.full()): never {
+  const name = (full.value as { name?: unknown } | null)?.name;
+  const field = describeField(path);
+  throw new InputError(`${describeEntry(item.index, name, item.several)}${field ? `, ${field}` : ''}: ${reason}`, {
+    file: fileName,
+    line: item.line + new JsonPlaces(full.text).lineOf(path) - 1,
   });
 }
 
-function referenceFromEntry(entry: FileEntry): Reference {
+/** An item by the schema check and the line objects (throws the InputError for whatever is wrong). */
+function referenceFromItem(item: ListItem, fileName: string): Reference {
+  const full = item.full();
+  const entry = full.value;
+  const fail = (path: JsonPath, reason: string) => failAt(item, fileName, path, reason, full);
+  if (typeof entry !== 'object' || entry === null || Array.isArray(entry)) {
+    return fail([], 'a reference must be an object in curly braces, { "name": ..., "source": ..., "lines": [...] }');
+  }
+  const checked = fileEntry.safeParse(entry, { reportInput: true });
+  if (!checked.success) {
+    const issue = checked.error.issues[0]!;
+    return fail(issue.path, describeIssue(issue));
+  }
+  try {
+    const { lines, ...head } = checked.data;
+    const lambda = lines && lines.length > 0 ? entryWavelength(head) : undefined;
+    return referenceFromEntry(head, lines?.map((line, i) => lineFromEntry(line, i, lambda)));
+  } catch (err) {
+    if (err instanceof EntryProblem) return fail(err.path, err.message);
+    if (isInputError(err)) return fail([], err.message);
+    throw err;
+  }
+}
+
+/**
+ * A plain entry from the fast reader (its lines as arrays), or null when anything about it is not
+ * right: the schema check of the other fields, the same line rules as lineFromEntry; the full path
+ * then finds and words the problem.
+ */
+function referenceFromPlain(head: Record<string, unknown>, plain: PlainLines | null): Reference | null {
+  if (!plain || plain.count === 0) return null; // a cell without lines, or none: the full path
+  const checked = fileEntryHead.safeParse(head);
+  if (!checked.success) return null;
+  try {
+    const lambda = entryWavelength(checked.data);
+    const lines: ReferenceLine[] = new Array(plain.count);
+    for (let i = 0; i < plain.count; i++) {
+      const given = plain.given[i]!;
+      const d = lineD(given & LINE_HAS_D ? plain.d[i] : undefined, given & LINE_HAS_TWO_THETA ? plain.twoTheta[i] : undefined, i, lambda);
+      const line: ReferenceLine = { d, intensity: given & LINE_HAS_INTENSITY ? plain.intensity[i]! : null };
+      if (given & LINE_HAS_HKL) line.hkl = [plain.hkl[3 * i]!, plain.hkl[3 * i + 1]!, plain.hkl[3 * i + 2]!];
+      if (given & LINE_HAS_MULTIPLICITY) line.multiplicity = plain.multiplicity[i]!;
+      lines[i] = line;
+    }
+    return referenceFromEntry(checked.data, lines);
+  } catch (err) {
+    if (err instanceof EntryProblem || isInputError(err)) return null;
+    throw err;
+  }
+}
+
+function entryWavelength(entry: FileEntryHead): number | undefined {
+  return entry.wavelength === undefined ? undefined : wavelengthAngstrom(entry.wavelength);
+}
+
+/** The reference of a checked entry whose lines (in d, these objects its own) are already made. */
+function referenceFromEntry(entry: FileEntryHead, lines: ReferenceLine[] | undefined): Reference {
   const ref: Reference = {
     name: entry.name,
     formula: entry.formula ?? '',
@@ -138,9 +168,9 @@ function referenceFromEntry(entry: FileEntry): Reference {
   if (entry.cell) ref.cell = entry.cell;
   if (entry.intensityBasis !== undefined) ref.intensityBasis = entry.intensityBasis;
 
-  if (entry.lines && entry.lines.length > 0) {
-    const lambda = entry.wavelength === undefined ? undefined : wavelengthAngstrom(entry.wavelength);
-    ref.lines = entry.lines.map((line, i) => lineFromEntry(line, i, lambda));
+  if (lines && lines.length > 0) {
+    ref.lines = lines;
+    return normalizeReferenceOwningLines(ref);
   } else if (entry.cell) {
     const computed = positionsFromCell(entry.cell, { name: entry.name });
     if (computed.lines.length === 0) throw new EntryProblem(['cell'], 'the cell gives no reflections; check its lengths');
@@ -148,30 +178,31 @@ function referenceFromEntry(entry: FileEntry): Reference {
     ref.cell = computed.cell ?? entry.cell;
     ref.intensityBasis ??= computed.intensityBasis;
     ref.notes ??= computed.notes;
-  } else {
-    throw new EntryProblem(entry.lines ? ['lines'] : [], 'give "lines" (d or 2θ with intensity), or a "cell" to compute line positions from');
+    return normalizeReference(ref);
   }
-  return ref;
+  throw new EntryProblem(lines ? ['lines'] : [], 'give "lines" (d or 2θ with intensity), or a "cell" to compute line positions from');
 }
 
 function lineFromEntry(line: z.infer<typeof fileLine>, index: number, lambda: number | undefined): ReferenceLine {
-  let d: number;
-  if (line.d !== undefined && line.twoTheta !== undefined) {
-    throw new EntryProblem(['lines', index], 'give either "d" or "twoTheta" for a line, not both');
-  } else if (line.d !== undefined) {
-    d = line.d;
-  } else if (line.twoTheta !== undefined) {
-    if (lambda === undefined) {
-      throw new EntryProblem(['lines', index, 'twoTheta'], 'lines given in 2θ need the wavelength they were measured with: add "wavelength" (Å) to the reference');
-    }
-    d = dFromTwoTheta(line.twoTheta, lambda);
-  } else {
-    throw new EntryProblem(['lines', index], 'the line has neither "d" (Å) nor "twoTheta" (degrees)');
-  }
-  const out: ReferenceLine = { d, intensity: line.intensity ?? null };
+  const out: ReferenceLine = { d: lineD(line.d, line.twoTheta, index, lambda), intensity: line.intensity ?? null };
   if (line.hkl) out.hkl = line.hkl;
   if (line.multiplicity !== undefined) out.multiplicity = line.multiplicity;
   return out;
+}
+
+/** A line's d (Å): given, or from its 2θ and the reference's wavelength. */
+function lineD(d: number | undefined, twoTheta: number | undefined, index: number, lambda: number | undefined): number {
+  if (d !== undefined && twoTheta !== undefined) {
+    throw new EntryProblem(['lines', index], 'give either "d" or "twoTheta" for a line, not both');
+  } else if (d !== undefined) {
+    return d;
+  } else if (twoTheta !== undefined) {
+    if (lambda === undefined) {
+      throw new EntryProblem(['lines', index, 'twoTheta'], 'lines given in 2θ need the wavelength they were measured with: add "wavelength" (Å) to the reference');
+    }
+    return dFromTwoTheta(twoTheta, lambda);
+  }
+  throw new EntryProblem(['lines', index], 'the line has neither "d" (Å) nor "twoTheta" (degrees)');
 }
 
 function wavelengthAngstrom(value: number | string): number {

@@ -111,6 +111,7 @@ function showValue(input: unknown): string {
  */
 export function checkReferences(refs: readonly Reference[], origin = 'import'): Reference[] {
   return refs.map((ref, index) => {
+    if (checkedReferences.has(ref)) return ref;
     const result = referenceSchema.safeParse(ref, { reportInput: true });
     if (!result.success) {
       const issue = result.error.issues[0]!;
@@ -119,12 +120,32 @@ export function checkReferences(refs: readonly Reference[], origin = 'import'): 
         `${origin}: ${describeEntry(index, (ref as { name?: unknown })?.name, refs.length > 1)}${field ? `, ${field}` : ''}: ${describeIssue(issue)}`,
       );
     }
-    return normalizeReference(result.data as Reference);
+    return markChecked(normalizeReference(result.data as Reference));
   });
+}
+
+/**
+ * References known to be checked and in normal form (made by checkReferences, or read from a
+ * reference file, whose format is at least as strict): checkReferences passes them as they are.
+ * Treat them as read-only.
+ */
+const checkedReferences = new WeakSet<Reference>();
+
+export function markChecked(ref: Reference): Reference {
+  checkedReferences.add(ref);
+  return ref;
 }
 
 /** Trimmed text, tags without duplicates (standard tags in lower case), lines by decreasing d. */
 export function normalizeReference(ref: Reference): Reference {
+  return normalizeReferenceOwningLines({ ...ref, lines: copyLines(ref.lines) });
+}
+
+/**
+ * normalizeReference for a reference whose lines are fresh objects of its own in the stored form
+ * (d, intensity or null, hkl, multiplicity): they are sorted in place rather than copied.
+ */
+export function normalizeReferenceOwningLines(ref: Reference): Reference {
   const out: Reference = {
     name: ref.name.trim(),
     formula: ref.formula.trim(),
@@ -161,17 +182,21 @@ function normalizeTags(tags: readonly string[]): string[] {
   return out;
 }
 
-function sortLines(lines: readonly ReferenceLine[]): ReferenceLine[] {
-  const copy = lines.map((line) => {
+function copyLines(lines: readonly ReferenceLine[]): ReferenceLine[] {
+  return lines.map((line) => {
     const out: ReferenceLine = { d: line.d, intensity: line.intensity ?? null };
     if (line.hkl) out.hkl = [line.hkl[0], line.hkl[1], line.hkl[2]];
     if (line.multiplicity !== undefined) out.multiplicity = line.multiplicity;
     return out;
   });
-  for (let i = 1; i < copy.length; i++) {
-    if (copy[i]!.d > copy[i - 1]!.d) return copy.sort((a, b) => b.d - a.d);
+}
+
+/** By decreasing d, in place (a stable sort: lines of equal d keep their order). */
+function sortLines(lines: ReferenceLine[]): ReferenceLine[] {
+  for (let i = 1; i < lines.length; i++) {
+    if (lines[i]!.d > lines[i - 1]!.d) return lines.sort((a, b) => b.d - a.d);
   }
-  return copy;
+  return lines;
 }
 
 /** The content of a normalised reference as one text, to tell a real change from a re-import of the same. */

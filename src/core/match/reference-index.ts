@@ -56,22 +56,30 @@ export function buildReferenceIndex(references: readonly StoredReference[]): Ref
  */
 export function sortLineIndex(lines: PackedLineIndex): PackedLineIndex {
   const total = lines.d.length;
-  const keep = new Uint32Array(total);
   let n = 0;
-  for (let i = 0; i < total; i++) if (lines.d[i]! > 0) keep[n++] = i;
-  const dKept = new Float64Array(n);
-  for (let i = 0; i < n; i++) dKept[i] = lines.d[keep[i]!]!;
-  const order = sortedOrder(dKept);
-  const d = new Float64Array(n);
+  for (let i = 0; i < total; i++) if (lines.d[i]! > 0) n++;
+  const kept = n === total ? lines : dropNonPositive(lines, n);
+  const { order, sorted: d } = sortedOrder(kept.d);
   const referenceOf = new Int32Array(n);
   const intensity = new Float32Array(n);
   for (let i = 0; i < n; i++) {
     const k = order[i]!;
-    d[i] = dKept[k]!;
-    referenceOf[i] = lines.referenceOf[keep[k]!]!;
-    intensity[i] = lines.intensity[keep[k]!]!;
+    referenceOf[i] = kept.referenceOf[k]!;
+    intensity[i] = kept.intensity[k]!;
   }
   return { d, referenceOf, intensity };
+}
+
+function dropNonPositive(lines: PackedLineIndex, n: number): PackedLineIndex {
+  const kept: PackedLineIndex = { d: new Float64Array(n), referenceOf: new Int32Array(n), intensity: new Float32Array(n) };
+  let k = 0;
+  for (let i = 0; i < lines.d.length; i++) {
+    if (!(lines.d[i]! > 0)) continue;
+    kept.d[k] = lines.d[i]!;
+    kept.referenceOf[k] = lines.referenceOf[i]!;
+    kept.intensity[k++] = lines.intensity[i]!;
+  }
+  return kept;
 }
 
 /**
@@ -92,46 +100,63 @@ export function referenceIndexFromPacked(references: readonly StoredReference[],
   return { references, d, referenceOf, intensity };
 }
 
+/** Index of the high 32-bit word of a Float64 in a Uint32Array view (1 on little-endian platforms). */
+const HIGH_WORD = new Uint32Array(new Float64Array([1]).buffer)[1] === 0x3ff00000 ? 1 : 0;
+const RADIX_BITS = 11;
+const RADIX = 1 << RADIX_BITS;
+
 /**
- * Permutation that sorts positive values ascending: a counting sort on a logarithmic key (about
- * four values per bucket), then insertion sort inside each bucket. Linear time for millions of lines.
+ * Permutation that sorts positive values ascending (stable), and the values in that order: an LSD
+ * radix sort, three 11-bit passes over the high 32 bits of each value's IEEE 754 pattern (which
+ * order positive doubles; Knuth, TAOCP vol. 3, 5.2.5), then one insertion pass for values that share
+ * those bits, by then next to each other. Linear time, and sequential memory access but for the scatter.
  */
-function sortedOrder(values: Float64Array): Uint32Array {
+function sortedOrder(values: Float64Array): { order: Uint32Array; sorted: Float64Array } {
   const n = values.length;
-  const order = new Uint32Array(n);
-  if (n === 0) return order;
-  let lo = Infinity;
-  let hi = -Infinity;
+  const words = new Uint32Array(values.buffer, values.byteOffset, 2 * n);
+  let keys = new Uint32Array(n);
+  let order = new Uint32Array(n);
   for (let i = 0; i < n; i++) {
-    const v = Math.log(values[i]);
-    if (v < lo) lo = v;
-    if (v > hi) hi = v;
+    keys[i] = words[2 * i + HIGH_WORD]!;
+    order[i] = i;
   }
-  const buckets = Math.max(1, n >> 2);
-  const width = (hi - lo) / buckets || 1;
-  const key = new Uint32Array(n);
-  const start = new Uint32Array(buckets + 1);
-  for (let i = 0; i < n; i++) {
-    const b = Math.min(buckets - 1, Math.floor((Math.log(values[i]) - lo) / width));
-    key[i] = b;
-    start[b + 1]++;
-  }
-  for (let b = 0; b < buckets; b++) start[b + 1] += start[b];
-  const fill = start.slice(0, buckets);
-  for (let i = 0; i < n; i++) order[fill[key[i]]++] = i;
-  for (let b = 0; b < buckets; b++) {
-    for (let i = start[b] + 1; i < start[b + 1]; i++) {
-      const item = order[i];
-      const v = values[item];
-      let j = i - 1;
-      while (j >= start[b] && values[order[j]] > v) {
-        order[j + 1] = order[j];
-        j--;
-      }
-      order[j + 1] = item;
+  let nextKeys = new Uint32Array(n);
+  let nextOrder = new Uint32Array(n);
+  const start = new Uint32Array(RADIX);
+  for (let shift = 0; shift < 32; shift += RADIX_BITS) {
+    start.fill(0);
+    for (let i = 0; i < n; i++) start[(keys[i]! >>> shift) & (RADIX - 1)]++;
+    let sum = 0;
+    for (let b = 0; b < RADIX; b++) {
+      const count = start[b]!;
+      start[b] = sum;
+      sum += count;
     }
+    for (let i = 0; i < n; i++) {
+      const key = keys[i]!;
+      const at = start[(key >>> shift) & (RADIX - 1)]++;
+      nextKeys[at] = key;
+      nextOrder[at] = order[i]!;
+    }
+    [keys, nextKeys] = [nextKeys, keys];
+    [order, nextOrder] = [nextOrder, order];
   }
-  return order;
+  const sorted = new Float64Array(n);
+  for (let i = 0; i < n; i++) sorted[i] = values[order[i]!]!;
+  for (let i = 1; i < n; i++) {
+    const v = sorted[i]!;
+    if (v >= sorted[i - 1]!) continue;
+    const item = order[i]!;
+    let j = i - 1;
+    while (j >= 0 && sorted[j]! > v) {
+      sorted[j + 1] = sorted[j]!;
+      order[j + 1] = order[j]!;
+      j--;
+    }
+    sorted[j + 1] = v;
+    order[j + 1] = item;
+  }
+  return { order, sorted };
 }
 
 

@@ -1,11 +1,11 @@
-import { readFileSync } from 'node:fs';
+import { closeSync, openSync, readFileSync, readSync } from 'node:fs';
 import { extname } from 'node:path';
 import { InputError } from '../../core/errors.js';
 import type { Wavelength } from '../../core/model/wavelengths.js';
 import { parseReferenceCsv, type CsvReferenceMeta } from '../../core/library/csv-format.js';
 import { referencesFromCif } from '../../core/library/from-crystal.js';
 import type { SkippedCifBlock } from '../../core/crystal/structure.js';
-import { parseReferenceJson } from '../../core/library/json-format.js';
+import { parseReferenceJson, readReferenceJson } from '../../core/library/json-format.js';
 import type { Reference } from '../../core/model/reference.js';
 
 export interface ReferenceFileOptions {
@@ -59,8 +59,61 @@ export function readReferenceFileContents(path: string, options: ReferenceFileOp
   try {
     text = readFileSync(path, 'utf8');
   } catch (err) {
-    const code = (err as { code?: string }).code;
-    throw new InputError(code === 'ENOENT' ? 'no such file' : `cannot read the file (${code ?? String(err)})`, { file: path });
+    throw unreadable(path, err);
   }
   return parseReferenceFileContents(text, path, options);
+}
+
+/** A file's references as they are read: a reference JSON file is streamed, a CSV or CIF (small) read whole. */
+export interface StreamedReferenceFile {
+  references: Iterable<Reference>;
+  /** CIF blocks not read as references (known once the file is read). */
+  skipped: SkippedCifBlock[];
+}
+
+/** Bytes read at a time from a large reference file. */
+const CHUNK_BYTES = 4 << 20;
+
+/**
+ * The references of a reference file, for an import: a JSON file is read in chunks and its references
+ * yielded one by one as they are checked (a 160 MB file never sits in memory whole); other kinds
+ * are read as a whole.
+ */
+export function streamReferenceFile(path: string, options: ReferenceFileOptions = {}): StreamedReferenceFile {
+  const chunks = fileChunks(path, 64 << 10);
+  const first = chunks.next();
+  chunks.return(undefined);
+  const head = first.done ? '' : new TextDecoder().decode(first.value);
+  if (referenceFileKind(head, path) !== 'json') return readReferenceFileContents(path, options);
+  return { references: readReferenceJson(fileChunks(path, CHUNK_BYTES), path), skipped: [] };
+}
+
+/** A file's bytes, chunk by chunk (each a fresh buffer); an unreadable file is the user's InputError. */
+function* fileChunks(path: string, size: number): Generator<Uint8Array> {
+  let fd: number;
+  try {
+    fd = openSync(path, 'r');
+  } catch (err) {
+    throw unreadable(path, err);
+  }
+  try {
+    for (;;) {
+      const chunk = Buffer.allocUnsafe(size);
+      let read: number;
+      try {
+        read = readSync(fd, chunk, 0, size, null);
+      } catch (err) {
+        throw unreadable(path, err);
+      }
+      if (read === 0) return;
+      yield chunk.subarray(0, read);
+    }
+  } finally {
+    closeSync(fd);
+  }
+}
+
+function unreadable(path: string, err: unknown): InputError {
+  const code = (err as { code?: string }).code;
+  return new InputError(code === 'ENOENT' ? 'no such file' : `cannot read the file (${code ?? String(err)})`, { file: path });
 }

@@ -6,7 +6,7 @@ import type { Reference, ReferenceLine, StoredReference } from '../../core/model
 import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from './schema.js';
 import { DEFAULT_BUSY_TIMEOUT_MS, openDatabase, readMeta, schemaVersion, writeMeta, type Db } from './sqlite.js';
 import { describeHolder, forgetHolder, recordHolder } from './write-lock.js';
-import { createHash } from 'node:crypto';
+import { createHash, hash } from 'node:crypto';
 import { canonicalContent, checkReferences } from '../../core/library/validate.js';
 import { libraryDigest } from '../../core/analysis/analyse.js';
 import { lineIntensity, referenceIndexFromPacked, sortLineIndex, type PackedLineIndex, type ReferenceIndex } from '../../core/match/reference-index.js';
@@ -127,19 +127,44 @@ export class ReferenceLibrary {
 
   /** Store references (all or nothing): new names are added, changed ones get a new version. */
   importReferences(refs: readonly Reference[], options: { change?: string } = {}): ImportSummary {
-    const checked = checkReferences(refs);
-    const seen = new Set<string>();
-    for (const ref of checked) {
-      const key = ref.name.toLowerCase();
-      if (seen.has(key)) throw new InputError(`the reference "${ref.name}" appears twice in one import; each name may appear once`);
-      seen.add(key);
-    }
+    return this.importCheckedReferences(checkReferences(refs), options);
+  }
+
+  /**
+   * Store references as they come (a reader of a large file yields them one by one), all in one
+   * write transaction: a bad reference anywhere, or an error thrown by the source, rolls back
+   * everything, so the library is left as it was. They must be checked and in normal form
+   * (checkReferences, or a reference file reader). The matching snapshot is rebuilt once at the end
+   * from the stored rows.
+   */
+  importCheckedReferences(refs: Iterable<Reference>, options: { change?: string } = {}): ImportSummary {
     const change = options.change ?? 'import';
     return this.write(() => {
       const summary: ImportSummary = { added: [], updated: [], unchanged: [] };
-      for (const ref of checked) summary[this.storeVersion(ref, change)].push(ref.name);
-      const references = this.all();
-      this.saveSnapshot(references, packedIndexOf(references));
+      const seen = new Set<string>();
+      const written = new Map<number, VersionRow>();
+      const store: StoreOptions = {
+        createdAt: new Date().toISOString(), // one import, one time
+        // An empty library has no entry to look up (a name twice in the import is refused just below).
+        lookUp: this.statements.entryCount.get()!.n > 0,
+        written: (row) => written.set(row[0], row),
+      };
+      for (const ref of refs) {
+        const key = ref.name.toLowerCase();
+        if (seen.has(key)) throw new InputError(`the reference "${ref.name}" appears twice in one import; each name may appear once`);
+        seen.add(key);
+        summary[this.storeVersion(ref, change, store)].push(ref.name);
+      }
+      // When every current reference was written just now (an import into an empty library, say),
+      // the snapshot is made from the rows in hand; else from the stored rows.
+      const current = this.statements.currentIdsByName.all();
+      if (!current.every((id) => written.has(id))) {
+        written.clear();
+        this.saveSnapshot();
+      } else {
+        const lines = current.reduce((sum, id) => sum + written.get(id)![6], 0);
+        this.saveSnapshot({ references: current.length, lines, rows: takeRows(current, written) });
+      }
       return summary;
     });
   }
@@ -189,10 +214,12 @@ export class ReferenceLibrary {
       const index = { d: typedView(Float64Array, row.d), referenceOf: typedView(Int32Array, row.reference_of), intensity: typedView(Float32Array, row.intensity) };
       return { references, index: referenceIndexFromPacked(references, index) };
     }
+    if (!this.db.readonly) {
+      this.write(() => this.saveSnapshot());
+      return this.referencesWithIndex();
+    }
     const references = this.all();
-    const packed = packedIndexOf(references);
-    if (!this.db.readonly) this.write(() => this.saveSnapshot(references, packed));
-    return { references, index: referenceIndexFromPacked(references, packed) };
+    return { references, index: referenceIndexFromPacked(references, packedIndexOf(references)) };
   }
 
   /** The library state in a few numbers: any import, edit, delete, undelete or restore changes it. */
@@ -201,22 +228,51 @@ export class ReferenceLibrary {
     return `${n}:${versions}:${last}`;
   }
 
-  private saveSnapshot(references: readonly StoredReference[], packed: PackedLineIndex): void {
+  /**
+   * Store the snapshot of the current references, made from their rows (as stored, or the rows of
+   * every current reference in name order with their totals when the caller has them) in one pass: packed line bytes
+   * copied end to end, heads from the stored details text, no reference or line objects.
+   */
+  private saveSnapshot(given?: { references: number; lines: number; rows: Iterable<VersionRow> }): void {
     const bytes = (a: Float64Array | Int32Array | Float32Array) => Buffer.from(a.buffer, a.byteOffset, a.byteLength);
-    const lines = references.map(packedLinesOf);
-    const indexStart = new Int32Array(references.length);
+    const { references, lines } = given ?? this.statements.currentTotals.get()!;
+    const lineValues = new Float64Array(2 * lines);
+    let gathered: PackedLineIndex | null = { d: new Float64Array(lines), referenceOf: new Int32Array(lines), intensity: new Float32Array(lines) };
+    const indexStart = new Int32Array(references);
+    const indices: Buffer[] = [];
+    const heads: string[] = [];
+    const digestOf: { name: string; version: number }[] = [];
+    let n = 0;
     let ints = 0;
-    lines.forEach((p, r) => {
-      indexStart[r] = p.indices ? ints : -1;
-      if (p.indices) ints += 4 * p.count;
-    });
-    const heads = references.map((r, k) => [r.id, r.version, r.name, r.source, detailsOf(r), r.createdAt, lines[k]!.count]);
+    let r = 0;
+    for (const [id, version, name, source, details, createdAt, count, values, lineIndices] of given?.rows ?? this.statements.all.iterate()) {
+      const { d, intensity } = unpackValues(values, count);
+      lineValues.set(d, 2 * n);
+      lineValues.set(intensity, 2 * n + count);
+      gathered.d.set(d, n);
+      gathered.referenceOf.fill(r, n, n + count);
+      for (let i = 0; i < count; i++) {
+        const value = intensity[i]!;
+        gathered.intensity[n + i] = lineIntensity(Number.isNaN(value) ? null : value);
+      }
+      indexStart[r] = lineIndices ? ints : -1;
+      if (lineIndices) {
+        indices.push(Buffer.from(lineIndices));
+        ints += 4 * count;
+      }
+      heads.push(`[${id},${version},${JSON.stringify(name)},${JSON.stringify(source)},${details},${JSON.stringify(createdAt)},${count}]`);
+      digestOf.push({ name, version });
+      n += count;
+      r++;
+    }
+    const packed = sortLineIndex(gathered);
+    gathered = null; // free before SQLite copies the snapshot's bytes
     this.statements.saveSnapshot.run({
       stamp: this.stamp(),
-      digest: libraryDigest(references),
-      heads: JSON.stringify(heads),
-      line_values: Buffer.concat(lines.map((p) => p.values)),
-      line_indices: Buffer.concat(lines.flatMap((p) => (p.indices ? [p.indices] : []))),
+      digest: libraryDigest(digestOf),
+      heads: `[${heads.join(',')}]`,
+      line_values: bytes(lineValues),
+      line_indices: Buffer.concat(indices),
       index_start: bytes(indexStart),
       d: bytes(packed.d),
       reference_of: bytes(packed.referenceOf),
@@ -385,40 +441,33 @@ export class ReferenceLibrary {
     }
   }
 
-  /** Add one checked reference as a new version when its content differs from the current one. */
-  private storeVersion(ref: Reference, change: string): keyof ImportSummary {
+  /** Add one checked reference as a new version when its content differs from the current one (its row told to `written`). */
+  private storeVersion(ref: Reference, change: string, options: StoreOptions = {}): keyof ImportSummary {
     const s = this.statements;
-    const hash = createHash('sha256').update(canonicalContent(ref)).digest('hex');
-    const entry = s.entryByName.get(ref.name);
+    const packed = packLines(ref.lines);
+    const hash = contentHash(ref, packed);
+    const entry = options.lookUp === false ? undefined : s.entryByName.get(ref.name);
     let entryId: number;
     let version: number;
     let outcome: keyof ImportSummary;
     if (!entry) {
-      entryId = Number(s.insertEntry.run(ref.name).lastInsertRowid);
+      entryId = Number(s.insertEntry.run(ref.name, ref.formula).lastInsertRowid);
       version = 1;
       outcome = 'added';
     } else {
-      if (entry.deleted_at === null && s.currentHash.get(entry.id)?.content_hash === hash) return 'unchanged';
+      if (entry.deleted_at === null && sameContent(s.currentHash.get(entry.id)?.content_hash, hash, ref)) return 'unchanged';
       entryId = entry.id;
       version = s.lastVersion.get(entry.id)!.last + 1;
       outcome = 'updated';
     }
-    const packed = packLines(ref.lines);
-    s.insertVersion.run({
-      entry_id: entryId,
-      version,
-      name: ref.name,
-      source: ref.source,
-      details: JSON.stringify(detailsOf(ref)),
-      line_count: packed.count,
-      line_values: packed.values,
-      line_indices: packed.indices,
-      content_hash: hash,
-      change,
-      created_at: new Date().toISOString(),
-    });
-    s.setCurrent.run(version, ref.name, ref.formula, entryId);
-    if (outcome === 'updated') s.clearTags.run(entryId);
+    const details = JSON.stringify(detailsOf(ref));
+    const createdAt = options.createdAt ?? new Date().toISOString();
+    s.insertVersion.run(entryId, version, ref.name, ref.source, details, packed.count, packed.values, packed.indices, hash, change, createdAt);
+    options.written?.([entryId, version, ref.name, ref.source, details, createdAt, packed.count, packed.values, packed.indices]);
+    if (outcome === 'updated') {
+      s.setCurrent.run(version, ref.name, ref.formula, entryId);
+      s.clearTags.run(entryId);
+    }
     for (const tag of ref.tags) s.insertTag.run(entryId, tag);
     return outcome;
   }
@@ -434,6 +483,25 @@ export class ReferenceLibrary {
     if (entry.deleted_at !== null) throw new InputError(`the reference "${entry.name}" is deleted; undelete or restore it first`);
     return this.get(name)!;
   }
+}
+
+/** The rows of these ids in this order, each let go of once handed out. */
+function* takeRows(ids: readonly number[], rows: Map<number, VersionRow>): Generator<VersionRow> {
+  for (const id of ids) {
+    const row = rows.get(id)!;
+    rows.delete(id);
+    yield row;
+  }
+}
+
+/** How storeVersion stores a version. */
+interface StoreOptions {
+  /** Its created_at (default now). */
+  createdAt?: string;
+  /** false: the name is known to be new (no lookup). */
+  lookUp?: boolean;
+  /** Told the row as stored. */
+  written?: (row: VersionRow) => void;
 }
 
 /** The snapshot row (schema.ts, step 3). */
@@ -488,19 +556,21 @@ function prepareStatements(db: Db) {
       { version: number; name: string; change: string; line_count: number; created_at: string }
     >,
     count: db.prepare(`SELECT count(*) AS n FROM reference_entry WHERE deleted_at IS NULL`) as Statement<[], { n: number }>,
+    entryCount: db.prepare(`SELECT count(*) AS n FROM reference_entry`) as Statement<[], { n: number }>,
     entryByName: db.prepare(`SELECT id, name, current_version, deleted_at FROM reference_entry WHERE name = ?`) as Statement<[string], EntryRow>,
     currentHash: db.prepare(`SELECT v.content_hash FROM reference_entry e JOIN reference_version v
       ON v.entry_id = e.id AND v.version = e.current_version WHERE e.id = ?`) as Statement<[number], { content_hash: string }>,
     lastVersion: db.prepare(`SELECT max(version) AS last FROM reference_version WHERE entry_id = ?`) as Statement<[number], { last: number }>,
-    insertEntry: db.prepare(`INSERT INTO reference_entry (name, current_version) VALUES (?, 1)`),
+    insertEntry: db.prepare(`INSERT INTO reference_entry (name, current_version, formula) VALUES (?, 1, ?)`),
     insertVersion: db.prepare(`INSERT INTO reference_version (entry_id, version, name, source, details, line_count, line_values,
-      line_indices, content_hash, change, created_at) VALUES (@entry_id, @version, @name, @source, @details, @line_count,
-      @line_values, @line_indices, @content_hash, @change, @created_at)`),
+      line_indices, content_hash, change, created_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`),
     setCurrent: db.prepare(`UPDATE reference_entry SET current_version = ?, name = ?, formula = ?, deleted_at = NULL WHERE id = ?`),
     markDeleted: db.prepare(`UPDATE reference_entry SET deleted_at = ? WHERE id = ?`),
     clearTags: db.prepare(`DELETE FROM reference_tag WHERE entry_id = ?`),
     insertTag: db.prepare(`INSERT OR IGNORE INTO reference_tag (entry_id, tag) VALUES (?, ?)`),
     snapshot: db.prepare(`SELECT * FROM line_index WHERE id = 1`) as Statement<[], SnapshotRow>,
+    currentIdsByName: (db.prepare(`SELECT e.id FROM reference_entry e WHERE e.deleted_at IS NULL ORDER BY e.name`) as Statement<[], number>).pluck(),
+    currentTotals: db.prepare(`SELECT count(*) AS "references", coalesce(sum(v.line_count), 0) AS lines ${CURRENT}`) as Statement<[], { references: number; lines: number }>,
     stamp: db.prepare(`SELECT count(*) AS n, total(current_version) AS versions, (SELECT max(rowid) FROM reference_version) AS last
       FROM reference_entry WHERE deleted_at IS NULL`) as Statement<[], { n: number; versions: number; last: number | null }>,
     saveSnapshot: db.prepare(`INSERT OR REPLACE INTO line_index (id, stamp, digest, heads, line_values, line_indices, index_start, d, reference_of, intensity)
@@ -511,6 +581,27 @@ function prepareStatements(db: Db) {
 
 function seconds(ms: number): string {
   return `${Number((ms / 1000).toFixed(1))} s`;
+}
+
+/**
+ * What a version's content_hash is over: its fields as JSON, then its packed line bytes (so no line
+ * objects are turned to text). Versions stored before this form carry a bare hash of
+ * canonicalContent (validate.ts); sameContent still compares those.
+ */
+const PACKED_HASH = 'packed:';
+const ZERO_BYTE = Buffer.from([0]);
+
+function contentHash(ref: Reference, packed: PackedLines): string {
+  const fields = JSON.stringify([ref.name, ref.formula, ref.tags, ref.source, ref.notes ?? null, ref.rir ?? null, ref.cell ?? null, ref.intensityBasis ?? null]);
+  const parts = [Buffer.from(fields), ZERO_BYTE, packed.values, ...(packed.indices ? [ZERO_BYTE, packed.indices] : [])];
+  return PACKED_HASH + hash('sha256', Buffer.concat(parts)); // one-shot: far cheaper than createHash per reference
+}
+
+/** Whether a stored content_hash (of either form) is that of this reference. */
+function sameContent(stored: string | undefined, hash: string, ref: Reference): boolean {
+  if (stored === undefined) return false;
+  if (stored.startsWith(PACKED_HASH)) return stored === hash;
+  return stored === createHash('sha256').update(canonicalContent(ref)).digest('hex');
 }
 
 function detailsOf(ref: Reference): VersionDetails {
