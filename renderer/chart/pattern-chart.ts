@@ -1,7 +1,6 @@
 import {
   CategoryScale,
   Chart,
-  Decimation,
   Legend,
   LinearScale,
   LineController,
@@ -15,9 +14,10 @@ import {
   type ScatterDataPoint,
 } from 'chart.js';
 import zoomPlugin from 'chartjs-plugin-zoom';
+import { decimateMinMax, visibleRange } from './decimate.js';
 import { axisTitle, convertX, intensityTitle, transformY, type AxisUnit, type IntensityScale } from './units.js';
 
-Chart.register(LineController, ScatterController, LineElement, PointElement, LinearScale, LogarithmicScale, CategoryScale, Tooltip, Legend, Decimation, zoomPlugin);
+Chart.register(LineController, ScatterController, LineElement, PointElement, LinearScale, LogarithmicScale, CategoryScale, Tooltip, Legend, zoomPlugin);
 
 export const COLORS = {
   ink: '#24313a',
@@ -159,14 +159,73 @@ const lowAngleLabelPlugin: Plugin<'line'> = {
 
 type PointData = ScatterDataPoint[];
 
-function points(x: Float32Array, y: ArrayLike<number>, axis: AxisUnit, lambda: number, scale: IntensityScale, shift: (v: number) => number): PointData {
-  const n = x.length;
-  const out: PointData = new Array(n);
-  for (let i = 0; i < n; i++) out[i] = { x: convertX(x[i]!, axis, lambda), y: shift(transformY(y[i]!, scale)) };
-  // d decreases as 2θ grows: keep x ascending for decimation, and reverse the axis instead.
-  if (axis === 'd') out.reverse();
+/** A curve at full resolution, in display units; what is drawn is decimated from it for the current view. */
+interface CurveSource {
+  x: Float64Array;
+  y: ArrayLike<number>;
+}
+
+type CurveDataset = ChartDataset<'line', PointData> & { source?: CurveSource };
+
+/** 2θ converted once to the display unit (d runs backwards in index order; decimation copes with either). */
+function displayX(x: Float32Array, axis: AxisUnit, lambda: number): Float64Array {
+  const out = new Float64Array(x.length);
+  for (let i = 0; i < x.length; i++) out[i] = convertX(x[i]!, axis, lambda);
   return out;
 }
+
+/** Intensities as drawn (scale and stacking offset applied), without a copy when nothing changes. */
+function displayY(y: Float32Array, scale: IntensityScale, shift: ((v: number) => number) | null): ArrayLike<number> {
+  if (scale === 'linear' && shift === null) return y;
+  const out = new Float64Array(y.length);
+  for (let i = 0; i < y.length; i++) {
+    const v = transformY(y[i]!, scale);
+    out[i] = shift ? shift(v) : v;
+  }
+  return out;
+}
+
+/**
+ * Replaces each curve's drawn points by the min/max per pixel column of its visible part (all points
+ * when zoomed in far enough), before chart.js lays the chart out: so a zoom or a pan re-decimates.
+ */
+const decimationPlugin: Plugin<'line'> = {
+  id: 'patternDecimation',
+  beforeUpdate(chart) {
+    const scaleOptions = chart.options.scales?.x as { min?: number; max?: number } | undefined;
+    const low = scaleOptions?.min;
+    const high = scaleOptions?.max;
+    if (low === undefined || high === undefined) return;
+    const area = chart.chartArea;
+    let drawn = 0;
+    const columns = Math.max(1, Math.ceil(area && area.right > area.left ? area.right - area.left : chart.width));
+    for (const dataset of chart.data.datasets as CurveDataset[]) {
+      const source = dataset.source;
+      if (!source) continue;
+      const { from, to } = visibleRange(source.x, low, high);
+      const kept = decimateMinMax(source.x, source.y, { from, to, xLow: low, xHigh: high, buckets: columns });
+      const data: PointData = new Array(kept.length);
+      // chart.js wants x ascending (the options say the data is normalised): d runs backwards.
+      const backwards = source.x.length > 1 && source.x[source.x.length - 1]! < source.x[0]!;
+      for (let k = 0; k < kept.length; k++) {
+        const i = kept[backwards ? kept.length - 1 - k : k]!;
+        data[k] = { x: source.x[i]!, y: source.y[i]! };
+      }
+      dataset.data = data;
+      drawn += data.length;
+    }
+    // For the record (and the browser tests): how many curve points the last update drew, over what.
+    chart.canvas.dataset.drawnPoints = String(drawn);
+    chart.canvas.dataset.viewRange = `${low} ${high}`;
+    chart.canvas.dataset.columns = String(columns);
+  },
+  afterUpdate(chart) {
+    // The first layout (and a resize) settles the plot's width only after the points were chosen:
+    // choose again once, with one bucket per pixel column of the plot as it now is.
+    const area = chart.chartArea;
+    if (area && Math.ceil(area.right - area.left) !== Number(chart.canvas.dataset.columns)) requestAnimationFrame(() => chart.canvas && chart.update('none'));
+  },
+};
 
 function span(values: ArrayLike<number>, scale: IntensityScale): { min: number; max: number } {
   let min = Infinity;
@@ -186,10 +245,11 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
   const range = span(view.main.y, scale);
   const width = range.max - range.min || 1;
   const stackShift = (i: number) => (v: number) => (scale === 'log' ? v * 10 ** (i * view.offsetFraction * 2) : v + i * view.offsetFraction * width);
-  const line = (label: string, data: PointData, color: string, extra: Partial<ChartDataset<'line', PointData>> = {}): ChartDataset<'line', PointData> => ({
+  const line = (label: string, source: CurveSource, color: string, extra: Partial<ChartDataset<'line', PointData>> = {}): CurveDataset => ({
     type: 'line',
     label,
-    data,
+    data: [],
+    source,
     borderColor: color,
     backgroundColor: color,
     borderWidth: 1.2,
@@ -201,17 +261,19 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
     ...extra,
   });
   const datasets: ChartDataset<'line' | 'scatter', PointData>[] = [];
+  const mainX = displayX(view.main.x, axis, lambda);
   all.forEach((series, i) => {
     const color = i === 0 ? COLORS.measured : COLORS.overlays[i % COLORS.overlays.length]!;
-    datasets.push(line(i === 0 && view.overlays.length === 0 ? `${series.label} (measured)` : series.label, points(series.x, series.y, axis, lambda, scale, stackShift(i)), color));
+    const x = i === 0 ? mainX : displayX(series.x, axis, lambda);
+    datasets.push(line(i === 0 && view.overlays.length === 0 ? `${series.label} (measured)` : series.label, { x, y: displayY(series.y, scale, i === 0 ? null : stackShift(i)) }, color));
   });
   const single = view.overlays.length === 0;
   const { main } = view;
   if (single && view.showFit && main.background) {
-    datasets.push(line('background', points(main.x, main.background, axis, lambda, scale, (v) => v), COLORS.background, { borderDash: [5, 4], borderWidth: 1 }));
+    datasets.push(line('background', { x: mainX, y: displayY(main.background, scale, null) }, COLORS.background, { borderDash: [5, 4], borderWidth: 1 }));
   }
   if (single && view.showFit && main.model) {
-    datasets.push(line('fit', points(main.x, main.model, axis, lambda, scale, (v) => v), COLORS.fit, { borderWidth: 1.4 }));
+    datasets.push(line('fit', { x: mainX, y: displayY(main.model, scale, null) }, COLORS.fit, { borderWidth: 1.4 }));
     if (scale !== 'log') {
       const diff = new Float64Array(main.y.length);
       let maxDiff = 0;
@@ -219,12 +281,10 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
         diff[i] = transformY(main.y[i]!, scale) - transformY(main.model[i]!, scale);
         if (diff[i]! > maxDiff) maxDiff = diff[i]!;
       }
+      // The difference curve hangs below the pattern: its highest point just under the lowest count.
       const base = range.min - maxDiff - 0.04 * width;
-      const x = main.x;
-      const data: PointData = new Array(diff.length);
-      for (let i = 0; i < diff.length; i++) data[i] = { x: convertX(x[i]!, axis, lambda), y: base + diff[i]! };
-      if (axis === 'd') data.reverse();
-      datasets.push(line('difference (measured − fit)', data, COLORS.difference, { borderWidth: 1 }));
+      for (let i = 0; i < diff.length; i++) diff[i] = base + diff[i]!;
+      datasets.push(line('difference (measured − fit)', { x: mainX, y: diff }, COLORS.difference, { borderWidth: 1 }));
     }
   }
   if (single) {
@@ -259,7 +319,7 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
   return datasets;
 }
 
-/** The pattern view: chart.js with zoom and pan, min-max decimation, reference strip and peak marks. */
+/** The pattern view: chart.js with zoom and pan, min/max decimation per pixel column (re-done on zoom), reference strip and peak marks. */
 export class PatternChart {
   readonly chart: Chart<'line', PointData>;
   private view: PatternViewModel | null = null;
@@ -268,7 +328,7 @@ export class PatternChart {
     this.chart = new Chart<'line', PointData>(canvas, {
       type: 'line',
       data: { datasets: [] },
-      plugins: [paperPlugin, referenceStripPlugin, lowAngleLabelPlugin],
+      plugins: [decimationPlugin, paperPlugin, referenceStripPlugin, lowAngleLabelPlugin],
       options: {
         animation: false,
         responsive: true,
@@ -281,7 +341,6 @@ export class PatternChart {
           y: { type: 'linear', title: { display: true, text: 'intensity (counts)' }, grid: { color: COLORS.grid } },
         },
         plugins: {
-          decimation: { enabled: true, algorithm: 'min-max' },
           legend: { position: 'top', align: 'end', labels: { boxWidth: 14, boxHeight: 2, color: COLORS.ink, font: { size: 11 } } },
           tooltip: {
             filter: (item) => (item.dataset as { markLabels?: string[] }).markLabels !== undefined,
