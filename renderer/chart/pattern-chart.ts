@@ -15,7 +15,8 @@ import {
 } from 'chart.js';
 import zoomPlugin from 'chartjs-plugin-zoom';
 import { decimateMinMax, visibleRange } from './decimate.js';
-import { axisTitle, convertX, intensityTitle, transformY, type AxisUnit, type IntensityScale } from './units.js';
+import { READOUT_HINT, readingAt, readingText } from './readout.js';
+import { axisTitle, convertX, intensityTitle, transformY, twoThetaFromDisplay, type AxisUnit, type IntensityScale } from './units.js';
 
 Chart.register(LineController, ScatterController, LineElement, PointElement, LinearScale, LogarithmicScale, CategoryScale, Tooltip, Legend, zoomPlugin);
 
@@ -72,6 +73,8 @@ export interface PatternViewModel {
 }
 
 const STRIP_ROW_PX = 18;
+/** A band above the legend for the cursor readout, so the readout never covers the curve. */
+const READOUT_BAND_PX = 20;
 
 interface StripOptions {
   references: ReferenceStrip[];
@@ -324,7 +327,22 @@ export class PatternChart {
   readonly chart: Chart<'line', PointData>;
   private view: PatternViewModel | null = null;
 
+  private readonly readout: HTMLElement | null;
+
   constructor(canvas: HTMLCanvasElement) {
+    const box = canvas.parentElement;
+    if (box) {
+      this.readout = document.createElement('div');
+      this.readout.className = 'chart-readout';
+      this.readout.dataset.testid = 'chart-readout';
+      this.readout.setAttribute('aria-live', 'off');
+      this.readout.textContent = READOUT_HINT;
+      box.append(this.readout);
+      canvas.addEventListener('mousemove', (event) => this.showReading(event.offsetX, event.offsetY));
+      canvas.addEventListener('mouseleave', () => this.showReading(null, null));
+    } else {
+      this.readout = null;
+    }
     this.chart = new Chart<'line', PointData>(canvas, {
       type: 'line',
       data: { datasets: [] },
@@ -372,10 +390,23 @@ export class PatternChart {
     (x as { title: { text: string } }).title.text = axisTitle(view.axis);
     (y as { type: string }).type = view.scale === 'log' ? 'logarithmic' : 'linear';
     (y as { title: { text: string } }).title.text = intensityTitle(view.scale);
-    options.layout = { padding: { bottom: view.references.length * STRIP_ROW_PX + 4 } };
+    options.layout = { padding: { top: this.readout ? READOUT_BAND_PX : 0, bottom: view.references.length * STRIP_ROW_PX + 4 } };
     (options.plugins as Record<string, unknown>).referenceStrip = { references: view.references, axis: view.axis, lambda: view.lambda };
     chart.data.datasets = buildDatasets(view) as ChartDataset<'line', PointData>[];
     chart.update('none');
+  }
+
+  /** The readout at a canvas position (CSS px), or the hint when the cursor is off the plot. */
+  private showReading(px: number | null, py: number | null): void {
+    const readout = this.readout;
+    const view = this.view;
+    if (!readout) return;
+    const area = this.chart.chartArea;
+    const xScale = this.chart.scales.x;
+    const inside = px !== null && py !== null && area && xScale && px >= area.left && px <= area.right && py >= area.top && py <= area.bottom;
+    const reading = inside && view ? readingAt(twoThetaFromDisplay(xScale.getValueForPixel(px)!, view.axis, view.lambda), view.lambda, view.main.x, view.main.y) : null;
+    readout.textContent = reading ? readingText(reading) : READOUT_HINT;
+    readout.classList.toggle('reading', reading !== null);
   }
 
   resetZoom(): void {
@@ -401,6 +432,7 @@ export class PatternChart {
 
   destroy(): void {
     this.chart.destroy();
+    this.readout?.remove();
   }
 }
 

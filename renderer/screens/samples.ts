@@ -2,6 +2,7 @@ import type { PhaseMatch, SampleDetail, SampleSummary } from '../../src/api/cont
 import { call, decodeFloats, saveFile } from '../base/api.js';
 import { timings } from '../base/actions.js';
 import { COLORS, PatternChart, type PatternSeries, type PeakMark, type PatternViewModel } from '../chart/pattern-chart.js';
+import { nearestIndex } from '../chart/readout.js';
 import { chartToSvg } from '../chart/svg.js';
 import { sizeStrainChart } from '../chart/size-strain-chart.js';
 import { append, field, fmt, h, hklText, sizeText } from '../base/dom.js';
@@ -83,17 +84,6 @@ function series(detail: SampleDetail): PatternSeries {
     background: detail.background ? decodeFloats(detail.background) : null,
     model: detail.model ? decodeFloats(detail.model) : null,
   };
-}
-
-function nearestIndex(x: Float32Array, value: number): number {
-  let lo = 0;
-  let hi = x.length - 1;
-  while (hi - lo > 1) {
-    const mid = (lo + hi) >> 1;
-    if (x[mid]! < value) lo = mid;
-    else hi = mid;
-  }
-  return Math.abs(x[lo]! - value) < Math.abs(x[hi]! - value) ? lo : hi;
 }
 
 function marks(detail: SampleDetail): PeakMark[] {

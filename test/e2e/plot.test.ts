@@ -63,6 +63,31 @@ describe('the pattern plot (headless Chromium)', () => {
     expect(await drawnPoints()).toBe(whole);
   }, 180_000);
 
+  it('reads 2θ, d, Q and the counts under the cursor, in a band of its own above the plot', async () => {
+    const { page } = app;
+    const readout = page.getByTestId('chart-readout');
+    expect(await readout.textContent()).toMatch(/^Point at the plot/);
+    const canvas = await page.getByTestId('pattern-chart').boundingBox();
+    // Halfway across the canvas and a third of the way down: inside the plot, away from any label.
+    await page.mouse.move(canvas!.x + canvas!.width / 2, canvas!.y + canvas!.height / 3);
+    const text = (await readout.textContent()) ?? '';
+    await shot('plot-02-readout');
+    const match = /^2θ (\d+\.\d{3})°\s+·\s+d (\d+\.\d{4}) Å\s+·\s+Q (\d+\.\d{4}) Å⁻¹\s+·\s+counts (-?\d+) \(point at (\d+\.\d{3})°\)$/.exec(text);
+    expect(match, text).not.toBeNull();
+    const [twoTheta, d, q, , nearest] = match!.slice(1).map(Number) as [number, number, number, number, number];
+    // The pattern runs 5–90° 2θ under Cu Kα1 (1.540593 Å; the simulator's wavelength): Bragg's law and Q = 2π/d.
+    expect(twoTheta).toBeGreaterThan(30);
+    expect(twoTheta).toBeLessThan(65);
+    expect(d).toBeCloseTo(1.540593 / (2 * Math.sin((twoTheta * Math.PI) / 360)), 3);
+    expect(q).toBeCloseTo((2 * Math.PI) / d, 3);
+    expect(Math.abs(nearest - twoTheta)).toBeLessThan(0.001);
+    // The readout box sits above the plot area: its bottom is above the top of the y axis's highest tick.
+    const box = await readout.boundingBox();
+    expect(box!.y + box!.height).toBeLessThan(canvas!.y + 24);
+    await page.mouse.move(canvas!.x + canvas!.width / 2, canvas!.y + canvas!.height + 40);
+    expect(await readout.textContent()).toMatch(/^Point at the plot/);
+  });
+
   it('raised no script errors in the page', () => {
     expect(pageProblems(app.page).filter((p) => !p.startsWith('Failed to load resource'))).toEqual([]);
   });
