@@ -39,7 +39,13 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
   const refLines = checked.size ? await call('library.lines', { names: [...checked] }) : [];
 
   const canvas = h('canvas', { 'aria-label': `Pattern of ${detail.name}`, role: 'img', 'data-testid': 'pattern-chart' });
-  const box = h('div', { class: 'chart-box', tabindex: 0, 'aria-label': 'Pattern view: arrow keys pan, + and − zoom, R resets' }, canvas);
+  const box = h('div', { class: 'chart-box', tabindex: 0, 'aria-label': 'Pattern view: arrow keys pan, + and − zoom, R resets; drag the lower right corner to make it taller' }, canvas);
+  // A height the user dragged the pane to stays through re-renders; otherwise it follows the window.
+  if (app.view.chartHeightPx !== null) box.style.height = `${app.view.chartHeightPx}px`;
+  new ResizeObserver(() => {
+    const height = box.getBoundingClientRect().height;
+    if (box.style.height && box.isConnected && height > 0) app.view.chartHeightPx = height;
+  }).observe(box);
   main.append(toolbar(detail), box, details(detail, checked));
   const view: PatternViewModel = {
     main: series(detail),

@@ -91,19 +91,25 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     for (const hours of ['0 h', '24 h']) await page.locator('[data-testid="sample-list"] li', { hasText: `humid air ${hours}` }).getByRole('checkbox').uncheck();
   });
 
-  it('sizes the chart to the window: taller at 1440×900 than at 1280×720', async () => {
+  it('sizes the chart to the window: taller and wider at 1440×900 than at 1280×720', async () => {
     const { page } = app;
-    const chartHeight = async (width: number, height: number): Promise<number> => {
+    const chartSize = async (width: number, height: number): Promise<{ height: number; canvasWidth: number }> => {
       await page.setViewportSize({ width, height });
       await page.waitForTimeout(200);
-      return page.locator('.chart-box').first().evaluate((el) => el.getBoundingClientRect().height);
+      return {
+        height: await page.locator('.chart-box').first().evaluate((el) => el.getBoundingClientRect().height),
+        canvasWidth: await page.getByTestId('pattern-chart').evaluate((el) => el.getBoundingClientRect().width),
+      };
     };
-    const small = await chartHeight(1280, 720);
-    const large = await chartHeight(1440, 900);
+    const large = await chartSize(1440, 900);
+    const small = await chartSize(1280, 720);
+    await shot('04d-samples-1280x720');
     await page.setViewportSize({ width: 1280, height: 800 });
     // styles.css: 48 % of the window height (clamped to 240–720 px), so 345.6 px and 432 px.
-    expect(small).toBeCloseTo(0.48 * 720, 0);
-    expect(large).toBeCloseTo(0.48 * 900, 0);
+    expect(small.height).toBeCloseTo(0.48 * 720, 0);
+    expect(large.height).toBeCloseTo(0.48 * 900, 0);
+    // The canvas follows the window's width too: the sample list keeps its width, the plot takes the rest.
+    expect(large.canvasWidth - small.canvasWidth).toBeCloseTo(160, -1);
   });
 
   it('renders the exported SVG as a picture of the plot', async () => {

@@ -88,6 +88,36 @@ describe('the pattern plot (headless Chromium)', () => {
     expect(await readout.textContent()).toMatch(/^Point at the plot/);
   });
 
+  it('follows the window from 1440×900 to 1280×720, and the pane can be dragged taller', async () => {
+    const { page } = app;
+    const measure = async (width: number, height: number) => {
+      await page.setViewportSize({ width, height });
+      await page.waitForTimeout(250);
+      const columns = await page.getByTestId('pattern-chart').evaluate((el) => Number((el as HTMLCanvasElement).dataset.columns));
+      return { width: await canvasWidth(), height: (await page.locator('.chart-box').boundingBox())!.height, columns };
+    };
+    const large = await measure(1440, 900);
+    const small = await measure(1280, 720);
+    await shot('plot-03-1280x720');
+    console.log(`canvas ${large.width.toFixed(0)} × ${large.height.toFixed(0)} px at 1440×900, ${small.width.toFixed(0)} × ${small.height.toFixed(0)} px at 1280×720`);
+    // The sample list keeps its 290 px, so the canvas loses the 160 px the window lost.
+    expect(large.width - small.width).toBeCloseTo(160, -1);
+    expect(small.height).toBeLessThan(large.height);
+    // The points were chosen again for the narrower plot: one bucket per pixel column of it.
+    expect(small.columns).toBeLessThan(large.columns);
+    expect(large.columns - small.columns).toBeCloseTo(160, -1);
+    // Drag the pane's lower right corner 120 px down; the chart fills the taller pane.
+    const box = (await page.locator('.chart-box').boundingBox())!;
+    await page.mouse.move(box.x + box.width - 3, box.y + box.height - 3);
+    await page.mouse.down();
+    await page.mouse.move(box.x + box.width - 3, box.y + box.height + 117, { steps: 5 });
+    await page.mouse.up();
+    await page.waitForTimeout(250);
+    const dragged = (await page.getByTestId('pattern-chart').boundingBox())!;
+    expect(dragged.height).toBeGreaterThan(box.height + 100);
+    await page.setViewportSize({ width: 1440, height: 900 });
+  });
+
   it('raised no script errors in the page', () => {
     expect(pageProblems(app.page).filter((p) => !p.startsWith('Failed to load resource'))).toEqual([]);
   });
