@@ -15,8 +15,9 @@ import {
 } from 'chart.js';
 import zoomPlugin from 'chartjs-plugin-zoom';
 import { decimateMinMax, visibleRange } from './decimate.js';
-import { READOUT_HINT, readingAt, readingText } from './readout.js';
-import { axisTitle, convertX, intensityTitle, transformY, twoThetaFromDisplay, type AxisUnit, type IntensityScale } from './units.js';
+import { placeLabels, type LabelRequest, type PlacementOptions } from './label-placement.js';
+import { nearestIndex, READOUT_HINT, readingAt, readingText } from './readout.js';
+import { axisTitle, convertX, intensityTitle, transformY, twoThetaFromDisplay, untransformY, type AxisUnit, type IntensityScale } from './units.js';
 
 Chart.register(LineController, ScatterController, LineElement, PointElement, LinearScale, LogarithmicScale, CategoryScale, Tooltip, Legend, zoomPlugin);
 
@@ -51,11 +52,18 @@ export interface PeakMark {
   y: number;
   kind: MarkKind;
   label: string;
+  /** Miller indices of the reference line the peak was matched to, as the hkl label shows them. */
+  hkl?: string;
 }
 
 export interface ReferenceStrip {
   name: string;
   color: string;
+  /**
+   * Counts above the background per unit of reference intensity, from the peaks matched to the phase;
+   * without it the strongest line is drawn as tall as the highest point in view.
+   */
+  countsPerIntensity?: number | null;
   lines: Array<{ twoTheta: number; intensity: number | null; label: string }>;
 }
 
@@ -70,6 +78,8 @@ export interface PatternViewModel {
   /** Offset between stacked samples, as a fraction of the first pattern's span. */
   offsetFraction: number;
   showFit: boolean;
+  /** Label matched peaks with their hkl. */
+  hklLabels?: boolean;
 }
 
 const STRIP_ROW_PX = 18;
@@ -138,25 +148,167 @@ const paperPlugin: Plugin<'line'> = {
   },
 };
 
-/** Labels the low-angle extra peaks in words, so they stand out in print too. */
-const lowAngleLabelPlugin: Plugin<'line'> = {
-  id: 'lowAngleLabels',
-  afterDatasetsDraw(chart) {
+interface MarkDataset {
+  markKind?: MarkKind;
+  markHkl?: Array<string | undefined>;
+}
+
+/** The labels last drawn on a chart (for the SVG export): text, box and colour. */
+export interface DrawnLabel {
+  text: string;
+  left: number;
+  top: number;
+  color: string;
+  bold: boolean;
+  /** The peak the label belongs to, when it was lifted off it (a leader line joins them). */
+  anchor: { x: number; y: number } | null;
+}
+
+const LABEL_HEIGHT_PX = 12;
+export const drawnLabels = new WeakMap<Chart, DrawnLabel[]>();
+
+/**
+ * Words over the low-angle extra peaks (always, so they stand out in print too) and, when asked,
+ * the hkl of every matched peak; placed greedily so no two labels overlap and none covers a mark.
+ */
+const peakLabelPlugin: Plugin<'line'> = {
+  id: 'peakLabels',
+  afterDatasetsDraw(chart, _args, options) {
+    const { hkl: showHkl } = options as unknown as { hkl?: boolean };
     const ctx = chart.ctx;
+    const area = chart.chartArea;
+    const requests: LabelRequest[] = [];
+    const texts: Array<{ text: string; color: string; bold: boolean }> = [];
+    const obstacles: PlacementOptions['obstacles'] = [];
+    ctx.save();
     chart.data.datasets.forEach((dataset, index) => {
-      if ((dataset as { markKind?: MarkKind }).markKind !== 'low-angle' || !chart.isDatasetVisible(index)) return;
-      const meta = chart.getDatasetMeta(index);
-      ctx.save();
-      ctx.fillStyle = COLORS.lowAngle;
-      ctx.font = 'bold 11px system-ui, sans-serif';
-      ctx.textAlign = 'center';
-      for (const element of meta.data) {
-        const { x, y } = element.getProps(['x', 'y'], true) as { x: number; y: number };
-        if (x < chart.chartArea.left || x > chart.chartArea.right) continue;
-        ctx.fillText('low-angle extra', x, Math.max(chart.chartArea.top + 10, y - 14));
-      }
-      ctx.restore();
+      const { markKind, markHkl } = dataset as MarkDataset;
+      if (!markKind || !chart.isDatasetVisible(index)) return;
+      const radius = Number((dataset as { pointRadius?: number }).pointRadius ?? 4);
+      const xScale = chart.scales.x!;
+      const yScale = chart.scales.y!;
+      // From the data, not the point elements: chart.js leaves the elements of points out of view unplaced.
+      (dataset.data as Array<{ x: number; y: number }>).forEach((point, i) => {
+        const x = xScale.getPixelForValue(point.x);
+        const y = yScale.getPixelForValue(point.y);
+        if (!(x >= area.left && x <= area.right && y >= area.top && y <= area.bottom)) return;
+        obstacles.push({ left: x - radius, top: y - radius, right: x + radius, bottom: y + radius });
+        const hkl = showHkl ? markHkl?.[i] : undefined;
+        const lowAngle = markKind === 'low-angle';
+        if (!lowAngle && !(markKind === 'matched' && hkl)) return;
+        const text = lowAngle ? `low-angle extra${hkl ? ` ${hkl}` : ''}` : hkl!;
+        ctx.font = `${lowAngle ? 'bold ' : ''}11px system-ui, sans-serif`;
+        // The low-angle alarm goes first and may climb higher to find room; hkl labels follow by peak height.
+        requests.push({ x, y: Math.max(area.top, y - radius), width: ctx.measureText(text).width + 4, height: LABEL_HEIGHT_PX, priority: (lowAngle ? 1e12 : 0) - y, ...(lowAngle ? { maxStack: 12 } : {}) });
+        texts.push({ text, color: lowAngle ? COLORS.lowAngle : COLORS.ink, bold: lowAngle });
+      });
     });
+    const { placed, hidden } = placeLabels(requests, { left: area.left, right: area.right, top: area.top, obstacles });
+    const drawn: DrawnLabel[] = [];
+    ctx.textAlign = 'left';
+    ctx.textBaseline = 'top';
+    for (const p of placed) {
+      const { text, color, bold } = texts[p.index]!;
+      const r = requests[p.index]!;
+      const anchor = p.stacked > 0 ? { x: r.x, y: r.y } : null;
+      if (anchor) {
+        ctx.strokeStyle = 'rgba(36,49,58,0.35)';
+        ctx.lineWidth = 1;
+        ctx.beginPath();
+        ctx.moveTo(anchor.x, anchor.y - 2);
+        ctx.lineTo(Math.min(Math.max(anchor.x, p.left), p.left + r.width), p.top + LABEL_HEIGHT_PX);
+        ctx.stroke();
+      }
+      ctx.fillStyle = color;
+      ctx.font = `${bold ? 'bold ' : ''}11px system-ui, sans-serif`;
+      ctx.fillText(text, p.left + 2, p.top);
+      drawn.push({ text, left: p.left, top: p.top, color, bold, anchor });
+    }
+    ctx.restore();
+    drawnLabels.set(chart as unknown as Chart, drawn);
+    // For the record (and the browser tests): labels drawn and labels left out for want of room.
+    chart.canvas.dataset.labelsShown = String(placed.length);
+    chart.canvas.dataset.labelsHidden = String(hidden.length);
+  },
+};
+
+interface StickOptions {
+  references: ReferenceStrip[];
+  axis: AxisUnit;
+  lambda: number;
+  scale: IntensityScale;
+  main: PatternSeries;
+}
+
+/** Where a reference line's stick starts and ends, in counts: on the background, as tall as the phase's matched peaks say. */
+function stickCounts(ref: ReferenceStrip, twoTheta: number, intensity: number | null, main: PatternSeries): { from: number; to: number } | null {
+  const k = ref.countsPerIntensity;
+  if (!k || !(k > 0) || main.x.length === 0) return null;
+  const i = nearestIndex(main.x, twoTheta);
+  const from = main.background ? main.background[i]! : 0;
+  return { from, to: from + (intensity ?? 30) * k };
+}
+
+/** The highest stick top over the whole pattern (counts), so the intensity axis can reach it. */
+function highestStick(references: ReferenceStrip[], main: PatternSeries): number {
+  let top = -Infinity;
+  const n = main.x.length;
+  for (const ref of references)
+    for (const line of ref.lines) {
+      if (n === 0 || line.twoTheta < main.x[0]! || line.twoTheta > main.x[n - 1]!) continue;
+      const stick = stickCounts(ref, line.twoTheta, line.intensity, main);
+      if (stick && stick.to > top) top = stick.to;
+    }
+  return top;
+}
+
+/**
+ * Reference lines drawn as sticks over the pattern, behind the curves. A phase with matched peaks
+ * stands on the background with its sticks as tall as its matched peaks make them; another phase's
+ * strongest line (100) is as tall as the highest measured point in view above the lowest. Heights are
+ * in counts, drawn on the chosen intensity scale; the intensity axis reaches the tallest stick.
+ */
+const referenceStickPlugin: Plugin<'line'> = {
+  id: 'referenceSticks',
+  beforeDatasetsDraw(chart, _args, options) {
+    const { references, axis, lambda, scale, main } = options as unknown as StickOptions;
+    const measured = (chart.data.datasets[0]?.data ?? []) as PointData;
+    if (!references?.length || measured.length === 0) return;
+    const xScale = chart.scales.x!;
+    const yScale = chart.scales.y!;
+    const area = chart.chartArea;
+    const [low, high] = [Math.min(xScale.min, xScale.max), Math.max(xScale.min, xScale.max)];
+    let min = Infinity;
+    let max = -Infinity;
+    for (const { x, y } of measured as Array<{ x: number; y: number }>) {
+      if (x < low || x > high) continue;
+      if (y < min) min = y;
+      if (y > max) max = y;
+    }
+    if (!(max > min)) return;
+    const base = untransformY(min, scale);
+    const top = untransformY(max, scale);
+    const pixel = (counts: number): number => Math.min(area.bottom, Math.max(area.top, yScale.getPixelForValue(transformY(counts, scale))));
+    const ctx = chart.ctx;
+    ctx.save();
+    ctx.beginPath();
+    ctx.rect(area.left, area.top, area.right - area.left, area.bottom - area.top);
+    ctx.clip();
+    ctx.globalAlpha = 0.55;
+    ctx.lineWidth = 1.5;
+    for (const ref of references) {
+      ctx.strokeStyle = ref.color;
+      ctx.beginPath();
+      for (const line of ref.lines) {
+        const px = xScale.getPixelForValue(convertX(line.twoTheta, axis, lambda));
+        if (!(px >= area.left && px <= area.right)) continue;
+        const stick = stickCounts(ref, line.twoTheta, line.intensity, main) ?? { from: base, to: base + ((line.intensity ?? 30) / 100) * (top - base) };
+        ctx.moveTo(px, pixel(stick.from));
+        ctx.lineTo(px, pixel(stick.to));
+      }
+      ctx.stroke();
+    }
+    ctx.restore();
   },
 };
 
@@ -298,7 +450,13 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
       missing: { label: 'missing strong lines', color: COLORS.missing, style: 'circle', radius: 5, rotation: 0, fill: false },
     };
     for (const kind of ['matched', 'unexplained', 'low-angle', 'missing'] as MarkKind[]) {
-      const marks = view.marks.filter((m) => m.kind === kind);
+      // In x order, as the chart's normalised data must be (else zoomed views lose marks).
+      const marks = view.marks
+        .filter((m) => m.kind === kind)
+        .map((m) => ({ mark: m, x: convertX(m.twoTheta, axis, lambda) }))
+        .filter((m) => Number.isFinite(m.x))
+        .sort((a, b) => a.x - b.x)
+        .map((m) => m.mark);
       if (!marks.length) continue;
       const s = styles[kind];
       const lift = kind === 'missing' ? 0 : 0.03 * width;
@@ -316,6 +474,7 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
         parsing: false,
         markKind: kind,
         markLabels: marks.map((m) => m.label),
+        markHkl: marks.map((m) => m.hkl),
       } as ChartDataset<'scatter', PointData>);
     }
   }
@@ -346,7 +505,7 @@ export class PatternChart {
     this.chart = new Chart<'line', PointData>(canvas, {
       type: 'line',
       data: { datasets: [] },
-      plugins: [decimationPlugin, paperPlugin, referenceStripPlugin, lowAngleLabelPlugin],
+      plugins: [decimationPlugin, paperPlugin, referenceStickPlugin, referenceStripPlugin, peakLabelPlugin],
       options: {
         animation: false,
         responsive: true,
@@ -392,6 +551,12 @@ export class PatternChart {
     (y as { title: { text: string } }).title.text = intensityTitle(view.scale);
     options.layout = { padding: { top: this.readout ? READOUT_BAND_PX : 0, bottom: view.references.length * STRIP_ROW_PX + 4 } };
     (options.plugins as Record<string, unknown>).referenceStrip = { references: view.references, axis: view.axis, lambda: view.lambda };
+    (options.plugins as Record<string, unknown>).referenceSticks = { references: view.references, axis: view.axis, lambda: view.lambda, scale: view.scale, main: view.main };
+    const tallest = highestStick(view.references, view.main);
+    (y as { suggestedMax?: number }).suggestedMax = Number.isFinite(tallest) ? transformY(tallest, view.scale) : undefined;
+    (options.plugins as Record<string, unknown>).peakLabels = { hkl: view.hklLabels ?? false };
+    // Headroom above the highest point for the marks and, when shown, stacked hkl labels.
+    (y as { grace: string }).grace = view.hklLabels ? '14%' : '5%';
     chart.data.datasets = buildDatasets(view) as ChartDataset<'line', PointData>[];
     chart.update('none');
   }

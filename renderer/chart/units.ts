@@ -27,6 +27,11 @@ export function transformY(y: number, scale: IntensityScale): number {
   return y;
 }
 
+/** Counts from a value on the intensity axis (the inverse of transformY, up to its floor on the log scale). */
+export function untransformY(v: number, scale: IntensityScale): number {
+  return scale === 'sqrt' ? Math.sign(v) * v * v : v;
+}
+
 export function intensityTitle(scale: IntensityScale): string {
   return scale === 'sqrt' ? '√intensity (√counts)' : scale === 'log' ? 'intensity (counts, log)' : 'intensity (counts)';
 }

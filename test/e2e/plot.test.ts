@@ -118,6 +118,30 @@ describe('the pattern plot (headless Chromium)', () => {
     await page.setViewportSize({ width: 1440, height: 900 });
   });
 
+  it('labels matched peaks with their hkl on request, without overlaps, over reference sticks scaled to the pattern', async () => {
+    const { page } = app;
+    await pickFile(join(ROOT, 'examples', 'simulated_MAPbI3_humid-air_24h.xy'));
+    await page.locator('[data-testid="sample-list"] li', { hasText: 'humid-air_24h' }).waitFor({ timeout: 120_000 });
+    await page.getByTestId('verdict').waitFor();
+    const labels = () => page.getByTestId('pattern-chart').evaluate((el) => ({ shown: Number((el as HTMLCanvasElement).dataset.labelsShown), hidden: Number((el as HTMLCanvasElement).dataset.labelsHidden) }));
+    const without = await labels();
+    // Without hkl labels only the low-angle alarm is written out: one label for each of the three.
+    expect(without).toEqual({ shown: 3, hidden: 0 });
+    await page.getByTestId('hkl-labels').check();
+    await page.getByTestId('pattern-chart').waitFor();
+    const withHkl = await labels();
+    await shot('plot-04-hkl-labels');
+    console.log(`hkl labels: ${withHkl.shown} drawn, ${withHkl.hidden} left out for want of room (${without.shown} low-angle labels without them)`);
+    expect(withHkl.shown).toBeGreaterThan(without.shown + 5);
+    // Zoomed in on the strong lines, fewer labels compete for room.
+    await page.locator('.chart-box').focus();
+    for (let i = 0; i < 4; i++) await page.keyboard.press('+');
+    await shot('plot-05-hkl-labels-zoomed');
+    await page.keyboard.press('r');
+    await page.getByTestId('hkl-labels').uncheck();
+    expect(await labels()).toEqual(without);
+  }, 180_000);
+
   it('raised no script errors in the page', () => {
     expect(pageProblems(app.page).filter((p) => !p.startsWith('Failed to load resource'))).toEqual([]);
   });
