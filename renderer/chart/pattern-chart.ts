@@ -158,13 +158,19 @@ export interface DrawnLabel {
   text: string;
   left: number;
   top: number;
+  width: number;
   color: string;
   bold: boolean;
   /** The peak the label belongs to, when it was lifted off it (a leader line joins them). */
   anchor: { x: number; y: number } | null;
 }
 
-const LABEL_HEIGHT_PX = 12;
+export const LABEL_HEIGHT_PX = 12;
+
+/** Where a lifted label's leader line meets the label's lower edge: under the peak, or the label's nearest corner. */
+export function leaderEndX(anchorX: number, left: number, width: number): number {
+  return Math.min(Math.max(anchorX, left), left + width);
+}
 export const drawnLabels = new WeakMap<Chart, DrawnLabel[]>();
 
 /**
@@ -216,13 +222,13 @@ const peakLabelPlugin: Plugin<'line'> = {
         ctx.lineWidth = 1;
         ctx.beginPath();
         ctx.moveTo(anchor.x, anchor.y - 2);
-        ctx.lineTo(Math.min(Math.max(anchor.x, p.left), p.left + r.width), p.top + LABEL_HEIGHT_PX);
+        ctx.lineTo(leaderEndX(anchor.x, p.left, r.width), p.top + LABEL_HEIGHT_PX);
         ctx.stroke();
       }
       ctx.fillStyle = color;
       ctx.font = `${bold ? 'bold ' : ''}11px system-ui, sans-serif`;
       ctx.fillText(text, p.left + 2, p.top);
-      drawn.push({ text, left: p.left, top: p.top, color, bold, anchor });
+      drawn.push({ text, left: p.left, top: p.top, width: r.width, color, bold, anchor });
     }
     ctx.restore();
     drawnLabels.set(chart as unknown as Chart, drawn);
@@ -268,44 +274,62 @@ function highestStick(references: ReferenceStrip[], main: PatternSeries): number
  * strongest line (100) is as tall as the highest measured point in view above the lowest. Heights are
  * in counts, drawn on the chosen intensity scale; the intensity axis reaches the tallest stick.
  */
+export interface StickSegment {
+  color: string;
+  x: number;
+  /** Pixel rows of the stick's foot and top. */
+  bottom: number;
+  top: number;
+}
+
+/** The reference sticks as the chart now shows them, in pixels (the canvas and the SVG export draw these). */
+export function referenceSticks(chart: Chart): StickSegment[] {
+  const options = (chart.options.plugins as Record<string, unknown> | undefined)?.referenceSticks as StickOptions | undefined;
+  const measured = (chart.data.datasets[0]?.data ?? []) as Array<{ x: number; y: number }>;
+  const xScale = chart.scales.x;
+  const yScale = chart.scales.y;
+  if (!options?.references?.length || measured.length === 0 || !xScale || !yScale) return [];
+  const { references, axis, lambda, scale, main } = options;
+  const area = chart.chartArea;
+  const [low, high] = [Math.min(xScale.min, xScale.max), Math.max(xScale.min, xScale.max)];
+  let min = Infinity;
+  let max = -Infinity;
+  for (const { x, y } of measured) {
+    if (x < low || x > high) continue;
+    if (y < min) min = y;
+    if (y > max) max = y;
+  }
+  if (!(max > min)) return [];
+  const base = untransformY(min, scale);
+  const top = untransformY(max, scale);
+  const pixel = (counts: number): number => Math.min(area.bottom, Math.max(area.top, yScale.getPixelForValue(transformY(counts, scale))));
+  const out: StickSegment[] = [];
+  for (const ref of references)
+    for (const line of ref.lines) {
+      const x = xScale.getPixelForValue(convertX(line.twoTheta, axis, lambda));
+      if (!(x >= area.left && x <= area.right)) continue;
+      const stick = stickCounts(ref, line.twoTheta, line.intensity, main) ?? { from: base, to: base + ((line.intensity ?? 30) / 100) * (top - base) };
+      out.push({ color: ref.color, x, bottom: pixel(stick.from), top: pixel(stick.to) });
+    }
+  return out;
+}
+
+export const STICK_ALPHA = 0.55;
+
 const referenceStickPlugin: Plugin<'line'> = {
   id: 'referenceSticks',
-  beforeDatasetsDraw(chart, _args, options) {
-    const { references, axis, lambda, scale, main } = options as unknown as StickOptions;
-    const measured = (chart.data.datasets[0]?.data ?? []) as PointData;
-    if (!references?.length || measured.length === 0) return;
-    const xScale = chart.scales.x!;
-    const yScale = chart.scales.y!;
-    const area = chart.chartArea;
-    const [low, high] = [Math.min(xScale.min, xScale.max), Math.max(xScale.min, xScale.max)];
-    let min = Infinity;
-    let max = -Infinity;
-    for (const { x, y } of measured as Array<{ x: number; y: number }>) {
-      if (x < low || x > high) continue;
-      if (y < min) min = y;
-      if (y > max) max = y;
-    }
-    if (!(max > min)) return;
-    const base = untransformY(min, scale);
-    const top = untransformY(max, scale);
-    const pixel = (counts: number): number => Math.min(area.bottom, Math.max(area.top, yScale.getPixelForValue(transformY(counts, scale))));
+  beforeDatasetsDraw(chart) {
+    const sticks = referenceSticks(chart as unknown as Chart);
+    if (!sticks.length) return;
     const ctx = chart.ctx;
     ctx.save();
-    ctx.beginPath();
-    ctx.rect(area.left, area.top, area.right - area.left, area.bottom - area.top);
-    ctx.clip();
-    ctx.globalAlpha = 0.55;
+    ctx.globalAlpha = STICK_ALPHA;
     ctx.lineWidth = 1.5;
-    for (const ref of references) {
-      ctx.strokeStyle = ref.color;
+    for (const stick of sticks) {
+      ctx.strokeStyle = stick.color;
       ctx.beginPath();
-      for (const line of ref.lines) {
-        const px = xScale.getPixelForValue(convertX(line.twoTheta, axis, lambda));
-        if (!(px >= area.left && px <= area.right)) continue;
-        const stick = stickCounts(ref, line.twoTheta, line.intensity, main) ?? { from: base, to: base + ((line.intensity ?? 30) / 100) * (top - base) };
-        ctx.moveTo(px, pixel(stick.from));
-        ctx.lineTo(px, pixel(stick.to));
-      }
+      ctx.moveTo(stick.x, stick.bottom);
+      ctx.lineTo(stick.x, stick.top);
       ctx.stroke();
     }
     ctx.restore();

@@ -1,5 +1,5 @@
 import type { Chart, ScatterDataPoint } from 'chart.js';
-import { COLORS, type PatternViewModel } from './pattern-chart.js';
+import { COLORS, drawnLabels, LABEL_HEIGHT_PX, leaderEndX, referenceSticks, STICK_ALPHA, type PatternViewModel } from './pattern-chart.js';
 import { decimateMinMax, visibleRange } from './decimate.js';
 import { convertX } from './units.js';
 
@@ -38,6 +38,9 @@ export function chartToSvg(chart: Chart<'line', ScatterDataPoint[]>, view: Patte
   out.push(`<text x="${(area.left + area.right) / 2}" y="${area.bottom + 30}" text-anchor="middle" fill="${COLORS.ink}">${esc(String(xTitle))}</text>`);
   out.push(`<text transform="translate(14 ${(area.top + area.bottom) / 2}) rotate(-90)" text-anchor="middle" fill="${COLORS.ink}">${esc(String(yTitle))}</text>`);
 
+  for (const stick of referenceSticks(chart as unknown as Chart)) {
+    out.push(`<line x1="${stick.x.toFixed(1)}" y1="${stick.bottom.toFixed(1)}" x2="${stick.x.toFixed(1)}" y2="${stick.top.toFixed(1)}" stroke="${stick.color}" stroke-opacity="${STICK_ALPHA}" stroke-width="1.5"/>`);
+  }
   chart.data.datasets.forEach((dataset, index) => {
     if (!chart.isDatasetVisible(index)) return;
     const color = String(dataset.borderColor ?? COLORS.ink);
@@ -62,6 +65,10 @@ export function chartToSvg(chart: Chart<'line', ScatterDataPoint[]>, view: Patte
     out.push(`<polyline clip-path="url(#plot)" fill="none" stroke="${color}" stroke-width="1.2"${dash ? ` stroke-dasharray="${dash.join(' ')}"` : ''} points="${path.join(' ')}"><title>${esc(String(dataset.label ?? ''))}</title></polyline>`);
   });
 
+  for (const label of drawnLabels.get(chart as unknown as Chart) ?? []) {
+    if (label.anchor) out.push(`<line x1="${label.anchor.x.toFixed(1)}" y1="${(label.anchor.y - 2).toFixed(1)}" x2="${leaderEndX(label.anchor.x, label.left, label.width).toFixed(1)}" y2="${(label.top + LABEL_HEIGHT_PX).toFixed(1)}" stroke="${COLORS.ink}" stroke-opacity="0.35"/>`);
+    out.push(`<text x="${(label.left + 2).toFixed(1)}" y="${(label.top + 10).toFixed(1)}" fill="${label.color}"${label.bold ? ' font-weight="bold"' : ''}>${esc(label.text)}</text>`);
+  }
   // Legend: one short line and the label per visible curve, along the top.
   let legendX = area.left;
   chart.data.datasets.forEach((dataset, index) => {

@@ -44,6 +44,15 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     // The answer comes first: target verdict word and size in one sentence above the evidence.
     expect(await page.getByTestId('headline').textContent()).toMatch(/^methylammonium lead iodide present.* · size \d+\.\d ± \d+\.\d nm\.$/);
     expect(await page.getByTestId('size').textContent()).toMatch(/Scherrer: \d+\.\d ± \d+\.\d nm/);
+    // The cursor readout: 2θ under the pointer and its d by Bragg's law at Cu Kα1 (1.540593 Å, the demo's anode).
+    const canvas = (await page.getByTestId('pattern-chart').boundingBox())!;
+    await page.mouse.move(canvas.x + canvas.width * 0.4, canvas.y + canvas.height * 0.4);
+    const reading = /^2θ (\d+\.\d+)°\s+·\s+d (\d+\.\d+) Å/.exec((await page.getByTestId('chart-readout').textContent()) ?? '');
+    expect(reading).not.toBeNull();
+    const [twoTheta, d] = [Number(reading![1]), Number(reading![2])];
+    expect(twoTheta).toBeGreaterThan(5);
+    expect(twoTheta).toBeLessThan(60);
+    expect(d).toBeCloseTo(1.540593 / (2 * Math.sin((twoTheta * Math.PI) / 360)), 3);
     await shot('02-samples-as-made');
   });
 

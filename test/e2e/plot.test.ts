@@ -2,7 +2,7 @@
  * The pattern plot in a real browser: decimated drawing of a long pattern with full resolution when
  * zoomed in, the cursor readout, a chart that follows the window, and hkl labels on matched peaks.
  */
-import { writeFileSync } from 'node:fs';
+import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { siliconPatternText } from '../app/fixtures.js';
@@ -133,6 +133,14 @@ describe('the pattern plot (headless Chromium)', () => {
     await shot('plot-04-hkl-labels');
     console.log(`hkl labels: ${withHkl.shown} drawn, ${withHkl.hidden} left out for want of room (${without.shown} low-angle labels without them)`);
     expect(withHkl.shown).toBeGreaterThan(without.shown + 5);
+    // The SVG export carries the same labels and sticks.
+    const download = page.waitForEvent('download');
+    await page.getByRole('button', { name: 'SVG', exact: true }).click();
+    const svg = readFileSync(await (await download).path(), 'utf8');
+    writeFileSync(join(SCREENSHOTS, 'plot-hkl-labels.svg'), svg);
+    expect(svg.match(/>low-angle extra[^<]*<\/text>/g)?.length).toBe(3);
+    expect(svg.match(/<text [^>]*>\d{3}<\/text>/g)?.length).toBeGreaterThan(5);
+    expect(svg.match(/stroke-opacity="0\.55"/g)?.length).toBeGreaterThan(20);
     // Zoomed in on the strong lines, fewer labels compete for room.
     await page.locator('.chart-box').focus();
     for (let i = 0; i < 4; i++) await page.keyboard.press('+');
