@@ -19,10 +19,10 @@ export const app = {
   screen: 'samples' as ScreenName,
   selected: null as number | null,
   overlays: new Set<number>(),
-  /** Phases whose reference lines are drawn under the pattern; null = the sample's present phases. */
+  /** Phases whose reference lines are drawn on the pattern; null = the sample's present phases. */
   checked: null as Set<string> | null,
   details: new Map<number, SampleDetail>(),
-  view: { axis: '2theta' as AxisUnit, scale: 'linear' as IntensityScale, offsetFraction: 0.35, showFit: true },
+  view: { axis: '2theta' as AxisUnit, scale: 'linear' as IntensityScale, offsetFraction: 0.35, showFit: true, hklLabels: false, chartHeightPx: null as number | null },
 };
 
 type Listener = () => void;

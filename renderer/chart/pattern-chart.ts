@@ -1,7 +1,6 @@
 import {
   CategoryScale,
   Chart,
-  Decimation,
   Legend,
   LinearScale,
   LineController,
@@ -15,9 +14,12 @@ import {
   type ScatterDataPoint,
 } from 'chart.js';
 import zoomPlugin from 'chartjs-plugin-zoom';
-import { axisTitle, convertX, intensityTitle, transformY, type AxisUnit, type IntensityScale } from './units.js';
+import { decimateMinMax, visibleRange } from './decimate.js';
+import { placeLabels, type LabelRequest, type PlacementOptions } from './label-placement.js';
+import { nearestIndex, READOUT_HINT, readingAt, readingText } from './readout.js';
+import { axisTitle, convertX, intensityTitle, transformY, twoThetaFromDisplay, untransformY, type AxisUnit, type IntensityScale } from './units.js';
 
-Chart.register(LineController, ScatterController, LineElement, PointElement, LinearScale, LogarithmicScale, CategoryScale, Tooltip, Legend, Decimation, zoomPlugin);
+Chart.register(LineController, ScatterController, LineElement, PointElement, LinearScale, LogarithmicScale, CategoryScale, Tooltip, Legend, zoomPlugin);
 
 export const COLORS = {
   ink: '#24313a',
@@ -50,11 +52,18 @@ export interface PeakMark {
   y: number;
   kind: MarkKind;
   label: string;
+  /** Miller indices of the reference line the peak was matched to, as the hkl label shows them. */
+  hkl?: string;
 }
 
 export interface ReferenceStrip {
   name: string;
   color: string;
+  /**
+   * Counts above the background per unit of reference intensity, from the peaks matched to the phase;
+   * without it the strongest line is drawn as tall as the highest point in view.
+   */
+  countsPerIntensity?: number | null;
   lines: Array<{ twoTheta: number; intensity: number | null; label: string }>;
 }
 
@@ -69,9 +78,13 @@ export interface PatternViewModel {
   /** Offset between stacked samples, as a fraction of the first pattern's span. */
   offsetFraction: number;
   showFit: boolean;
+  /** Label matched peaks with their hkl. */
+  hklLabels?: boolean;
 }
 
 const STRIP_ROW_PX = 18;
+/** A band above the legend for the cursor readout, so the readout never covers the curve. */
+const READOUT_BAND_PX = 20;
 
 interface StripOptions {
   references: ReferenceStrip[];
@@ -135,38 +148,263 @@ const paperPlugin: Plugin<'line'> = {
   },
 };
 
-/** Labels the low-angle extra peaks in words, so they stand out in print too. */
-const lowAngleLabelPlugin: Plugin<'line'> = {
-  id: 'lowAngleLabels',
-  afterDatasetsDraw(chart) {
+interface MarkDataset {
+  markKind?: MarkKind;
+  markHkl?: Array<string | undefined>;
+}
+
+/** The labels last drawn on a chart (for the SVG export): text, box and colour. */
+export interface DrawnLabel {
+  text: string;
+  left: number;
+  top: number;
+  width: number;
+  color: string;
+  bold: boolean;
+  /** The peak the label belongs to, when it was lifted off it (a leader line joins them). */
+  anchor: { x: number; y: number } | null;
+}
+
+export const LABEL_HEIGHT_PX = 12;
+
+/** Where a lifted label's leader line meets the label's lower edge: under the peak, or the label's nearest corner. */
+export function leaderEndX(anchorX: number, left: number, width: number): number {
+  return Math.min(Math.max(anchorX, left), left + width);
+}
+export const drawnLabels = new WeakMap<Chart, DrawnLabel[]>();
+
+/**
+ * Words over the low-angle extra peaks (always, so they stand out in print too) and, when asked,
+ * the hkl of every matched peak; placed greedily so no two labels overlap and none covers a mark.
+ */
+const peakLabelPlugin: Plugin<'line'> = {
+  id: 'peakLabels',
+  afterDatasetsDraw(chart, _args, options) {
+    const { hkl: showHkl } = options as unknown as { hkl?: boolean };
     const ctx = chart.ctx;
+    const area = chart.chartArea;
+    const requests: LabelRequest[] = [];
+    const texts: Array<{ text: string; color: string; bold: boolean }> = [];
+    const obstacles: PlacementOptions['obstacles'] = [];
+    ctx.save();
     chart.data.datasets.forEach((dataset, index) => {
-      if ((dataset as { markKind?: MarkKind }).markKind !== 'low-angle' || !chart.isDatasetVisible(index)) return;
-      const meta = chart.getDatasetMeta(index);
-      ctx.save();
-      ctx.fillStyle = COLORS.lowAngle;
-      ctx.font = 'bold 11px system-ui, sans-serif';
-      ctx.textAlign = 'center';
-      for (const element of meta.data) {
-        const { x, y } = element.getProps(['x', 'y'], true) as { x: number; y: number };
-        if (x < chart.chartArea.left || x > chart.chartArea.right) continue;
-        ctx.fillText('low-angle extra', x, Math.max(chart.chartArea.top + 10, y - 14));
-      }
-      ctx.restore();
+      const { markKind, markHkl } = dataset as MarkDataset;
+      if (!markKind || !chart.isDatasetVisible(index)) return;
+      const radius = Number((dataset as { pointRadius?: number }).pointRadius ?? 4);
+      const xScale = chart.scales.x!;
+      const yScale = chart.scales.y!;
+      // From the data, not the point elements: chart.js leaves the elements of points out of view unplaced.
+      (dataset.data as Array<{ x: number; y: number }>).forEach((point, i) => {
+        const x = xScale.getPixelForValue(point.x);
+        const y = yScale.getPixelForValue(point.y);
+        if (!(x >= area.left && x <= area.right && y >= area.top && y <= area.bottom)) return;
+        obstacles.push({ left: x - radius, top: y - radius, right: x + radius, bottom: y + radius });
+        const hkl = showHkl ? markHkl?.[i] : undefined;
+        const lowAngle = markKind === 'low-angle';
+        if (!lowAngle && !(markKind === 'matched' && hkl)) return;
+        const text = lowAngle ? `low-angle extra${hkl ? ` ${hkl}` : ''}` : hkl!;
+        ctx.font = `${lowAngle ? 'bold ' : ''}11px system-ui, sans-serif`;
+        // The low-angle alarm goes first and may climb higher to find room; hkl labels follow by peak height.
+        requests.push({ x, y: Math.max(area.top, y - radius), width: ctx.measureText(text).width + 4, height: LABEL_HEIGHT_PX, priority: (lowAngle ? 1e12 : 0) - y, ...(lowAngle ? { maxStack: 12 } : {}) });
+        texts.push({ text, color: lowAngle ? COLORS.lowAngle : COLORS.ink, bold: lowAngle });
+      });
     });
+    const { placed, hidden } = placeLabels(requests, { left: area.left, right: area.right, top: area.top, obstacles });
+    const drawn: DrawnLabel[] = [];
+    ctx.textAlign = 'left';
+    ctx.textBaseline = 'top';
+    for (const p of placed) {
+      const { text, color, bold } = texts[p.index]!;
+      const r = requests[p.index]!;
+      const anchor = p.stacked > 0 ? { x: r.x, y: r.y } : null;
+      if (anchor) {
+        ctx.strokeStyle = 'rgba(36,49,58,0.35)';
+        ctx.lineWidth = 1;
+        ctx.beginPath();
+        ctx.moveTo(anchor.x, anchor.y - 2);
+        ctx.lineTo(leaderEndX(anchor.x, p.left, r.width), p.top + LABEL_HEIGHT_PX);
+        ctx.stroke();
+      }
+      ctx.fillStyle = color;
+      ctx.font = `${bold ? 'bold ' : ''}11px system-ui, sans-serif`;
+      ctx.fillText(text, p.left + 2, p.top);
+      drawn.push({ text, left: p.left, top: p.top, width: r.width, color, bold, anchor });
+    }
+    ctx.restore();
+    drawnLabels.set(chart as unknown as Chart, drawn);
+    // For the record (and the browser tests): labels drawn and labels left out for want of room.
+    chart.canvas.dataset.labelsShown = String(placed.length);
+    chart.canvas.dataset.labelsHidden = String(hidden.length);
+  },
+};
+
+interface StickOptions {
+  references: ReferenceStrip[];
+  axis: AxisUnit;
+  lambda: number;
+  scale: IntensityScale;
+  main: PatternSeries;
+}
+
+/** Where a reference line's stick starts and ends, in counts: on the background, as tall as the phase's matched peaks say. */
+function stickCounts(ref: ReferenceStrip, twoTheta: number, intensity: number | null, main: PatternSeries): { from: number; to: number } | null {
+  const k = ref.countsPerIntensity;
+  if (!k || !(k > 0) || main.x.length === 0) return null;
+  const i = nearestIndex(main.x, twoTheta);
+  const from = main.background ? main.background[i]! : 0;
+  return { from, to: from + (intensity ?? 30) * k };
+}
+
+/** The highest stick top over the whole pattern (counts), so the intensity axis can reach it. */
+function highestStick(references: ReferenceStrip[], main: PatternSeries): number {
+  let top = -Infinity;
+  const n = main.x.length;
+  for (const ref of references)
+    for (const line of ref.lines) {
+      if (n === 0 || line.twoTheta < main.x[0]! || line.twoTheta > main.x[n - 1]!) continue;
+      const stick = stickCounts(ref, line.twoTheta, line.intensity, main);
+      if (stick && stick.to > top) top = stick.to;
+    }
+  return top;
+}
+
+/**
+ * Reference lines drawn as sticks over the pattern, behind the curves. A phase with matched peaks
+ * stands on the background with its sticks as tall as its matched peaks make them; another phase's
+ * strongest line (100) is as tall as the highest measured point in view above the lowest. Heights are
+ * in counts, drawn on the chosen intensity scale; the intensity axis reaches the tallest stick.
+ */
+export interface StickSegment {
+  color: string;
+  x: number;
+  /** Pixel rows of the stick's foot and top. */
+  bottom: number;
+  top: number;
+}
+
+/** The reference sticks as the chart now shows them, in pixels (the canvas and the SVG export draw these). */
+export function referenceSticks(chart: Chart): StickSegment[] {
+  const options = (chart.options.plugins as Record<string, unknown> | undefined)?.referenceSticks as StickOptions | undefined;
+  const measured = (chart.data.datasets[0]?.data ?? []) as Array<{ x: number; y: number }>;
+  const xScale = chart.scales.x;
+  const yScale = chart.scales.y;
+  if (!options?.references?.length || measured.length === 0 || !xScale || !yScale) return [];
+  const { references, axis, lambda, scale, main } = options;
+  const area = chart.chartArea;
+  const [low, high] = [Math.min(xScale.min, xScale.max), Math.max(xScale.min, xScale.max)];
+  let min = Infinity;
+  let max = -Infinity;
+  for (const { x, y } of measured) {
+    if (x < low || x > high) continue;
+    if (y < min) min = y;
+    if (y > max) max = y;
+  }
+  if (!(max > min)) return [];
+  const base = untransformY(min, scale);
+  const top = untransformY(max, scale);
+  const pixel = (counts: number): number => Math.min(area.bottom, Math.max(area.top, yScale.getPixelForValue(transformY(counts, scale))));
+  const out: StickSegment[] = [];
+  for (const ref of references)
+    for (const line of ref.lines) {
+      const x = xScale.getPixelForValue(convertX(line.twoTheta, axis, lambda));
+      if (!(x >= area.left && x <= area.right)) continue;
+      const stick = stickCounts(ref, line.twoTheta, line.intensity, main) ?? { from: base, to: base + ((line.intensity ?? 30) / 100) * (top - base) };
+      out.push({ color: ref.color, x, bottom: pixel(stick.from), top: pixel(stick.to) });
+    }
+  return out;
+}
+
+export const STICK_ALPHA = 0.55;
+
+const referenceStickPlugin: Plugin<'line'> = {
+  id: 'referenceSticks',
+  beforeDatasetsDraw(chart) {
+    const sticks = referenceSticks(chart as unknown as Chart);
+    if (!sticks.length) return;
+    const ctx = chart.ctx;
+    ctx.save();
+    ctx.globalAlpha = STICK_ALPHA;
+    ctx.lineWidth = 1.5;
+    for (const stick of sticks) {
+      ctx.strokeStyle = stick.color;
+      ctx.beginPath();
+      ctx.moveTo(stick.x, stick.bottom);
+      ctx.lineTo(stick.x, stick.top);
+      ctx.stroke();
+    }
+    ctx.restore();
   },
 };
 
 type PointData = ScatterDataPoint[];
 
-function points(x: Float32Array, y: ArrayLike<number>, axis: AxisUnit, lambda: number, scale: IntensityScale, shift: (v: number) => number): PointData {
-  const n = x.length;
-  const out: PointData = new Array(n);
-  for (let i = 0; i < n; i++) out[i] = { x: convertX(x[i]!, axis, lambda), y: shift(transformY(y[i]!, scale)) };
-  // d decreases as 2θ grows: keep x ascending for decimation, and reverse the axis instead.
-  if (axis === 'd') out.reverse();
+/** A curve at full resolution, in display units; what is drawn is decimated from it for the current view. */
+interface CurveSource {
+  x: Float64Array;
+  y: ArrayLike<number>;
+}
+
+type CurveDataset = ChartDataset<'line', PointData> & { source?: CurveSource };
+
+/** 2θ converted once to the display unit (d runs backwards in index order; decimation copes with either). */
+function displayX(x: Float32Array, axis: AxisUnit, lambda: number): Float64Array {
+  const out = new Float64Array(x.length);
+  for (let i = 0; i < x.length; i++) out[i] = convertX(x[i]!, axis, lambda);
   return out;
 }
+
+/** Intensities as drawn (scale and stacking offset applied), without a copy when nothing changes. */
+function displayY(y: Float32Array, scale: IntensityScale, shift: ((v: number) => number) | null): ArrayLike<number> {
+  if (scale === 'linear' && shift === null) return y;
+  const out = new Float64Array(y.length);
+  for (let i = 0; i < y.length; i++) {
+    const v = transformY(y[i]!, scale);
+    out[i] = shift ? shift(v) : v;
+  }
+  return out;
+}
+
+/**
+ * Replaces each curve's drawn points by the min/max per pixel column of its visible part (all points
+ * when zoomed in far enough), before chart.js lays the chart out: so a zoom or a pan re-decimates.
+ */
+const decimationPlugin: Plugin<'line'> = {
+  id: 'patternDecimation',
+  beforeUpdate(chart) {
+    const scaleOptions = chart.options.scales?.x as { min?: number; max?: number } | undefined;
+    const low = scaleOptions?.min;
+    const high = scaleOptions?.max;
+    if (low === undefined || high === undefined) return;
+    const area = chart.chartArea;
+    let drawn = 0;
+    const columns = Math.max(1, Math.ceil(area && area.right > area.left ? area.right - area.left : chart.width));
+    for (const dataset of chart.data.datasets as CurveDataset[]) {
+      const source = dataset.source;
+      if (!source) continue;
+      const { from, to } = visibleRange(source.x, low, high);
+      const kept = decimateMinMax(source.x, source.y, { from, to, xLow: low, xHigh: high, buckets: columns });
+      const data: PointData = new Array(kept.length);
+      // chart.js wants x ascending (the options say the data is normalised): d runs backwards.
+      const backwards = source.x.length > 1 && source.x[source.x.length - 1]! < source.x[0]!;
+      for (let k = 0; k < kept.length; k++) {
+        const i = kept[backwards ? kept.length - 1 - k : k]!;
+        data[k] = { x: source.x[i]!, y: source.y[i]! };
+      }
+      dataset.data = data;
+      drawn += data.length;
+    }
+    // For the record (and the browser tests): how many curve points the last update drew, over what.
+    chart.canvas.dataset.drawnPoints = String(drawn);
+    chart.canvas.dataset.viewRange = `${low} ${high}`;
+    chart.canvas.dataset.columns = String(columns);
+  },
+  afterUpdate(chart) {
+    // The first layout (and a resize) settles the plot's width only after the points were chosen:
+    // choose again once, with one bucket per pixel column of the plot as it now is.
+    const area = chart.chartArea;
+    if (area && Math.ceil(area.right - area.left) !== Number(chart.canvas.dataset.columns)) requestAnimationFrame(() => chart.canvas && chart.update('none'));
+  },
+};
 
 function span(values: ArrayLike<number>, scale: IntensityScale): { min: number; max: number } {
   let min = Infinity;
@@ -186,10 +424,11 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
   const range = span(view.main.y, scale);
   const width = range.max - range.min || 1;
   const stackShift = (i: number) => (v: number) => (scale === 'log' ? v * 10 ** (i * view.offsetFraction * 2) : v + i * view.offsetFraction * width);
-  const line = (label: string, data: PointData, color: string, extra: Partial<ChartDataset<'line', PointData>> = {}): ChartDataset<'line', PointData> => ({
+  const line = (label: string, source: CurveSource, color: string, extra: Partial<ChartDataset<'line', PointData>> = {}): CurveDataset => ({
     type: 'line',
     label,
-    data,
+    data: [],
+    source,
     borderColor: color,
     backgroundColor: color,
     borderWidth: 1.2,
@@ -201,17 +440,19 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
     ...extra,
   });
   const datasets: ChartDataset<'line' | 'scatter', PointData>[] = [];
+  const mainX = displayX(view.main.x, axis, lambda);
   all.forEach((series, i) => {
     const color = i === 0 ? COLORS.measured : COLORS.overlays[i % COLORS.overlays.length]!;
-    datasets.push(line(i === 0 && view.overlays.length === 0 ? `${series.label} (measured)` : series.label, points(series.x, series.y, axis, lambda, scale, stackShift(i)), color));
+    const x = i === 0 ? mainX : displayX(series.x, axis, lambda);
+    datasets.push(line(i === 0 && view.overlays.length === 0 ? `${series.label} (measured)` : series.label, { x, y: displayY(series.y, scale, i === 0 ? null : stackShift(i)) }, color));
   });
   const single = view.overlays.length === 0;
   const { main } = view;
   if (single && view.showFit && main.background) {
-    datasets.push(line('background', points(main.x, main.background, axis, lambda, scale, (v) => v), COLORS.background, { borderDash: [5, 4], borderWidth: 1 }));
+    datasets.push(line('background', { x: mainX, y: displayY(main.background, scale, null) }, COLORS.background, { borderDash: [5, 4], borderWidth: 1 }));
   }
   if (single && view.showFit && main.model) {
-    datasets.push(line('fit', points(main.x, main.model, axis, lambda, scale, (v) => v), COLORS.fit, { borderWidth: 1.4 }));
+    datasets.push(line('fit', { x: mainX, y: displayY(main.model, scale, null) }, COLORS.fit, { borderWidth: 1.4 }));
     if (scale !== 'log') {
       const diff = new Float64Array(main.y.length);
       let maxDiff = 0;
@@ -219,12 +460,10 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
         diff[i] = transformY(main.y[i]!, scale) - transformY(main.model[i]!, scale);
         if (diff[i]! > maxDiff) maxDiff = diff[i]!;
       }
+      // The difference curve hangs below the pattern: its highest point just under the lowest count.
       const base = range.min - maxDiff - 0.04 * width;
-      const x = main.x;
-      const data: PointData = new Array(diff.length);
-      for (let i = 0; i < diff.length; i++) data[i] = { x: convertX(x[i]!, axis, lambda), y: base + diff[i]! };
-      if (axis === 'd') data.reverse();
-      datasets.push(line('difference (measured − fit)', data, COLORS.difference, { borderWidth: 1 }));
+      for (let i = 0; i < diff.length; i++) diff[i] = base + diff[i]!;
+      datasets.push(line('difference (measured − fit)', { x: mainX, y: diff }, COLORS.difference, { borderWidth: 1 }));
     }
   }
   if (single) {
@@ -235,7 +474,13 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
       missing: { label: 'missing strong lines', color: COLORS.missing, style: 'circle', radius: 5, rotation: 0, fill: false },
     };
     for (const kind of ['matched', 'unexplained', 'low-angle', 'missing'] as MarkKind[]) {
-      const marks = view.marks.filter((m) => m.kind === kind);
+      // In x order, as the chart's normalised data must be (else zoomed views lose marks).
+      const marks = view.marks
+        .filter((m) => m.kind === kind)
+        .map((m) => ({ mark: m, x: convertX(m.twoTheta, axis, lambda) }))
+        .filter((m) => Number.isFinite(m.x))
+        .sort((a, b) => a.x - b.x)
+        .map((m) => m.mark);
       if (!marks.length) continue;
       const s = styles[kind];
       const lift = kind === 'missing' ? 0 : 0.03 * width;
@@ -253,22 +498,38 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
         parsing: false,
         markKind: kind,
         markLabels: marks.map((m) => m.label),
+        markHkl: marks.map((m) => m.hkl),
       } as ChartDataset<'scatter', PointData>);
     }
   }
   return datasets;
 }
 
-/** The pattern view: chart.js with zoom and pan, min-max decimation, reference strip and peak marks. */
+/** The pattern view: chart.js with zoom and pan, min/max decimation per pixel column (re-done on zoom), reference strip and peak marks. */
 export class PatternChart {
   readonly chart: Chart<'line', PointData>;
   private view: PatternViewModel | null = null;
 
+  private readonly readout: HTMLElement | null;
+
   constructor(canvas: HTMLCanvasElement) {
+    const box = canvas.parentElement;
+    if (box) {
+      this.readout = document.createElement('div');
+      this.readout.className = 'chart-readout';
+      this.readout.dataset.testid = 'chart-readout';
+      this.readout.setAttribute('aria-live', 'off');
+      this.readout.textContent = READOUT_HINT;
+      box.append(this.readout);
+      canvas.addEventListener('mousemove', (event) => this.showReading(event.offsetX, event.offsetY));
+      canvas.addEventListener('mouseleave', () => this.showReading(null, null));
+    } else {
+      this.readout = null;
+    }
     this.chart = new Chart<'line', PointData>(canvas, {
       type: 'line',
       data: { datasets: [] },
-      plugins: [paperPlugin, referenceStripPlugin, lowAngleLabelPlugin],
+      plugins: [decimationPlugin, paperPlugin, referenceStickPlugin, referenceStripPlugin, peakLabelPlugin],
       options: {
         animation: false,
         responsive: true,
@@ -281,7 +542,6 @@ export class PatternChart {
           y: { type: 'linear', title: { display: true, text: 'intensity (counts)' }, grid: { color: COLORS.grid } },
         },
         plugins: {
-          decimation: { enabled: true, algorithm: 'min-max' },
           legend: { position: 'top', align: 'end', labels: { boxWidth: 14, boxHeight: 2, color: COLORS.ink, font: { size: 11 } } },
           tooltip: {
             filter: (item) => (item.dataset as { markLabels?: string[] }).markLabels !== undefined,
@@ -313,10 +573,29 @@ export class PatternChart {
     (x as { title: { text: string } }).title.text = axisTitle(view.axis);
     (y as { type: string }).type = view.scale === 'log' ? 'logarithmic' : 'linear';
     (y as { title: { text: string } }).title.text = intensityTitle(view.scale);
-    options.layout = { padding: { bottom: view.references.length * STRIP_ROW_PX + 4 } };
+    options.layout = { padding: { top: this.readout ? READOUT_BAND_PX : 0, bottom: view.references.length * STRIP_ROW_PX + 4 } };
     (options.plugins as Record<string, unknown>).referenceStrip = { references: view.references, axis: view.axis, lambda: view.lambda };
+    (options.plugins as Record<string, unknown>).referenceSticks = { references: view.references, axis: view.axis, lambda: view.lambda, scale: view.scale, main: view.main };
+    const tallest = highestStick(view.references, view.main);
+    (y as { suggestedMax?: number }).suggestedMax = Number.isFinite(tallest) ? transformY(tallest, view.scale) : undefined;
+    (options.plugins as Record<string, unknown>).peakLabels = { hkl: view.hklLabels ?? false };
+    // Headroom above the highest point for the marks and, when shown, stacked hkl labels.
+    (y as { grace: string }).grace = view.hklLabels ? '14%' : '5%';
     chart.data.datasets = buildDatasets(view) as ChartDataset<'line', PointData>[];
     chart.update('none');
+  }
+
+  /** The readout at a canvas position (CSS px), or the hint when the cursor is off the plot. */
+  private showReading(px: number | null, py: number | null): void {
+    const readout = this.readout;
+    const view = this.view;
+    if (!readout) return;
+    const area = this.chart.chartArea;
+    const xScale = this.chart.scales.x;
+    const inside = px !== null && py !== null && area && xScale && px >= area.left && px <= area.right && py >= area.top && py <= area.bottom;
+    const reading = inside && view ? readingAt(twoThetaFromDisplay(xScale.getValueForPixel(px)!, view.axis, view.lambda), view.lambda, view.main.x, view.main.y) : null;
+    readout.textContent = reading ? readingText(reading) : READOUT_HINT;
+    readout.classList.toggle('reading', reading !== null);
   }
 
   resetZoom(): void {
@@ -342,6 +621,7 @@ export class PatternChart {
 
   destroy(): void {
     this.chart.destroy();
+    this.readout?.remove();
   }
 }
 

@@ -1,12 +1,13 @@
 import type { Chart, ScatterDataPoint } from 'chart.js';
-import { COLORS, type PatternViewModel } from './pattern-chart.js';
+import { COLORS, drawnLabels, LABEL_HEIGHT_PX, leaderEndX, referenceSticks, STICK_ALPHA, type PatternViewModel } from './pattern-chart.js';
+import { decimateMinMax, visibleRange } from './decimate.js';
 import { convertX } from './units.js';
 
 const esc = (text: string): string => text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
 
 /**
- * The chart as it is now (zoom included) as a standalone SVG: each curve reduced to the minimum and
- * maximum per pixel column (what a screen shows), axes with the chart's own ticks, peak marks and
+ * The chart as it is now (zoom included) as a standalone SVG: each curve as drawn on screen (first,
+ * lowest, highest and last point per pixel column), axes with the chart's own ticks, peak marks and
  * the reference strip.
  */
 export function chartToSvg(chart: Chart<'line', ScatterDataPoint[]>, view: PatternViewModel): string {
@@ -37,6 +38,9 @@ export function chartToSvg(chart: Chart<'line', ScatterDataPoint[]>, view: Patte
   out.push(`<text x="${(area.left + area.right) / 2}" y="${area.bottom + 30}" text-anchor="middle" fill="${COLORS.ink}">${esc(String(xTitle))}</text>`);
   out.push(`<text transform="translate(14 ${(area.top + area.bottom) / 2}) rotate(-90)" text-anchor="middle" fill="${COLORS.ink}">${esc(String(yTitle))}</text>`);
 
+  for (const stick of referenceSticks(chart as unknown as Chart)) {
+    out.push(`<line x1="${stick.x.toFixed(1)}" y1="${stick.bottom.toFixed(1)}" x2="${stick.x.toFixed(1)}" y2="${stick.top.toFixed(1)}" stroke="${stick.color}" stroke-opacity="${STICK_ALPHA}" stroke-width="1.5"/>`);
+  }
   chart.data.datasets.forEach((dataset, index) => {
     if (!chart.isDatasetVisible(index)) return;
     const color = String(dataset.borderColor ?? COLORS.ink);
@@ -51,32 +55,20 @@ export function chartToSvg(chart: Chart<'line', ScatterDataPoint[]>, view: Patte
       }
       return;
     }
-    const columns = new Map<number, { min: number; max: number; first: number; last: number }>();
-    const order: number[] = [];
-    for (const p of data) {
-      if (p.x === null || p.y === null) continue;
-      const px = Math.round(xs.getPixelForValue(p.x));
-      if (px < area.left - 1 || px > area.right + 1) continue;
-      const py = ys.getPixelForValue(p.y);
-      const column = columns.get(px);
-      if (column) {
-        column.min = Math.min(column.min, py);
-        column.max = Math.max(column.max, py);
-        column.last = py;
-      } else {
-        columns.set(px, { min: py, max: py, first: py, last: py });
-        order.push(px);
-      }
-    }
-    const path: string[] = [];
-    for (const px of order) {
-      const c = columns.get(px)!;
-      path.push(`${px},${c.first.toFixed(1)}`, `${px},${c.min.toFixed(1)}`, `${px},${c.max.toFixed(1)}`, `${px},${c.last.toFixed(1)}`);
-    }
+    const points = data.filter((p): p is { x: number; y: number } => p.x !== null && p.y !== null);
+    const px = Float64Array.from(points, (p) => xs.getPixelForValue(p.x));
+    const py = Float64Array.from(points, (p) => ys.getPixelForValue(p.y));
+    const { from, to } = visibleRange(px, area.left, area.right);
+    const kept = decimateMinMax(px, py, { from, to, xLow: area.left, xHigh: area.right, buckets: Math.ceil(area.right - area.left), fullResolutionPerBucket: 4 });
+    const path = Array.from(kept, (i) => `${px[i]!.toFixed(1)},${py[i]!.toFixed(1)}`);
     const dash = (dataset as { borderDash?: number[] }).borderDash;
     out.push(`<polyline clip-path="url(#plot)" fill="none" stroke="${color}" stroke-width="1.2"${dash ? ` stroke-dasharray="${dash.join(' ')}"` : ''} points="${path.join(' ')}"><title>${esc(String(dataset.label ?? ''))}</title></polyline>`);
   });
 
+  for (const label of drawnLabels.get(chart as unknown as Chart) ?? []) {
+    if (label.anchor) out.push(`<line x1="${label.anchor.x.toFixed(1)}" y1="${(label.anchor.y - 2).toFixed(1)}" x2="${leaderEndX(label.anchor.x, label.left, label.width).toFixed(1)}" y2="${(label.top + LABEL_HEIGHT_PX).toFixed(1)}" stroke="${COLORS.ink}" stroke-opacity="0.35"/>`);
+    out.push(`<text x="${(label.left + 2).toFixed(1)}" y="${(label.top + 10).toFixed(1)}" fill="${label.color}"${label.bold ? ' font-weight="bold"' : ''}>${esc(label.text)}</text>`);
+  }
   // Legend: one short line and the label per visible curve, along the top.
   let legendX = area.left;
   chart.data.datasets.forEach((dataset, index) => {

@@ -2,6 +2,7 @@ import type { PhaseMatch, SampleDetail, SampleSummary } from '../../src/api/cont
 import { call, decodeFloats, saveFile } from '../base/api.js';
 import { timings } from '../base/actions.js';
 import { COLORS, PatternChart, type PatternSeries, type PeakMark, type PatternViewModel } from '../chart/pattern-chart.js';
+import { nearestIndex } from '../chart/readout.js';
 import { chartToSvg } from '../chart/svg.js';
 import { sizeStrainChart } from '../chart/size-strain-chart.js';
 import { append, field, fmt, h, hklText, sizeText } from '../base/dom.js';
@@ -38,18 +39,30 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
   const refLines = checked.size ? await call('library.lines', { names: [...checked] }) : [];
 
   const canvas = h('canvas', { 'aria-label': `Pattern of ${detail.name}`, role: 'img', 'data-testid': 'pattern-chart' });
-  const box = h('div', { class: 'chart-box', tabindex: 0, 'aria-label': 'Pattern view: arrow keys pan, + and − zoom, R resets' }, canvas);
+  const box = h('div', { class: 'chart-box', tabindex: 0, 'aria-label': 'Pattern view: arrow keys pan, + and − zoom, R resets; drag the lower right corner to make it taller' }, canvas);
+  // A height the user dragged the pane to stays through re-renders; otherwise it follows the window.
+  if (app.view.chartHeightPx !== null) box.style.height = `${app.view.chartHeightPx}px`;
+  new ResizeObserver(() => {
+    const height = box.getBoundingClientRect().height;
+    if (box.style.height && box.isConnected && height > 0) app.view.chartHeightPx = height;
+  }).observe(box);
   main.append(toolbar(detail), box, details(detail, checked));
   const view: PatternViewModel = {
     main: series(detail),
     overlays: overlays.map(series),
     marks: marks(detail),
-    references: refLines.map((r, i) => ({ name: r.name, color: COLORS.phases[i % COLORS.phases.length]!, lines: r.lines.map((l) => ({ twoTheta: l.twoTheta, intensity: l.intensity, label: hklText(l.hkl) })) })),
+    references: refLines.map((r, i) => ({
+      name: r.name,
+      color: COLORS.phases[i % COLORS.phases.length]!,
+      countsPerIntensity: countsPerIntensity(detail, r.name),
+      lines: r.lines.map((l) => ({ twoTheta: l.twoTheta, intensity: l.intensity, label: hklText(l.hkl) })),
+    })),
     lambda: detail.lambda1,
     axis: app.view.axis,
     scale: app.view.scale,
     offsetFraction: app.view.offsetFraction,
     showFit: app.view.showFit,
+    hklLabels: app.view.hklLabels,
   };
   chart = new PatternChart(canvas);
   chart.render(view);
@@ -85,17 +98,6 @@ function series(detail: SampleDetail): PatternSeries {
   };
 }
 
-function nearestIndex(x: Float32Array, value: number): number {
-  let lo = 0;
-  let hi = x.length - 1;
-  while (hi - lo > 1) {
-    const mid = (lo + hi) >> 1;
-    if (x[mid]! < value) lo = mid;
-    else hi = mid;
-  }
-  return Math.abs(x[lo]! - value) < Math.abs(x[hi]! - value) ? lo : hi;
-}
-
 function marks(detail: SampleDetail): PeakMark[] {
   if (!detail.match) return [];
   const x = decodeFloats(detail.x);
@@ -106,7 +108,13 @@ function marks(detail: SampleDetail): PeakMark[] {
   for (const phase of detail.match.phases.filter((p) => p.verdict !== 'not-seen')) {
     for (const line of phase.lines) {
       const low = lowAngleOfPhase.get(line.peakIndex) === phase.name;
-      out.push({ twoTheta: line.twoThetaMeasured, y: y[nearestIndex(x, line.twoThetaMeasured)]!, kind: low ? 'low-angle' : 'matched', label: `${low ? 'Low-angle peak of ' : ''}${phase.name} ${hklText(line.hkl)} at ${line.twoThetaMeasured.toFixed(3)}°` });
+      out.push({
+        twoTheta: line.twoThetaMeasured,
+        y: y[nearestIndex(x, line.twoThetaMeasured)]!,
+        kind: low ? 'low-angle' : 'matched',
+        label: `${low ? 'Low-angle peak of ' : ''}${phase.name} ${hklText(line.hkl)} at ${line.twoThetaMeasured.toFixed(3)}°`,
+        ...(line.hkl ? { hkl: compactHkl(line.hkl) } : {}),
+      });
     }
     for (const line of phase.missingStrongLines) out.push({ twoTheta: line.twoTheta, y: bg[nearestIndex(x, line.twoTheta)]!, kind: 'missing', label: `${phase.name}: strong line at ${line.twoTheta.toFixed(2)}° (I ${line.intensity.toFixed(0)}) not seen` });
   }
@@ -119,6 +127,27 @@ function marks(detail: SampleDetail): PeakMark[] {
     });
   }
   return out;
+}
+
+/**
+ * How many counts above the background one unit of the phase's reference intensity makes in this
+ * pattern: the median over its matched peaks not shared with another phase (null when it has none).
+ */
+function countsPerIntensity(detail: SampleDetail, phaseName: string): number | null {
+  const phase = detail.match?.phases.find((p) => p.name === phaseName);
+  const heights = new Map(detail.peaks.map((p) => [p.index, p.height]));
+  const ratios = (phase?.lines ?? [])
+    .filter((l) => !l.shared && l.intensity !== null && l.intensity > 0 && heights.has(l.peakIndex))
+    .map((l) => heights.get(l.peakIndex)! / l.intensity!)
+    .sort((a, b) => a - b);
+  if (!ratios.length) return null;
+  const mid = ratios.length >> 1;
+  return ratios.length % 2 ? ratios[mid]! : (ratios[mid - 1]! + ratios[mid]!) / 2;
+}
+
+/** hkl as crystallographers write it on a plot: 111, or 1 0 12 with spaces once an index has two digits. */
+function compactHkl(hkl: readonly number[]): string {
+  return hkl.join(hkl.every((v) => v >= 0 && v < 10) ? '' : ' ');
 }
 
 function sampleList(samples: SampleSummary[]): HTMLElement {
@@ -187,6 +216,12 @@ function toolbar(detail: SampleDetail): HTMLElement {
     app.view.showFit = showFit.checked;
     changed();
   });
+  const hklLabels = h('input', { type: 'checkbox', 'data-testid': 'hkl-labels' });
+  hklLabels.checked = app.view.hklLabels;
+  hklLabels.addEventListener('change', () => {
+    app.view.hklLabels = hklLabels.checked;
+    changed();
+  });
   const offset = h('input', { type: 'range', min: 0, max: 1, step: 0.05, value: app.view.offsetFraction, 'aria-label': 'Offset between stacked patterns' });
   offset.addEventListener('change', () => {
     app.view.offsetFraction = Number(offset.value);
@@ -203,6 +238,7 @@ function toolbar(detail: SampleDetail): HTMLElement {
     segmented('Axis', [['2theta', '2θ'], ['d', 'd'], ['q', 'Q']], app.view.axis, (v) => ((app.view.axis = v), changed())),
     segmented('Intensity', [['linear', 'linear'], ['sqrt', '√'], ['log', 'log']], app.view.scale, (v) => ((app.view.scale = v), changed())),
     h('label', { class: 'row small' }, showFit, 'fit'),
+    h('label', { class: 'row small', title: 'Miller indices over the matched peaks; labels that find no room are left out (hover a mark for its line)' }, hklLabels, 'hkl'),
     app.overlays.size ? h('label', { class: 'row small' }, 'offset', offset) : null,
     h('button', { class: 'secondary', onclick: () => chart?.resetZoom(), title: 'R' }, 'Reset zoom'),
     h('button', { class: 'secondary', onclick: () => chart && void saveFile({ suggestedName: `${base}.png`, bytesBase64: chart.toPng().split(',')[1]! }, 'image/png') }, 'PNG'),
@@ -380,7 +416,7 @@ function details(detail: SampleDetail, checked: Set<string>): HTMLElement {
     'div',
     { class: 'details' },
     verdictCard(detail),
-    h('div', { class: 'panel stack' }, h('h3', {}, 'Reference lines drawn under the pattern'), phases, h('h3', {}, `Peaks (${detail.peaks.length})`), peakTable(detail)),
+    h('div', { class: 'panel stack' }, h('h3', {}, 'Reference lines drawn on the pattern'), phases, h('h3', {}, `Peaks (${detail.peaks.length})`), peakTable(detail)),
   );
 }
 

@@ -44,6 +44,15 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     // The answer comes first: target verdict word and size in one sentence above the evidence.
     expect(await page.getByTestId('headline').textContent()).toMatch(/^methylammonium lead iodide present.* · size \d+\.\d ± \d+\.\d nm\.$/);
     expect(await page.getByTestId('size').textContent()).toMatch(/Scherrer: \d+\.\d ± \d+\.\d nm/);
+    // The cursor readout: 2θ under the pointer and its d by Bragg's law at Cu Kα1 (1.540593 Å, the demo's anode).
+    const canvas = (await page.getByTestId('pattern-chart').boundingBox())!;
+    await page.mouse.move(canvas.x + canvas.width * 0.4, canvas.y + canvas.height * 0.4);
+    const reading = /^2θ (\d+\.\d+)°\s+·\s+d (\d+\.\d+) Å/.exec((await page.getByTestId('chart-readout').textContent()) ?? '');
+    expect(reading).not.toBeNull();
+    const [twoTheta, d] = [Number(reading![1]), Number(reading![2])];
+    expect(twoTheta).toBeGreaterThan(5);
+    expect(twoTheta).toBeLessThan(60);
+    expect(d).toBeCloseTo(1.540593 / (2 * Math.sin((twoTheta * Math.PI) / 360)), 3);
     await shot('02-samples-as-made');
   });
 
@@ -91,19 +100,25 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     for (const hours of ['0 h', '24 h']) await page.locator('[data-testid="sample-list"] li', { hasText: `humid air ${hours}` }).getByRole('checkbox').uncheck();
   });
 
-  it('sizes the chart to the window: taller at 1440×900 than at 1280×720', async () => {
+  it('sizes the chart to the window: taller and wider at 1440×900 than at 1280×720', async () => {
     const { page } = app;
-    const chartHeight = async (width: number, height: number): Promise<number> => {
+    const chartSize = async (width: number, height: number): Promise<{ height: number; canvasWidth: number }> => {
       await page.setViewportSize({ width, height });
       await page.waitForTimeout(200);
-      return page.locator('.chart-box').first().evaluate((el) => el.getBoundingClientRect().height);
+      return {
+        height: await page.locator('.chart-box').first().evaluate((el) => el.getBoundingClientRect().height),
+        canvasWidth: await page.getByTestId('pattern-chart').evaluate((el) => el.getBoundingClientRect().width),
+      };
     };
-    const small = await chartHeight(1280, 720);
-    const large = await chartHeight(1440, 900);
+    const large = await chartSize(1440, 900);
+    const small = await chartSize(1280, 720);
+    await shot('04d-samples-1280x720');
     await page.setViewportSize({ width: 1280, height: 800 });
     // styles.css: 48 % of the window height (clamped to 240–720 px), so 345.6 px and 432 px.
-    expect(small).toBeCloseTo(0.48 * 720, 0);
-    expect(large).toBeCloseTo(0.48 * 900, 0);
+    expect(small.height).toBeCloseTo(0.48 * 720, 0);
+    expect(large.height).toBeCloseTo(0.48 * 900, 0);
+    // The canvas follows the window's width too: the sample list keeps its width, the plot takes the rest.
+    expect(large.canvasWidth - small.canvasWidth).toBeCloseTo(160, -1);
   });
 
   it('renders the exported SVG as a picture of the plot', async () => {
