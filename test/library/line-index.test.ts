@@ -80,7 +80,23 @@ describe('the line index stored with the library', () => {
     reader.close();
   });
 
-  it('follows every change: an edit, a delete, an undelete', () => {
+  it('with lines read on demand gives the same references, lines and matches, and names the library when read after it closed', () => {
+    const path = join(dir, 'on-demand.sqlite');
+    const writer = ReferenceLibrary.open(path);
+    writer.importReferences(loadSeedReferences());
+    writer.close();
+    const library = ReferenceLibrary.open(path, { readOnly: true });
+    const loaded = library.referencesWithIndex();
+    const onDemand = library.referencesWithIndex({ linesOnDemand: true });
+    expect(onDemand.references).toEqual(loaded.references); // reads every reference's lines from the library, hkl included
+    expectSameIndex(onDemand.index, loaded.index);
+    expectSameMatches(onDemand.references, onDemand.index, [[0, 1], [2, 3]]);
+    const unread = library.referencesWithIndex({ linesOnDemand: true }).references[0]!;
+    library.close();
+    expect(() => unread.lines).toThrow(`after the library ${path} was closed`);
+  });
+
+    it('follows every change: an edit, a delete, an undelete', () => {
     const library = ReferenceLibrary.open(join(dir, 'changes.sqlite'));
     library.importReferences(randomReferences(200, 11));
     const before = library.referencesWithIndex().index;

@@ -2,7 +2,7 @@ import type { Command } from 'commander';
 import { analyzePattern, createAnalysisContext } from '../../core/analysis/analyse.js';
 import type { MatchResult } from '../../core/match/types.js';
 import { readPatternFile } from '../../node/files.js';
-import { loadReferencesWithIndex, printWarnings } from '../common/io.js';
+import { printWarnings, withReferencesWithIndex } from '../common/io.js';
 import { runCommand } from '../common/run-command.js';
 import { addMatchFlags, settingsFromFlags, TOLERANCE_HELP, type AnalysisFlags } from '../common/settings-flags.js';
 import { loadInstrument } from './analyze.js';
@@ -39,15 +39,21 @@ export function registerMatch(program: Command): void {
 /** The match part of the one analysis of the pattern (peaks → match → sizes), as `analyze` gives it. */
 function matchCommand(file: string, o: MatchCommandOptions): MatchCommandResult {
   const settings = settingsFromFlags(o);
-  const { references, index } = loadReferencesWithIndex(o.library);
-  const analysis = analyzePattern(readPatternFile(file), createAnalysisContext(references, o.instrument ? loadInstrument(o.instrument) : null, settings, index));
+  const instrument = o.instrument ? loadInstrument(o.instrument) : null;
+  const pattern = readPatternFile(file);
+  // One pattern looks at the lines of a few hundred references: those are read from the library as needed.
+  const { analysis, references } = withReferencesWithIndex(
+    o.library,
+    ({ references, index }) => ({ analysis: analyzePattern(pattern, createAnalysisContext(references, instrument, settings, index)), references: references.length }),
+    { linesOnDemand: true },
+  );
   printWarnings(analysis.warnings);
   const { wavelength } = analysis;
   return {
     file,
     wavelength: { label: wavelength.label, lambda1: wavelength.lambda1, lambda2: wavelength.lambda2, ratio: wavelength.ratio },
     library: o.library,
-    references: references.length,
+    references,
     ...analysis.match,
   };
 }

@@ -89,7 +89,7 @@ export function createAnalysisContext(
     index: index ?? buildReferenceIndex(references),
     instrument,
     settings: full,
-    libraryDigest: libraryDigest(references),
+    libraryDigest: index?.libraryDigest ?? libraryDigest(references),
     referenceByName: new Map(references.map((r) => [r.name, r])),
   };
 }

@@ -467,7 +467,16 @@ function boundedReferences(refs: readonly StoredReference[]): number[] {
   let found = boundedByLibrary.get(refs);
   if (!found) {
     found = [];
-    for (let r = 0; r < refs.length; r++) if (refs[r].tags.some((t) => BOUNDED_ABSENCE_TAGS.includes(t))) found.push(r);
+    const bounded = new Set(BOUNDED_ABSENCE_TAGS);
+    for (let r = 0; r < refs.length; r++) {
+      const tags = refs[r]!.tags;
+      for (let t = 0; t < tags.length; t++) {
+        if (bounded.has(tags[t]!)) {
+          found.push(r);
+          break;
+        }
+      }
+    }
     boundedByLibrary.set(refs, found);
   }
   return found;

@@ -17,6 +17,8 @@ export interface ReferenceIndex {
   referenceOf: Int32Array;
   /** Relative intensity of each line (unknown intensities count as UNKNOWN_LINE_INTENSITY). */
   intensity: Float32Array;
+  /** libraryDigest of `references` when the library stored it with the index (else computed when needed). */
+  libraryDigest?: string;
 }
 
 export function lineIntensity(value: number | null): number {

@@ -1,8 +1,8 @@
 import type { Statement } from 'better-sqlite3';
 import { InputError } from '../../core/errors.js';
 import { formatReferenceJson, toFileEntry } from '../../core/library/json-format.js';
-import { forgetPacked, packLines, packedLinesOf, rememberPacked, unpackLines, unpackValues, type PackedLines } from './packing.js';
-import type { Reference, ReferenceLine, StoredReference } from '../../core/model/reference.js';
+import { packLines, packedLinesOf, unpackValues, withLazyLines, type PackedLines, type SnapshotSlice } from './packing.js';
+import type { Reference, StoredReference } from '../../core/model/reference.js';
 import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from './schema.js';
 import { DEFAULT_BUSY_TIMEOUT_MS, openDatabase, readMeta, schemaVersion, writeMeta, type Db } from './sqlite.js';
 import { describeHolder, forgetHolder, recordHolder } from './write-lock.js';
@@ -207,19 +207,32 @@ export class ReferenceLibrary {
    * the snapshot is missing or older than the library, it is made from the packed line arrays (never
    * from line objects) and, when the file is writable, stored.
    */
-  referencesWithIndex(): { references: StoredReference[]; index: ReferenceIndex } {
-    const row = this.statements.snapshot.get();
-    if (row && row.stamp === this.stamp()) {
-      const references = referencesFromSnapshot(row);
-      const index = { d: typedView(Float64Array, row.d), referenceOf: typedView(Int32Array, row.reference_of), intensity: typedView(Float32Array, row.intensity) };
-      return { references, index: referenceIndexFromPacked(references, index) };
+  referencesWithIndex(options: { linesOnDemand?: boolean } = {}): { references: StoredReference[]; index: ReferenceIndex } {
+    const head = this.statements.snapshotHead.get();
+    if (head && head.stamp === this.stamp()) {
+      // One query per column: SQLite keeps its copy of a blob until its statement steps again.
+      const blob = (name: SnapshotBlob) => this.statements.snapshotBlob[name].get()!;
+      const lines = options.linesOnDemand
+        ? { read: (id: number, version: number) => this.packedLinesOfVersion(id, version) }
+        : { values: blob('line_values'), indices: blob('line_indices'), indexStart: typedView(Int32Array, blob('index_start')) };
+      const references = referencesFromSnapshot(this.statements.snapshotHeads.get()!, lines);
+      const index = { d: typedView(Float64Array, blob('d')), referenceOf: typedView(Int32Array, blob('reference_of')), intensity: typedView(Float32Array, blob('intensity')) };
+      return { references, index: { ...referenceIndexFromPacked(references, index), libraryDigest: head.digest } };
     }
     if (!this.db.readonly) {
       this.write(() => this.saveSnapshot());
-      return this.referencesWithIndex();
+      return this.referencesWithIndex(options);
     }
     const references = this.all();
     return { references, index: referenceIndexFromPacked(references, packedIndexOf(references)) };
+  }
+
+  /** A stored version's packed lines, read while the library is open (for references whose lines are read on demand). */
+  private packedLinesOfVersion(id: number, version: number): PackedLines {
+    if (!this.db.open) throw new Error(`the lines of reference version ${id}.${version} were asked for after the library ${this.path} was closed`);
+    const row = this.statements.packedLines.get(id, version);
+    if (!row) throw new Error(`reference version ${id}.${version} is missing from the library ${this.path}`);
+    return { count: row.line_count, values: row.line_values, indices: row.line_indices };
   }
 
   /** The library state in a few numbers: any import, edit, delete, undelete or restore changes it. */
@@ -517,17 +530,23 @@ interface SnapshotRow {
   intensity: Buffer;
 }
 
-/** The references of a snapshot: heads from one JSON array, lines as views on the packed bytes. */
-function referencesFromSnapshot(row: SnapshotRow): StoredReference[] {
-  const heads = JSON.parse(row.heads) as Array<[number, number, string, string, VersionDetails, string, number]>;
-  const indexStart = typedView(Int32Array, row.index_start);
+/** The snapshot's byte columns (line_index, schema.ts step 3). */
+const SNAPSHOT_BLOBS = ['line_values', 'line_indices', 'index_start', 'd', 'reference_of', 'intensity'] as const;
+type SnapshotBlob = (typeof SNAPSHOT_BLOBS)[number];
+
+/** The references of a snapshot: heads from one JSON array, lines left in the packed bytes (or in the library) until read. */
+function referencesFromSnapshot(headsJson: string, lines: SnapshotSlice['snapshot']['lines']): StoredReference[] {
+  const heads = JSON.parse(headsJson) as Array<[number, number, string, string, VersionDetails, string, number]>;
+  const n = heads.length;
+  const snapshot: SnapshotSlice['snapshot'] = { lines, id: new Int32Array(n), version: new Int32Array(n), valueStart: new Int32Array(n), count: new Int32Array(n) };
   let doubles = 0;
   return heads.map(([id, version, name, source, details, createdAt, count], r) => {
-    const values = row.line_values.subarray(8 * doubles, 8 * (doubles + 2 * count));
+    snapshot.id[r] = id;
+    snapshot.version[r] = version;
+    snapshot.valueStart[r] = doubles;
+    snapshot.count[r] = count;
     doubles += 2 * count;
-    const start = indexStart[r]!;
-    const indices = start < 0 ? null : row.line_indices.subarray(4 * start, 4 * (start + 4 * count));
-    return storedReference(id, version, name, source, details, createdAt, { count, values, indices });
+    return storedReference(id, version, name, source, details, createdAt, { snapshot, r });
   });
 }
 
@@ -568,7 +587,13 @@ function prepareStatements(db: Db) {
     markDeleted: db.prepare(`UPDATE reference_entry SET deleted_at = ? WHERE id = ?`),
     clearTags: db.prepare(`DELETE FROM reference_tag WHERE entry_id = ?`),
     insertTag: db.prepare(`INSERT OR IGNORE INTO reference_tag (entry_id, tag) VALUES (?, ?)`),
-    snapshot: db.prepare(`SELECT * FROM line_index WHERE id = 1`) as Statement<[], SnapshotRow>,
+    packedLines: db.prepare(`SELECT line_count, line_values, line_indices FROM reference_version WHERE entry_id = ? AND version = ?`) as Statement<
+      [number, number],
+      { line_count: number; line_values: Buffer; line_indices: Buffer | null }
+    >,
+    snapshotHead: db.prepare(`SELECT stamp, digest FROM line_index WHERE id = 1`) as Statement<[], Pick<SnapshotRow, 'stamp' | 'digest'>>,
+    snapshotHeads: (db.prepare(`SELECT heads FROM line_index WHERE id = 1`) as Statement<[], string>).pluck(),
+    snapshotBlob: Object.fromEntries(SNAPSHOT_BLOBS.map((name) => [name, (db.prepare(`SELECT ${name} FROM line_index WHERE id = 1`) as Statement<[], Buffer>).pluck()])) as Record<SnapshotBlob, Statement<[], Buffer>>,
     currentIdsByName: (db.prepare(`SELECT e.id FROM reference_entry e WHERE e.deleted_at IS NULL ORDER BY e.name`) as Statement<[], number>).pluck(),
     currentTotals: db.prepare(`SELECT count(*) AS "references", coalesce(sum(v.line_count), 0) AS lines ${CURRENT}`) as Statement<[], { references: number; lines: number }>,
     stamp: db.prepare(`SELECT count(*) AS n, total(current_version) AS versions, (SELECT max(rowid) FROM reference_version) AS last
@@ -622,30 +647,13 @@ function storedFromRow([id, version, name, source, detailsJson, createdAt, count
   return storedReference(id, version, name, source, JSON.parse(detailsJson) as VersionDetails, createdAt, { count, values, indices });
 }
 
-function storedReference(id: number, version: number, name: string, source: string, details: VersionDetails, createdAt: string, packed: PackedLines): StoredReference {
-  let lines: ReferenceLine[] | null = null;
-  const ref: StoredReference = {
-    id,
-    version,
-    createdAt,
-    name,
-    formula: details.formula,
-    tags: details.tags,
-    source,
-    get lines(): ReferenceLine[] {
-      return (lines ??= unpackLines(packed));
-    },
-    set lines(value: ReferenceLine[]) {
-      lines = value;
-      forgetPacked(ref);
-    },
-  };
+function storedReference(id: number, version: number, name: string, source: string, details: VersionDetails, createdAt: string, packed: PackedLines | SnapshotSlice): StoredReference {
+  const ref: Omit<StoredReference, 'lines'> = { id, version, createdAt, name, formula: details.formula, tags: details.tags, source };
   if (details.notes !== undefined) ref.notes = details.notes;
   if (details.rir !== undefined) ref.rir = details.rir;
   if (details.cell) ref.cell = details.cell;
   if (details.intensityBasis !== undefined) ref.intensityBasis = details.intensityBasis;
-  rememberPacked(ref, packed);
-  return ref;
+  return withLazyLines(ref, packed);
 }
 
 /**
