@@ -177,6 +177,25 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
    * offset searched per candidate (refineShift); from then on every candidate is judged with the
    * sample's one shift.
    */
+  // The screen depends only on the open peaks and how many to keep; each pass of the explanation asks again for the same sets.
+  const screened = new Map<string, readonly number[]>();
+  const screen = (open: readonly number[], count: number): readonly number[] => {
+    const key = `${count}:${open.join(',')}`;
+    let found = screened.get(key);
+    if (!found) {
+      found = screenReferences(index, {
+        twoTheta: Float64Array.from(open, (k) => table.twoTheta[k]),
+        lambda,
+        windowDeg: 2 * widestWindow + bounds.maxZeroDeg + bounds.maxDisplacementDeg,
+        dMin,
+        dMax,
+        count,
+      }, totals);
+      screened.set(key, found);
+    }
+    return found;
+  };
+
   const explain = (sampleShift: MatchShift | null): Explanation => {
     const claims: Claims = { claimed: new Int32Array(table.count).fill(-1) };
     const accepted: Array<{ ref: number; evaluation: PhaseEvaluation }> = [];
@@ -187,15 +206,8 @@ export function matchPhases(peaks: readonly FittedPeak[], references: readonly S
       const open: number[] = [];
       for (let k = 0; k < table.count; k++) if (claims.claimed[k] < 0) open.push(k);
       if (!explainsSignificantPeaks({ clear: countClear(table, claims), all: open.length })) break;
-      const candidates = screenReferences(index, {
-        twoTheta: Float64Array.from(open, (k) => table.twoTheta[k]),
-        lambda,
-        windowDeg: 2 * widestWindow + bounds.maxZeroDeg + bounds.maxDisplacementDeg,
-        dMin,
-        dMax,
-        // After the first phase the open peaks are few and screen sharply: half the candidates suffice.
-        count: round === 0 ? candidateCount : Math.max(1, candidateCount >> 1),
-      }, totals);
+      // After the first phase the open peaks are few and screen sharply: half the candidates suffice.
+      const candidates = [...screen(open, round === 0 ? candidateCount : Math.max(1, candidateCount >> 1))];
       if (round === 0 && targetIndex >= 0 && !candidates.includes(targetIndex)) candidates.push(targetIndex);
       // Phases of the last pass's explanation are screened again whatever the screen says (their cells may have moved).
       for (const r of refinedCells.keys()) if (!candidates.includes(r)) candidates.push(r);

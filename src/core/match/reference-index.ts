@@ -176,11 +176,17 @@ export interface ScreenQuery {
   count: number;
 }
 
-/** Summed line intensity of each reference within a d range (the denominator of the screening share). */
+/** The last range's totals per index: a batch screens every pattern of one scan range against one index. */
+const lastTotals = new WeakMap<ReferenceIndex, { dMin: number; dMax: number; total: Float64Array }>();
+
+/** Summed line intensity of each reference within a d range (the denominator of the screening share). Treat as read-only. */
 export function rangeTotals(index: ReferenceIndex, dMin: number, dMax: number): Float64Array {
+  const last = lastTotals.get(index);
+  if (last && last.dMin === dMin && last.dMax === dMax) return last.total;
   const total = new Float64Array(index.references.length);
   const stop = lowerBound(index.d, dMax);
   for (let i = lowerBound(index.d, dMin); i < stop; i++) total[index.referenceOf[i]] += index.intensity[i];
+  lastTotals.set(index, { dMin, dMax, total });
   return total;
 }
 
@@ -206,7 +212,7 @@ export function screenReferences(index: ReferenceIndex, query: ScreenQuery, tota
     if (hi > done) done = hi;
   }
 
-  // Keep the best `count` in a small sorted list (descending share).
+  // Keep the best `count` in a small sorted list (descending share); ties keep the lower reference first.
   const best: number[] = [];
   const bestShare: number[] = [];
   for (let r = 0; r < nRefs; r++) {
