@@ -93,13 +93,10 @@ export function scaledSeries<T extends { y: Float32Array; background?: Float32Ar
   return { ...series, y: divide(series.y)!, background: divide(series.background), model: divide(series.model) };
 }
 
-/** The intensity axis's title for a normalisation (null: counts, the scale's own title). */
+/** The intensity axis's title for a normalisation (null: counts, the scale's own title); the range for areas is said beside the control. */
 export function normalisedTitle(mode: Normalisation, options: NormalisationOptions = {}): string | null {
   if (mode === 'max') return `intensity (highest point = ${NORMALISED_LEVEL})`;
   if (mode === 'peak') return `intensity (height near ${options.peakTwoTheta ?? '?'}° 2θ = ${NORMALISED_LEVEL})`;
-  if (mode === 'area') {
-    const r = options.range;
-    return `intensity (equal areas: mean ${r ? `over ${r.from.toFixed(1)}–${r.to.toFixed(1)}° 2θ ` : ''}= ${NORMALISED_LEVEL})`;
-  }
+  if (mode === 'area') return `intensity (equal areas, mean = ${NORMALISED_LEVEL})`;
   return null;
 }

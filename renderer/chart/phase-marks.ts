@@ -51,9 +51,14 @@ export interface PhaseMarking {
 
 const hklWords = (hkl: readonly number[] | null | undefined): string => (hkl ? ` (${hkl.join(' ')})` : '');
 
-/** Marks for every measured peak the match speaks of; phases take the palette's colours in the match's order. */
-export function phaseMarking(input: PhaseMarkInput, palette: readonly string[]): PhaseMarking {
+/**
+ * Marks for every measured peak the match speaks of. Phases take the palette's colours in the match's
+ * order, the target phase (when named and found) first, so the target keeps the first colour on every sample.
+ */
+export function phaseMarking(input: PhaseMarkInput, palette: readonly string[], target: string | null = null): PhaseMarking {
   if (palette.length === 0) throw new Error('phaseMarking needs at least one colour');
+  const key = target?.toLowerCase();
+  const ordered = [...input.phases].sort((a, b) => Number(b.name.toLowerCase() === key) - Number(a.name.toLowerCase() === key));
   const phases: PhaseKey[] = [];
   const marks: MeasuredPeakMark[] = [];
   const onPeak = new Map<number, number>();
@@ -62,7 +67,7 @@ export function phaseMarking(input: PhaseMarkInput, palette: readonly string[]):
     onPeak.set(peakIndex, n + 1);
     return n;
   };
-  for (const phase of input.phases) {
+  for (const phase of ordered) {
     if (phase.verdict === 'not-seen') continue;
     const key: PhaseKey = { name: phase.name, verdict: phase.verdict, color: palette[phases.length % palette.length]!, peakCount: 0 };
     phases.push(key);

@@ -56,6 +56,11 @@ describe('which phase explains which measured peak', () => {
     expect(satelliteLabel('Co Kβ of the peak at 30.000°')).toBe('Co Kβ');
   });
 
+  it('gives the target phase the first colour whatever the match’s order', () => {
+    expect(phaseMarking(input, PALETTE, 'b').phases.map((p) => `${p.name} ${p.color}`)).toEqual(['B #111111', 'A #222222']);
+    expect(phaseMarking(input, PALETTE, 'not in the match').phases.map((p) => p.name)).toEqual(['A', 'B']);
+  });
+
   it('reuses the palette from its first colour when there are more phases than colours', () => {
     const many = phaseMarking({ phases: ['P', 'Q', 'R', 'S'].map((name) => ({ name, verdict: 'present' as const, lines: [] })), unexplained: [], lowAnglePeaks: [] }, PALETTE);
     expect(many.phases.map((p) => p.color)).toEqual([...PALETTE, PALETTE[0]]);
