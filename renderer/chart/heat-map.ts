@@ -98,6 +98,11 @@ export function drawHeatMap(canvas: HTMLCanvasElement, rows: readonly HeatMapRow
     const top = layout.bottom - (r + 1) * bandHeight;
     ctx.imageSmoothingEnabled = false;
     ctx.drawImage(strip, layout.left, top, columns, bandHeight);
+    // A thin paper line between bands, so neighbouring samples read apart.
+    if (r > 0) {
+      ctx.fillStyle = PAPER;
+      ctx.fillRect(layout.left, top + bandHeight - 0.5, columns, 1);
+    }
     ctx.fillStyle = COLORS.ink;
     ctx.textAlign = 'right';
     ctx.textBaseline = 'middle';
