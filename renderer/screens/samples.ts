@@ -585,7 +585,8 @@ function peakTable(detail: SampleDetail, legend: PhaseLegend[]): HTMLElement {
   const body = h('tbody');
   for (const p of detail.peaks) {
     const satellite = satelliteOf.get(p.index);
-    const kind = p.lowAngle ? 'low-angle' : p.unexplained ? 'unexplained' : '';
+    // A possible satellite is not an unexplained peak of the sample: no warning colour on its row.
+    const kind = p.lowAngle ? 'low-angle' : p.unexplained && !satelliteOf.has(p.index) ? 'unexplained' : '';
     const row = h(
       'tr',
       { class: kind, title: 'Click to zoom to this peak' },

@@ -155,6 +155,23 @@ describe('the pattern plot (headless Chromium)', () => {
     expect(await labels()).toEqual(without);
   }, 180_000);
 
+  it('marks a weak peak where the strong silicon 111 line’s Cu Kβ falls as a satellite, named on the plot', async () => {
+    const { page } = app;
+    // Si 111 (d 3.1356 Å) under Cu Kβ1 (1.392252 Å, xraylib 4.0) falls where Cu Kα1 (1.540593 Å) sees
+    // d = 3.1356 × 1.540593 / 1.392252 = 3.4697 Å: a line there at 3 % of the pattern's scale.
+    const file = join(app.dataDir, 'silicon-kbeta.xy');
+    writeFileSync(file, siliconPatternText({ extraLowAngleD: 3.4697, extraScale: 0.03, seed: 11 }));
+    await pickFile(file);
+    await page.locator('[data-testid="sample-list"] li', { hasText: 'silicon-kbeta' }).click();
+    await page.getByTestId('verdict').waitFor();
+    await page.waitForFunction(() => document.querySelector('[data-testid="pattern-chart"]')?.getAttribute('aria-label')?.includes('silicon-kbeta'));
+    const others = JSON.parse(await page.getByTestId('pattern-chart').evaluate((el) => (el as HTMLCanvasElement).dataset.otherMarks!)) as { satellite: number; lowAngle: number };
+    console.log(`silicon with a Cu Kβ line: ${JSON.stringify(others)}`);
+    expect(others.satellite).toBe(1);
+    await page.getByTestId('peak-table').locator('tr', { hasText: 'Cu Kβ satellite?' }).waitFor();
+    await shot('plot-06-satellite');
+  }, 120_000);
+
   it('raised no script errors in the page', () => {
     expect(pageProblems(app.page).filter((p) => !p.startsWith('Failed to load resource'))).toEqual([]);
   });
