@@ -23,7 +23,11 @@ export const COLORS = {
   grid: '#e4e2dc',
   /** One per phase judged present or uncertain, in the match's order (then again from the first). */
   phases: ['#1f5fbf', '#c05a00', '#a53f96', '#5b8a00', '#7a4b2a', '#5a4fcf'],
-  overlays: ['#27333b', '#1f5fbf', '#c05a00', '#5b8a00', '#a53f96', '#6f7f86', '#00866b', '#7a4b2a'],
+  /**
+   * Stacked patterns, first to last. No peak marks or fit are drawn over a stack, so it borrows their
+   * colours and keeps clear of the phases', which the reference strips beneath it still use.
+   */
+  overlays: ['#27333b', '#00866b', '#b8860b', '#d6589a', '#6f7f86', '#c8102e'],
 };
 
 /** The colours that mark peaks or draw the measured and fitted curves: each must read apart from the others. */

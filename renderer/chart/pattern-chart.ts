@@ -619,8 +619,11 @@ export class PatternChart {
     (y as { title: { text: string } }).title.text = view.intensityTitle ?? intensityTitle(view.scale);
     options.layout = { padding: { top: this.readout ? READOUT_BAND_PX : 0, bottom: view.references.length * STRIP_ROW_PX + (view.references.length ? 10 : 4) } };
     (options.plugins as Record<string, unknown>).referenceStrip = { references: view.references, axis: view.axis, lambda: view.lambda };
-    (options.plugins as Record<string, unknown>).referenceSticks = { references: view.references, axis: view.axis, lambda: view.lambda, scale: view.scale, main: view.main };
-    const tallest = highestStick(view.references, view.main);
+    // Sticks over the pattern only for a single pattern: over stacked ones (scaled to the first alone)
+    // they would read as one more curve; the strips beneath still show the lines with their names.
+    const sticks = view.overlays.length ? [] : view.references;
+    (options.plugins as Record<string, unknown>).referenceSticks = { references: sticks, axis: view.axis, lambda: view.lambda, scale: view.scale, main: view.main };
+    const tallest = highestStick(sticks, view.main);
     (y as { suggestedMax?: number }).suggestedMax = Number.isFinite(tallest) ? transformY(tallest, view.scale) : undefined;
     (options.plugins as Record<string, unknown>).peakLabels = { hkl: view.hklLabels ?? false };
     // Headroom above the highest point for the marks and, when shown, stacked hkl labels.

@@ -22,6 +22,15 @@ describe('the plot’s colours', () => {
     for (let i = 0; i < curves.length; i++) for (let j = i + 1; j < curves.length; j++) expect(deltaE(curves[i]!, curves[j]!)).toBeGreaterThanOrEqual(MIN_DELTA_E);
   });
 
+  it('keeps stacked patterns apart from each other and from the phase colours of the reference strips beneath them', () => {
+    const overlays = COLORS.overlays;
+    for (let i = 0; i < overlays.length; i++) {
+      expect(contrastRatio(overlays[i]!, PAPER)).toBeGreaterThanOrEqual(MIN_CONTRAST);
+      for (let j = i + 1; j < overlays.length; j++) expect(deltaE(overlays[i]!, overlays[j]!)).toBeGreaterThanOrEqual(MIN_DELTA_E);
+      for (const phase of COLORS.phases) expect(deltaE(overlays[i]!, phase), `${overlays[i]} vs ${phase}`).toBeGreaterThanOrEqual(MIN_DELTA_E);
+    }
+  });
+
   it('runs the heat map’s scale from dark to light with lightness always rising', () => {
     let last = -Infinity;
     for (let k = 0; k <= 100; k++) {
