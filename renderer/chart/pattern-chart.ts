@@ -85,6 +85,8 @@ export interface PatternViewModel {
   phases?: PhaseLegend[];
   /** False for a curve that is not a measurement (a difference of two): its legend says no "(measured)". */
   measured?: boolean;
+  /** What the cursor readout calls the curve's values (default counts). */
+  readoutValue?: string;
   /** The intensity axis's title when the patterns are normalised (else counts). */
   intensityTitle?: string | null;
 }
@@ -650,7 +652,7 @@ export class PatternChart {
     const xScale = this.chart.scales.x;
     const inside = px !== null && py !== null && area && xScale && px >= area.left && px <= area.right && py >= area.top && py <= area.bottom;
     const reading = inside && view ? readingAt(twoThetaFromDisplay(xScale.getValueForPixel(px)!, view.axis, view.lambda), view.lambda, view.main.x, view.main.y) : null;
-    readout.textContent = reading ? readingText(reading) : READOUT_HINT;
+    readout.textContent = reading ? readingText(reading, view?.readoutValue) : READOUT_HINT;
     readout.classList.toggle('reading', reading !== null);
   }
 

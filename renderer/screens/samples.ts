@@ -76,6 +76,7 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
     showFit: app.view.showFit,
     hklLabels: app.view.hklLabels,
     intensityTitle: stacked.title,
+    ...(stacked.title ? { readoutValue: 'normalised intensity' } : {}),
   };
   chart = new PatternChart(canvas);
   chart.render(view);
@@ -571,6 +572,7 @@ function differencePanel(selected: SampleDetail, samples: SampleSummary[]): HTML
         showFit: false,
         intensityTitle: mode === 'none' || !scaled ? 'A − B (counts)' : 'A − B (normalised)',
         measured: false,
+        readoutValue: mode === 'none' || !scaled ? 'A − B counts' : 'A − B normalised',
       });
     } catch (err) {
       showError(err);

@@ -260,6 +260,10 @@ describe('phase marks, normalised overlays, A − B and the series plots on the 
     expect(note).toMatch(/^humid air 48 h − humid air 0 h, each normalised by area first; (humid air 0 h interpolated linearly onto the 2θ points of humid air 48 h|both measured on the same 2θ points \(no interpolation\)), over \d+\.\d\d–\d+\.\d\d° 2θ \(the range both cover\)\.$/);
     expect(await data('difference-chart', 'intensityTitle')).toBe('A − B (normalised)');
     await page.getByTestId('difference-chart').scrollIntoViewIfNeeded();
+    const box = (await page.getByTestId('difference-chart').boundingBox())!;
+    await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
+    expect(await page.locator('.difference-box [data-testid="chart-readout"]').textContent()).toMatch(/·\s+A − B normalised -?\d+ \(point at \d+\.\d{3}°\)$/);
+    await page.getByTestId('difference-chart').scrollIntoViewIfNeeded();
     await demoShot('plot-15-difference-1280x720');
     await page.getByTestId('difference-panel').locator('summary').click();
     for (const hours of ['0 h', '24 h']) await sample(`humid air ${hours}`).getByRole('checkbox').uncheck();
