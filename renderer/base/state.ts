@@ -1,4 +1,5 @@
 import type { AppInfo, ProjectState, SampleDetail } from '../../src/api/contract.js';
+import type { Normalisation } from '../chart/normalise.js';
 import type { AxisUnit, IntensityScale } from '../chart/units.js';
 
 export type ScreenName = 'samples' | 'library' | 'instrument' | 'series' | 'report' | 'settings';
@@ -22,7 +23,20 @@ export const app = {
   /** Phases whose reference lines are drawn on the pattern; null = the sample's present phases. */
   checked: null as Set<string> | null,
   details: new Map<number, SampleDetail>(),
-  view: { axis: '2theta' as AxisUnit, scale: 'linear' as IntensityScale, offsetFraction: 0.35, showFit: true, hklLabels: false, chartHeightPx: null as number | null },
+  view: {
+    axis: '2theta' as AxisUnit,
+    scale: 'linear' as IntensityScale,
+    offsetFraction: 0.35,
+    showFit: true,
+    hklLabels: false,
+    chartHeightPx: null as number | null,
+    /** How stacked patterns are scaled before they are compared, and the 2θ picked for 'peak'. */
+    normalisation: 'none' as Normalisation,
+    peakTwoTheta: null as number | null,
+    /** The candidates' scores (collapsed by default) and the A − B difference, open or not. */
+    candidatesOpen: false,
+    difference: { open: false, a: null as number | null, b: null as number | null },
+  },
 };
 
 type Listener = () => void;

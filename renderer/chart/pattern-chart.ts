@@ -14,6 +14,7 @@ import {
   type ScatterDataPoint,
 } from 'chart.js';
 import zoomPlugin from 'chartjs-plugin-zoom';
+import { COLORS } from './colours.js';
 import { decimateMinMax, visibleRange } from './decimate.js';
 import { placeLabels, type LabelRequest, type PlacementOptions } from './label-placement.js';
 import { nearestIndex, READOUT_HINT, readingAt, readingText } from './readout.js';
@@ -21,20 +22,7 @@ import { axisTitle, convertX, intensityTitle, transformY, twoThetaFromDisplay, u
 
 Chart.register(LineController, ScatterController, LineElement, PointElement, LinearScale, LogarithmicScale, CategoryScale, Tooltip, Legend, zoomPlugin);
 
-export const COLORS = {
-  ink: '#24313a',
-  measured: '#2f3d46',
-  fit: '#2a8c82',
-  background: '#9aa4a6',
-  difference: '#8c76ad',
-  matched: '#2a8c82',
-  unexplained: '#c08a2e',
-  lowAngle: '#b8432f',
-  missing: '#8a4f86',
-  grid: '#e4e2dc',
-  overlays: ['#2f3d46', '#3f6fa0', '#b56a2c', '#5d8a3a', '#8c4a7c', '#6b6b6b', '#2a8c82', '#a0453f'],
-  phases: ['#3f6fa0', '#b56a2c', '#5d8a3a', '#8c4a7c', '#6b6b6b', '#a0453f'],
-};
+export { COLORS };
 
 export interface PatternSeries {
   label: string;
@@ -44,7 +32,7 @@ export interface PatternSeries {
   model?: Float32Array | null;
 }
 
-export type MarkKind = 'matched' | 'unexplained' | 'low-angle' | 'missing';
+export type MarkKind = 'matched' | 'unexplained' | 'satellite' | 'low-angle' | 'missing';
 
 export interface PeakMark {
   twoTheta: number;
@@ -54,6 +42,19 @@ export interface PeakMark {
   label: string;
   /** Miller indices of the reference line the peak was matched to, as the hkl label shows them. */
   hkl?: string;
+  /** For a matched peak: the phase whose colour the mark takes (one of the view's phases). */
+  phase?: string;
+  /** Marks on the same peak below this one: a peak two phases share stacks their marks. */
+  stackIndex?: number;
+  /** Words written over the mark on the plot (the satellite's line, "Cu Kβ"). */
+  tag?: string;
+}
+
+/** A phase in the legend, with the colour its peaks are marked in. */
+export interface PhaseLegend {
+  name: string;
+  verdict: 'present' | 'uncertain';
+  color: string;
 }
 
 export interface ReferenceStrip {
@@ -80,6 +81,14 @@ export interface PatternViewModel {
   showFit: boolean;
   /** Label matched peaks with their hkl. */
   hklLabels?: boolean;
+  /** The phases whose peaks are marked, in legend order; a matched mark takes its phase's colour. */
+  phases?: PhaseLegend[];
+  /** False for a curve that is not a measurement (a difference of two): its legend says no "(measured)". */
+  measured?: boolean;
+  /** What the cursor readout calls the curve's values (default counts). */
+  readoutValue?: string;
+  /** The intensity axis's title when the patterns are normalised (else counts). */
+  intensityTitle?: string | null;
 }
 
 const STRIP_ROW_PX = 18;
@@ -151,6 +160,8 @@ const paperPlugin: Plugin<'line'> = {
 interface MarkDataset {
   markKind?: MarkKind;
   markHkl?: Array<string | undefined>;
+  markTags?: Array<string | undefined>;
+  markPhase?: string;
 }
 
 /** The labels last drawn on a chart (for the SVG export): text, box and colour. */
@@ -188,7 +199,7 @@ const peakLabelPlugin: Plugin<'line'> = {
     const obstacles: PlacementOptions['obstacles'] = [];
     ctx.save();
     chart.data.datasets.forEach((dataset, index) => {
-      const { markKind, markHkl } = dataset as MarkDataset;
+      const { markKind, markHkl, markTags } = dataset as MarkDataset;
       if (!markKind || !chart.isDatasetVisible(index)) return;
       const radius = Number((dataset as { pointRadius?: number }).pointRadius ?? 4);
       const xScale = chart.scales.x!;
@@ -201,12 +212,13 @@ const peakLabelPlugin: Plugin<'line'> = {
         obstacles.push({ left: x - radius, top: y - radius, right: x + radius, bottom: y + radius });
         const hkl = showHkl ? markHkl?.[i] : undefined;
         const lowAngle = markKind === 'low-angle';
-        if (!lowAngle && !(markKind === 'matched' && hkl)) return;
-        const text = lowAngle ? `low-angle extra${hkl ? ` ${hkl}` : ''}` : hkl!;
+        const tag = markKind === 'satellite' ? markTags?.[i] : undefined;
+        if (!lowAngle && !tag && !(markKind === 'matched' && hkl)) return;
+        const text = lowAngle ? `low-angle extra${hkl ? ` ${hkl}` : ''}` : (tag ?? hkl!);
         ctx.font = `${lowAngle ? 'bold ' : ''}11px system-ui, sans-serif`;
-        // The low-angle alarm goes first and may climb higher to find room; hkl labels follow by peak height.
-        requests.push({ x, y: Math.max(area.top, y - radius), width: ctx.measureText(text).width + 4, height: LABEL_HEIGHT_PX, priority: (lowAngle ? 1e12 : 0) - y, ...(lowAngle ? { maxStack: 12 } : {}) });
-        texts.push({ text, color: lowAngle ? COLORS.lowAngle : COLORS.ink, bold: lowAngle });
+        // The low-angle alarm goes first and may climb higher to find room; satellite names next; hkl labels follow by peak height.
+        requests.push({ x, y: Math.max(area.top, y - radius), width: ctx.measureText(text).width + 4, height: LABEL_HEIGHT_PX, priority: (lowAngle ? 1e12 : tag ? 1e9 : 0) - y, ...(lowAngle ? { maxStack: 12 } : tag ? { maxStack: 4 } : {}) });
+        texts.push({ text, color: lowAngle ? COLORS.lowAngle : tag ? COLORS.satellite : COLORS.ink, bold: lowAngle });
       });
     });
     const { placed, hidden } = placeLabels(requests, { left: area.left, right: area.right, top: area.top, obstacles });
@@ -417,6 +429,75 @@ function span(values: ArrayLike<number>, scale: IntensityScale): { min: number; 
   return { min, max };
 }
 
+interface MarkStyle {
+  label: string;
+  color: string;
+  style: 'triangle' | 'rectRot' | 'circle' | 'crossRot';
+  radius: number;
+  rotation: number;
+  fill: boolean;
+}
+
+const MARK_STYLES: Record<Exclude<MarkKind, 'matched'>, MarkStyle> = {
+  unexplained: { label: 'unexplained peaks', color: COLORS.unexplained, style: 'rectRot', radius: 5, rotation: 0, fill: true },
+  satellite: { label: 'tube satellite lines (Kβ, W Lα)', color: COLORS.satellite, style: 'crossRot', radius: 5, rotation: 0, fill: false },
+  'low-angle': { label: 'low-angle extra peaks', color: COLORS.lowAngle, style: 'triangle', radius: 7, rotation: 180, fill: true },
+  missing: { label: 'missing strong lines', color: COLORS.missing, style: 'circle', radius: 5, rotation: 0, fill: false },
+};
+
+/** The style of a phase's marks: a down-pointing triangle over each peak it explains, in its colour. */
+function phaseStyle(phase: PhaseLegend): MarkStyle {
+  return { label: phase.verdict === 'uncertain' ? `${phase.name} (uncertain)` : phase.name, color: phase.color, style: 'triangle', radius: 5, rotation: 180, fill: phase.verdict === 'present' };
+}
+
+/**
+ * Peak marks: one dataset per phase (its colour, its name in the legend), then unexplained peaks,
+ * satellites, the low-angle extra peaks and the missing strong lines. Marks on one peak stack upwards.
+ */
+function markDatasets(view: PatternViewModel, width: number): ChartDataset<'scatter', PointData>[] {
+  const { axis, lambda, scale } = view;
+  const groups: Array<{ style: MarkStyle; kind: MarkKind; phase?: string; marks: PeakMark[] }> = [];
+  const phases = view.phases ?? [];
+  for (const phase of phases) groups.push({ style: phaseStyle(phase), kind: 'matched', phase: phase.name, marks: view.marks.filter((m) => m.kind === 'matched' && m.phase === phase.name) });
+  // A matched mark of no listed phase (a caller without phases) keeps the first phase colour.
+  const orphans = view.marks.filter((m) => m.kind === 'matched' && !phases.some((p) => p.name === m.phase));
+  if (orphans.length) groups.push({ style: { label: 'matched peaks', color: COLORS.phases[0]!, style: 'triangle', radius: 4, rotation: 180, fill: true }, kind: 'matched', marks: orphans });
+  for (const kind of ['unexplained', 'satellite', 'low-angle', 'missing'] as const) groups.push({ style: MARK_STYLES[kind], kind, marks: view.marks.filter((m) => m.kind === kind) });
+  const out: ChartDataset<'scatter', PointData>[] = [];
+  for (const group of groups) {
+    // In x order, as the chart's normalised data must be (else zoomed views lose marks).
+    const marks = group.marks
+      .map((m) => ({ mark: m, x: convertX(m.twoTheta, axis, lambda) }))
+      .filter((m) => Number.isFinite(m.x))
+      .sort((a, b) => a.x - b.x);
+    if (!marks.length) continue;
+    const s = group.style;
+    const place = (m: PeakMark): number => {
+      const level = group.kind === 'missing' ? 0 : 1 + (m.stackIndex ?? 0) * 1.4;
+      return scale === 'log' ? transformY(m.y, scale) * 1.3 ** level : transformY(m.y, scale) + level * 0.03 * width;
+    };
+    out.push({
+      type: 'scatter',
+      label: s.label,
+      data: marks.map(({ mark, x }) => ({ x, y: place(mark) })),
+      pointStyle: s.style,
+      pointRadius: s.radius,
+      pointHoverRadius: s.radius + 2,
+      pointRotation: s.rotation,
+      borderColor: s.color,
+      backgroundColor: s.fill ? s.color : 'rgba(255,255,255,0.9)',
+      borderWidth: s.fill ? 1 : 2,
+      parsing: false,
+      markKind: group.kind,
+      ...(group.phase !== undefined ? { markPhase: group.phase } : {}),
+      markLabels: marks.map(({ mark }) => mark.label),
+      markHkl: marks.map(({ mark }) => mark.hkl),
+      markTags: marks.map(({ mark }) => mark.tag),
+    } as ChartDataset<'scatter', PointData>);
+  }
+  return out;
+}
+
 /** Datasets for a view: stacked samples, fit, background and difference, peak marks. */
 function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter', PointData>[] {
   const { axis, lambda, scale } = view;
@@ -444,7 +525,7 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
   all.forEach((series, i) => {
     const color = i === 0 ? COLORS.measured : COLORS.overlays[i % COLORS.overlays.length]!;
     const x = i === 0 ? mainX : displayX(series.x, axis, lambda);
-    datasets.push(line(i === 0 && view.overlays.length === 0 ? `${series.label} (measured)` : series.label, { x, y: displayY(series.y, scale, i === 0 ? null : stackShift(i)) }, color));
+    datasets.push(line(i === 0 && view.overlays.length === 0 && view.measured !== false ? `${series.label} (measured)` : series.label, { x, y: displayY(series.y, scale, i === 0 ? null : stackShift(i)) }, color));
   });
   const single = view.overlays.length === 0;
   const { main } = view;
@@ -466,42 +547,7 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
       datasets.push(line('difference (measured − fit)', { x: mainX, y: diff }, COLORS.difference, { borderWidth: 1 }));
     }
   }
-  if (single) {
-    const styles: Record<MarkKind, { label: string; color: string; style: 'triangle' | 'rectRot' | 'circle'; radius: number; rotation: number; fill: boolean }> = {
-      matched: { label: 'matched peaks', color: COLORS.matched, style: 'triangle', radius: 4, rotation: 180, fill: true },
-      unexplained: { label: 'unexplained peaks', color: COLORS.unexplained, style: 'rectRot', radius: 5, rotation: 0, fill: true },
-      'low-angle': { label: 'low-angle extra peaks', color: COLORS.lowAngle, style: 'triangle', radius: 7, rotation: 180, fill: true },
-      missing: { label: 'missing strong lines', color: COLORS.missing, style: 'circle', radius: 5, rotation: 0, fill: false },
-    };
-    for (const kind of ['matched', 'unexplained', 'low-angle', 'missing'] as MarkKind[]) {
-      // In x order, as the chart's normalised data must be (else zoomed views lose marks).
-      const marks = view.marks
-        .filter((m) => m.kind === kind)
-        .map((m) => ({ mark: m, x: convertX(m.twoTheta, axis, lambda) }))
-        .filter((m) => Number.isFinite(m.x))
-        .sort((a, b) => a.x - b.x)
-        .map((m) => m.mark);
-      if (!marks.length) continue;
-      const s = styles[kind];
-      const lift = kind === 'missing' ? 0 : 0.03 * width;
-      datasets.push({
-        type: 'scatter',
-        label: s.label,
-        data: marks.map((m) => ({ x: convertX(m.twoTheta, axis, lambda), y: scale === 'log' ? transformY(m.y, scale) * 1.3 : transformY(m.y, scale) + lift })),
-        pointStyle: s.style,
-        pointRadius: s.radius,
-        pointHoverRadius: s.radius + 2,
-        pointRotation: s.rotation,
-        borderColor: s.color,
-        backgroundColor: s.fill ? s.color : 'rgba(255,255,255,0.9)',
-        borderWidth: kind === 'missing' ? 2 : 1,
-        parsing: false,
-        markKind: kind,
-        markLabels: marks.map((m) => m.label),
-        markHkl: marks.map((m) => m.hkl),
-      } as ChartDataset<'scatter', PointData>);
-    }
-  }
+  if (single) datasets.push(...markDatasets(view, width));
   return datasets;
 }
 
@@ -572,16 +618,28 @@ export class PatternChart {
     }
     (x as { title: { text: string } }).title.text = axisTitle(view.axis);
     (y as { type: string }).type = view.scale === 'log' ? 'logarithmic' : 'linear';
-    (y as { title: { text: string } }).title.text = intensityTitle(view.scale);
-    options.layout = { padding: { top: this.readout ? READOUT_BAND_PX : 0, bottom: view.references.length * STRIP_ROW_PX + 4 } };
+    (y as { title: { text: string } }).title.text = view.intensityTitle ?? intensityTitle(view.scale);
+    options.layout = { padding: { top: this.readout ? READOUT_BAND_PX : 0, bottom: view.references.length * STRIP_ROW_PX + (view.references.length ? 10 : 4) } };
     (options.plugins as Record<string, unknown>).referenceStrip = { references: view.references, axis: view.axis, lambda: view.lambda };
-    (options.plugins as Record<string, unknown>).referenceSticks = { references: view.references, axis: view.axis, lambda: view.lambda, scale: view.scale, main: view.main };
-    const tallest = highestStick(view.references, view.main);
+    // Sticks over the pattern only for a single pattern: over stacked ones (scaled to the first alone)
+    // they would read as one more curve; the strips beneath still show the lines with their names.
+    const sticks = view.overlays.length ? [] : view.references;
+    (options.plugins as Record<string, unknown>).referenceSticks = { references: sticks, axis: view.axis, lambda: view.lambda, scale: view.scale, main: view.main };
+    const tallest = highestStick(sticks, view.main);
     (y as { suggestedMax?: number }).suggestedMax = Number.isFinite(tallest) ? transformY(tallest, view.scale) : undefined;
     (options.plugins as Record<string, unknown>).peakLabels = { hkl: view.hklLabels ?? false };
     // Headroom above the highest point for the marks and, when shown, stacked hkl labels.
     (y as { grace: string }).grace = view.hklLabels ? '14%' : '5%';
     chart.data.datasets = buildDatasets(view) as ChartDataset<'line', PointData>[];
+    // For the record (and the browser tests): each phase's marks as drawn, with their colour and count.
+    const phaseMarks = chart.data.datasets
+      .filter((d) => (d as MarkDataset).markPhase !== undefined)
+      .map((d) => ({ phase: (d as MarkDataset).markPhase!, color: String(d.borderColor), marks: d.data.length }));
+    const kinds = (kind: MarkKind) => chart.data.datasets.filter((d) => (d as MarkDataset).markKind === kind).reduce((n, d) => n + d.data.length, 0);
+    chart.canvas.dataset.phaseMarks = JSON.stringify(phaseMarks);
+    chart.canvas.dataset.intensityTitle = (y as { title: { text: string } }).title.text;
+    chart.canvas.dataset.curves = JSON.stringify(chart.data.datasets.filter((d) => (d as CurveDataset).source).map((d) => d.label));
+    chart.canvas.dataset.otherMarks = JSON.stringify({ unexplained: kinds('unexplained'), satellite: kinds('satellite'), lowAngle: kinds('low-angle'), missing: kinds('missing') });
     chart.update('none');
   }
 
@@ -594,7 +652,7 @@ export class PatternChart {
     const xScale = this.chart.scales.x;
     const inside = px !== null && py !== null && area && xScale && px >= area.left && px <= area.right && py >= area.top && py <= area.bottom;
     const reading = inside && view ? readingAt(twoThetaFromDisplay(xScale.getValueForPixel(px)!, view.axis, view.lambda), view.lambda, view.main.x, view.main.y) : null;
-    readout.textContent = reading ? readingText(reading) : READOUT_HINT;
+    readout.textContent = reading ? readingText(reading, view?.readoutValue) : READOUT_HINT;
     readout.classList.toggle('reading', reading !== null);
   }
 

@@ -30,8 +30,9 @@ export function readingAt(twoTheta: number, lambda: number, x: ArrayLike<number>
   return { twoTheta, d: dFromTwoTheta(twoTheta, lambda), q: qFromTwoTheta(twoTheta, lambda), nearestTwoTheta: x[i]!, counts: y[i]! };
 }
 
-export function readingText(r: CursorReading): string {
-  return [`2θ ${r.twoTheta.toFixed(3)}°`, `d ${r.d.toFixed(4)} Å`, `Q ${r.q.toFixed(4)} Å⁻¹`, `counts ${Math.round(r.counts)} (point at ${r.nearestTwoTheta.toFixed(3)}°)`].join('  ·  ');
+/** The reading in words; `valueName` names what the curve holds where it is not counts (a normalised pattern, a difference). */
+export function readingText(r: CursorReading, valueName = 'counts'): string {
+  return [`2θ ${r.twoTheta.toFixed(3)}°`, `d ${r.d.toFixed(4)} Å`, `Q ${r.q.toFixed(4)} Å⁻¹`, `${valueName} ${Math.round(r.counts)} (point at ${r.nearestTwoTheta.toFixed(3)}°)`].join('  ·  ');
 }
 
 export const READOUT_HINT = 'Point at the plot to read 2θ, d, Q and the counts there.';

@@ -69,14 +69,24 @@ export function chartToSvg(chart: Chart<'line', ScatterDataPoint[]>, view: Patte
     if (label.anchor) out.push(`<line x1="${label.anchor.x.toFixed(1)}" y1="${(label.anchor.y - 2).toFixed(1)}" x2="${leaderEndX(label.anchor.x, label.left, label.width).toFixed(1)}" y2="${(label.top + LABEL_HEIGHT_PX).toFixed(1)}" stroke="${COLORS.ink}" stroke-opacity="0.35"/>`);
     out.push(`<text x="${(label.left + 2).toFixed(1)}" y="${(label.top + 10).toFixed(1)}" fill="${label.color}"${label.bold ? ' font-weight="bold"' : ''}>${esc(label.text)}</text>`);
   }
-  // Legend: one short line and the label per visible curve, along the top.
+  // Legend: one short line and the label per visible curve, then a dot and the label per kind of mark
+  // (each phase by name, in its colour), along the top; a row that would run past the plot starts another above.
   let legendX = area.left;
+  let legendY = area.top - 10;
   chart.data.datasets.forEach((dataset, index) => {
-    if (!chart.isDatasetVisible(index) || (dataset as { type?: string }).type === 'scatter') return;
+    if (!chart.isDatasetVisible(index)) return;
     const color = String(dataset.borderColor ?? COLORS.ink);
     const label = String(dataset.label ?? '');
-    out.push(`<line x1="${legendX}" y1="${area.top - 10}" x2="${legendX + 14}" y2="${area.top - 10}" stroke="${color}" stroke-width="2"/><text x="${legendX + 18}" y="${area.top - 6}" fill="${COLORS.ink}">${esc(label)}</text>`);
-    legendX += 30 + label.length * 6;
+    const width = 30 + label.length * 6;
+    if (legendX > area.left && legendX + width > area.right) {
+      legendX = area.left;
+      legendY -= 14;
+    }
+    const key = (dataset as { type?: string }).type === 'scatter'
+      ? `<circle cx="${legendX + 7}" cy="${legendY}" r="4" fill="${String(dataset.backgroundColor ?? color)}" stroke="${color}"/>`
+      : `<line x1="${legendX}" y1="${legendY}" x2="${legendX + 14}" y2="${legendY}" stroke="${color}" stroke-width="2"/>`;
+    out.push(`${key}<text x="${legendX + 18}" y="${legendY + 4}" fill="${COLORS.ink}">${esc(label)}</text>`);
+    legendX += width;
   });
   let top = xs.bottom + 4;
   for (const ref of view.references) {

@@ -1,7 +1,10 @@
 import type { PhaseMatch, SampleDetail, SampleSummary } from '../../src/api/contract.js';
 import { call, decodeFloats, saveFile } from '../base/api.js';
 import { timings } from '../base/actions.js';
-import { COLORS, PatternChart, type PatternSeries, type PeakMark, type PatternViewModel } from '../chart/pattern-chart.js';
+import { COLORS, PatternChart, type PatternSeries, type PeakMark, type PatternViewModel, type PhaseLegend } from '../chart/pattern-chart.js';
+import { differenceOnGrid } from '../chart/grid.js';
+import { normalisationFactor, normalisedTitle, scaledSeries, sharedRange, type Normalisation } from '../chart/normalise.js';
+import { phaseMarking, satelliteLabel } from '../chart/phase-marks.js';
 import { nearestIndex } from '../chart/readout.js';
 import { chartToSvg } from '../chart/svg.js';
 import { sizeStrainChart } from '../chart/size-strain-chart.js';
@@ -10,12 +13,15 @@ import { app, changed, verdictClass } from '../base/state.js';
 import { notify, showError } from '../base/ui.js';
 
 let chart: PatternChart | null = null;
+let differenceChart: PatternChart | null = null;
 
 (window as unknown as { crystallogTimings: typeof timings }).crystallogTimings = timings;
 
 export async function renderSamples(root: HTMLElement): Promise<void> {
   chart?.destroy();
   chart = null;
+  differenceChart?.destroy();
+  differenceChart = null;
   const project = app.project!;
   const layout = h('div', { class: 'samples-layout' });
   root.append(layout);
@@ -46,15 +52,21 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
     const height = box.getBoundingClientRect().height;
     if (box.style.height && box.isConnected && height > 0) app.view.chartHeightPx = height;
   }).observe(box);
-  main.append(toolbar(detail), box, details(detail, checked));
+  const marking = phaseView(detail);
+  const colourOf = new Map(marking.legend.map((p) => [p.name, p.color]));
+  let spare = marking.legend.length;
+  const stacked = normalised([detail, ...overlays].map(series));
+  main.append(toolbar(detail, stacked.note, stacked.range), box, differencePanel(detail, project.samples), details(detail, checked, marking.legend));
   const view: PatternViewModel = {
-    main: series(detail),
-    overlays: overlays.map(series),
-    marks: marks(detail),
-    references: refLines.map((r, i) => ({
+    main: stacked.series[0]!,
+    overlays: stacked.series.slice(1),
+    marks: marking.marks.map((m) => ({ ...m, y: m.y / stacked.factors[0]! })),
+    phases: marking.legend,
+    references: refLines.map((r) => ({
       name: r.name,
-      color: COLORS.phases[i % COLORS.phases.length]!,
-      countsPerIntensity: countsPerIntensity(detail, r.name),
+      // A phase marked on the pattern draws its sticks in its marks' colour; any other takes the next one free.
+      color: colourOf.get(r.name) ?? COLORS.phases[spare++ % COLORS.phases.length]!,
+      countsPerIntensity: (countsPerIntensity(detail, r.name) ?? 0) / stacked.factors[0]! || null,
       lines: r.lines.map((l) => ({ twoTheta: l.twoTheta, intensity: l.intensity, label: hklText(l.hkl) })),
     })),
     lambda: detail.lambda1,
@@ -63,6 +75,8 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
     offsetFraction: app.view.offsetFraction,
     showFit: app.view.showFit,
     hklLabels: app.view.hklLabels,
+    intensityTitle: stacked.title,
+    ...(stacked.title ? { readoutValue: 'normalised intensity' } : {}),
   };
   chart = new PatternChart(canvas);
   chart.render(view);
@@ -98,35 +112,48 @@ function series(detail: SampleDetail): PatternSeries {
   };
 }
 
-function marks(detail: SampleDetail): PeakMark[] {
-  if (!detail.match) return [];
+/** The pattern's marks: each present or uncertain phase's peaks in its colour, unexplained, satellite, low-angle and missing lines. */
+function phaseView(detail: SampleDetail): { legend: PhaseLegend[]; marks: PeakMark[] } {
+  if (!detail.match) return { legend: [], marks: [] };
   const x = decodeFloats(detail.x);
   const y = decodeFloats(detail.y);
   const bg = detail.background ? decodeFloats(detail.background) : y;
-  const out: PeakMark[] = [];
-  const lowAngleOfPhase = new Map(detail.lowAnglePeaks.filter((p) => p.phase !== null).map((p) => [p.peakIndex, p.phase!]));
+  const marking = phaseMarking({ phases: detail.match.phases, unexplained: detail.match.unexplained, lowAnglePeaks: detail.lowAnglePeaks }, COLORS.phases, detail.phase?.name ?? null);
+  const marks: PeakMark[] = marking.marks.map((m) => ({
+    twoTheta: m.twoTheta,
+    y: y[nearestIndex(x, m.twoTheta)]!,
+    kind: m.kind === 'phase' ? 'matched' : m.kind,
+    label: m.text,
+    stackIndex: m.stackIndex,
+    ...(m.phase !== null && m.kind === 'phase' ? { phase: m.phase } : {}),
+    ...(m.hkl ? { hkl: compactHkl(m.hkl) } : {}),
+    ...(m.kind === 'satellite' ? { tag: satelliteLabel(m.text) } : {}),
+  }));
   for (const phase of detail.match.phases.filter((p) => p.verdict !== 'not-seen')) {
-    for (const line of phase.lines) {
-      const low = lowAngleOfPhase.get(line.peakIndex) === phase.name;
-      out.push({
-        twoTheta: line.twoThetaMeasured,
-        y: y[nearestIndex(x, line.twoThetaMeasured)]!,
-        kind: low ? 'low-angle' : 'matched',
-        label: `${low ? 'Low-angle peak of ' : ''}${phase.name} ${hklText(line.hkl)} at ${line.twoThetaMeasured.toFixed(3)}°`,
-        ...(line.hkl ? { hkl: compactHkl(line.hkl) } : {}),
-      });
-    }
-    for (const line of phase.missingStrongLines) out.push({ twoTheta: line.twoTheta, y: bg[nearestIndex(x, line.twoTheta)]!, kind: 'missing', label: `${phase.name}: strong line at ${line.twoTheta.toFixed(2)}° (I ${line.intensity.toFixed(0)}) not seen` });
+    for (const line of phase.missingStrongLines) marks.push({ twoTheta: line.twoTheta, y: bg[nearestIndex(x, line.twoTheta)]!, kind: 'missing', label: `${phase.name}: strong line at ${line.twoTheta.toFixed(2)}° (I ${line.intensity.toFixed(0)}) not seen` });
   }
-  for (const peak of detail.match.unexplained) {
-    out.push({
-      twoTheta: peak.twoTheta,
-      y: y[nearestIndex(x, peak.twoTheta)]!,
-      kind: peak.lowAngle ? 'low-angle' : 'unexplained',
-      label: `${peak.lowAngle ? 'Low-angle extra peak' : 'Unexplained peak'} at ${peak.twoTheta.toFixed(3)}° (d ${peak.d.toFixed(3)} Å)${peak.possibleSources.length ? `; could be ${peak.possibleSources.join(', ')}` : ''}`,
-    });
+  return { legend: marking.phases.map((p) => ({ name: p.name, verdict: p.verdict, color: p.color })), marks };
+}
+
+/**
+ * The stacked patterns scaled as the toolbar asks (normalise.ts), with the factors used and a note
+ * when a pattern could not be normalised (then every pattern stays in counts).
+ */
+function normalised(all: PatternSeries[]): { series: PatternSeries[]; factors: number[]; title: string | null; note: string | null; range: string | null } {
+  const mode = app.view.normalisation;
+  const counts = { series: all, factors: all.map(() => 1), title: null, note: null, range: null };
+  if (mode === 'none') return counts;
+  const options = { peakTwoTheta: app.view.peakTwoTheta, range: sharedRange(all) };
+  if (mode === 'area' && !options.range) return { ...counts, note: 'The patterns share no 2θ range to compare areas over; shown in counts.' };
+  const factors: number[] = [];
+  for (const s of all) {
+    const f = normalisationFactor(s.x, s.y, mode, options);
+    if ('problem' in f) return { ...counts, note: `${s.label} cannot be normalised: ${f.problem}; shown in counts.` };
+    factors.push(f.factor);
   }
-  return out;
+  const scale = app.view.scale === 'linear' ? '' : app.view.scale === 'sqrt' ? ', √ scale' : ', log scale';
+  const range = mode === 'area' && options.range ? `areas over ${options.range.from.toFixed(1)}–${options.range.to.toFixed(1)}° 2θ, the range all share` : null;
+  return { series: all.map((s, i) => scaledSeries(s, factors[i]!)), factors, title: `${normalisedTitle(mode, options)}${scale}`, note: null, range };
 }
 
 /**
@@ -209,7 +236,7 @@ function segmented<T extends string>(label: string, options: Array<[T, string]>,
   return group;
 }
 
-function toolbar(detail: SampleDetail): HTMLElement {
+function toolbar(detail: SampleDetail, normalisationNote: string | null, areaRange: string | null): HTMLElement {
   const showFit = h('input', { type: 'checkbox' });
   showFit.checked = app.view.showFit;
   showFit.addEventListener('change', () => {
@@ -227,6 +254,27 @@ function toolbar(detail: SampleDetail): HTMLElement {
     app.view.offsetFraction = Number(offset.value);
     changed();
   });
+  const peakAt = h('input', { type: 'number', step: 0.01, min: 0, max: 180, value: app.view.peakTwoTheta ?? '', placeholder: '2θ', 'aria-label': 'Peak to normalise by, 2θ (degrees)', 'data-testid': 'normalise-peak', class: 'narrow' });
+  peakAt.addEventListener('change', () => {
+    app.view.peakTwoTheta = peakAt.value === '' ? null : Number(peakAt.value);
+    changed();
+  });
+  const pickNormalisation = (mode: Normalisation): void => {
+    app.view.normalisation = mode;
+    // By a chosen peak: start from the selected sample's strongest peak until the user types another.
+    if (mode === 'peak' && app.view.peakTwoTheta === null && detail.peaks.length) app.view.peakTwoTheta = Number(detail.peaks.reduce((a, b) => (b.height > a.height ? b : a)).twoTheta.toFixed(2));
+    changed();
+  };
+  const normalisation = app.overlays.size
+    ? h(
+        'span',
+        { class: 'row small' },
+        segmented('Normalise', [['none', 'counts'], ['max', 'by max'], ['peak', 'by peak'], ['area', 'by area']], app.view.normalisation, pickNormalisation),
+        app.view.normalisation === 'peak' ? h('label', { class: 'row small', title: 'The highest point within ±0.3° of this 2θ is brought to 100 in every pattern' }, 'at', peakAt, '°') : null,
+        normalisationNote ? h('span', { class: 'caution-inline', 'data-testid': 'normalise-note' }, normalisationNote) : null,
+        areaRange ? h('span', { class: 'small', 'data-testid': 'normalise-range' }, areaRange) : null,
+      )
+    : null;
   const base = detail.fileName.replace(/\.[^.]+$/, '');
   return h(
     'div',
@@ -239,6 +287,7 @@ function toolbar(detail: SampleDetail): HTMLElement {
     segmented('Intensity', [['linear', 'linear'], ['sqrt', '√'], ['log', 'log']], app.view.scale, (v) => ((app.view.scale = v), changed())),
     h('label', { class: 'row small' }, showFit, 'fit'),
     h('label', { class: 'row small', title: 'Miller indices over the matched peaks; labels that find no room are left out (hover a mark for its line)' }, hklLabels, 'hkl'),
+    normalisation,
     app.overlays.size ? h('label', { class: 'row small' }, 'offset', offset) : null,
     h('button', { class: 'secondary', onclick: () => chart?.resetZoom(), title: 'R' }, 'Reset zoom'),
     h('button', { class: 'secondary', onclick: () => chart && void saveFile({ suggestedName: `${base}.png`, bytesBase64: chart.toPng().split(',')[1]! }, 'image/png') }, 'PNG'),
@@ -259,7 +308,7 @@ function verdictCard(detail: SampleDetail): HTMLElement {
   if (detail.stale) {
     card.append(h('div', { class: 'caution', 'data-testid': 'stale' }, h('strong', {}, 'Out of date: '), `${detail.staleReason ?? 'the settings changed'}. `, h('button', { type: 'button', class: 'secondary', onclick: () => void reanalyze(detail.id) }, 'Analyse again')));
   }
-  if (detail.phase) card.append(h('div', {}, `${detail.phase.name}: ${detail.phase.verdict}, score ${detail.phase.score.toFixed(2)}`));
+  if (detail.phase) card.append(h('div', {}, `${detail.phase.name}: ${detail.phase.verdict} (scores under “Candidates and scores”)`));
   const lowAngle = detail.lowAnglePeaks;
   if (lowAngle.length) {
     const sources = new Map((match?.unexplained ?? []).map((u) => [u.twoTheta, u.possibleSources]));
@@ -398,10 +447,29 @@ async function remove(detail: SampleDetail): Promise<void> {
   }
 }
 
-function details(detail: SampleDetail, checked: Set<string>): HTMLElement {
-  const phases = h('div', { class: 'phases' });
+function details(detail: SampleDetail, checked: Set<string>, legend: PhaseLegend[]): HTMLElement {
+  return h('div', { class: 'details' }, verdictCard(detail), h('div', { class: 'panel stack' }, candidates(detail, checked, legend), h('h3', {}, `Peaks (${detail.peaks.length})`), peakTable(detail, legend)));
+}
+
+/** A small square in a phase's mark colour, beside its name in tables. */
+function swatch(color: string | undefined): HTMLElement | null {
+  if (!color) return null;
+  const el = h('span', { class: 'swatch', 'aria-hidden': 'true' });
+  // Through the style object: the content-security policy refuses style attributes.
+  el.style.backgroundColor = color;
+  return el;
+}
+
+/**
+ * The candidates the match weighed, with their scores, in a details view collapsed by default: the
+ * pattern's marks say which phase explains which peak; the scores are the evidence behind it. Each
+ * row's box draws that reference's lines as sticks on the pattern.
+ */
+function candidates(detail: SampleDetail, checked: Set<string>, legend: PhaseLegend[]): HTMLElement {
+  const colourOf = new Map(legend.map((p) => [p.name, p.color]));
+  const body = h('tbody');
   for (const p of detail.match?.phases ?? []) {
-    const box = h('input', { type: 'checkbox' });
+    const box = h('input', { type: 'checkbox', 'aria-label': `Draw the lines of ${p.name}` });
     box.checked = checked.has(p.name);
     box.addEventListener('change', () => {
       const next = new Set(checked);
@@ -410,20 +478,117 @@ function details(detail: SampleDetail, checked: Set<string>): HTMLElement {
       app.checked = next;
       changed();
     });
-    phases.append(h('label', { class: 'row small' }, box, `${p.name} (${p.verdict}, ${p.score.toFixed(2)})`));
+    body.append(
+      h(
+        'tr',
+        {},
+        h('td', { class: 'left' }, box),
+        h('td', { class: 'left wrap', title: p.name }, swatch(colourOf.get(p.name)), p.name),
+        h('td', { class: 'left' }, p.verdict),
+        h('td', {}, p.score.toFixed(2)),
+        h('td', {}, p.matchedLines),
+        h('td', {}, `${(100 * p.explainedAreaShare).toFixed(0)} %`),
+      ),
+    );
   }
-  return h(
-    'div',
-    { class: 'details' },
-    verdictCard(detail),
-    h('div', { class: 'panel stack' }, h('h3', {}, 'Reference lines drawn on the pattern'), phases, h('h3', {}, `Peaks (${detail.peaks.length})`), peakTable(detail)),
+  const view = h(
+    'details',
+    { class: 'candidates', 'data-testid': 'candidates' },
+    h('summary', {}, h('strong', {}, 'Candidates and scores'), h('span', { class: 'small' }, ` (${detail.match?.phases.length ?? 0}; tick a box to draw its lines on the pattern)`)),
+    h(
+      'div',
+      { class: 'table-scroll' },
+      h('table', { class: 'grid' }, h('thead', {}, h('tr', {}, ...['lines', 'phase', 'verdict', 'score', 'matched', 'of peak area'].map((t, i) => h('th', { class: i < 3 ? 'left' : '' }, t)))), body),
+    ),
   );
+  view.open = app.view.candidatesOpen;
+  view.addEventListener('toggle', () => (app.view.candidatesOpen = view.open));
+  return view;
 }
 
-function peakTable(detail: SampleDetail): HTMLElement {
+/**
+ * A − B of two samples of the project: B's counts interpolated linearly onto A's 2θ points over the
+ * range both cover (grid.ts), each divided first by its normalisation when one is chosen.
+ */
+function differencePanel(selected: SampleDetail, samples: SampleSummary[]): HTMLElement {
+  const state = app.view.difference;
+  const others = samples.filter((s) => s.id !== selected.id);
+  const a = state.a !== null && samples.some((s) => s.id === state.a) ? state.a : selected.id;
+  const b = state.b !== null && samples.some((s) => s.id === state.b) ? state.b : ([...app.overlays].find((id) => id !== a) ?? others[0]?.id ?? selected.id);
+  const pick = (label: string, value: number, key: 'a' | 'b'): HTMLElement => {
+    const select = h('select', { 'aria-label': label, 'data-testid': `difference-${key}` });
+    for (const s of samples) select.append(h('option', { value: s.id, selected: s.id === value }, s.name));
+    select.addEventListener('change', () => {
+      state[key] = Number(select.value);
+      changed();
+    });
+    return h('label', { class: 'row small' }, `${key.toUpperCase()}`, select);
+  };
+  const panel = h('details', { class: 'panel difference', 'data-testid': 'difference-panel' }, h('summary', {}, h('strong', {}, 'Difference of two samples (A − B)')));
+  panel.open = state.open;
+  panel.addEventListener('toggle', () => {
+    if (state.open === panel.open) return;
+    state.open = panel.open;
+    changed();
+  });
+  if (!panel.open) return panel;
+  const note = h('p', { class: 'small', 'data-testid': 'difference-note' }, '…');
+  const canvas = h('canvas', { role: 'img', 'aria-label': 'Difference of two samples', 'data-testid': 'difference-chart' });
+  panel.append(h('div', { class: 'row' }, pick('Sample A', a, 'a'), h('span', {}, '−'), pick('Sample B', b, 'b')), note, h('div', { class: 'chart-box difference-box' }, canvas));
+  if (a === b) {
+    note.textContent = samples.length > 1 ? 'Pick two different samples for A and B.' : 'The project has one sample: add another to compare.';
+    return panel;
+  }
+  void (async () => {
+    try {
+      const [da, db] = [await sampleDetail(a), await sampleDetail(b)];
+      const [sa, sb] = [series(da), series(db)];
+      const mode = app.view.normalisation;
+      const options = { peakTwoTheta: app.view.peakTwoTheta, range: sharedRange([sa, sb]) };
+      const fa = normalisationFactor(sa.x, sa.y, mode, options);
+      const fb = normalisationFactor(sb.x, sb.y, mode, options);
+      const scaled = !('problem' in fa) && !('problem' in fb);
+      const diff = differenceOnGrid(sa, sb, scaled ? fa.factor : 1, scaled ? fb.factor : 1);
+      if (!diff) {
+        note.textContent = `${da.name} and ${db.name} share no 2θ range: no difference to draw.`;
+        return;
+      }
+      const grid = diff.interpolated
+        ? `${db.name} interpolated linearly onto the 2θ points of ${da.name}`
+        : 'both measured on the same 2θ points (no interpolation)';
+      const scaling = mode === 'none' || !scaled ? 'in counts' : `each normalised ${mode === 'area' ? 'by area' : mode === 'max' ? 'by its highest point' : `by its height near ${app.view.peakTwoTheta}°`} first`;
+      note.textContent = `${da.name} − ${db.name}, ${scaling}; ${grid}, over ${diff.from.toFixed(2)}–${diff.to.toFixed(2)}° 2θ (the range both cover).`;
+      differenceChart?.destroy();
+      differenceChart = new PatternChart(canvas);
+      differenceChart.render({
+        main: { label: `${da.name} − ${db.name}`, x: Float32Array.from(diff.x), y: Float32Array.from(diff.y) },
+        overlays: [],
+        marks: [],
+        references: [],
+        lambda: da.lambda1,
+        axis: app.view.axis,
+        scale: 'linear',
+        offsetFraction: 0,
+        showFit: false,
+        intensityTitle: mode === 'none' || !scaled ? 'A − B (counts)' : 'A − B (normalised)',
+        measured: false,
+        readoutValue: mode === 'none' || !scaled ? 'A − B counts' : 'A − B normalised',
+      });
+    } catch (err) {
+      showError(err);
+    }
+  })();
+  return panel;
+}
+
+function peakTable(detail: SampleDetail, legend: PhaseLegend[]): HTMLElement {
+  const colourOf = new Map(legend.map((p) => [p.name, p.color]));
+  const satelliteOf = new Map((detail.match?.unexplained ?? []).filter((u) => u.satelliteOf).map((u) => [u.peakIndex, satelliteLabel(u.satelliteOf!)]));
   const body = h('tbody');
   for (const p of detail.peaks) {
-    const kind = p.lowAngle ? 'low-angle' : p.unexplained ? 'unexplained' : '';
+    const satellite = satelliteOf.get(p.index);
+    // A possible satellite is not an unexplained peak of the sample: no warning colour on its row.
+    const kind = p.lowAngle ? 'low-angle' : p.unexplained && !satelliteOf.has(p.index) ? 'unexplained' : '';
     const row = h(
       'tr',
       { class: kind, title: 'Click to zoom to this peak' },
@@ -434,7 +599,7 @@ function peakTable(detail: SampleDetail): HTMLElement {
       h('td', {}, fmt(p.fwhm, 3)),
       h('td', {}, fmt(p.integralBreadth, 3)),
       h('td', {}, fmt(p.eta, 2)),
-      h('td', { class: 'left' }, `${p.phase ?? 'unexplained'}${p.lowAngle ? ' (low angle)' : ''}`),
+      h('td', { class: 'left wrap' }, swatch(p.phase ? colourOf.get(p.phase) : undefined), `${p.phase ?? (satellite ? `${satellite} satellite?` : 'unexplained')}${p.lowAngle ? ' (low angle)' : ''}`),
     );
     row.addEventListener('click', () => {
       if (app.view.axis === '2theta') chart?.chart.zoomScale('x', { min: p.twoTheta - 1.5, max: p.twoTheta + 1.5 }, 'none');

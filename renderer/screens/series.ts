@@ -1,15 +1,23 @@
-import type { SeriesView } from '../../src/api/contract.js';
-import { call } from '../base/api.js';
-import { Chart, COLORS, errorBarPlugin } from '../chart/pattern-chart.js';
+import type { SampleDetail, SeriesView } from '../../src/api/contract.js';
+import { call, decodeFloats } from '../base/api.js';
+import { drawHeatMap } from '../chart/heat-map.js';
+import { Chart, COLORS, errorBarPlugin, PatternChart } from '../chart/pattern-chart.js';
 import { fmt, h, sizeText } from '../base/dom.js';
 import { app, changed, verdictClass } from '../base/state.js';
 
 let by: 'variant' | 'time' = 'variant';
+let waterfallOffset = 0.5;
 const charts: Chart[] = [];
+let waterfall: PatternChart | null = null;
+let heatMapObserver: ResizeObserver | null = null;
 
 /** Samples by workup variant or exposure time: verdicts, sizes ± σ, differences, impurity growth. */
 export async function renderSeries(root: HTMLElement): Promise<void> {
   while (charts.length) charts.pop()!.destroy();
+  waterfall?.destroy();
+  waterfall = null;
+  heatMapObserver?.disconnect();
+  heatMapObserver = null;
   const view = await call('series.get', { by });
   const pick = (value: 'variant' | 'time', text: string): HTMLElement => h('button', { 'aria-pressed': String(by === value), onclick: () => ((by = value), changed()) }, text);
   const sizeCanvas = h('canvas', { role: 'img', 'aria-label': 'Crystallite size by sample' });
@@ -19,6 +27,7 @@ export async function renderSeries(root: HTMLElement): Promise<void> {
     h('div', { class: 'row' }, h('h2', {}, 'Series'), h('span', { class: 'segmented' }, pick('variant', 'by workup variant'), pick('time', 'by exposure time'))),
     ...view.notes.map((n) => h('p', { class: 'caution' }, n)),
     h('div', { class: 'two-col' }, h('div', { class: 'panel' }, h('h3', {}, 'Scherrer size ± σ'), h('div', { class: 'series-chart' }, sizeCanvas)), growthPanel(view)),
+    patternsPanel(view),
     h('div', { class: 'panel' }, rowsTable(view)),
     comparisonsPanel(view),
   );
@@ -47,6 +56,7 @@ export async function renderSeries(root: HTMLElement): Promise<void> {
       },
     }),
   );
+  await drawPatterns(screen, view);
   const growthCanvas = screen.querySelector<HTMLCanvasElement>('canvas[data-growth]');
   if (growthCanvas && view.growth.length) {
     const datasets = view.growth.flatMap((g, i) => {
@@ -115,4 +125,63 @@ function comparisonsPanel(view: SeriesView): HTMLElement {
       h('tbody', {}, ...view.comparisons.map((c) => h('tr', {}, h('td', { class: 'left' }, `${c.a} vs ${c.b}`), h('td', { class: 'left' }, h('strong', {}, c.differs ? 'differs' : 'no significant difference')), h('td', { class: 'left small' }, `${c.test}: ${c.detail}`)))),
     ),
   );
+}
+
+/** The series' patterns in order: a waterfall (stacked with an offset) and a heat map (2θ × sample, colour = counts). */
+function patternsPanel(view: SeriesView): HTMLElement {
+  if (view.rows.length < 2) return h('div', { class: 'panel small' }, h('h3', {}, 'Patterns in order'), 'A waterfall and a heat map appear once two or more samples are in the series.');
+  const offset = h('input', { type: 'range', min: 0, max: 1.5, step: 0.05, value: waterfallOffset, 'aria-label': 'Offset between the waterfall’s patterns', 'data-testid': 'waterfall-offset' });
+  offset.addEventListener('change', () => {
+    waterfallOffset = Number(offset.value);
+    changed();
+  });
+  const order = view.by === 'time' ? 'by exposure time, earliest at the bottom' : 'in the order the variants were first added, the first at the bottom';
+  return h(
+    'div',
+    { class: 'panel stack', 'data-testid': 'series-patterns' },
+    h('div', { class: 'row' }, h('h3', {}, 'Patterns in order'), h('span', { class: 'small' }, `${view.rows.length} samples, ${order}`), h('span', { class: 'spacer' }), h('label', { class: 'row small' }, 'offset', offset)),
+    h(
+      'div',
+      { class: 'two-col' },
+      h('figure', { class: 'series-figure' }, h('div', { class: 'chart-box waterfall-box' }, h('canvas', { role: 'img', 'aria-label': 'Waterfall of the series’ patterns', 'data-testid': 'waterfall' })), h('figcaption', { class: 'small' }, 'Waterfall: each pattern raised by the offset above the one before.')),
+      h('figure', { class: 'series-figure' }, h('div', { class: 'heat-box' }, h('canvas', { role: 'img', 'aria-label': 'Heat map of the series’ patterns', 'data-testid': 'heat-map' })), h('figcaption', { class: 'small' }, 'Heat map: one band per sample, intensity as colour (highest count per pixel column, one √ scale for all).')),
+    ),
+  );
+}
+
+async function seriesDetail(id: number): Promise<SampleDetail> {
+  let detail = app.details.get(id);
+  if (!detail) {
+    detail = await call('sample.get', { id });
+    app.details.set(id, detail);
+  }
+  return detail;
+}
+
+async function drawPatterns(screen: HTMLElement, view: SeriesView): Promise<void> {
+  const waterfallCanvas = screen.querySelector<HTMLCanvasElement>('[data-testid="waterfall"]');
+  const heatCanvas = screen.querySelector<HTMLCanvasElement>('[data-testid="heat-map"]');
+  if (!waterfallCanvas || !heatCanvas) return;
+  const patterns: Array<{ label: string; lambda: number; x: Float32Array; y: Float32Array }> = [];
+  for (const row of view.rows) {
+    const detail = await seriesDetail(row.sampleId);
+    patterns.push({ label: row.label, lambda: detail.lambda1, x: decodeFloats(detail.x), y: decodeFloats(detail.y) });
+  }
+  if (!waterfallCanvas.isConnected) return;
+  waterfall = new PatternChart(waterfallCanvas);
+  waterfall.render({
+    main: patterns[0]!,
+    overlays: patterns.slice(1),
+    marks: [],
+    references: [],
+    lambda: patterns[0]!.lambda,
+    axis: '2theta',
+    scale: 'sqrt',
+    offsetFraction: waterfallOffset,
+    showFit: false,
+  });
+  const draw = () => heatCanvas.isConnected && drawHeatMap(heatCanvas, patterns);
+  draw();
+  heatMapObserver = new ResizeObserver(() => draw());
+  heatMapObserver.observe(heatCanvas.parentElement!);
 }

@@ -31,12 +31,12 @@ export const SILICON: Reference = {
 };
 
 /** A simulated silicon pattern (with an optional extra low-angle line) as the bytes of a two-column file. */
-export function siliconPatternText(options: { sizeNm?: number; extraLowAngleD?: number; points?: number; seed?: number } = {}): string {
+export function siliconPatternText(options: { sizeNm?: number; extraLowAngleD?: number; extraScale?: number; points?: number; seed?: number } = {}): string {
   const points = options.points ?? 6001;
   const min = 5;
   const max = 90;
   const phases = [{ lines: SILICON.lines, scale: 1, sizeNm: options.sizeNm ?? 40 }];
-  if (options.extraLowAngleD) phases.push({ lines: [{ d: options.extraLowAngleD, intensity: 100 }], scale: 0.25, sizeNm: 40 });
+  if (options.extraLowAngleD) phases.push({ lines: [{ d: options.extraLowAngleD, intensity: 100 }], scale: options.extraScale ?? 0.25, sizeNm: 40 });
   const pattern = simulatePattern({
     phases,
     wavelength: anodeWavelength('Cu'),

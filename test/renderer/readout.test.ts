@@ -16,6 +16,8 @@ describe('cursor readout', () => {
     expect(r.nearestTwoTheta).toBeCloseTo(28.44, 5);
     expect(r.counts).toBeCloseTo(y[44]!, 3);
     expect(readingText(r)).toMatch(/^2θ 28\.443°\s+·\s+d 3\.135\d Å\s+·\s+Q 2\.00\d\d Å⁻¹\s+·\s+counts \d+ \(point at 28\.440°\)$/);
+    // A normalised pattern or a difference says what its values are instead of counts.
+    expect(readingText(r, 'A − B counts')).toMatch(/·\s+A − B counts \d+ \(point at 28\.440°\)$/);
   });
 
   it('reads nothing outside 0–180° or on an empty pattern', () => {
