@@ -322,6 +322,8 @@ function verdictCard(detail: SampleDetail): HTMLElement {
   }
   const reasons = [...(match?.reasons ?? []), ...(phase?.reasons ?? [])];
   if (reasons.length) card.append(h('ul', { class: 'reasons' }, ...reasons.map((r) => h('li', {}, r))));
+  const composition = compositionBlock(detail);
+  if (composition) card.append(composition);
   const size = detail.size;
   card.append(h('h3', {}, 'Crystallite size'));
   if (size?.scherrer) {
@@ -387,11 +389,37 @@ function headline(detail: SampleDetail): string {
   return `${sentence.join(' · ')}.`;
 }
 
-/** A phase with its weight % where quantified, else its share of the peak area. */
+/** A phase with its weight % where quantified (absolute with an internal standard), else its share of the peak area. */
 function shareText(p: PhaseMatch): string {
   const uncertain = p.verdict === 'uncertain' ? ' (uncertain)' : '';
-  if (p.weightFraction !== null) return `${p.name} ${(100 * p.weightFraction).toFixed(0)} %${uncertain}`;
+  const absolute = p.absoluteWeightFraction ?? null;
+  if (absolute !== null) return `${p.name} ${percentText(absolute, p.absoluteWeightFractionSigma ?? null)} wt %${uncertain}`;
+  if (p.weightFraction !== null) return `${p.name} ${percentText(p.weightFraction, p.weightFractionSigma ?? null)} wt % of the crystalline part${uncertain}`;
   return `${p.name} ${(100 * p.explainedAreaShare).toFixed(0)} % of peak area${uncertain}`;
+}
+
+/** A fraction (0–1) as a percentage with its σ, to the σ's first digit. */
+function percentText(fraction: number, sigma: number | null): string {
+  if (sigma === null || !(sigma > 0)) return (100 * fraction).toFixed(0);
+  const digits = Math.max(0, Math.min(2, 1 - Math.floor(Math.log10(100 * sigma))));
+  return `${(100 * fraction).toFixed(digits)} ± ${(100 * sigma).toFixed(digits)}`;
+}
+
+/**
+ * What the sample is made of: each phase seen with its weight % ± σ (absolute, and the amorphous
+ * content, when an internal standard was declared), else the crystallinity estimate with its caveat.
+ */
+function compositionBlock(detail: SampleDetail): HTMLElement | null {
+  const match = detail.match;
+  if (!match) return null;
+  const seen = match.phases.filter((p) => p.verdict !== 'not-seen');
+  const rows: HTMLElement[] = seen.map((p) => h('li', {}, shareText(p)));
+  if (match.amorphous) rows.push(h('li', { 'data-testid': 'amorphous' }, `amorphous and unidentified matter ${percentText(match.amorphous.fraction, match.amorphous.sigma)} wt %`));
+  const notes: HTMLElement[] = [];
+  if (match.quantificationStatement) notes.push(h('p', { class: 'small' }, match.quantificationStatement));
+  if (!match.amorphous && detail.crystallinity) notes.push(h('p', { class: 'small', 'data-testid': 'crystallinity' }, `Crystallinity without a standard: ${detail.crystallinity.statement}`));
+  if (!rows.length && !notes.length) return null;
+  return h('div', { 'data-testid': 'composition' }, h('h3', {}, 'Composition'), rows.length ? h('ul', { class: 'composition' }, ...rows) : null, ...notes);
 }
 
 function labelsForm(detail: SampleDetail): HTMLElement {

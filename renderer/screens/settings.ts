@@ -19,6 +19,9 @@ export async function renderSettings(root: HTMLElement): Promise<void> {
   correction.value = s.correction;
   const target = h('select', { 'aria-label': 'Target phase', 'data-testid': 'target-select' }, h('option', { value: '' }, '(none)'), ...references.map((r) => h('option', { value: r.name }, `${r.name} — ${r.formula}`)));
   target.value = s.target ?? '';
+  const standard = h('select', { 'aria-label': 'Internal standard', 'data-testid': 'internal-standard' }, h('option', { value: '' }, '(none)'), ...references.map((r) => h('option', { value: r.name }, `${r.name} — ${r.formula}`)));
+  standard.value = s.internalStandard ?? '';
+  const standardPercent = h('input', { type: 'number', min: 0.1, max: 90, step: 'any', value: s.internalStandardPercent ?? '', placeholder: 'wt %', 'aria-label': 'Internal standard weight %', 'data-testid': 'internal-standard-percent' });
   const form = h(
     'form',
     { class: 'panel stack' },
@@ -29,6 +32,8 @@ export async function renderSettings(root: HTMLElement): Promise<void> {
       field('Wavelength', wavelength, 'Anode (Cu, Co, Fe, Cr, Mo, Ag: Kα1/Kα2) or a number in Å.'),
       field('Matching tolerance (° 2θ)', tolerance, '0.05–0.2° is usual; a zero shift is refined separately.'),
       field('Target phase', target, 'The phase you expect; verdicts are about it.'),
+      field('Internal standard', standard, 'A phase weighed into every sample (silicon, corundum…): gives absolute weight % and the amorphous content.'),
+      field('Standard spiked at (wt %)', standardPercent, 'Weight % of the standard in the spiked sample; leave both empty for none.'),
       field('Scherrer K', k, '0.9 is common; 0.89 spheres (FWHM), 0.94 cubes, 1.0 with integral breadth.'),
       field('Breadth', breadth),
       field('Instrument correction', correction, 'Voigt splits Lorentzian and Gaussian parts.'),
@@ -47,6 +52,8 @@ export async function renderSettings(root: HTMLElement): Promise<void> {
       breadth: breadth.value as ProjectSettings['breadth'],
       correction: correction.value as ProjectSettings['correction'],
       target: target.value || null,
+      internalStandard: standard.value || null,
+      internalStandardPercent: standardPercent.value.trim() === '' ? null : Number(standardPercent.value),
     };
     try {
       const state = await call('project.settings', { settings });

@@ -39,6 +39,12 @@ export const settingsSchema = z
     backgroundHalfWidthDeg: settingNumber('backgroundHalfWidthDeg').nullable(),
     /** Phase the chemist expects, by library name; null for none. */
     target: z.string().max(200).nullable(),
+    /**
+     * A reference spiked into every sample at internalStandardPercent (wt % of the spiked sample), for
+     * absolute weight fractions and the amorphous content (Chung 1974); null for none. Older project files lack them.
+     */
+    internalStandard: z.string().max(200).nullable().default(null),
+    internalStandardPercent: settingNumber('internalStandardPercent').nullable().default(null),
   })
   .strict();
 
@@ -52,6 +58,8 @@ export const DEFAULT_SETTINGS: ProjectSettings = {
   correction: 'voigt',
   backgroundHalfWidthDeg: null,
   target: null,
+  internalStandard: null,
+  internalStandardPercent: null,
 };
 
 const hkl = z.tuple([z.number().int(), z.number().int(), z.number().int()]);
@@ -226,6 +234,8 @@ export interface SampleDetail extends SampleSummary {
   lowAnglePeaks: Array<{ peakIndex: number; twoTheta: number; d: number; phase: string | null }>;
   match: MatchResult | null;
   size: SizeView | null;
+  /** Crystalline share of the scattering above the baseline, without a standard (null when not formed or saved before it existed). */
+  crystallinity: { percent: number; statement: string } | null;
   readerNotes: string[];
   meta: Record<string, string>;
   sha256: string;

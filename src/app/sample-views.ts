@@ -31,6 +31,8 @@ const SETTING_NAMES: Record<keyof ProjectSettings, string> = {
   correction: 'instrument correction',
   backgroundHalfWidthDeg: 'background clipping half-width',
   target: 'target phase',
+  internalStandard: 'internal standard',
+  internalStandardPercent: 'internal standard weight',
 };
 
 export function instrumentIdentity(profile: InstrumentProfile | null): string | null {
@@ -42,7 +44,8 @@ export function staleReason(saved: SavedAnalysis, now: AnalysisBasis): string | 
   if (!saved.result) return null;
   const then = saved.basis;
   if (!then) return 'analysed by an earlier version of Crystallog, which did not record its settings; analyse again to refresh';
-  const changed = (Object.keys(SETTING_NAMES) as Array<keyof ProjectSettings>).filter((key) => then.settings[key] !== now.settings[key]).map((key) => SETTING_NAMES[key]);
+  // A setting added after an analysis was saved reads as null (its default) in the old basis.
+  const changed = (Object.keys(SETTING_NAMES) as Array<keyof ProjectSettings>).filter((key) => (then.settings[key] ?? null) !== (now.settings[key] ?? null)).map((key) => SETTING_NAMES[key]);
   if (then.instrument !== now.instrument) changed.push('instrument profile');
   if (then.libraryDigest !== now.libraryDigest) changed.push('reference library');
   return changed.length ? `the ${joinWords(changed)} changed since this analysis; analyse again to refresh` : null;

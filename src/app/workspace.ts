@@ -64,6 +64,8 @@ function analysisSettingsOf(s: ProjectSettings): Partial<AnalysisSettings> {
     correction: s.correction,
     target: s.target,
     backgroundHalfWidthDeg: s.backgroundHalfWidthDeg,
+    internalStandard: s.internalStandard ?? null,
+    internalStandardPercent: s.internalStandardPercent ?? null,
   };
 }
 
@@ -182,6 +184,12 @@ export class Workspace {
     if (next.target !== null && !this.library().get(next.target)) {
       throw new InputError(`the target "${next.target}" is not in the library; add it there first or pick another`);
     }
+    if ((next.internalStandard === null) !== (next.internalStandardPercent === null)) {
+      throw new InputError('an internal standard needs both its phase and the weight % it was spiked at (or neither)');
+    }
+    if (next.internalStandard !== null && !this.library().get(next.internalStandard)) {
+      throw new InputError(`the internal standard "${next.internalStandard}" is not in the library; add it there first or pick another`);
+    }
     doc.analysis = next;
     writeDocument(store, doc);
     this.context = null;
@@ -246,6 +254,7 @@ export class Workspace {
       lowAnglePeaks: lowAngle,
       match: result?.match ?? null,
       size: result ? sizeView(result) : null,
+      crystallinity: result?.crystallinity ?? null,
       readerNotes: pattern.readerNotes,
       meta: pattern.meta,
       sha256: record.sha256,

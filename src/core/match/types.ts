@@ -141,9 +141,9 @@ export interface PhaseMatch {
   missingStrongLines: MissingLine[];
   /** Chung's matrix-flushing weight fraction, or null where the phase is not quantified. */
   weightFraction: number | null;
-  /** σ of the weight fraction from the scales' σ (the scatter of the phases' areas about the joint fit); null where it cannot be measured. */
   /** For a reference tagged as a decomposition product or impurity and not seen: the weight % above which it would be seen here. */
   detectionLimitWeightPercent?: number | null;
+  /** σ of the weight fraction from the scales' σ (the scatter of the phases' areas about the joint fit); null where it cannot be measured. */
   weightFractionSigma?: number | null;
   /** With an internal standard: the weight fraction in the unspiked sample (amorphous matter counted), with σ. */
   absoluteWeightFraction?: number | null;
