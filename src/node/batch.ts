@@ -9,7 +9,7 @@ import { availableParallelism } from 'node:os';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { StoredReference } from '../core/model/reference.js';
-import { packedLinesOf, unpackLines } from './library/packing.js';
+import { packedLinesOf, wholeBlockOf, withLazyLines, type PackedBlock } from './library/packing.js';
 import { buildReferenceIndex, type ReferenceIndex } from '../core/match/reference-index.js';
 import type { InstrumentProfile } from '../core/size/instrument.js';
 import { checkTarget, createAnalysisContext, type AnalysisContext, type AnalysisSettings } from '../core/analysis/analyse.js';
@@ -66,7 +66,7 @@ export interface SharedSetup {
   lines: SharedLines;
   instrument: InstrumentProfile | null;
   settings: Partial<AnalysisSettings>;
-  index: { d: SharedArrayBuffer; referenceOf: SharedArrayBuffer; intensity: SharedArrayBuffer };
+  index: { d: SharedArrayBuffer; referenceOf: SharedArrayBuffer; intensity: SharedArrayBuffer; libraryDigest?: string };
 }
 
 export interface WorkerTask {
@@ -110,8 +110,16 @@ function shareTyped<T extends Float64Array | Int32Array | Float32Array>(array: T
   return buffer;
 }
 
-/** Pack every reference's lines into two shared buffers, once for all workers. */
+/**
+ * Every reference's lines in two shared buffers, once for all workers: the library snapshot's block
+ * copied whole when the references are that block in order, else packed reference by reference.
+ */
 function shareLines(references: readonly StoredReference[]): SharedLines {
+  const whole = wholeBlockOf(references);
+  if (whole && !('read' in whole.lines)) {
+    const { values, indices, indexStart } = whole.lines;
+    return { values: shareBytes(values), indices: shareBytes(indices), valueStart: whole.valueStart, indexStart, count: whole.count };
+  }
   const n = references.length;
   const packed = references.map(packedLinesOf);
   const valueStart = new Int32Array(n);
@@ -137,25 +145,20 @@ function shareLines(references: readonly StoredReference[]): SharedLines {
   return { values, indices, valueStart, indexStart, count };
 }
 
+function shareBytes(bytes: Uint8Array): SharedArrayBuffer {
+  const buffer = new SharedArrayBuffer(bytes.byteLength);
+  new Uint8Array(buffer).set(bytes);
+  return buffer;
+}
+
 /** References whose lines are decoded from the shared buffers on first use (most are never looked at). */
 function referencesFromShared(heads: readonly ReferenceHead[], shared: SharedLines): StoredReference[] {
-  return heads.map((head, r) => {
-    let lines: StoredReference['lines'] | null = null;
-    const ref = { ...head } as StoredReference;
-    Object.defineProperty(ref, 'lines', {
-      enumerable: true,
-      get: () => {
-        const n = shared.count[r]!;
-        lines ??= unpackLines({
-          count: n,
-          values: new Uint8Array(shared.values, shared.valueStart[r]! * 8, 2 * n * 8),
-          indices: shared.indexStart[r]! < 0 ? null : new Uint8Array(shared.indices, shared.indexStart[r]! * 4, 4 * n * 4),
-        });
-        return lines;
-      },
-    });
-    return ref;
-  });
+  const block: PackedBlock = {
+    lines: { values: Buffer.from(shared.values), indices: Buffer.from(shared.indices), indexStart: shared.indexStart },
+    valueStart: shared.valueStart,
+    count: shared.count,
+  };
+  return heads.map((head, r) => withLazyLines(head, { snapshot: block, r }));
 }
 
 /**
@@ -176,7 +179,7 @@ function shareSetup(setup: BatchSetup): SharedSetup {
     lines: shareLines(setup.references),
     instrument: setup.instrument,
     settings: setup.settings,
-    index: { d: shareTyped(index.d), referenceOf: shareTyped(index.referenceOf), intensity: shareTyped(index.intensity) },
+    index: { d: shareTyped(index.d), referenceOf: shareTyped(index.referenceOf), intensity: shareTyped(index.intensity), ...(index.libraryDigest ? { libraryDigest: index.libraryDigest } : {}) },
   };
 }
 
@@ -188,6 +191,7 @@ export function contextFromShared(shared: SharedSetup): AnalysisContext {
     d: new Float64Array(shared.index.d),
     referenceOf: new Int32Array(shared.index.referenceOf),
     intensity: new Float32Array(shared.index.intensity),
+    ...(shared.index.libraryDigest ? { libraryDigest: shared.index.libraryDigest } : {}),
   };
   return createAnalysisContext(references, shared.instrument, shared.settings, index);
 }

@@ -78,17 +78,19 @@ function viewAs<T extends Float64Array | Int32Array>(
 }
 
 /**
- * Reference r of a library snapshot: its lines are a slice of the snapshot's bytes, cut out only when
- * asked for, or read from the library then (a match of 100 000 references looks at the lines of a few hundred).
+ * Packed lines of many references end to end (a library snapshot, or the buffers a batch shares with
+ * its workers): reference r's values start at Float64 valueStart[r], its h, k, l, multiplicity at
+ * Int32 indexStart[r] (−1: none). Or, for a library read on demand, `read(r)` fetches them.
  */
+export interface PackedBlock {
+  lines: { values: Buffer; indices: Buffer; indexStart: Int32Array } | { read: (r: number) => PackedLines };
+  valueStart: Int32Array;
+  count: Int32Array;
+}
+
+/** Reference r of a packed block: its lines are cut out (or read) only when asked for (a match of 100 000 references looks at a few hundred). */
 export interface SnapshotSlice {
-  snapshot: {
-    lines: { values: Buffer; indices: Buffer; indexStart: Int32Array } | { read: (id: number, version: number) => PackedLines };
-    id: Int32Array;
-    version: Int32Array;
-    valueStart: Int32Array;
-    count: Int32Array;
-  };
+  snapshot: PackedBlock;
   r: number;
 }
 
@@ -104,19 +106,34 @@ export function forgetPacked(ref: Reference): void {
   packedOf.delete(ref);
 }
 
+/**
+ * The block the references' lines already lie in, in this order (reference r at position r of one
+ * block with its lines loaded), or null: a batch then shares that block whole instead of re-packing.
+ */
+export function wholeBlockOf(references: readonly Reference[]): PackedBlock | null {
+  let block: PackedBlock | null = null;
+  for (let r = 0; r < references.length; r++) {
+    const known = packedOf.get(references[r]!);
+    if (!known || !('snapshot' in known) || known.r !== r || (block !== null && known.snapshot !== block)) return null;
+    block = known.snapshot;
+  }
+  return block && !('read' in block.lines) && block.count.length === references.length ? block : null;
+}
+
 /** A reference's lines packed: the stored bytes for references loaded from a library, else packed now. */
 export function packedLinesOf(ref: Reference): PackedLines {
   const known = packedOf.get(ref);
   if (!known) return packLines(ref.lines);
   if (!('snapshot' in known)) return known;
   const packed = sliceOf(known);
-  packedOf.set(ref, packed);
+  // A read from the library is kept; a slice of a loaded block stays a slice (cheap to cut again, and wholeBlockOf still sees the block).
+  if ('read' in known.snapshot.lines) packedOf.set(ref, packed);
   return packed;
 }
 
 function sliceOf({ snapshot, r }: SnapshotSlice): PackedLines {
   const { lines } = snapshot;
-  if ('read' in lines) return lines.read(snapshot.id[r]!, snapshot.version[r]!);
+  if ('read' in lines) return lines.read(r);
   const count = snapshot.count[r]!;
   const start = snapshot.valueStart[r]!;
   const indexStart = lines.indexStart[r]!;

@@ -1,7 +1,7 @@
 import type { Statement } from 'better-sqlite3';
 import { InputError } from '../../core/errors.js';
 import { formatReferenceJson, toFileEntry } from '../../core/library/json-format.js';
-import { packLines, packedLinesOf, unpackValues, withLazyLines, type PackedLines, type SnapshotSlice } from './packing.js';
+import { packLines, packedLinesOf, unpackValues, withLazyLines, type PackedBlock, type PackedLines, type SnapshotSlice } from './packing.js';
 import type { Reference, StoredReference } from '../../core/model/reference.js';
 import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from './schema.js';
 import { DEFAULT_BUSY_TIMEOUT_MS, openDatabase, readMeta, schemaVersion, writeMeta, type Db } from './sqlite.js';
@@ -534,19 +534,28 @@ interface SnapshotRow {
 const SNAPSHOT_BLOBS = ['line_values', 'line_indices', 'index_start', 'd', 'reference_of', 'intensity'] as const;
 type SnapshotBlob = (typeof SNAPSHOT_BLOBS)[number];
 
-/** The references of a snapshot: heads from one JSON array, lines left in the packed bytes (or in the library) until read. */
-function referencesFromSnapshot(headsJson: string, lines: SnapshotSlice['snapshot']['lines']): StoredReference[] {
+/**
+ * The references of a snapshot: heads from one JSON array, lines left in the packed bytes until read,
+ * or (given `read`) read from the library by id and version when asked for.
+ */
+function referencesFromSnapshot(headsJson: string, lines: { values: Buffer; indices: Buffer; indexStart: Int32Array } | { read: (id: number, version: number) => PackedLines }): StoredReference[] {
   const heads = JSON.parse(headsJson) as Array<[number, number, string, string, VersionDetails, string, number]>;
   const n = heads.length;
-  const snapshot: SnapshotSlice['snapshot'] = { lines, id: new Int32Array(n), version: new Int32Array(n), valueStart: new Int32Array(n), count: new Int32Array(n) };
+  const ids = new Int32Array(n);
+  const versions = new Int32Array(n);
+  const block: PackedBlock = {
+    lines: 'read' in lines ? { read: (r) => lines.read(ids[r]!, versions[r]!) } : lines,
+    valueStart: new Int32Array(n),
+    count: new Int32Array(n),
+  };
   let doubles = 0;
   return heads.map(([id, version, name, source, details, createdAt, count], r) => {
-    snapshot.id[r] = id;
-    snapshot.version[r] = version;
-    snapshot.valueStart[r] = doubles;
-    snapshot.count[r] = count;
+    ids[r] = id;
+    versions[r] = version;
+    block.valueStart[r] = doubles;
+    block.count[r] = count;
     doubles += 2 * count;
-    return storedReference(id, version, name, source, details, createdAt, { snapshot, r });
+    return storedReference(id, version, name, source, details, createdAt, { snapshot: block, r });
   });
 }
 
