@@ -6,6 +6,7 @@
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import Database from 'better-sqlite3';
 import { afterAll, describe, expect, it } from 'vitest';
 import { buildReferenceIndex, type ReferenceIndex } from '../../src/core/match/reference-index.js';
 import { matchPhases } from '../../src/core/match/match.js';
@@ -65,6 +66,22 @@ describe('the line index stored with the library', () => {
     expectSameIndex(index, buildReferenceIndex(references));
     expectSameMatches(references, index, [[0, 1], [2, 3]]);
     library.close();
+  });
+
+  it('is read back alike when each of its arrays is stored in many parts', () => {
+    const path = join(dir, 'parts.sqlite');
+    const writer = ReferenceLibrary.open(path, { snapshotPartBytes: 1000 }); // not a multiple of 8: a Float64 spans two parts
+    writer.importReferences(randomReferences(300, 5));
+    writer.close();
+    const raw = new Database(path, { readonly: true });
+    const parts = raw.prepare(`SELECT count(*) AS n FROM line_index_part WHERE array = 'd'`).get() as { n: number };
+    raw.close();
+    expect(parts.n).toBeGreaterThan(10);
+    const reader = ReferenceLibrary.open(path, { readOnly: true });
+    const { references, index } = reader.referencesWithIndex();
+    expect(references).toEqual(reader.all());
+    expectSameIndex(index, buildReferenceIndex(references));
+    reader.close();
   });
 
   it('is read back in a read-only connection and matches a random library alike', () => {
@@ -140,14 +157,40 @@ describe('a library from the version before the stored index', () => {
     library.importReferences(loadSeedReferences().slice(0, 5));
     library.close();
     // Make it look like the schema before step 3: no line_index table, user_version 2.
-    const Database = (await import('better-sqlite3')).default;
     const raw = new Database(path);
-    raw.exec('DROP TABLE line_index');
+    raw.exec('DROP TABLE line_index; DROP TABLE line_index_part');
     raw.pragma('user_version = 2');
     raw.close();
     const reopened = ReferenceLibrary.open(path, { readOnly: true });
     expect(reopened.openNotes.some((n) => /brought up to date from schema version 2/.test(n))).toBe(true);
     expect(reopened.all()).toHaveLength(5);
     reopened.close();
+  });
+
+  it('with the one-row snapshot of schema 3 is brought up to date with a note, and its snapshot made anew in parts matches as before', async () => {
+    const path = join(dir, 'schema-3.db');
+    const library = ReferenceLibrary.open(path);
+    library.importReferences(loadSeedReferences());
+    const expected = library.referencesWithIndex();
+    library.close();
+    const raw = new Database(path);
+    raw.exec(`DROP TABLE line_index; DROP TABLE line_index_part;
+      CREATE TABLE line_index (id INTEGER PRIMARY KEY CHECK (id = 1), stamp TEXT NOT NULL, digest TEXT NOT NULL, heads TEXT NOT NULL,
+        line_values BLOB NOT NULL, line_indices BLOB NOT NULL, index_start BLOB NOT NULL, d BLOB NOT NULL, reference_of BLOB NOT NULL, intensity BLOB NOT NULL) STRICT;
+      INSERT INTO line_index VALUES (1, 'old', 'old', '[]', x'', x'', x'', x'', x'', x'');`);
+    raw.pragma('user_version = 3');
+    raw.close();
+    const reader = ReferenceLibrary.open(path, { readOnly: true });
+    expect(reader.openNotes.some((n) => /brought up to date from schema version 3/.test(n))).toBe(true);
+    const unindexed = reader.referencesWithIndex(); // no snapshot yet, and a reader does not write one: made in memory
+    expect(unindexed.references).toEqual(expected.references);
+    expectSameIndex(unindexed.index, expected.index);
+    reader.close();
+    const writer = ReferenceLibrary.open(path);
+    const rebuilt = writer.referencesWithIndex();
+    expect(rebuilt.references).toEqual(expected.references);
+    expectSameIndex(rebuilt.index, expected.index);
+    expectSameMatches(rebuilt.references, rebuilt.index, [[0, 1], [2, 3]]);
+    writer.close();
   });
 });

@@ -69,6 +69,26 @@ export const LIBRARY_MIGRATIONS: readonly Migration[] = [
       ) STRICT;
     `);
   },
+  // 4: the snapshot's byte arrays in parts of at most 8 MB, one row each: SQLite copies a value whole
+  // when it binds it and again when it builds the row, so one 130 MB row cost an import of 100 000
+  // references about 350 MB at its peak. The snapshot is a cache: the old one is dropped and made anew.
+  (db) => {
+    db.exec(`
+      DROP TABLE line_index;
+      CREATE TABLE line_index (
+        id INTEGER PRIMARY KEY CHECK (id = 1),
+        stamp TEXT NOT NULL,
+        digest TEXT NOT NULL,        -- the library digest (names and versions, analyse.ts)
+        heads TEXT NOT NULL          -- [id, version, name, source, details, created_at, line_count] per reference, name order (JSON)
+      ) STRICT;
+      CREATE TABLE line_index_part (
+        array TEXT NOT NULL,         -- which array: line_values, line_indices, index_start, d, reference_of, intensity (as in step 3)
+        part INTEGER NOT NULL,       -- its parts in order, from 0
+        bytes BLOB NOT NULL,
+        PRIMARY KEY (array, part)
+      ) STRICT;
+    `);
+  },
 ];
 
 export const LIBRARY_KIND = 'reference-library';

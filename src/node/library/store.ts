@@ -53,6 +53,8 @@ export interface OpenLibraryOptions {
   readOnly?: boolean;
   /** Told once when a write has to wait for another process's write lock (the CLI prints it on stderr). */
   onLockWait?: (message: string) => void;
+  /** Largest part of a snapshot array written, bytes (default 8 MB; smaller only to test the parts). */
+  snapshotPartBytes?: number;
 }
 
 /** A write that has waited this long for the lock says so (a short wait for another save is not worth a word). */
@@ -101,19 +103,20 @@ export class ReferenceLibrary {
     readonly path: string,
     private readonly lockWaitMs: number,
     private readonly onLockWait: ((message: string) => void) | undefined,
+    private readonly partBytes: number,
   ) {
     this.statements = prepareStatements(db);
   }
 
   static open(path: string, options: OpenLibraryOptions = {}): ReferenceLibrary {
     const found = { notes: [] as string[] };
-    const { onLockWait, ...databaseOptions } = options;
+    const { onLockWait, snapshotPartBytes, ...databaseOptions } = options;
     const db = openDatabase(path, { kind: LIBRARY_KIND, migrations: LIBRARY_MIGRATIONS, ...databaseOptions }, found);
     if (options.readOnly && schemaVersion(db) === 0) {
       db.close();
       throw new InputError('this library file holds no references yet; add some with: crystallog library import FILE --library ' + path, { file: path });
     }
-    const library = new ReferenceLibrary(db, path, options.busyTimeoutMs ?? DEFAULT_BUSY_TIMEOUT_MS, onLockWait);
+    const library = new ReferenceLibrary(db, path, options.busyTimeoutMs ?? DEFAULT_BUSY_TIMEOUT_MS, onLockWait, snapshotPartBytes ?? SNAPSHOT_PART_BYTES);
     library.openNotes = found.notes;
     return library;
   }
@@ -210,8 +213,7 @@ export class ReferenceLibrary {
   referencesWithIndex(options: { linesOnDemand?: boolean } = {}): { references: StoredReference[]; index: ReferenceIndex } {
     const head = this.statements.snapshotHead.get();
     if (head && head.stamp === this.stamp()) {
-      // One query per column: SQLite keeps its copy of a blob until its statement steps again.
-      const blob = (name: SnapshotBlob) => this.statements.snapshotBlob[name].get()!;
+      const blob = (name: SnapshotBlob) => this.readPart(name);
       const lines = options.linesOnDemand
         ? { read: (id: number, version: number) => this.packedLinesOfVersion(id, version) }
         : { values: blob('line_values'), indices: blob('line_indices'), indexStart: typedView(Int32Array, blob('index_start')) };
@@ -278,19 +280,36 @@ export class ReferenceLibrary {
       n += count;
       r++;
     }
+    this.statements.saveSnapshot.run({ stamp: this.stamp(), digest: libraryDigest(digestOf), heads: `[${heads.join(',')}]` });
+    heads.length = 0;
+    this.savePart('line_values', bytes(lineValues));
+    this.savePart('line_indices', Buffer.concat(indices));
+    indices.length = 0;
+    this.savePart('index_start', bytes(indexStart));
     const packed = sortLineIndex(gathered);
-    gathered = null; // free before SQLite copies the snapshot's bytes
-    this.statements.saveSnapshot.run({
-      stamp: this.stamp(),
-      digest: libraryDigest(digestOf),
-      heads: `[${heads.join(',')}]`,
-      line_values: bytes(lineValues),
-      line_indices: Buffer.concat(indices),
-      index_start: bytes(indexStart),
-      d: bytes(packed.d),
-      reference_of: bytes(packed.referenceOf),
-      intensity: bytes(packed.intensity),
-    });
+    gathered = null;
+    this.savePart('d', bytes(packed.d));
+    this.savePart('reference_of', bytes(packed.referenceOf));
+    this.savePart('intensity', bytes(packed.intensity));
+  }
+
+  /** One array of the snapshot, in parts of at most partBytes (schema.ts, step 4). */
+  private savePart(array: SnapshotBlob, bytes: Buffer): void {
+    let part = 0;
+    for (let at = 0; at < bytes.byteLength || part === 0; at += this.partBytes) {
+      this.statements.savePart.run(array, part++, bytes.subarray(at, at + this.partBytes));
+    }
+  }
+
+  /** One array of the snapshot, its parts joined in one buffer. */
+  private readPart(array: SnapshotBlob): Buffer {
+    const whole = Buffer.allocUnsafe(this.statements.partBytes.get(array) ?? 0);
+    let at = 0;
+    for (const bytes of this.statements.parts.iterate(array)) {
+      whole.set(bytes, at);
+      at += bytes.byteLength;
+    }
+    return whole;
   }
 
   /**
@@ -414,7 +433,9 @@ export class ReferenceLibrary {
     const noted = this.path !== ':memory:';
     if (noted) recordHolder(this.path);
     try {
-      this.statements.dropSnapshot.run(); // every change makes the snapshot old; an import makes a new one
+      // Every change makes the snapshot old; an import makes a new one.
+      this.statements.dropSnapshot.run();
+      this.statements.dropParts.run();
       const result = this.db.transaction(work)();
       if (noted) forgetHolder(this.path); // before COMMIT releases the lock: never the next writer's note
       this.db.exec('COMMIT');
@@ -517,21 +538,9 @@ interface StoreOptions {
   written?: (row: VersionRow) => void;
 }
 
-/** The snapshot row (schema.ts, step 3). */
-interface SnapshotRow {
-  stamp: string;
-  digest: string;
-  heads: string;
-  line_values: Buffer;
-  line_indices: Buffer;
-  index_start: Buffer;
-  d: Buffer;
-  reference_of: Buffer;
-  intensity: Buffer;
-}
-
-/** The snapshot's byte columns (line_index, schema.ts step 3). */
+/** The snapshot's arrays (line_index_part, schema.ts steps 3 and 4), each stored in parts of at most 8 MB. */
 const SNAPSHOT_BLOBS = ['line_values', 'line_indices', 'index_start', 'd', 'reference_of', 'intensity'] as const;
+const SNAPSHOT_PART_BYTES = 8 * 1024 * 1024;
 type SnapshotBlob = (typeof SNAPSHOT_BLOBS)[number];
 
 /**
@@ -600,16 +609,18 @@ function prepareStatements(db: Db) {
       [number, number],
       { line_count: number; line_values: Buffer; line_indices: Buffer | null }
     >,
-    snapshotHead: db.prepare(`SELECT stamp, digest FROM line_index WHERE id = 1`) as Statement<[], Pick<SnapshotRow, 'stamp' | 'digest'>>,
+    snapshotHead: db.prepare(`SELECT stamp, digest FROM line_index WHERE id = 1`) as Statement<[], { stamp: string; digest: string }>,
     snapshotHeads: (db.prepare(`SELECT heads FROM line_index WHERE id = 1`) as Statement<[], string>).pluck(),
-    snapshotBlob: Object.fromEntries(SNAPSHOT_BLOBS.map((name) => [name, (db.prepare(`SELECT ${name} FROM line_index WHERE id = 1`) as Statement<[], Buffer>).pluck()])) as Record<SnapshotBlob, Statement<[], Buffer>>,
+    parts: (db.prepare(`SELECT bytes FROM line_index_part WHERE array = ? ORDER BY part`) as Statement<[string], Buffer>).pluck(),
+    partBytes: (db.prepare(`SELECT sum(length(bytes)) FROM line_index_part WHERE array = ?`) as Statement<[string], number | null>).pluck(),
     currentIdsByName: (db.prepare(`SELECT e.id FROM reference_entry e WHERE e.deleted_at IS NULL ORDER BY e.name`) as Statement<[], number>).pluck(),
     currentTotals: db.prepare(`SELECT count(*) AS "references", coalesce(sum(v.line_count), 0) AS lines ${CURRENT}`) as Statement<[], { references: number; lines: number }>,
     stamp: db.prepare(`SELECT count(*) AS n, total(current_version) AS versions, (SELECT max(rowid) FROM reference_version) AS last
       FROM reference_entry WHERE deleted_at IS NULL`) as Statement<[], { n: number; versions: number; last: number | null }>,
-    saveSnapshot: db.prepare(`INSERT OR REPLACE INTO line_index (id, stamp, digest, heads, line_values, line_indices, index_start, d, reference_of, intensity)
-      VALUES (1, @stamp, @digest, @heads, @line_values, @line_indices, @index_start, @d, @reference_of, @intensity)`),
+    saveSnapshot: db.prepare(`INSERT OR REPLACE INTO line_index (id, stamp, digest, heads) VALUES (1, @stamp, @digest, @heads)`),
+    savePart: db.prepare(`INSERT OR REPLACE INTO line_index_part (array, part, bytes) VALUES (?, ?, ?)`),
     dropSnapshot: db.prepare(`DELETE FROM line_index`),
+    dropParts: db.prepare(`DELETE FROM line_index_part`),
   };
 }
 
