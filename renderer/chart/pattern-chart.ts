@@ -14,7 +14,7 @@ import {
   type ScatterDataPoint,
 } from 'chart.js';
 import zoomPlugin from 'chartjs-plugin-zoom';
-import { decimateMinMax, visibleRange } from './decimate.js';
+import { decimateMinMax, visibleRange } from '../../src/core/model/decimate.js';
 import { placeLabels, type LabelRequest, type PlacementOptions } from './label-placement.js';
 import { nearestIndex, READOUT_HINT, readingAt, readingText } from './readout.js';
 import { axisTitle, convertX, intensityTitle, transformY, twoThetaFromDisplay, untransformY, type AxisUnit, type IntensityScale } from './units.js';
