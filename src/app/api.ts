@@ -3,6 +3,7 @@ import { join } from 'node:path';
 import type { z } from 'zod';
 import { escapeControls, InputError, isInputError } from '../core/errors.js';
 import { NUMBER_SETTINGS } from '../core/analysis/settings.js';
+import { MAX_PATTERN_MB_SETTING, maxPatternBytes, tooLargeMessage } from '../core/model/file-limits.js';
 import { packageRoot } from '../node/library/seed.js';
 import { findChromium } from '../node/browser.js';
 import { buildCsvReport, buildHtmlReport } from './report-input.js';
@@ -72,6 +73,14 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
     'project.state': () => workspace.state(),
     'project.settings': ({ settings }) => workspace.updateSettings(settings),
     'sample.add': ({ fileName, bytesBase64, variant, hours }) => workspace.addSample(fileName, Buffer.from(bytesBase64, 'base64'), { variant, hours }),
+    'sample.stage': ({ jobId, fileName, bytes, bytesBase64 }) => {
+      const content = bytes ?? Buffer.from(bytesBase64 ?? '', 'base64');
+      const maxBytes = maxPatternBytes(process.env[MAX_PATTERN_MB_SETTING]);
+      if (content.byteLength > maxBytes) throw new InputError(`${fileName}: ${tooLargeMessage(content.byteLength, maxBytes)}`);
+      return workspace.stageSample(jobId, fileName, content);
+    },
+    'sample.commit': ({ jobId, variant, hours }) => workspace.commitSample(jobId, { variant, hours }),
+    'sample.cancel': ({ jobId }) => ({ cancelled: workspace.cancelSample(jobId) }),
     'sample.get': ({ id }) => workspace.sampleDetail(id),
     'sample.label': ({ id, variant, hours, name }) => workspace.labelSample(id, variant, hours, name),
     'sample.remove': ({ id }) => workspace.removeSample(id),
