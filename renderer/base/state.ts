@@ -1,4 +1,4 @@
-import type { AppInfo, ProjectState, SampleDetail } from '../../src/api/contract.js';
+import type { AppInfo, PatternPreview, ProjectState, SampleDetail } from '../../src/api/contract.js';
 import type { AxisUnit, IntensityScale } from '../chart/units.js';
 
 export type ScreenName = 'samples' | 'library' | 'instrument' | 'series' | 'report' | 'settings';
@@ -22,6 +22,8 @@ export const app = {
   /** Phases whose reference lines are drawn on the pattern; null = the sample's present phases. */
   checked: null as Set<string> | null,
   details: new Map<number, SampleDetail>(),
+  /** The file in progress, drawn from its reduced pattern until its analysis is done. */
+  preview: null as PatternPreview | null,
   view: { axis: '2theta' as AxisUnit, scale: 'linear' as IntensityScale, offsetFraction: 0.35, showFit: true, hklLabels: false, chartHeightPx: null as number | null },
 };
 

@@ -1,4 +1,4 @@
-import type { PhaseMatch, SampleDetail, SampleSummary } from '../../src/api/contract.js';
+import type { PatternPreview, PhaseMatch, SampleDetail, SampleSummary } from '../../src/api/contract.js';
 import { call, decodeFloats, saveFile } from '../base/api.js';
 import { timings } from '../base/actions.js';
 import { COLORS, PatternChart, type PatternSeries, type PeakMark, type PatternViewModel } from '../chart/pattern-chart.js';
@@ -25,6 +25,10 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
   if (project.truth) {
     main.append(h('details', { class: 'truth', 'data-testid': 'demo-truth' }, h('summary', {}, h('strong', {}, 'Simulated demo data'), ' — every pattern here was simulated by Crystallog; open to read the truth it was simulated from.'), h('p', {}, project.truth)));
   }
+  if (app.preview) {
+    renderPreview(main, app.preview);
+    return;
+  }
   const id = app.selected;
   if (id === null || !project.samples.some((s) => s.id === id)) {
     main.append(h('div', { class: 'panel empty' }, project.samples.length ? 'Pick a sample on the left.' : 'No samples yet: drop pattern files anywhere in this window, or use “Add patterns…” (Ctrl+O).'));
@@ -39,13 +43,7 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
   const refLines = checked.size ? await call('library.lines', { names: [...checked] }) : [];
 
   const canvas = h('canvas', { 'aria-label': `Pattern of ${detail.name}`, role: 'img', 'data-testid': 'pattern-chart' });
-  const box = h('div', { class: 'chart-box', tabindex: 0, 'aria-label': 'Pattern view: arrow keys pan, + and − zoom, R resets; drag the lower right corner to make it taller' }, canvas);
-  // A height the user dragged the pane to stays through re-renders; otherwise it follows the window.
-  if (app.view.chartHeightPx !== null) box.style.height = `${app.view.chartHeightPx}px`;
-  new ResizeObserver(() => {
-    const height = box.getBoundingClientRect().height;
-    if (box.style.height && box.isConnected && height > 0) app.view.chartHeightPx = height;
-  }).observe(box);
+  const box = chartBox(canvas);
   main.append(toolbar(detail), box, details(detail, checked));
   const view: PatternViewModel = {
     main: series(detail),
@@ -77,6 +75,44 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
     else return;
     event.preventDefault();
   });
+}
+
+/** The chart box of the samples screen; a height the user dragged it to stays through re-renders. */
+function chartBox(canvas: HTMLCanvasElement): HTMLElement {
+  const box = h('div', { class: 'chart-box', tabindex: 0, 'aria-label': 'Pattern view: arrow keys pan, + and − zoom, R resets; drag the lower right corner to make it taller' }, canvas);
+  if (app.view.chartHeightPx !== null) box.style.height = `${app.view.chartHeightPx}px`;
+  new ResizeObserver(() => {
+    const height = box.getBoundingClientRect().height;
+    if (box.style.height && box.isConnected && height > 0) app.view.chartHeightPx = height;
+  }).observe(box);
+  return box;
+}
+
+/** A file in progress: its pattern as soon as the engine has read it, while the analysis runs. */
+function renderPreview(main: HTMLElement, preview: PatternPreview): void {
+  const canvas = h('canvas', { 'aria-label': `Pattern of ${preview.name}, being analysed`, role: 'img', 'data-testid': 'pattern-chart', 'data-preview': preview.jobId });
+  main.append(
+    h(
+      'div',
+      { class: 'panel preview-note', 'data-testid': 'pattern-preview' },
+      h('strong', {}, preview.name),
+      ` — ${preview.points.toLocaleString('en')} points read; analysing. The verdict, peaks and fit appear here when the analysis is done.`,
+    ),
+    chartBox(canvas),
+  );
+  chart = new PatternChart(canvas);
+  chart.render({
+    main: { label: preview.name, x: decodeFloats(preview.x), y: decodeFloats(preview.y), background: null, model: null },
+    overlays: [],
+    marks: [],
+    references: [],
+    lambda: preview.lambda1,
+    axis: app.view.axis,
+    scale: app.view.scale,
+    offsetFraction: app.view.offsetFraction,
+    showFit: false,
+  });
+  timings.lastPreviewMs = performance.now() - timings.dropStarted;
 }
 
 async function sampleDetail(id: number): Promise<SampleDetail> {

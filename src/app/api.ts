@@ -37,6 +37,8 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
   const version = appVersion();
   let firstRun = workspace.listProjects().length === 0;
   if (!firstRun) workspace.openLastProject();
+  // The thread that reads and analyses dropped files is started ahead of the first drop.
+  workspace.warmAnalysis();
 
   const libraryChange = <T>(work: () => T): T => {
     const result = work();
@@ -59,12 +61,18 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
     'project.create': ({ name, target }) => {
       firstRun = false;
       if (target && !workspace.library().get(target)) throw new InputError(`the target "${target}" is not in the library; add it there first or pick another`);
-      const state = workspace.createProject(name);
-      return target ? workspace.updateSettings({ target }) : state;
+      let state = workspace.createProject(name);
+      if (target) state = workspace.updateSettings({ target });
+      workspace.warmAnalysis();
+      return state;
     },
     'project.rename': ({ name }) => workspace.renameProject(name),
     'project.delete': ({ id }) => workspace.deleteProject(id),
-    'project.open': ({ id }) => workspace.openProject(id),
+    'project.open': ({ id }) => {
+      const state = workspace.openProject(id);
+      workspace.warmAnalysis();
+      return state;
+    },
     'project.demo': () => {
       firstRun = false;
       return startDemoProject(workspace);
