@@ -1,5 +1,7 @@
 import type { PatternPreview, PhaseMatch, SampleDetail, SampleSummary } from '../../src/api/contract.js';
 import { call, decodeFloats, saveFile } from '../base/api.js';
+import { loadSample, type LoadedSample } from '../base/sample-data.js';
+import { COARSE_ABOVE_POINTS, nextTask } from '../chart/coarse.js';
 import { timings } from '../base/actions.js';
 import { COLORS, PatternChart, type PatternSeries, type PeakMark, type PatternViewModel } from '../chart/pattern-chart.js';
 import { nearestIndex } from '../chart/readout.js';
@@ -36,7 +38,7 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
   }
   const started = performance.now();
   const detail = await sampleDetail(id);
-  const overlays: SampleDetail[] = [];
+  const overlays: LoadedSample[] = [];
   for (const other of app.overlays) if (other !== id && project.samples.some((s) => s.id === other)) overlays.push(await sampleDetail(other));
   const presentPhases = (detail.match?.phases ?? []).filter((p) => p.verdict !== 'not-seen').map((p) => p.name);
   const checked = app.checked ?? new Set(presentPhases);
@@ -62,8 +64,12 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
     showFit: app.view.showFit,
     hklLabels: app.view.hklLabels,
   };
-  chart = new PatternChart(canvas);
-  chart.render(view);
+  // A long pattern's chart is made in a task of its own, after the page has laid out the rest.
+  if (detail.points > COARSE_ABOVE_POINTS) await nextTask();
+  if (!canvas.isConnected) return;
+  const drawing = new PatternChart(canvas);
+  chart = drawing;
+  await drawing.renderInSteps(view);
   timings.lastDrawMs = performance.now() - started;
   box.addEventListener('keydown', (event) => {
     if (!chart) return;
@@ -115,30 +121,24 @@ function renderPreview(main: HTMLElement, preview: PatternPreview): void {
   timings.lastPreviewMs = performance.now() - timings.dropStarted;
 }
 
-async function sampleDetail(id: number): Promise<SampleDetail> {
+async function sampleDetail(id: number): Promise<LoadedSample> {
   let detail = app.details.get(id);
   if (!detail) {
-    detail = await call('sample.get', { id });
+    detail = await loadSample(id);
     app.details.set(id, detail);
   }
   return detail;
 }
 
-function series(detail: SampleDetail): PatternSeries {
-  return {
-    label: detail.name,
-    x: decodeFloats(detail.x),
-    y: decodeFloats(detail.y),
-    background: detail.background ? decodeFloats(detail.background) : null,
-    model: detail.model ? decodeFloats(detail.model) : null,
-  };
+function series(detail: LoadedSample): PatternSeries {
+  const { x, y, background, model, coarse } = detail.curves;
+  return { label: detail.name, x, y, background, model, coarse };
 }
 
-function marks(detail: SampleDetail): PeakMark[] {
+function marks(detail: LoadedSample): PeakMark[] {
   if (!detail.match) return [];
-  const x = decodeFloats(detail.x);
-  const y = decodeFloats(detail.y);
-  const bg = detail.background ? decodeFloats(detail.background) : y;
+  const { x, y } = detail.curves;
+  const bg = detail.curves.background ?? y;
   const out: PeakMark[] = [];
   const lowAngleOfPhase = new Map(detail.lowAnglePeaks.filter((p) => p.phase !== null).map((p) => [p.peakIndex, p.phase!]));
   for (const phase of detail.match.phases.filter((p) => p.verdict !== 'not-seen')) {
