@@ -1,7 +1,7 @@
 import type { PatternPreview, SampleSummary } from '../../src/api/contract.js';
 import { call, isDesktop, pickPatternFiles, saveFile, stagePattern, type PatternFile } from './api.js';
 import { app, changed, setProject } from './state.js';
-import { errorText, notify, withProgress } from './ui.js';
+import { errorText, notify, withProgress, type ProgressReport } from './ui.js';
 
 /** Timings of the last drop, read by the end-to-end tests and the bench, shown nowhere else. */
 export const timings = { lastAddMs: 0, lastDrawMs: 0, lastPreviewMs: 0, dropStarted: 0 };
@@ -41,8 +41,12 @@ export async function addPatternFiles(files: PatternFile[]): Promise<void> {
       inProgress = jobId;
       try {
         const size = file.blob?.size ?? Math.floor(((file.bytesBase64?.length ?? 0) * 3) / 4);
-        progress.stage(`${file.name}: reading ${megabytes(size)}…`);
-        const preview = await stagePattern(jobId, file);
+        progress.stage(`${file.name}: sending ${megabytes(size)}…`);
+        const preview = await whileWaiting(stagePattern(jobId, file), progress, async () => {
+          const { stage } = await call('sample.progress', { jobId });
+          if (stage === 'waiting') return `${file.name}: waiting for the file before it…`;
+          return stage === 'reading' ? `${file.name}: reading ${megabytes(size)} of text…` : null;
+        });
         if (stopped) return;
         showPreview(preview);
         progress.dock();
@@ -68,7 +72,7 @@ export async function addPatternFiles(files: PatternFile[]): Promise<void> {
   for (const message of duplicates.slice(0, 3)) notify(message, 'error');
   for (const message of refused.slice(0, 3)) notify(message, 'error');
   if (refused.length > 3) notify(`${refused.length - 3} more files were refused.`, 'error');
-  if (cancelled) notify(`Cancelled: ${added.length ? `${added.length} pattern${added.length === 1 ? '' : 's'} added before; ` : ''}the file in progress and those after it were not added.`, 'done');
+  if (cancelled) notify(`Cancelled: ${added.length ? `${added.length} pattern${added.length === 1 ? '' : 's'} added before you cancelled; ` : ''}the file in progress and those after it were not added.`, 'done');
   else if (added.length) notify(`${added.length} pattern${added.length === 1 ? '' : 's'} added.`, 'done');
 }
 
@@ -77,6 +81,28 @@ function showPreview(preview: PatternPreview): void {
   app.preview = preview;
   app.screen = 'samples';
   changed();
+}
+
+/** Ask every 400 ms how a long request is getting on, and show the stage it names, until the request settles. */
+async function whileWaiting<T>(work: Promise<T>, progress: ProgressReport, poll: () => Promise<string | null>): Promise<T> {
+  let settled = false;
+  let asking = false;
+  const timer = setInterval(() => {
+    if (settled || asking) return;
+    asking = true;
+    poll()
+      .then((text) => {
+        if (!settled && text) progress.stage(text);
+      })
+      .catch(() => {})
+      .finally(() => (asking = false));
+  }, 400);
+  try {
+    return await work;
+  } finally {
+    settled = true;
+    clearInterval(timer);
+  }
 }
 
 /** A fresh id for a file in progress (named by the page, so Cancel can name it before the engine answers). */

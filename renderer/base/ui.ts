@@ -49,7 +49,7 @@ export function showError(err: unknown): void {
 
 /** What a step of the work tells the progress box: the stage of the file in progress. */
 export interface ProgressReport {
-  /** The file in progress is at this stage now ("reading", "analysing"…); its timer starts again. */
+  /** The file in progress is at this stage now ("reading", "analysing"…); its timer starts again (the same stage again changes nothing). */
   stage(text: string): void;
   /** Dock the box in a corner, so the pattern drawn meanwhile can be seen. */
   dock(): void;
@@ -100,7 +100,7 @@ export async function withProgress<T>(
   };
   const report: ProgressReport = {
     stage(text) {
-      if (cancelled) return;
+      if (cancelled || text === stageText.textContent) return;
       stageLine.hidden = false;
       stageText.textContent = text;
       stageStarted = performance.now();

@@ -94,6 +94,7 @@ export const apiSchemas = {
     .refine((input) => (input.bytes === undefined) !== (input.bytesBase64 === undefined), 'send the file bytes once, as bytes or as base64'),
   'sample.commit': z.object({ jobId, variant: z.string().max(100).optional(), hours: finite.min(0).optional() }).strict(),
   'sample.cancel': z.object({ jobId }).strict(),
+  'sample.progress': z.object({ jobId }).strict(),
   'sample.get': z.object({ id: z.number().int().positive() }).strict(),
   'sample.label': z
     .object({ id: z.number().int().positive(), variant: z.string().max(100).nullable(), hours: finite.min(0).nullable(), name: name.nullable().optional() })
@@ -358,6 +359,8 @@ export interface ApiResults {
   'sample.commit': AddedSample;
   /** `cancelled`: false when the file was already finished (then it was added) or never started. */
   'sample.cancel': { cancelled: boolean };
+  /** Where a file in progress is; null when the engine has not got it (its bytes still on the way) or no longer holds it. */
+  'sample.progress': { stage: 'waiting' | 'reading' | 'analysing' | 'analysed' | null };
   'sample.get': SampleDetail;
   'sample.label': SampleSummary;
   'sample.remove': ProjectState;

@@ -89,6 +89,7 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
     },
     'sample.commit': ({ jobId, variant, hours }) => workspace.commitSample(jobId, { variant, hours }),
     'sample.cancel': ({ jobId }) => ({ cancelled: workspace.cancelSample(jobId) }),
+    'sample.progress': ({ jobId }) => ({ stage: workspace.sampleStage(jobId) }),
     'sample.get': ({ id }) => workspace.sampleDetail(id),
     'sample.label': ({ id, variant, hours, name }) => workspace.labelSample(id, variant, hours, name),
     'sample.remove': ({ id }) => workspace.removeSample(id),

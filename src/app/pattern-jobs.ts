@@ -79,6 +79,13 @@ export class PatternJobs {
     return { task: job.task, sha256: job.sha256, outcome };
   }
 
+  /** Where a file in progress is: waiting its turn, being read, being analysed, analysed; null when unknown. */
+  stageOf(jobId: string): 'waiting' | 'reading' | 'analysing' | 'analysed' | null {
+    if (this.finished.has(jobId)) return 'analysed';
+    if (this.running?.task.jobId === jobId) return this.running.sha256 ? 'analysing' : 'reading';
+    return this.queue.some((j) => j.task.jobId === jobId) ? 'waiting' : null;
+  }
+
   /** Stop a file wherever it is: queued, being read or analysed (its thread terminated), or read and waiting. */
   cancel(jobId: string): boolean {
     this.cancelled.push(jobId);

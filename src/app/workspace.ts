@@ -245,6 +245,11 @@ export class Workspace {
     });
   }
 
+  /** Where a file in progress is (see PatternJobs.stageOf). */
+  sampleStage(jobId: string): ReturnType<PatternJobs['stageOf']> {
+    return this.jobs.stageOf(jobId);
+  }
+
   /** Stop a file in progress; false when there was none by that id (finished and added, or never started). */
   cancelSample(jobId: string): boolean {
     return this.jobs.cancel(jobId);

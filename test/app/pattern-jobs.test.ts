@@ -33,8 +33,10 @@ describe('files in progress (sample.stage, sample.commit, sample.cancel)', () =>
 
   it('stops a file whose analysis is running: nothing is kept and the next file is analysed', async () => {
     await ok('sample.stage', { jobId: 'two', fileName: 'long.xy', bytes: bytesOf(siliconPatternText({ points: 600_001, seed: 3, xDecimals: 6 })) });
+    expect(await ok('sample.progress', { jobId: 'two' })).toEqual({ stage: 'analysing' });
     const commit = api.call('sample.commit', { jobId: 'two' });
     expect(await ok('sample.cancel', { jobId: 'two' })).toEqual({ cancelled: true });
+    expect(await ok('sample.progress', { jobId: 'two' })).toEqual({ stage: null });
     const reply = await commit;
     expect(reply.ok).toBe(false);
     expect(!reply.ok && reply.error.message).toBe('long.xy was cancelled; it was not added.');

@@ -90,4 +90,30 @@ describe('a very large pattern file (headless Chromium)', () => {
     expect((await storedSamples()).map((s) => s.fileName)).toEqual(['silicon-after.xy']);
     await page.getByTestId('verdict').waitFor();
   }, 60_000);
+
+  it('draws a 300 000-point pattern from its coarse copy, and every point again when zoomed in far', async () => {
+    const { page } = app;
+    const file = join(app.dataDir, 'silicon-300k.xy');
+    writeFileSync(file, siliconPatternText({ points: 300_001, seed: 6, xDecimals: 6 }));
+    await pickFile(file);
+    await page.locator('[data-testid="sample-list"] li', { hasText: 'silicon-300k' }).waitFor({ timeout: 120_000 });
+    await page.getByTestId('verdict').waitFor();
+    const chart = page.locator('canvas[data-testid="pattern-chart"]:not([data-preview])');
+    const drawn = () => chart.evaluate((el) => Number((el as HTMLCanvasElement).dataset.drawnPoints));
+    const width = await chart.evaluate((el) => el.getBoundingClientRect().width);
+    const whole = await drawn();
+    // Measured, background, fit and difference: at most four points per pixel column each.
+    expect(whole).toBeGreaterThan(0);
+    expect(whole).toBeLessThanOrEqual(4 * 4 * (width + 2));
+    await page.locator('.chart-box').focus();
+    for (let i = 0; i < 30; i++) await page.keyboard.press('+');
+    const [low, high] = (await chart.evaluate((el) => (el as HTMLCanvasElement).dataset.viewRange!)).split(' ').map(Number) as [number, number];
+    // 5–90° in 300 000 steps: every point in view, and one beyond each edge, for each of the four curves.
+    const step = 85 / 300_000;
+    const inView = Math.floor((high - 5) / step) - Math.ceil((low - 5) / step) + 1;
+    expect(Math.abs((await drawn()) - 4 * (inView + 2))).toBeLessThanOrEqual(8);
+    await page.keyboard.press('r');
+    expect(await drawn()).toBe(whole);
+    await shot('long-03-300k-whole');
+  }, 180_000);
 });
