@@ -60,6 +60,9 @@ describe('a very large pattern file (headless Chromium)', () => {
     await expect.poll(() => stage.textContent(), { timeout: 30_000 }).toMatch(/silicon-2M-lines\.xy: analysing 2,000,000 points…/);
     expect(await page.locator('[data-testid="progress"] progress.progress-item').evaluate((el) => (el as HTMLProgressElement).position)).toBe(-1);
     await shot('long-01-drawn-while-analysing');
+    await page.setViewportSize({ width: 1280, height: 720 });
+    await shot('long-01b-drawn-while-analysing-720');
+    await page.setViewportSize({ width: 1280, height: 800 });
 
     await page.getByTestId('progress-cancel').click();
     await page.getByTestId('progress').waitFor({ state: 'detached', timeout: 30_000 });
