@@ -82,6 +82,8 @@ export class Workspace {
   private projectId: string | null = null;
   private doc: ProjectDocument | null = null;
   private context: AnalysisContext | null = null;
+  /** The pattern of the sample added last from a file in progress, as its thread read it: its first view needs no second read. */
+  private lastRead: { id: number; pattern: Pattern } | null = null;
   private readonly jobs = new PatternJobs(() => {
     const { doc } = this.project();
     return {
@@ -163,6 +165,7 @@ export class Workspace {
 
   closeProject(): void {
     this.jobs.close();
+    this.lastRead = null;
     this.store?.close();
     this.store = null;
     this.projectId = null;
@@ -235,7 +238,7 @@ export class Workspace {
   async commitSample(jobId: string, labels: SampleLabels = {}): Promise<AddedSample> {
     const { task, sha256, outcome } = await this.jobs.collect(jobId);
     const { store } = this.project();
-    return store.together(() => {
+    const added = store.together(() => {
       const duplicateOf = this.duplicatesOf(sha256);
       const record = this.keepSample(task.fileName, task.bytes, labels);
       const summary = outcome.ok
@@ -243,6 +246,9 @@ export class Workspace {
         : this.saveProblem(record, outcome.problem);
       return { ...summary, duplicateOf };
     });
+    // Kept only once the transaction stands.
+    this.lastRead = outcome.ok ? { id: added.id, pattern: outcome.analysed.pattern } : null;
+    return added;
   }
 
   /** Where a file in progress is (see PatternJobs.stageOf). */
@@ -284,6 +290,7 @@ export class Workspace {
   }
 
   removeSample(id: number): ProjectState {
+    if (this.lastRead?.id === id) this.lastRead = null;
     this.project().store.removeSample(id);
     return this.state();
   }
@@ -295,7 +302,7 @@ export class Workspace {
     const summary = this.summaryOf(record);
     const result = store.latestResult<SavedAnalysis>(id)?.result.result ?? null;
     const curves = result ? store.latestCurves(id) : null;
-    const pattern = readPatternBytes(store.getSampleBytes(id), record.fileName);
+    const pattern = this.lastRead?.id === id ? this.lastRead.pattern : readPatternBytes(store.getSampleBytes(id), record.fileName);
     const lowAngle = result ? lowAnglePeaks(result.match, doc.analysis.target) : [];
     const wavelength = result?.wavelength ?? pattern.wavelength ?? this.wavelength();
     return {

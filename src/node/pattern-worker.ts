@@ -28,7 +28,7 @@ export interface ReducedPattern {
 export type PatternWorkerMessage =
   | { kind: 'ready' }
   | { kind: 'parsed'; jobId: string; points: number; sha256: string; wavelength: Wavelength | null; preview: ReducedPattern; readMs: number }
-  | { kind: 'analysed'; jobId: string; result: AnalysisResult; background: Float32Array; model: Float32Array; analysisMs: number }
+  | { kind: 'analysed'; jobId: string; pattern: Pattern; result: AnalysisResult; background: Float32Array; model: Float32Array; analysisMs: number }
   | { kind: 'failed'; jobId: string; stage: 'reading' | 'analysing'; message: string; input: boolean };
 
 /** Columns of the preview: a few times a screen's width, so the chart's own reduction still has points to choose from. */
@@ -66,8 +66,10 @@ port.on('message', (task: PatternTask) => {
     const { result, curves } = analyzePatternWithCurves(pattern, context);
     const background = Float32Array.from(curves.background);
     const model = Float32Array.from(curves.model);
-    const analysed: PatternWorkerMessage = { kind: 'analysed', jobId: task.jobId, result, background, model, analysisMs: performance.now() - started };
-    port.postMessage(analysed, [background.buffer as ArrayBuffer, model.buffer as ArrayBuffer]);
+    // The pattern goes back too (handed over, not copied), so the app draws it without reading the file again.
+    const analysed: PatternWorkerMessage = { kind: 'analysed', jobId: task.jobId, pattern, result, background, model, analysisMs: performance.now() - started };
+    const buffers = new Set([background.buffer, model.buffer, pattern.x.buffer, pattern.y.buffer, pattern.sigma.buffer] as ArrayBuffer[]);
+    port.postMessage(analysed, [...buffers]);
   } catch (err) {
     const message = err instanceof Error ? err.message : String(err);
     port.postMessage({ kind: 'failed', jobId: task.jobId, stage, message, input: isInputError(err) } satisfies PatternWorkerMessage);

@@ -4,7 +4,7 @@
  * nothing kept, refused by name and line when unreadable.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { AddedSample, PatternPreview, ProjectState } from '../../src/api/contract.js';
+import type { AddedSample, PatternPreview, ProjectState, SampleDetail } from '../../src/api/contract.js';
 import { SILICON, siliconPatternText, testApi } from './fixtures.js';
 
 const { api, ok } = testApi('crystallog-jobs-');
@@ -58,4 +58,19 @@ describe('files in progress (sample.stage, sample.commit, sample.cancel)', () =>
     const twice = await api.call('sample.stage', { jobId: 'x', fileName: 'x.xy', bytes: bytesOf('1 2\n'), bytesBase64: 'AA==' });
     expect(!twice.ok && twice.error.message).toBe('Send the file bytes once, as bytes or as base64.');
   });
+});
+
+describe('the first view of a sample added from a file in progress', () => {
+  it('shows the pattern its thread read, the same as reading the kept file again', async () => {
+    const text = siliconPatternText({ points: 20_001, seed: 12, xDecimals: 6 });
+    await ok('sample.stage', { jobId: 'view', fileName: 'view.xy', bytes: bytesOf(text) });
+    const added = await ok<AddedSample>('sample.commit', { jobId: 'view' });
+    const first = await ok<SampleDetail>('sample.get', { id: added.id });
+    // Re-reading from the project file: open the project again, which forgets what the thread read.
+    const { project } = await ok<ProjectState>('project.state', {});
+    await ok('project.open', { id: project.id });
+    const again = await ok<SampleDetail>('sample.get', { id: added.id });
+    expect(first.points).toBe(20_001);
+    expect([first.x, first.y, first.background, first.model, first.sha256]).toEqual([again.x, again.y, again.background, again.model, again.sha256]);
+  }, 60_000);
 });
