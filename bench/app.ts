@@ -11,10 +11,11 @@ import { createAppApi } from '../src/app/api.js';
 import { patternToXyText, simulatePattern } from '../src/core/crystal/simulate.js';
 import type { Reference } from '../src/core/model/reference.js';
 import { anodeWavelength } from '../src/core/model/wavelengths.js';
+import { pageRows } from './app-page.js';
 import { timeStats, type BenchRow } from './types.js';
 
 /** Silicon lines from a = 5.43159 Å (NIST SRM 640d); intensities from memory. */
-const SILICON: Reference = {
+export const SILICON: Reference = {
   name: 'silicon bench',
   formula: 'Si',
   tags: ['standard'],
@@ -40,6 +41,14 @@ function row(name: string, times: number[], target?: string, note?: string): Ben
 }
 
 export async function run(): Promise<BenchRow[]> {
+  const engineRows = await apiRun();
+  // The page's own figures, in headless Chromium (none when no Chromium is installed: the note says so).
+  const page = await pageRows(SILICON);
+  if (page.length === 0) process.stderr.write('bench/app: no Chromium found (set CRYSTALLOG_TEST_CHROMIUM); the page figures are left out\n');
+  return [...engineRows, ...page];
+}
+
+async function apiRun(): Promise<BenchRow[]> {
   const dataDir = mkdtempSync(join(tmpdir(), 'crystallog-bench-app-'));
   const api = createAppApi({ mode: 'browser', dataDir });
   const call = async (method: string, params: unknown): Promise<unknown> => {
@@ -75,12 +84,13 @@ export async function run(): Promise<BenchRow[]> {
     const t = performance.now();
     for (let i = 0; i < files.length; i++) await call('sample.add', { fileName: `drop-${i}.xy`, bytesBase64: files[i] });
     const drop = performance.now() - t;
-    return [
+    const apiRows = [
       row('app: 10 000-point pattern dropped, analysed (sample.add)', add, 'with drawing < 500 ms'),
       row('app: 10 000-point pattern fetched for drawing (sample.get)', get, 'with analysis < 500 ms', 'includes the second peak search for the background and fit curves'),
       row('app: 50 000-point pattern fetched for drawing (sample.get)', big),
       row('app: 100-file drop, 10 000 points each, one request per file', [drop], '< 15 000 ms', 'one process, files in sequence as the screens send them'),
     ];
+    return apiRows;
   } finally {
     api.close();
     rmSync(dataDir, { recursive: true, force: true });

@@ -3,7 +3,7 @@
  * (what each zoom, pan or resize recomputes for every curve), on 100 000 and 2 000 000 points over a
  * 1 100-column plot, whole range and zoomed to a tenth. Synthetic data, fixed values.
  */
-import { decimateMinMax, visibleRange } from '../renderer/chart/decimate.js';
+import { decimateMinMax, visibleRange } from '../src/core/model/decimate.js';
 import { timeStats, type BenchRow } from './types.js';
 
 const COLUMNS = 1100;

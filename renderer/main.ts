@@ -173,7 +173,7 @@ function dropTarget(): void {
     depth = 0;
     document.body.classList.remove('dragging');
     const files = event.dataTransfer?.files;
-    if (files?.length) void filesFromDrop(files).then(addPatternFiles);
+    if (files?.length) void addPatternFiles(filesFromDrop(files));
   });
 }
 

@@ -24,6 +24,18 @@ await Promise.all([
     legalComments: 'linked',
     logLevel: 'warning',
   }),
+  // The page's worker that fetches and decodes a long pattern's curves off the page's thread.
+  build({
+    entryPoints: [join(root, 'renderer', 'decode-worker.ts')],
+    outfile: join(out, 'renderer', 'decode-worker.js'),
+    bundle: true,
+    format: 'iife',
+    platform: 'browser',
+    target: 'chrome120',
+    minify: true,
+    sourcemap: 'linked',
+    logLevel: 'warning',
+  }),
   build({
     entryPoints: [join(root, 'electron', 'main.ts')],
     outfile: join(out, 'electron', 'main.js'),

@@ -1,35 +1,70 @@
-import type { PickedFile } from '../../src/api/bridge.js';
-import type { SampleSummary } from '../../src/api/contract.js';
-import { call, isDesktop, pickFiles, saveFile, toBase64 } from './api.js';
+import type { PatternPreview, SampleSummary } from '../../src/api/contract.js';
+import { call, isDesktop, pickPatternFiles, saveFile, stagePattern, type PatternFile } from './api.js';
 import { app, changed, setProject } from './state.js';
-import { errorText, notify, withProgress } from './ui.js';
+import { errorText, notify, withProgress, type ProgressReport } from './ui.js';
 
-/** Timings of the last drop, read by the end-to-end tests and shown nowhere else. */
-export const timings = { lastAddMs: 0, lastDrawMs: 0 };
+/** Timings of the last drop, read by the end-to-end tests and the bench, shown nowhere else. */
+export const timings = { lastAddMs: 0, lastDrawMs: 0, lastPreviewMs: 0, dropStarted: 0 };
 
-/** Add pattern files to the open project, one request per file, with progress and Cancel. */
-export async function addPatternFiles(files: PickedFile[]): Promise<void> {
+const megabytes = (bytes: number): string => `${(bytes / 1048576).toFixed(bytes < 10 * 1048576 ? 1 : 0)} MB`;
+
+/**
+ * Add pattern files to the open project, one file at a time: the engine reads it (its pattern is
+ * drawn at once), then analyses it; the progress box names the stage, and Cancel stops the file in
+ * progress (the engine drops it: nothing of it is kept) and the files after it.
+ */
+export async function addPatternFiles(files: PatternFile[]): Promise<void> {
   if (!app.project) {
     notify('Open or create a project first, then add pattern files to it.', 'error');
     return;
   }
   if (files.length === 0) return;
   const started = performance.now();
+  timings.dropStarted = started;
   const added: SampleSummary[] = [];
   const refused: string[] = [];
   const duplicates: string[] = [];
   for (const file of files) if (file.refused) refused.push(`${file.name}: ${file.refused}`);
   files = files.filter((f) => !f.refused);
-  const { cancelled } = await withProgress(`Analysing ${files.length} pattern file${files.length === 1 ? '' : 's'}`, files, async (file) => {
-    try {
-      const sample = await call('sample.add', { fileName: file.name, bytesBase64: file.bytesBase64 });
-      added.push(sample);
-      if (sample.duplicateOf.length) duplicates.push(`${file.name} is the same file (same checksum) as ${sample.duplicateOf.map((d) => d.name).join(', ')} already in this project; it was added again — remove one if this was not meant.`);
-    } catch (err) {
-      refused.push(errorText(err));
-    }
-  });
+  let inProgress: string | null = null;
+  let stopped = false;
+  const title = `Adding ${files.length} pattern file${files.length === 1 ? '' : 's'}`;
+  const stopFile = (): void => {
+    stopped = true;
+    if (inProgress) void call('sample.cancel', { jobId: inProgress }).catch(() => {});
+  };
+  const { cancelled } = await withProgress(
+    title,
+    files,
+    async (file, _index, progress) => {
+      const jobId = newJobId();
+      inProgress = jobId;
+      try {
+        const size = file.blob?.size ?? Math.floor(((file.bytesBase64?.length ?? 0) * 3) / 4);
+        progress.stage(`${file.name}: sending ${megabytes(size)}…`);
+        const preview = await whileWaiting(stagePattern(jobId, file), progress, async () => {
+          const { stage } = await call('sample.progress', { jobId });
+          if (stage === 'waiting') return `${file.name}: waiting for the file before it…`;
+          return stage === 'reading' ? `${file.name}: reading ${megabytes(size)} of text…` : null;
+        });
+        if (stopped) return;
+        showPreview(preview);
+        progress.dock();
+        progress.stage(`${file.name}: analysing ${preview.points.toLocaleString('en')} points…`);
+        const sample = await call('sample.commit', { jobId });
+        added.push(sample);
+        if (sample.duplicateOf.length) duplicates.push(`${file.name} is the same file (same checksum) as ${sample.duplicateOf.map((d) => d.name).join(', ')} already in this project; it was added again — remove one if this was not meant.`);
+      } catch (err) {
+        // A file stopped by Cancel is not a refusal: the message at the end says what was added.
+        if (!stopped) refused.push(errorText(err));
+      } finally {
+        inProgress = null;
+      }
+    },
+    { onCancel: stopFile },
+  );
   timings.lastAddMs = performance.now() - started;
+  app.preview = null;
   app.project = await call('project.state', {});
   app.details.clear();
   if (added.length) app.selected = added[added.length - 1]!.id;
@@ -37,17 +72,51 @@ export async function addPatternFiles(files: PickedFile[]): Promise<void> {
   for (const message of duplicates.slice(0, 3)) notify(message, 'error');
   for (const message of refused.slice(0, 3)) notify(message, 'error');
   if (refused.length > 3) notify(`${refused.length - 3} more files were refused.`, 'error');
-  if (added.length) notify(`${added.length} pattern${added.length === 1 ? '' : 's'} added${cancelled ? ' before you cancelled' : ''}.`, 'done');
+  if (cancelled) notify(`Cancelled: ${added.length ? `${added.length} pattern${added.length === 1 ? '' : 's'} added before you cancelled; ` : ''}the file in progress and those after it were not added.`, 'done');
+  else if (added.length) notify(`${added.length} pattern${added.length === 1 ? '' : 's'} added.`, 'done');
+}
+
+/** Draw a file in progress as soon as the engine has read it (its reduced pattern; the verdict follows). */
+function showPreview(preview: PatternPreview): void {
+  app.preview = preview;
+  app.screen = 'samples';
+  changed();
+}
+
+/** Ask every 400 ms how a long request is getting on, and show the stage it names, until the request settles. */
+async function whileWaiting<T>(work: Promise<T>, progress: ProgressReport, poll: () => Promise<string | null>): Promise<T> {
+  let settled = false;
+  let asking = false;
+  const timer = setInterval(() => {
+    if (settled || asking) return;
+    asking = true;
+    poll()
+      .then((text) => {
+        if (!settled && text) progress.stage(text);
+      })
+      .catch(() => {})
+      .finally(() => (asking = false));
+  }, 400);
+  try {
+    return await work;
+  } finally {
+    settled = true;
+    clearInterval(timer);
+  }
+}
+
+/** A fresh id for a file in progress (named by the page, so Cancel can name it before the engine answers). */
+function newJobId(): string {
+  return crypto.randomUUID();
 }
 
 export async function openPatternFiles(): Promise<void> {
-  await addPatternFiles(await pickFiles('patterns'));
+  await addPatternFiles(await pickPatternFiles());
 }
 
-/** Files dropped on the window, read in the page (no paths needed: works sandboxed and in a browser). */
-export async function filesFromDrop(list: FileList): Promise<PickedFile[]> {
-  const files = Array.from(list);
-  return Promise.all(files.map(async (f) => ({ name: f.name, bytesBase64: toBase64(new Uint8Array(await f.arrayBuffer())) })));
+/** Files dropped on the window, kept as Files: the browser sends each as it is (works sandboxed and in a browser). */
+export function filesFromDrop(list: FileList): PatternFile[] {
+  return Array.from(list).map((f) => ({ name: f.name, blob: f }));
 }
 
 export async function exportReport(format: 'html' | 'csv' | 'pdf'): Promise<void> {

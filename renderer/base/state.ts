@@ -1,5 +1,6 @@
-import type { AppInfo, ProjectState, SampleDetail } from '../../src/api/contract.js';
+import type { AppInfo, PatternPreview, ProjectState } from '../../src/api/contract.js';
 import type { Normalisation } from '../chart/normalise.js';
+import type { LoadedSample } from './sample-data.js';
 import type { AxisUnit, IntensityScale } from '../chart/units.js';
 
 export type ScreenName = 'samples' | 'library' | 'instrument' | 'series' | 'report' | 'settings';
@@ -22,7 +23,9 @@ export const app = {
   overlays: new Set<number>(),
   /** Phases whose reference lines are drawn on the pattern; null = the sample's present phases. */
   checked: null as Set<string> | null,
-  details: new Map<number, SampleDetail>(),
+  details: new Map<number, LoadedSample>(),
+  /** The file in progress, drawn from its reduced pattern until its analysis is done. */
+  preview: null as PatternPreview | null,
   view: {
     axis: '2theta' as AxisUnit,
     scale: 'linear' as IntensityScale,

@@ -47,41 +47,87 @@ export function showError(err: unknown): void {
   notify(errorText(err), 'error');
 }
 
+/** What a step of the work tells the progress box: the stage of the file in progress. */
+export interface ProgressReport {
+  /** The file in progress is at this stage now ("reading", "analysing"…); its timer starts again (the same stage again changes nothing). */
+  stage(text: string): void;
+  /** Dock the box in a corner, so the pattern drawn meanwhile can be seen. */
+  dock(): void;
+}
+
 /**
- * Run work item by item with a progress bar that appears only when the work lasts over half a
- * second, and a Cancel button (and Esc) that stops before the next item.
+ * Run work item by item with a progress box that appears only when the work lasts over half a
+ * second: the count of items done, and for the item in progress its stage with a moving bar and the
+ * seconds it has taken. Cancel (and Esc) stops before the next item and calls `onCancel`, which may
+ * stop the item in progress.
  */
 export async function withProgress<T>(
   title: string,
   items: readonly T[],
-  work: (item: T, index: number) => Promise<void>,
-  options: { cancellable?: boolean } = {},
+  work: (item: T, index: number, progress: ProgressReport) => Promise<void>,
+  options: { cancellable?: boolean; onCancel?: () => void } = {},
 ): Promise<{ done: number; cancelled: boolean }> {
   let cancelled = false;
   const bar = h('progress', { max: items.length, value: 0 });
   const label = h('span', { class: 'progress-label' }, `0 of ${items.length}`);
-  const cancel = h('button', { class: 'secondary', onclick: () => (cancelled = true) }, 'Cancel');
+  const stageText = h('span', { 'data-testid': 'progress-stage' });
+  const stageTime = h('span', { class: 'progress-time' });
+  const stageLine = h('div', { class: 'progress-stage' }, stageText, stageTime);
+  // An indeterminate bar moves by itself while the engine works on one item.
+  const itemBar = h('progress', { class: 'progress-item' });
+  const cancelNow = (): void => {
+    if (cancelled) return;
+    cancelled = true;
+    stageText.textContent = 'Cancelling…';
+    options.onCancel?.();
+  };
+  const cancel = h('button', { class: 'secondary', onclick: cancelNow, 'data-testid': 'progress-cancel' }, 'Cancel');
   const single = items.length === 1;
-  if (single) bar.removeAttribute('value');
-  const box = h('div', { class: 'progress-box', role: 'dialog', 'aria-label': title, 'data-testid': 'progress' }, h('strong', {}, title), bar, single ? null : label, options.cancellable === false ? null : cancel);
+  const box = h(
+    'div',
+    { class: 'progress-box', role: 'dialog', 'aria-label': title, 'data-testid': 'progress' },
+    h('strong', {}, title),
+    single ? null : h('div', { class: 'progress-count' }, bar, label),
+    stageLine,
+    itemBar,
+    options.cancellable === false ? null : cancel,
+  );
+  stageLine.hidden = true;
+  let stageStarted = performance.now();
+  const tick = (): void => {
+    const seconds = Math.floor((performance.now() - stageStarted) / 1000);
+    stageTime.textContent = seconds >= 1 ? ` · ${seconds} s` : '';
+  };
+  const report: ProgressReport = {
+    stage(text) {
+      if (cancelled || text === stageText.textContent) return;
+      stageLine.hidden = false;
+      stageText.textContent = text;
+      stageStarted = performance.now();
+      tick();
+    },
+    dock: () => box.classList.add('docked'),
+  };
   const onKey = (event: KeyboardEvent): void => {
-    if (event.key === 'Escape') cancelled = true;
+    if (event.key === 'Escape') cancelNow();
   };
   const timer = setTimeout(() => {
     document.body.append(box);
     if (options.cancellable !== false) cancel.focus();
   }, 500);
+  const clock = setInterval(tick, 1000);
   document.addEventListener('keydown', onKey);
   let done = 0;
   try {
     for (let i = 0; i < items.length && !cancelled; i++) {
-      await work(items[i]!, i);
+      await work(items[i]!, i, report);
       done = i + 1;
-      if (!single) bar.value = done;
+      bar.value = done;
       label.textContent = `${done} of ${items.length}`;
     }
   } finally {
     clearTimeout(timer);
+    clearInterval(clock);
     document.removeEventListener('keydown', onKey);
     box.remove();
   }

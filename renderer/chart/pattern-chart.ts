@@ -15,7 +15,8 @@ import {
 } from 'chart.js';
 import zoomPlugin from 'chartjs-plugin-zoom';
 import { COLORS } from './colours.js';
-import { decimateMinMax, visibleRange } from './decimate.js';
+import { decimateMinMax, visibleRange } from '../../src/core/model/decimate.js';
+import { COARSE_ABOVE_POINTS, COARSE_COLUMNS, coarseIndices, nextTask } from './coarse.js';
 import { placeLabels, type LabelRequest, type PlacementOptions } from './label-placement.js';
 import { nearestIndex, READOUT_HINT, readingAt, readingText } from './readout.js';
 import { axisTitle, convertX, intensityTitle, transformY, twoThetaFromDisplay, untransformY, type AxisUnit, type IntensityScale } from './units.js';
@@ -30,6 +31,17 @@ export interface PatternSeries {
   y: Float32Array;
   background?: Float32Array | null;
   model?: Float32Array | null;
+  /** For a long pattern: which points make each curve's coarse copy (see CurveSource), found off the page's thread. */
+  coarse?: CoarseIndices | null;
+}
+
+/** Indices of each curve's coarse copy: the min/max points of COARSE_COLUMNS columns over the whole range. */
+export interface CoarseIndices {
+  y: Int32Array;
+  background: Int32Array | null;
+  model: Int32Array | null;
+  /** Of the measured minus the fit. */
+  difference: Int32Array | null;
 }
 
 export type MarkKind = 'matched' | 'unexplained' | 'satellite' | 'low-angle' | 'missing';
@@ -350,10 +362,60 @@ const referenceStickPlugin: Plugin<'line'> = {
 
 type PointData = ScatterDataPoint[];
 
-/** A curve at full resolution, in display units; what is drawn is decimated from it for the current view. */
+/**
+ * A curve in display units, what is drawn being decimated from it for the current view. A long
+ * curve also has a coarse copy (the min/max points of COARSE_COLUMNS columns over its whole range):
+ * whole and slightly zoomed views are drawn from it, and its full-resolution arrays are made only
+ * when a view needs them (zoomed in), so a curve of millions of points costs no pass over them.
+ */
 interface CurveSource {
-  x: Float64Array;
-  y: ArrayLike<number>;
+  points: number;
+  full(): { x: Float64Array; y: ArrayLike<number> };
+  coarse?: { x: Float64Array; y: Float64Array };
+}
+
+/** The coarse copy is used while it has at least this many of its columns per pixel column in view. */
+const COARSE_PER_PIXEL = 4;
+
+/** Computed on first use, once. */
+function once<T>(make: () => T): () => T {
+  let value: T | undefined;
+  return () => (value ??= make());
+}
+
+/**
+ * A curve from its full arrays (made on demand) and, for a long one, its coarse copy: from the given
+ * indices (display values at those points only), or else reduced from the full arrays here.
+ */
+function curveSource(
+  points: number,
+  full: () => { x: Float64Array; y: ArrayLike<number> },
+  coarseX: (indices: Int32Array) => Float64Array,
+  yAt: (i: number) => number,
+  indices: Int32Array | null | undefined,
+): CurveSource {
+  const source: CurveSource = { points, full: once(full) };
+  if (points <= COARSE_ABOVE_POINTS) return source;
+  const kept = indices ?? coarseIndices(source.full().x, source.full().y);
+  const y = new Float64Array(kept.length);
+  for (let k = 0; k < kept.length; k++) y[k] = yAt(kept[k]!);
+  source.coarse = { x: coarseX(kept), y };
+  return source;
+}
+
+/** Display x at the given points only. */
+function displayXAt(x: Float32Array, indices: Int32Array, axis: AxisUnit, lambda: number): Float64Array {
+  const out = new Float64Array(indices.length);
+  for (let k = 0; k < indices.length; k++) out[k] = convertX(x[indices[k]!]!, axis, lambda);
+  return out;
+}
+
+/** The points the view draws from: the coarse copy while it is fine enough for this view and width. */
+function drawFrom(source: CurveSource, low: number, high: number, columns: number): { x: Float64Array; y: ArrayLike<number> } {
+  const coarse = source.coarse;
+  if (!coarse || coarse.x.length < 2) return source.full();
+  const whole = Math.abs(coarse.x[coarse.x.length - 1]! - coarse.x[0]!);
+  return (COARSE_COLUMNS * (high - low)) / whole >= COARSE_PER_PIXEL * columns ? coarse : source.full();
 }
 
 type CurveDataset = ChartDataset<'line', PointData> & { source?: CurveSource };
@@ -391,8 +453,8 @@ const decimationPlugin: Plugin<'line'> = {
     let drawn = 0;
     const columns = Math.max(1, Math.ceil(area && area.right > area.left ? area.right - area.left : chart.width));
     for (const dataset of chart.data.datasets as CurveDataset[]) {
-      const source = dataset.source;
-      if (!source) continue;
+      if (!dataset.source) continue;
+      const source = drawFrom(dataset.source, low, high, columns);
       const { from, to } = visibleRange(source.x, low, high);
       const kept = decimateMinMax(source.x, source.y, { from, to, xLow: low, xHigh: high, buckets: columns });
       const data: PointData = new Array(kept.length);
@@ -417,6 +479,18 @@ const decimationPlugin: Plugin<'line'> = {
     if (area && Math.ceil(area.right - area.left) !== Number(chart.canvas.dataset.columns)) requestAnimationFrame(() => chart.canvas && chart.update('none'));
   },
 };
+
+/** The span over the given points only. */
+function spanAt(values: ArrayLike<number>, indices: Int32Array, scale: IntensityScale): { min: number; max: number } {
+  let min = Infinity;
+  let max = -Infinity;
+  for (const i of indices) {
+    const v = transformY(values[i]!, scale);
+    if (v < min) min = v;
+    if (v > max) max = v;
+  }
+  return { min, max };
+}
 
 function span(values: ArrayLike<number>, scale: IntensityScale): { min: number; max: number } {
   let min = Infinity;
@@ -502,7 +576,8 @@ function markDatasets(view: PatternViewModel, width: number): ChartDataset<'scat
 function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter', PointData>[] {
   const { axis, lambda, scale } = view;
   const all = [view.main, ...view.overlays];
-  const range = span(view.main.y, scale);
+  // A long pattern's extremes are those of its coarse copy (it keeps every column's lowest and highest point).
+  const range = view.main.coarse && view.main.x.length > COARSE_ABOVE_POINTS ? spanAt(view.main.y, view.main.coarse.y, scale) : span(view.main.y, scale);
   const width = range.max - range.min || 1;
   const stackShift = (i: number) => (v: number) => (scale === 'log' ? v * 10 ** (i * view.offsetFraction * 2) : v + i * view.offsetFraction * width);
   const line = (label: string, source: CurveSource, color: string, extra: Partial<ChartDataset<'line', PointData>> = {}): CurveDataset => ({
@@ -521,30 +596,49 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
     ...extra,
   });
   const datasets: ChartDataset<'line' | 'scatter', PointData>[] = [];
-  const mainX = displayX(view.main.x, axis, lambda);
+  const { main } = view;
+  const coarse = main.coarse ?? null;
+  const mainX = once(() => displayX(main.x, axis, lambda));
+  const mainXAt = (indices: Int32Array): Float64Array => displayXAt(main.x, indices, axis, lambda);
+  /** A curve over the main pattern's x: full display arrays on demand, display values at given points. */
+  const overMain = (y: Float32Array, indices: Int32Array | null | undefined): CurveSource =>
+    curveSource(main.x.length, () => ({ x: mainX(), y: displayY(y, scale, null) }), mainXAt, (i) => transformY(y[i]!, scale), indices);
   all.forEach((series, i) => {
     const color = i === 0 ? COLORS.measured : COLORS.overlays[i % COLORS.overlays.length]!;
-    const x = i === 0 ? mainX : displayX(series.x, axis, lambda);
-    datasets.push(line(i === 0 && view.overlays.length === 0 && view.measured !== false ? `${series.label} (measured)` : series.label, { x, y: displayY(series.y, scale, i === 0 ? null : stackShift(i)) }, color));
+    const label = i === 0 && view.overlays.length === 0 && view.measured !== false ? `${series.label} (measured)` : series.label;
+    if (i === 0) return void datasets.push(line(label, overMain(series.y, coarse?.y), color));
+    const shift = stackShift(i);
+    const source = curveSource(
+      series.x.length,
+      () => ({ x: displayX(series.x, axis, lambda), y: displayY(series.y, scale, shift) }),
+      (indices) => displayXAt(series.x, indices, axis, lambda),
+      (k) => shift(transformY(series.y[k]!, scale)),
+      series.coarse?.y,
+    );
+    datasets.push(line(label, source, color));
   });
   const single = view.overlays.length === 0;
-  const { main } = view;
   if (single && view.showFit && main.background) {
-    datasets.push(line('background', { x: mainX, y: displayY(main.background, scale, null) }, COLORS.background, { borderDash: [5, 4], borderWidth: 1 }));
+    datasets.push(line('background', overMain(main.background, coarse?.background), COLORS.background, { borderDash: [5, 4], borderWidth: 1 }));
   }
   if (single && view.showFit && main.model) {
-    datasets.push(line('fit', { x: mainX, y: displayY(main.model, scale, null) }, COLORS.fit, { borderWidth: 1.4 }));
+    const model = main.model;
+    datasets.push(line('fit', overMain(model, coarse?.model), COLORS.fit, { borderWidth: 1.4 }));
     if (scale !== 'log') {
-      const diff = new Float64Array(main.y.length);
+      const differenceAt = (i: number): number => transformY(main.y[i]!, scale) - transformY(model[i]!, scale);
+      // The difference curve hangs below the pattern: its highest point just under the lowest count
+      // (over the coarse copy's points for a long pattern: they hold every column's highest difference).
       let maxDiff = 0;
-      for (let i = 0; i < diff.length; i++) {
-        diff[i] = transformY(main.y[i]!, scale) - transformY(main.model[i]!, scale);
-        if (diff[i]! > maxDiff) maxDiff = diff[i]!;
-      }
-      // The difference curve hangs below the pattern: its highest point just under the lowest count.
+      const highestOver = coarse?.difference;
+      if (highestOver && main.x.length > COARSE_ABOVE_POINTS) for (const i of highestOver) maxDiff = Math.max(maxDiff, differenceAt(i));
+      else for (let i = 0; i < main.y.length; i++) maxDiff = Math.max(maxDiff, differenceAt(i));
       const base = range.min - maxDiff - 0.04 * width;
-      for (let i = 0; i < diff.length; i++) diff[i] = base + diff[i]!;
-      datasets.push(line('difference (measured − fit)', { x: mainX, y: diff }, COLORS.difference, { borderWidth: 1 }));
+      const full = (): { x: Float64Array; y: Float64Array } => {
+        const diff = new Float64Array(main.y.length);
+        for (let i = 0; i < diff.length; i++) diff[i] = base + differenceAt(i);
+        return { x: mainX(), y: diff };
+      };
+      datasets.push(line('difference (measured − fit)', curveSource(main.x.length, full, mainXAt, (i) => base + differenceAt(i), highestOver), COLORS.difference, { borderWidth: 1 }));
     }
   }
   if (single) datasets.push(...markDatasets(view, width));
@@ -555,6 +649,7 @@ function buildDatasets(view: PatternViewModel): ChartDataset<'line' | 'scatter',
 export class PatternChart {
   readonly chart: Chart<'line', PointData>;
   private view: PatternViewModel | null = null;
+  private destroyed = false;
 
   private readonly readout: HTMLElement | null;
 
@@ -603,7 +698,20 @@ export class PatternChart {
     });
   }
 
-  render(view: PatternViewModel): void {
+  /**
+   * Render a long pattern in steps, each its own task (the page's other work, the datasets, the
+   * drawing), so the page never freezes for long on a curve of millions of points; a short one at once.
+   */
+  async renderInSteps(view: PatternViewModel): Promise<void> {
+    if (view.main.x.length <= COARSE_ABOVE_POINTS) return this.render(view);
+    await nextTask();
+    if (this.destroyed) return;
+    const datasets = buildDatasets(view);
+    await nextTask();
+    if (!this.destroyed) this.render(view, datasets);
+  }
+
+  render(view: PatternViewModel, prepared?: ChartDataset<'line' | 'scatter', PointData>[]): void {
     this.view = view;
     const chart = this.chart;
     const options = chart.options;
@@ -630,7 +738,7 @@ export class PatternChart {
     (options.plugins as Record<string, unknown>).peakLabels = { hkl: view.hklLabels ?? false };
     // Headroom above the highest point for the marks and, when shown, stacked hkl labels.
     (y as { grace: string }).grace = view.hklLabels ? '14%' : '5%';
-    chart.data.datasets = buildDatasets(view) as ChartDataset<'line', PointData>[];
+    chart.data.datasets = (prepared ?? buildDatasets(view)) as ChartDataset<'line', PointData>[];
     // For the record (and the browser tests): each phase's marks as drawn, with their colour and count.
     const phaseMarks = chart.data.datasets
       .filter((d) => (d as MarkDataset).markPhase !== undefined)
@@ -678,6 +786,7 @@ export class PatternChart {
   }
 
   destroy(): void {
+    this.destroyed = true;
     this.chart.destroy();
     this.readout?.remove();
   }

@@ -1,6 +1,6 @@
 import type { Chart, ScatterDataPoint } from 'chart.js';
 import { COLORS, drawnLabels, LABEL_HEIGHT_PX, leaderEndX, referenceSticks, STICK_ALPHA, type PatternViewModel } from './pattern-chart.js';
-import { decimateMinMax, visibleRange } from './decimate.js';
+import { decimateMinMax, visibleRange } from '../../src/core/model/decimate.js';
 import { convertX } from './units.js';
 
 const esc = (text: string): string => text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);

@@ -1,5 +1,6 @@
 import type { InstrumentView } from '../../src/api/contract.js';
 import { call } from '../base/api.js';
+import { loadSample } from '../base/sample-data.js';
 import { Chart, COLORS } from '../chart/pattern-chart.js';
 import { clear, field, h } from '../base/dom.js';
 import { app, changed } from '../base/state.js';
@@ -24,7 +25,7 @@ export async function renderInstrument(root: HTMLElement): Promise<void> {
     const id = Number(sampleSelect.value);
     if (!id) return;
     try {
-      const detail = app.details.get(id) ?? (await call('sample.get', { id }));
+      const detail = app.details.get(id) ?? (await loadSample(id));
       const found = detail.match?.phases.find((p) => p.verdict === 'present' && standards.some((r) => r.name === p.name));
       if (found) standardSelect.value = found.name;
     } catch {

@@ -1,6 +1,7 @@
 import type { ReferenceSummary } from '../../src/api/contract.js';
 import type { Reference, StoredReference } from '../../src/core/model/reference.js';
-import { call, decodeFloats, pickFiles } from '../base/api.js';
+import { call, pickFiles } from '../base/api.js';
+import { loadSample } from '../base/sample-data.js';
 import { COLORS, PatternChart } from '../chart/pattern-chart.js';
 import { clear, field, h, hklText } from '../base/dom.js';
 import { app } from '../base/state.js';
@@ -172,14 +173,14 @@ async function drawAgainstPattern(box: HTMLElement, ref: StoredReference): Promi
     box.append(h('p', { class: 'small' }, 'Select a sample in Samples to compare this reference with its pattern.'));
     return;
   }
-  const detail = app.details.get(id) ?? (await call('sample.get', { id }));
+  const detail = app.details.get(id) ?? (await loadSample(id));
   app.details.set(id, detail);
   const [lines] = await call('library.lines', { names: [ref.name] });
   const canvas = h('canvas', { role: 'img', 'aria-label': `${ref.name} against ${detail.name}` });
   box.append(h('p', { class: 'small' }, `${detail.name}, ${detail.wavelengthLabel}`), h('div', { class: 'mini-chart' }, canvas));
   miniChart = new PatternChart(canvas);
   miniChart.render({
-    main: { label: detail.name, x: decodeFloats(detail.x), y: decodeFloats(detail.y) },
+    main: { label: detail.name, x: detail.curves.x, y: detail.curves.y },
     overlays: [],
     marks: [],
     references: lines ? [{ name: ref.name, color: COLORS.phases[0]!, lines: lines.lines.map((l) => ({ twoTheta: l.twoTheta, intensity: l.intensity, label: hklText(l.hkl) })) }] : [],

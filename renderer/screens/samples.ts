@@ -1,5 +1,7 @@
-import type { PhaseMatch, SampleDetail, SampleSummary } from '../../src/api/contract.js';
+import type { PatternPreview, PhaseMatch, SampleDetail, SampleSummary } from '../../src/api/contract.js';
 import { call, decodeFloats, saveFile } from '../base/api.js';
+import { loadSample, type LoadedSample } from '../base/sample-data.js';
+import { COARSE_ABOVE_POINTS, nextTask } from '../chart/coarse.js';
 import { timings } from '../base/actions.js';
 import { COLORS, PatternChart, type PatternSeries, type PeakMark, type PatternViewModel, type PhaseLegend } from '../chart/pattern-chart.js';
 import { differenceOnGrid } from '../chart/grid.js';
@@ -31,6 +33,10 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
   if (project.truth) {
     main.append(h('details', { class: 'truth', 'data-testid': 'demo-truth' }, h('summary', {}, h('strong', {}, 'Simulated demo data'), ' — every pattern here was simulated by Crystallog; open to read the truth it was simulated from.'), h('p', {}, project.truth)));
   }
+  if (app.preview) {
+    renderPreview(main, app.preview);
+    return;
+  }
   const id = app.selected;
   if (id === null || !project.samples.some((s) => s.id === id)) {
     main.append(h('div', { class: 'panel empty' }, project.samples.length ? 'Pick a sample on the left.' : 'No samples yet: drop pattern files anywhere in this window, or use “Add patterns…” (Ctrl+O).'));
@@ -38,20 +44,14 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
   }
   const started = performance.now();
   const detail = await sampleDetail(id);
-  const overlays: SampleDetail[] = [];
+  const overlays: LoadedSample[] = [];
   for (const other of app.overlays) if (other !== id && project.samples.some((s) => s.id === other)) overlays.push(await sampleDetail(other));
   const presentPhases = (detail.match?.phases ?? []).filter((p) => p.verdict !== 'not-seen').map((p) => p.name);
   const checked = app.checked ?? new Set(presentPhases);
   const refLines = checked.size ? await call('library.lines', { names: [...checked] }) : [];
 
   const canvas = h('canvas', { 'aria-label': `Pattern of ${detail.name}`, role: 'img', 'data-testid': 'pattern-chart' });
-  const box = h('div', { class: 'chart-box', tabindex: 0, 'aria-label': 'Pattern view: arrow keys pan, + and − zoom, R resets; drag the lower right corner to make it taller' }, canvas);
-  // A height the user dragged the pane to stays through re-renders; otherwise it follows the window.
-  if (app.view.chartHeightPx !== null) box.style.height = `${app.view.chartHeightPx}px`;
-  new ResizeObserver(() => {
-    const height = box.getBoundingClientRect().height;
-    if (box.style.height && box.isConnected && height > 0) app.view.chartHeightPx = height;
-  }).observe(box);
+  const box = chartBox(canvas);
   const marking = phaseView(detail);
   const colourOf = new Map(marking.legend.map((p) => [p.name, p.color]));
   let spare = marking.legend.length;
@@ -78,8 +78,12 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
     intensityTitle: stacked.title,
     ...(stacked.title ? { readoutValue: 'normalised intensity' } : {}),
   };
-  chart = new PatternChart(canvas);
-  chart.render(view);
+  // A long pattern's chart is made in a task of its own, after the page has laid out the rest.
+  if (detail.points > COARSE_ABOVE_POINTS) await nextTask();
+  if (!canvas.isConnected) return;
+  const drawing = new PatternChart(canvas);
+  chart = drawing;
+  await drawing.renderInSteps(view);
   timings.lastDrawMs = performance.now() - started;
   box.addEventListener('keydown', (event) => {
     if (!chart) return;
@@ -93,31 +97,63 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
   });
 }
 
-async function sampleDetail(id: number): Promise<SampleDetail> {
+/** The chart box of the samples screen; a height the user dragged it to stays through re-renders. */
+function chartBox(canvas: HTMLCanvasElement): HTMLElement {
+  const box = h('div', { class: 'chart-box', tabindex: 0, 'aria-label': 'Pattern view: arrow keys pan, + and − zoom, R resets; drag the lower right corner to make it taller' }, canvas);
+  if (app.view.chartHeightPx !== null) box.style.height = `${app.view.chartHeightPx}px`;
+  new ResizeObserver(() => {
+    const height = box.getBoundingClientRect().height;
+    if (box.style.height && box.isConnected && height > 0) app.view.chartHeightPx = height;
+  }).observe(box);
+  return box;
+}
+
+/** A file in progress: its pattern as soon as the engine has read it, while the analysis runs. */
+function renderPreview(main: HTMLElement, preview: PatternPreview): void {
+  const canvas = h('canvas', { 'aria-label': `Pattern of ${preview.name}, being analysed`, role: 'img', 'data-testid': 'pattern-chart', 'data-preview': preview.jobId });
+  main.append(
+    h(
+      'div',
+      { class: 'panel preview-note', 'data-testid': 'pattern-preview' },
+      h('strong', {}, preview.name),
+      ` — ${preview.points.toLocaleString('en')} points read; analysing. The verdict, peaks and fit appear here when the analysis is done.`,
+    ),
+    chartBox(canvas),
+  );
+  chart = new PatternChart(canvas);
+  chart.render({
+    main: { label: preview.name, x: decodeFloats(preview.x), y: decodeFloats(preview.y), background: null, model: null },
+    overlays: [],
+    marks: [],
+    references: [],
+    lambda: preview.lambda1,
+    axis: app.view.axis,
+    scale: app.view.scale,
+    offsetFraction: app.view.offsetFraction,
+    showFit: false,
+  });
+  timings.lastPreviewMs = performance.now() - timings.dropStarted;
+}
+
+async function sampleDetail(id: number): Promise<LoadedSample> {
   let detail = app.details.get(id);
   if (!detail) {
-    detail = await call('sample.get', { id });
+    detail = await loadSample(id);
     app.details.set(id, detail);
   }
   return detail;
 }
 
-function series(detail: SampleDetail): PatternSeries {
-  return {
-    label: detail.name,
-    x: decodeFloats(detail.x),
-    y: decodeFloats(detail.y),
-    background: detail.background ? decodeFloats(detail.background) : null,
-    model: detail.model ? decodeFloats(detail.model) : null,
-  };
+function series(detail: LoadedSample): PatternSeries {
+  const { x, y, background, model, coarse } = detail.curves;
+  return { label: detail.name, x, y, background, model, coarse };
 }
 
 /** The pattern's marks: each present or uncertain phase's peaks in its colour, unexplained, satellite, low-angle and missing lines. */
-function phaseView(detail: SampleDetail): { legend: PhaseLegend[]; marks: PeakMark[] } {
+function phaseView(detail: LoadedSample): { legend: PhaseLegend[]; marks: PeakMark[] } {
   if (!detail.match) return { legend: [], marks: [] };
-  const x = decodeFloats(detail.x);
-  const y = decodeFloats(detail.y);
-  const bg = detail.background ? decodeFloats(detail.background) : y;
+  const { x, y } = detail.curves;
+  const bg = detail.curves.background ?? y;
   const marking = phaseMarking({ phases: detail.match.phases, unexplained: detail.match.unexplained, lowAnglePeaks: detail.lowAnglePeaks }, COLORS.phases, detail.phase?.name ?? null);
   const marks: PeakMark[] = marking.marks.map((m) => ({
     twoTheta: m.twoTheta,

@@ -1,5 +1,6 @@
-import type { SampleDetail, SeriesView } from '../../src/api/contract.js';
-import { call, decodeFloats } from '../base/api.js';
+import type { SeriesView } from '../../src/api/contract.js';
+import { call } from '../base/api.js';
+import { loadSample, type LoadedSample } from '../base/sample-data.js';
 import { drawHeatMap } from '../chart/heat-map.js';
 import { Chart, COLORS, errorBarPlugin, PatternChart } from '../chart/pattern-chart.js';
 import { fmt, h, sizeText } from '../base/dom.js';
@@ -149,10 +150,10 @@ function patternsPanel(view: SeriesView): HTMLElement {
   );
 }
 
-async function seriesDetail(id: number): Promise<SampleDetail> {
+async function seriesDetail(id: number): Promise<LoadedSample> {
   let detail = app.details.get(id);
   if (!detail) {
-    detail = await call('sample.get', { id });
+    detail = await loadSample(id);
     app.details.set(id, detail);
   }
   return detail;
@@ -165,7 +166,7 @@ async function drawPatterns(screen: HTMLElement, view: SeriesView): Promise<void
   const patterns: Array<{ label: string; lambda: number; x: Float32Array; y: Float32Array }> = [];
   for (const row of view.rows) {
     const detail = await seriesDetail(row.sampleId);
-    patterns.push({ label: row.label, lambda: detail.lambda1, x: decodeFloats(detail.x), y: decodeFloats(detail.y) });
+    patterns.push({ label: row.label, lambda: detail.lambda1, x: detail.curves.x, y: detail.curves.y });
   }
   if (!waterfallCanvas.isConnected) return;
   waterfall = new PatternChart(waterfallCanvas);

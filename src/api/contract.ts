@@ -23,6 +23,8 @@ function settingNumber(name: NumberSettingName): z.ZodNumber {
   return z.number({ error }).finite({ error }).min(s.min, { error }).max(s.max, { error });
 }
 const base64 = z.string().max(90_000_000).regex(/^[A-Za-z0-9+/=\r\n]*$/, 'file bytes must be base64');
+/** The page's name for one file in progress (it names it before the bytes arrive, so Cancel can name it too). */
+const jobId = z.string().regex(/^[A-Za-z0-9-]{1,64}$/, 'not a file-in-progress id');
 
 export const settingsSchema = z
   .object({
@@ -93,6 +95,14 @@ export const apiSchemas = {
   'project.state': z.object({}).strict(),
   'project.settings': z.object({ settings: settingsSchema.partial() }).strict(),
   'sample.add': z.object({ fileName, bytesBase64: base64, variant: z.string().max(100).optional(), hours: finite.min(0).optional() }).strict(),
+  /** A file in progress: its bytes as they came (a binary request body, or bytes over the desktop bridge) or as base64. */
+  'sample.stage': z
+    .object({ jobId, fileName, bytes: z.instanceof(Uint8Array).optional(), bytesBase64: base64.optional() })
+    .strict()
+    .refine((input) => (input.bytes === undefined) !== (input.bytesBase64 === undefined), 'send the file bytes once, as bytes or as base64'),
+  'sample.commit': z.object({ jobId, variant: z.string().max(100).optional(), hours: finite.min(0).optional() }).strict(),
+  'sample.cancel': z.object({ jobId }).strict(),
+  'sample.progress': z.object({ jobId }).strict(),
   'sample.get': z.object({ id: z.number().int().positive() }).strict(),
   'sample.label': z
     .object({ id: z.number().int().positive(), variant: z.string().max(100).nullable(), hours: finite.min(0).nullable(), name: name.nullable().optional() })
@@ -220,6 +230,20 @@ export interface PeakView {
   unexplained: boolean;
 }
 
+/**
+ * A file in progress as soon as it is read, to draw while it is analysed: its points reduced to the
+ * first, lowest, highest and last of each of a few thousand 2θ columns (x, y as base64 Float32).
+ */
+export interface PatternPreview {
+  jobId: string;
+  name: string;
+  points: number;
+  lambda1: number;
+  wavelengthLabel: string;
+  x: string;
+  y: string;
+}
+
 /** Numeric arrays travel as base64 of little-endian Float32 (display precision), decoded by the screens. */
 export interface SampleDetail extends SampleSummary {
   wavelengthLabel: string;
@@ -341,6 +365,12 @@ export interface ApiResults {
   'project.state': ProjectState;
   'project.settings': ProjectState;
   'sample.add': AddedSample;
+  'sample.stage': PatternPreview;
+  'sample.commit': AddedSample;
+  /** `cancelled`: false when the file was already finished (then it was added) or never started. */
+  'sample.cancel': { cancelled: boolean };
+  /** Where a file in progress is; null when the engine has not got it (its bytes still on the way) or no longer holds it. */
+  'sample.progress': { stage: 'waiting' | 'reading' | 'analysing' | 'analysed' | null };
   'sample.get': SampleDetail;
   'sample.label': SampleSummary;
   'sample.remove': ProjectState;

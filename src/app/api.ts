@@ -3,6 +3,7 @@ import { join } from 'node:path';
 import type { z } from 'zod';
 import { escapeControls, InputError, isInputError } from '../core/errors.js';
 import { NUMBER_SETTINGS } from '../core/analysis/settings.js';
+import { MAX_PATTERN_MB_SETTING, maxPatternBytes, tooLargeMessage } from '../core/model/file-limits.js';
 import { packageRoot } from '../node/library/seed.js';
 import { findChromium } from '../node/browser.js';
 import { buildCsvReport, buildHtmlReport } from './report-input.js';
@@ -36,6 +37,8 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
   const version = appVersion();
   let firstRun = workspace.listProjects().length === 0;
   if (!firstRun) workspace.openLastProject();
+  // The thread that reads and analyses dropped files is started ahead of the first drop.
+  workspace.warmAnalysis();
 
   const libraryChange = <T>(work: () => T): T => {
     const result = work();
@@ -58,12 +61,18 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
     'project.create': ({ name, target }) => {
       firstRun = false;
       if (target && !workspace.library().get(target)) throw new InputError(`the target "${target}" is not in the library; add it there first or pick another`);
-      const state = workspace.createProject(name);
-      return target ? workspace.updateSettings({ target }) : state;
+      let state = workspace.createProject(name);
+      if (target) state = workspace.updateSettings({ target });
+      workspace.warmAnalysis();
+      return state;
     },
     'project.rename': ({ name }) => workspace.renameProject(name),
     'project.delete': ({ id }) => workspace.deleteProject(id),
-    'project.open': ({ id }) => workspace.openProject(id),
+    'project.open': ({ id }) => {
+      const state = workspace.openProject(id);
+      workspace.warmAnalysis();
+      return state;
+    },
     'project.demo': () => {
       firstRun = false;
       return startDemoProject(workspace);
@@ -72,6 +81,15 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
     'project.state': () => workspace.state(),
     'project.settings': ({ settings }) => workspace.updateSettings(settings),
     'sample.add': ({ fileName, bytesBase64, variant, hours }) => workspace.addSample(fileName, Buffer.from(bytesBase64, 'base64'), { variant, hours }),
+    'sample.stage': ({ jobId, fileName, bytes, bytesBase64 }) => {
+      const content = bytes ?? Buffer.from(bytesBase64 ?? '', 'base64');
+      const maxBytes = maxPatternBytes(process.env[MAX_PATTERN_MB_SETTING]);
+      if (content.byteLength > maxBytes) throw new InputError(`${fileName}: ${tooLargeMessage(content.byteLength, maxBytes)}`);
+      return workspace.stageSample(jobId, fileName, content);
+    },
+    'sample.commit': ({ jobId, variant, hours }) => workspace.commitSample(jobId, { variant, hours }),
+    'sample.cancel': ({ jobId }) => ({ cancelled: workspace.cancelSample(jobId) }),
+    'sample.progress': ({ jobId }) => ({ stage: workspace.sampleStage(jobId) }),
     'sample.get': ({ id }) => workspace.sampleDetail(id),
     'sample.label': ({ id, variant, hours, name }) => workspace.labelSample(id, variant, hours, name),
     'sample.remove': ({ id }) => workspace.removeSample(id),

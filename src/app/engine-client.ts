@@ -33,6 +33,8 @@ export function startEngine(options: EngineOptions): EngineConnection {
     // Electron sets this for its own children; the system's Node.js must not see it.
     env: { ...process.env, ELECTRON_RUN_AS_NODE: undefined, ...options.env },
     stdio: ['ignore', 'inherit', 'inherit', 'ipc'],
+    // Structured clone, not JSON: a dropped file's bytes cross as a Uint8Array (sample.stage), not a list of numbers.
+    serialization: 'advanced',
   });
   const pending = new Map<number, (reply: ApiReply) => void>();
   let nextId = 1;

@@ -15,6 +15,7 @@ import type { InstrumentProfile } from '../core/size/instrument.js';
 import {
   DEFAULT_SETTINGS,
   type AddedSample,
+  type PatternPreview,
   settingsSchema,
   type InstrumentView,
   type ProjectSettings,
@@ -28,6 +29,7 @@ import type { ReferenceLibrary } from '../node/library/store.js';
 import { ProjectStore, type SampleRecord } from '../node/project-store.js';
 import { guessHours, guessVariant } from './file-names.js';
 import { LibraryAccess } from './library-access.js';
+import { PatternJobs } from './pattern-jobs.js';
 import {
   lastProjectId,
   listProjectFiles,
@@ -69,12 +71,28 @@ function analysisSettingsOf(s: ProjectSettings): Partial<AnalysisSettings> {
   };
 }
 
+/** Labels given with a new sample; undefined ones are guessed from the file name. */
+export interface SampleLabels {
+  label?: string | null;
+  variant?: string | null;
+  hours?: number | null;
+}
+
 export class Workspace {
   readonly references: LibraryAccess;
   private store: ProjectStore | null = null;
   private projectId: string | null = null;
   private doc: ProjectDocument | null = null;
   private context: AnalysisContext | null = null;
+  /** The pattern of the sample added last from a file in progress, as its thread read it: its first view needs no second read. */
+  private lastRead: { id: number; pattern: Pattern } | null = null;
+  private readonly jobs = new PatternJobs(() => {
+    const { doc } = this.project();
+    return {
+      key: JSON.stringify(this.currentBasis()),
+      setup: () => ({ references: this.references.all(), instrument: doc.instrument, settings: analysisSettingsOf(doc.analysis) }),
+    };
+  });
 
   constructor(readonly paths: AppDataPaths) {
     this.references = new LibraryAccess(paths.libraryFile, () => (this.context = null));
@@ -148,6 +166,8 @@ export class Workspace {
   }
 
   closeProject(): void {
+    this.jobs.close();
+    this.lastRead = null;
     this.store?.close();
     this.store = null;
     this.projectId = null;
@@ -203,14 +223,65 @@ export class Workspace {
   // ---------- samples ----------
 
   /** Read, keep and analyse a dropped file. A file that cannot be read is refused before anything is kept. */
-  addSample(fileName: string, bytes: Uint8Array, labels: { label?: string | null; variant?: string | null; hours?: number | null } = {}): AddedSample {
-    const { store } = this.project();
+  addSample(fileName: string, bytes: Uint8Array, labels: SampleLabels = {}): AddedSample {
+    this.project();
     const pattern = readPatternBytes(bytes, fileName);
+    const duplicateOf = this.duplicatesOf(pattern.source.sha256);
+    const record = this.keepSample(fileName, bytes, labels);
+    return { ...this.analyze(record, pattern), duplicateOf };
+  }
+
+  /**
+   * Start a file in progress (read and analysed off the engine's thread, see pattern-jobs.ts): answers
+   * with its reduced pattern as soon as it is read. Nothing is kept until `commitSample`.
+   */
+  async stageSample(jobId: string, fileName: string, bytes: Uint8Array): Promise<PatternPreview> {
+    this.project();
+    const parsed = await this.jobs.start({ jobId, fileName, bytes });
+    const wavelength = parsed.wavelength ?? this.wavelength();
+    return { jobId, name: fileName, points: parsed.points, lambda1: wavelength.lambda1, wavelengthLabel: wavelength.label, x: floats(parsed.preview.x), y: floats(parsed.preview.y) };
+  }
+
+  /** Wait for a file in progress to be analysed, then keep it and its result in one transaction. */
+  async commitSample(jobId: string, labels: SampleLabels = {}): Promise<AddedSample> {
+    const { task, sha256, outcome } = await this.jobs.collect(jobId);
+    const { store } = this.project();
+    const added = store.together(() => {
+      const duplicateOf = this.duplicatesOf(sha256);
+      const record = this.keepSample(task.fileName, task.bytes, labels);
+      const summary = outcome.ok
+        ? this.saveAnalysis(record, outcome.analysed.result, { background: outcome.analysed.background, model: outcome.analysed.model }, outcome.analysed.analysisMs)
+        : this.saveProblem(record, outcome.problem);
+      return { ...summary, duplicateOf };
+    });
+    // Kept only once the transaction stands.
+    this.lastRead = outcome.ok ? { id: added.id, pattern: outcome.analysed.pattern } : null;
+    return added;
+  }
+
+  /** Where a file in progress is (see PatternJobs.stageOf). */
+  sampleStage(jobId: string): ReturnType<PatternJobs['stageOf']> {
+    return this.jobs.stageOf(jobId);
+  }
+
+  /** Stop a file in progress; false when there was none by that id (finished and added, or never started). */
+  cancelSample(jobId: string): boolean {
+    return this.jobs.cancel(jobId);
+  }
+
+  /** Start the analysis thread ahead of the first dropped file. */
+  warmAnalysis(): void {
+    if (this.hasProject()) this.jobs.warm();
+  }
+
+  private duplicatesOf(sha256: string): Array<{ id: number; name: string }> {
+    return this.project().store.findSamplesBySha256(sha256).map((r) => ({ id: r.id, name: r.label ?? r.fileName }));
+  }
+
+  private keepSample(fileName: string, bytes: Uint8Array, labels: SampleLabels): SampleRecord {
     const variant = labels.variant !== undefined ? labels.variant : guessVariant(fileName);
     const hours = labels.hours !== undefined ? labels.hours : guessHours(fileName);
-    const duplicateOf = store.findSamplesBySha256(pattern.source.sha256).map((r) => ({ id: r.id, name: r.label ?? r.fileName }));
-    const record = store.addSample({ fileName, bytes, label: labels.label ?? null, variant, exposureHours: hours });
-    return { ...this.analyze(record, pattern), duplicateOf };
+    return this.project().store.addSample({ fileName, bytes, label: labels.label ?? null, variant, exposureHours: hours });
   }
 
   reanalyze(id: number): SampleSummary {
@@ -227,6 +298,7 @@ export class Workspace {
   }
 
   removeSample(id: number): ProjectState {
+    if (this.lastRead?.id === id) this.lastRead = null;
     this.project().store.removeSample(id);
     return this.state();
   }
@@ -238,7 +310,7 @@ export class Workspace {
     const summary = this.summaryOf(record);
     const result = store.latestResult<SavedAnalysis>(id)?.result.result ?? null;
     const curves = result ? store.latestCurves(id) : null;
-    const pattern = readPatternBytes(store.getSampleBytes(id), record.fileName);
+    const pattern = this.lastRead?.id === id ? this.lastRead.pattern : readPatternBytes(store.getSampleBytes(id), record.fileName);
     const lowAngle = result ? lowAnglePeaks(result.match, doc.analysis.target) : [];
     const wavelength = result?.wavelength ?? pattern.wavelength ?? this.wavelength();
     return {
@@ -296,22 +368,31 @@ export class Workspace {
   }
 
   private analyze(record: SampleRecord, pattern: Pattern): SampleSummary {
-    const { store, doc } = this.project();
     const started = performance.now();
-    let summary: SampleSummary;
     try {
-      const context = this.analysisContext();
-      const { result, curves } = analyzePatternWithCurves(pattern, context);
-      summary = summaryFromResult(record, result, doc.analysis.target, performance.now() - started);
-      const byName = new Map(context.references.map((r) => [r.name, r]));
-      const used = result.references.used.map((u) => ({ id: byName.get(u.name)?.id ?? 0, version: u.version, name: u.name }));
-      const saved: SavedAnalysis = { summary, result, basis: this.currentBasis() };
-      store.saveResult(record.id, saved, used, { background: Float32Array.from(curves.background), model: Float32Array.from(curves.model) });
+      const { result, curves } = analyzePatternWithCurves(pattern, this.analysisContext());
+      return this.saveAnalysis(record, result, { background: Float32Array.from(curves.background), model: Float32Array.from(curves.model) }, performance.now() - started);
     } catch (err) {
       if (!(err instanceof InputError)) throw err;
-      summary = { ...baseSummary(record), problem: err.message };
-      store.saveResult(record.id, { summary, result: null } satisfies SavedAnalysis);
+      return this.saveProblem(record, err.message);
     }
+  }
+
+  /** Keep an analysis result with the reference versions it used and its curves. */
+  private saveAnalysis(record: SampleRecord, result: AnalysisResult, curves: { background: Float32Array; model: Float32Array }, analysisMs: number): SampleSummary {
+    const { store, doc } = this.project();
+    const summary = summaryFromResult(record, result, doc.analysis.target, analysisMs);
+    const byName = new Map(this.references.all().map((r) => [r.name, r]));
+    const used = result.references.used.map((u) => ({ id: byName.get(u.name)?.id ?? 0, version: u.version, name: u.name }));
+    const saved: SavedAnalysis = { summary, result, basis: this.currentBasis() };
+    store.saveResult(record.id, saved, used, curves);
+    return summary;
+  }
+
+  /** Keep the sentence of an analysis that could not be done (the raw file stays kept). */
+  private saveProblem(record: SampleRecord, problem: string): SampleSummary {
+    const summary = { ...baseSummary(record), problem };
+    this.project().store.saveResult(record.id, { summary, result: null } satisfies SavedAnalysis);
     return summary;
   }
 

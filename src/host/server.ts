@@ -5,6 +5,7 @@ import { readFile, realpath } from 'node:fs/promises';
 import { extname, join, sep } from 'node:path';
 import type { AddressInfo } from 'node:net';
 import type { ApiDispatcher } from '../api/reply.js';
+import { MAX_PATTERN_MB_SETTING, maxPatternBytes, tooLargeMessage } from '../core/model/file-limits.js';
 
 /**
  * The local host of browser mode: the same screens and the same API as the desktop shell, served on
@@ -35,6 +36,9 @@ export interface RunningHost {
 }
 
 const COOKIE = 'crystallog_token';
+
+/** Requests whose body may be a file's raw bytes (application/octet-stream); their other fields come in the query. */
+const BINARY_BODY_METHODS = new Set(['sample.stage']);
 
 const SECURITY_HEADERS: Record<string, string> = {
   'Content-Security-Policy': CONTENT_SECURITY_POLICY,
@@ -88,35 +92,43 @@ export async function startHost(options: HostOptions): Promise<RunningHost> {
     if (!sameSecret(readCookie(req.headers.cookie, COOKIE) ?? '', token)) {
       return send(res, 403, 'text/plain; charset=utf-8', 'Open Crystallog through the link printed when it started; this browser has not been given its token.');
     }
-    if (url.pathname.startsWith('/api/')) return handleApi(req, res, url.pathname.slice('/api/'.length));
+    if (url.pathname.startsWith('/api/')) return handleApi(req, res, url.pathname.slice('/api/'.length), url);
     if (req.method !== 'GET' && req.method !== 'HEAD') return send(res, 405, 'text/plain; charset=utf-8', 'Only GET for pages.');
     return serveStatic(res, url.pathname);
   }
 
-  async function handleApi(req: IncomingMessage, res: ServerResponse, method: string): Promise<void> {
+  async function handleApi(req: IncomingMessage, res: ServerResponse, method: string, url: URL): Promise<void> {
     if (req.method !== 'POST') return send(res, 405, 'text/plain; charset=utf-8', 'API calls are POST requests.');
-    if (!(req.headers['content-type'] ?? '').startsWith('application/json')) {
-      return send(res, 415, 'text/plain; charset=utf-8', 'API calls carry a JSON body.');
+    const methodName = decodePath(method);
+    const contentType = req.headers['content-type'] ?? '';
+    const binary = contentType.startsWith('application/octet-stream') && methodName !== null && BINARY_BODY_METHODS.has(methodName);
+    if (!binary && !contentType.startsWith('application/json')) {
+      return send(res, 415, 'text/plain; charset=utf-8', 'API calls carry a JSON body (a file in progress: its bytes).');
     }
     if (req.headers.origin === undefined) {
       return send(res, 403, 'text/plain; charset=utf-8', 'API calls must come from the Crystallog page itself.');
     }
-    const methodName = decodePath(method);
     if (methodName === null) {
       return sendJson(res, 400, { ok: false, error: { kind: 'input', message: 'The name of this request holds a broken % escape.' } });
     }
-    const body = await readBody(req, maxBody);
+    const limit = binary ? Math.max(maxBody, maxPatternBytes(process.env[MAX_PATTERN_MB_SETTING])) : maxBody;
+    const body = await readBody(req, limit);
     if (body === null) {
       // The whole body was read (and dropped), so the client, done sending, reads this answer; the
       // connection is then closed rather than kept for another request.
-      const message = `The request is larger than ${Math.round(maxBody / 1048576)} MB; send fewer files at once.`;
+      const message = binary ? `This file is too large: ${tooLargeMessage(Number(req.headers['content-length'] ?? limit + 1), limit)}.` : `The request is larger than ${Math.round(maxBody / 1048576)} MB; send fewer files at once.`;
       return sendJson(res, 413, { ok: false, error: { kind: 'input', message } }, { Connection: 'close' });
     }
     let params: unknown;
-    try {
-      params = body.length === 0 ? {} : JSON.parse(body);
-    } catch {
-      return sendJson(res, 400, { ok: false, error: { kind: 'input', message: 'The request body is not valid JSON.' } });
+    if (binary) {
+      // A file's bytes as the body (sent by the browser from the File itself, never as a string on the page), the other fields in the address.
+      params = { ...Object.fromEntries(url.searchParams), bytes: body };
+    } else {
+      try {
+        params = body.length === 0 ? {} : JSON.parse(body.toString('utf8'));
+      } catch {
+        return sendJson(res, 400, { ok: false, error: { kind: 'input', message: 'The request body is not valid JSON.' } });
+      }
     }
     const reply = await options.api.call(methodName, params);
     const status = reply.ok ? 200 : reply.error.kind === 'input' ? 400 : 500;
@@ -178,7 +190,7 @@ function readCookie(header: string | undefined, name: string): string | undefine
  * unread would reset the connection and lose the answer). Node's own requestTimeout bounds how long
  * a client may keep sending.
  */
-function readBody(req: IncomingMessage, maxBytes: number): Promise<string | null> {
+function readBody(req: IncomingMessage, maxBytes: number): Promise<Buffer | null> {
   return new Promise((resolve, reject) => {
     const chunks: Buffer[] = [];
     let size = 0;
@@ -187,7 +199,7 @@ function readBody(req: IncomingMessage, maxBytes: number): Promise<string | null
       if (size > maxBytes) chunks.length = 0;
       else chunks.push(chunk);
     });
-    req.on('end', () => resolve(size > maxBytes ? null : Buffer.concat(chunks).toString('utf8')));
+    req.on('end', () => resolve(size > maxBytes ? null : Buffer.concat(chunks)));
     req.on('error', reject);
   });
 }

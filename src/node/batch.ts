@@ -4,10 +4,9 @@
  * SharedArrayBuffers, read-only); each worker then reads its files itself and answers with the result
  * already as JSON text, so output is byte-identical whatever the number of workers.
  */
-import { existsSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
-import { fileURLToPath, pathToFileURL } from 'node:url';
 import { Worker } from 'node:worker_threads';
+import { workerScriptBeside } from './worker-script.js';
 import type { StoredReference } from '../core/model/reference.js';
 import { packedLinesOf, wholeBlockOf, withLazyLines, type PackedBlock } from './library/packing.js';
 import { buildReferenceIndex, type ReferenceIndex } from '../core/match/reference-index.js';
@@ -172,7 +171,7 @@ function headOf(ref: StoredReference): ReferenceHead {
 }
 
 /** Index the references once and put the index and the lines where every worker can read them without a copy. */
-function shareSetup(setup: BatchSetup): SharedSetup {
+export function shareSetup(setup: BatchSetup): SharedSetup {
   const index = setup.index ?? buildReferenceIndex(setup.references);
   return {
     heads: setup.references.map(headOf),
@@ -196,15 +195,6 @@ export function contextFromShared(shared: SharedSetup): AnalysisContext {
   return createAnalysisContext(references, shared.instrument, shared.settings, index);
 }
 
-/** batch-worker.js beside this module; when running from TypeScript sources, the compiled one in dist/. */
-function defaultWorkerScript(): URL {
-  const here = new URL('./batch-worker.js', import.meta.url);
-  if (existsSync(fileURLToPath(here))) return here;
-  const source = fileURLToPath(import.meta.url);
-  const compiled = source.replace(/([\\/])src([\\/]node[\\/])batch\.ts$/, '$1dist$1src$2batch-worker.js');
-  return pathToFileURL(compiled);
-}
-
 /**
  * Analyse every file on a pool of worker threads. Resolves with one outcome per file in input order;
  * a bad file gives an outcome with its error and the others go on. Rejects only when the workers
@@ -216,7 +206,7 @@ export function analyzeFiles(files: readonly string[], setup: BatchSetup, option
   checkTarget(setup.references, setup.settings.target ?? null);
   const shared = shareSetup(setup);
   const poolSize = Math.max(1, Math.min(options.workers ?? workersFor(files.length), files.length));
-  const script = options.workerScript ?? defaultWorkerScript();
+  const script = options.workerScript ?? workerScriptBeside(import.meta.url, 'batch-worker');
   const keepJson = options.keepJson ?? true;
   const outcomes: BatchFileOutcome[] = new Array(files.length);
   let next = 0;

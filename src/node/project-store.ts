@@ -258,6 +258,11 @@ export class ProjectStore {
     if (this.db.open) this.db.close();
   }
 
+  /** Several writes as one transaction: all of them are kept, or none (a sample and its first result). */
+  together<T>(work: () => T): T {
+    return this.write(work);
+  }
+
   private write<T>(work: () => T): T {
     return this.db.transaction(work).immediate();
   }

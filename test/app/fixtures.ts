@@ -31,7 +31,7 @@ export const SILICON: Reference = {
 };
 
 /** A simulated silicon pattern (with an optional extra low-angle line) as the bytes of a two-column file. */
-export function siliconPatternText(options: { sizeNm?: number; extraLowAngleD?: number; extraScale?: number; points?: number; seed?: number } = {}): string {
+export function siliconPatternText(options: { sizeNm?: number; extraLowAngleD?: number; extraScale?: number; points?: number; seed?: number; xDecimals?: number } = {}): string {
   const points = options.points ?? 6001;
   const min = 5;
   const max = 90;
@@ -47,7 +47,7 @@ export function siliconPatternText(options: { sizeNm?: number; extraLowAngleD?: 
     noiseSeed: options.seed ?? 5,
     name: 'silicon.xy',
   });
-  return patternToXyText(pattern, ['simulated silicon for tests']);
+  return patternToXyText(pattern, ['simulated silicon for tests'], { xDecimals: options.xDecimals ?? 4 });
 }
 
 export const b64 = (text: string): string => Buffer.from(text, 'utf8').toString('base64');

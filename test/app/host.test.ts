@@ -108,6 +108,18 @@ describe('the browser-mode host lets in only this launch’s page', () => {
     expect(calls).toEqual([{ method: 'project.state', params: { a: 1 } }]);
   });
 
+  it('passes a file in progress sent as its raw bytes, its other fields from the address; raw bytes nowhere else', async () => {
+    calls.length = 0;
+    const headers = { ...own(), Cookie: cookie, Origin: host.origin, 'Content-Type': 'application/octet-stream' };
+    const bytes = Buffer.from('10.0 100\n10.1 120\n');
+    const answer = await send(host.port, '/api/sample.stage?jobId=j-1&fileName=a%20b.xy', { method: 'POST', headers, body: bytes });
+    expect(answer.status).toBe(200);
+    expect(calls).toHaveLength(1);
+    const params = calls[0]!.params as { jobId: string; fileName: string; bytes: Uint8Array };
+    expect([params.jobId, params.fileName, Buffer.from(params.bytes).toString('utf8')]).toEqual(['j-1', 'a b.xy', '10.0 100\n10.1 120\n']);
+    expect((await send(host.port, '/api/library.import?fileName=x.json', { method: 'POST', headers, body: bytes })).status).toBe(415);
+  });
+
   it('answers bad JSON with a sentence', async () => {
     const answer = await send(host.port, '/api/project.state', { method: 'POST', headers: { ...own(), Cookie: cookie, Origin: host.origin, 'Content-Type': 'application/json' }, body: '{nope' });
     expect(answer.status).toBe(400);

@@ -1,6 +1,6 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { decimateMinMax, visibleRange } from '../../renderer/chart/decimate.js';
+import { decimateMinMax, visibleRange } from '../../src/core/model/decimate.js';
 
 /** The bucket (pixel column) of each x, as the plot maps it: -1 left of the plot, `buckets` right of it. */
 function bucketOf(v: number, low: number, high: number, buckets: number): number {

@@ -140,8 +140,9 @@ export function simulatePattern(options: SimulationOptions): Pattern {
 
 
 /** Write a pattern as a plain two-column text file (used for demo data and tests). */
-export function patternToXyText(pattern: Pattern, header: string[] = []): string {
+export function patternToXyText(pattern: Pattern, header: string[] = [], options: { xDecimals?: number } = {}): string {
   const out: string[] = header.map((h) => `# ${h}`);
-  for (let i = 0; i < pattern.x.length; i++) out.push(`${pattern.x[i].toFixed(4)} ${pattern.y[i].toFixed(pattern.source.format === 'simulated' && Number.isInteger(pattern.y[i]) ? 0 : 3)}`);
+  const xDecimals = options.xDecimals ?? 4;
+  for (let i = 0; i < pattern.x.length; i++) out.push(`${pattern.x[i].toFixed(xDecimals)} ${pattern.y[i].toFixed(pattern.source.format === 'simulated' && Number.isInteger(pattern.y[i]) ? 0 : 3)}`);
   return out.join('\n') + '\n';
 }

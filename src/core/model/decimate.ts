@@ -67,32 +67,43 @@ export function decimateMinMax(x: ArrayLike<number>, y: ArrayLike<number>, optio
     // Points just outside the plot (the edge points) get buckets of their own.
     return b < 0 ? -1 : b >= buckets ? buckets : b;
   };
-  let bucket = bucketOf(x[from]!);
-  let first = from;
-  let last = from;
-  let lowest = -1;
-  let highest = -1;
-  const flush = (): void => {
+  // x is monotonic, so bucket numbers are too: each bucket's end is found by a galloping search, and
+  // the scan for its extremes is a tight loop over y alone (no bucket arithmetic per point).
+  let i = from;
+  while (i < to) {
+    const bucket = bucketOf(x[i]!);
+    let step = 1;
+    let inside = i;
+    while (inside + step < to && bucketOf(x[inside + step]!) === bucket) {
+      inside += step;
+      step *= 2;
+    }
+    let outside = Math.min(to, inside + step);
+    while (outside - inside > 1) {
+      const mid = (inside + outside) >> 1;
+      if (bucketOf(x[mid]!) === bucket) inside = mid;
+      else outside = mid;
+    }
+    let lowest = -1;
+    let highest = -1;
+    let low = Infinity;
+    let high = -Infinity;
+    for (let k = i; k < outside; k++) {
+      const v = y[k]!;
+      // NaN fails both tests and is skipped.
+      if (v < low) {
+        low = v;
+        lowest = k;
+      }
+      if (v > high) {
+        high = v;
+        highest = k;
+      }
+    }
     // The four indices in index order, each once.
-    const picks = [first, lowest, highest, last].filter((i) => i >= 0).sort((a, b) => a - b);
+    const picks = [i, lowest, highest, outside - 1].filter((p) => p >= 0).sort((p, q) => p - q);
     for (let k = 0; k < picks.length; k++) if (k === 0 || picks[k] !== picks[k - 1]) out[kept++] = picks[k]!;
-  };
-  for (let i = from; i < to; i++) {
-    const b = bucketOf(x[i]!);
-    if (b !== bucket) {
-      flush();
-      bucket = b;
-      first = i;
-      lowest = -1;
-      highest = -1;
-    }
-    last = i;
-    const v = y[i]!;
-    if (v === v) {
-      if (lowest < 0 || v < y[lowest]!) lowest = i;
-      if (highest < 0 || v > y[highest]!) highest = i;
-    }
+    i = outside;
   }
-  flush();
   return out.slice(0, kept);
 }
