@@ -295,27 +295,34 @@ function verdictCard(detail: SampleDetail): HTMLElement {
   return card;
 }
 
-/** Per-peak sizes: hkl, 2θ, observed and sample breadth, size ± σ and its limit, every row shown. */
+/**
+ * Per-peak sizes as the command line gives them: hkl, 2θ, observed, instrument and sample breadth,
+ * size ± σ (a lower bound at the instrument limit) and the limit in words, every row shown.
+ */
 function sizePeakTable(peaks: NonNullable<SampleDetail['size']>['peaks'], breadth: string): HTMLElement {
   const kind = breadth === 'fwhm' ? 'FWHM' : 'β';
-  const limitText = (limit: string | null): string => (limit === 'instrument' ? 'instrument limit (lower bound)' : limit === 'overlap' ? 'overlapped' : '');
+  const degrees = (v: number | null): string => (v === null ? '—' : v.toFixed(4));
+  const sizeCell = (p: (typeof peaks)[number]): string => (p.limit === 'instrument' && p.sizeNm !== null ? `> ${p.sizeNm} nm` : sizeText(p.sizeNm, p.sizeSigmaNm));
+  const limitCell = (p: (typeof peaks)[number]): string =>
+    p.limit === 'instrument' ? `instrument limit: ${p.statement.replace(/^larger than \d+ nm \((.*)\)$/, '$1')}; a lower bound` : p.limit === 'overlap' ? 'overlapped: not resolved from a neighbouring peak' : '';
   const table = h(
     'table',
     { class: 'size-peaks', 'data-testid': 'size-peaks' },
-    h('thead', {}, h('tr', {}, ...['hkl', '2θ (°)', `observed ${kind} (°)`, `sample ${kind} (°)`, 'size (nm)', 'no size because'].map((c) => h('th', {}, c)))),
+    h('thead', {}, h('tr', {}, ...['hkl', '2θ (°)', `observed ${kind} (°)`, `instrument ${kind} (°)`, `sample ${kind} (°)`, 'size (nm)', 'limit'].map((c) => h('th', {}, c)))),
     h(
       'tbody',
       {},
       ...peaks.map((p) =>
         h(
           'tr',
-          {},
+          { title: p.statement },
           h('td', {}, p.hkl ? hklText(p.hkl) : '—'),
           h('td', {}, p.twoTheta.toFixed(3)),
-          h('td', {}, p.observedBreadthDeg.toFixed(4)),
-          h('td', {}, p.sampleBreadthDeg.toFixed(4)),
-          h('td', {}, sizeText(p.sizeNm, p.sizeSigmaNm)),
-          h('td', {}, limitText(p.limit)),
+          h('td', {}, degrees(p.observedBreadthDeg)),
+          h('td', {}, degrees(p.instrumentBreadthDeg)),
+          h('td', {}, degrees(p.sampleBreadthDeg)),
+          h('td', {}, sizeCell(p)),
+          h('td', {}, limitCell(p)),
         ),
       ),
     ),

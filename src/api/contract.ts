@@ -160,9 +160,12 @@ export interface SizePeakView {
   sizeNm: number | null;
   sizeSigmaNm: number | null;
   limit: 'instrument' | 'overlap' | null;
-  /** Observed breadth and the sample's own (instrument removed), degrees 2θ, of the kind the sizes use. */
+  /** Observed breadth, the instrument's at this angle (null without a profile) and the sample's own (instrument removed), degrees 2θ, of the kind the sizes use. */
   observedBreadthDeg: number;
+  instrumentBreadthDeg: number | null;
   sampleBreadthDeg: number;
+  /** The size or its limit in words, as the command line prints it ("larger than 180 nm (breadth within 20 % of the instrument's)"). */
+  statement: string;
 }
 
 export interface SizeStrainView {
