@@ -12,7 +12,7 @@ export function reportInput(workspace: Workspace, appVersion: string, paper: Pap
   const references = new Map<string, number>();
   const samples: ReportSample[] = workspace.analyses().map(({ record, summary, result, referencesUsed }) => {
     for (const r of referencesUsed) references.set(r.name, r.version);
-    const wh = result?.size.williamsonHall as { sizeNm?: number | null; strain?: number } | null | undefined;
+    const wh = result?.size.williamsonHall as { sizeNm?: number | null; strain?: number; strainDetected?: boolean } | null | undefined;
     const phase = summary.phase ? result?.match.phases.find((p) => p.name === summary.phase!.name) : undefined;
     return {
       name: summary.name,
@@ -32,6 +32,7 @@ export function reportInput(workspace: Workspace, appVersion: string, paper: Pap
       sizeLimit: result?.size.scherrer.limit ?? null,
       whSizeNm: wh?.sizeNm ?? null,
       whStrain: typeof wh?.strain === 'number' ? wh.strain : null,
+      whStrainDetected: wh?.strainDetected ?? true,
       wavelength: result?.settings.wavelength ?? s.wavelength,
       reasons: [...(result?.match.reasons ?? []), ...(phase?.reasons ?? [])],
       warnings: result?.warnings ?? [],

@@ -24,6 +24,8 @@ export interface ReportSample {
   sizeLimit: string | null;
   whSizeNm: number | null;
   whStrain: number | null;
+  /** False when the strain does not stand above its uncertainty (then the table says so instead of a number). */
+  whStrainDetected?: boolean;
   wavelength: string;
   reasons: string[];
   warnings: string[];
@@ -98,7 +100,7 @@ export function renderHtmlReport(input: ReportInput): string {
       (s) => `<tr class="${s.lowAngle.length ? 'extra' : ''}"><td>${esc(s.name)}${s.simulated ? ' <span class="sim">simulated</span>' : ''}</td><td>${esc(s.variant ?? '')}</td><td>${s.hours ?? ''}</td>
 <td><strong>${esc(s.verdict)}</strong></td><td>${esc(s.phase ?? '—')}${s.phaseVerdict ? ` (${esc(s.phaseVerdict)}, ${num(s.score, 2)})` : ''}</td>
 <td>${s.lowAngle.length ? s.lowAngle.map((p) => `${p.twoTheta.toFixed(2)}° (d ${p.d.toFixed(2)} Å, ${esc(p.phase ?? 'unexplained')})`).join('; ') : 'none'}</td>
-<td>${size(s.sizeNm, s.sizeSigmaNm)}${s.sizeLimit ? ` (${esc(s.sizeLimit)})` : ''}</td><td>${s.whSizeNm === null ? '—' : `${s.whSizeNm.toFixed(1)} nm`}${s.whStrain === null ? '' : `, ε ${s.whStrain.toExponential(1)}`}</td></tr>`,
+<td>${size(s.sizeNm, s.sizeSigmaNm)}${s.sizeLimit ? ` (${esc(s.sizeLimit)})` : ''}</td><td>${s.whSizeNm === null ? '—' : `${s.whSizeNm.toFixed(1)} nm`}${s.whStrain === null ? '' : s.whStrainDetected === false ? ', no strain detected' : `, ε ${s.whStrain.toExponential(1)}`}</td></tr>`,
     )
     .join('\n');
   const details = input.samples
@@ -128,13 +130,13 @@ code{font-size:11px;word-break:break-all}svg{max-width:100%;height:auto}
 figure{margin:.6rem 0}figcaption{font-size:11px;color:#56636b}.key{white-space:nowrap;margin-right:.6rem}.swatch{display:inline-block;width:.8em;height:.5em;margin-right:.25em;vertical-align:middle}
 table{table-layout:fixed}td,th{overflow-wrap:anywhere;hyphens:auto}table.samples{font-size:12.5px}
 @page{size:${input.paper ?? 'A4'};margin:14mm 12mm}
-@media print{body{margin:0;max-width:none;font-size:10.5pt}table.samples{font-size:8.5pt}th,td{padding:.2rem .3rem}h2{break-after:avoid}section.sample,figure,table tr{break-inside:avoid}.caution,.truth{break-inside:avoid}}
+@media print{body{margin:0;max-width:none;font-size:10.5pt}table.samples{font-size:8pt}th,td{padding:.2rem .3rem}h2{break-after:avoid}section.sample,figure,table tr{break-inside:avoid}.caution,.truth{break-inside:avoid}}
 </style></head><body>
 <h1>${esc(input.projectName)}</h1>
 <p class="small">Crystallog ${esc(input.appVersion)} · report made ${esc(input.createdAt)}</p>
 ${input.demo ? `<div class="truth"><strong>Demo project: every pattern in it is simulated, not measured.</strong>${input.truth ? `<br>${esc(input.truth)}` : ''}</div>` : ''}
 <h2>Samples</h2>
-<table class="samples">${columns([13, 10, 6, 12, 17, 16, 13, 13])}<tr><th>Sample</th><th>Variant</th><th>Time (h)</th><th>Verdict</th><th>Phase (verdict, score)</th><th>Low-angle extra peaks</th><th>Scherrer size</th><th>Williamson–Hall</th></tr>
+<table class="samples">${columns([13, 10, 6, 12, 17, 17, 12.5, 12.5])}<tr><th>Sample</th><th>Variant</th><th>Time (h)</th><th>Verdict</th><th>Phase (verdict, score)</th><th>Low-angle extra peaks</th><th>Scherrer size</th><th>Williamson–<wbr>Hall</th></tr>
 ${rows}</table>
 <h2>Crystallite size across the series</h2>
 ${seriesSvg(input.variants, 'variant')}
@@ -180,7 +182,7 @@ function seriesSvg(rows: ReportSeriesRow[], by: 'variant' | 'time'): string {
     parts.push(`<text x="${x}" y="${height - bottom + 16}" text-anchor="middle">${esc(by === 'time' ? `${p.hours} h` : p.label)}</text>`);
   });
   parts.push('</svg>');
-  return `<p class="small">${by === 'variant' ? 'By workup variant' : 'By exposure time'} (error bars: ± one standard uncertainty)</p>${parts.join('')}`;
+  return `<figure class="series"><figcaption>${by === 'variant' ? 'By workup variant' : 'By exposure time'} (error bars: ± one standard uncertainty)</figcaption>${parts.join('')}</figure>`;
 }
 
 /**
