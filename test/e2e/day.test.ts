@@ -201,6 +201,12 @@ describe("a chemist's day in the app (headless Chromium)", () => {
     await shotsAtBothSizes(page, '07-series-variant');
     await page.getByRole('button', { name: 'by exposure time' }).click();
     await page.locator('canvas[data-growth]').waitFor();
+    // The comparison sentences wrap: no table on the screen is wider than its panel.
+    for (const [width, height] of SIZES) {
+      await page.setViewportSize({ width, height });
+      const wider = await page.getByTestId('series').evaluate((screen) => [...screen.querySelectorAll('table')].filter((t) => t.scrollWidth > t.parentElement!.clientWidth + 1).map((t) => t.dataset.testid ?? t.className));
+      expect(wider).toEqual([]);
+    }
     await shotsAtBothSizes(page, '08-series-time');
   });
 
