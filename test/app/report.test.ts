@@ -58,6 +58,10 @@ describe('the HTML report of the demo project', () => {
     const cautions = [...html.matchAll(/<p class="caution">([^<]*)<\/p>/g)].map((m) => m[1]!);
     expect(cautions).toHaveLength(3);
     for (const c of cautions) expect(html.split(c).length - 1).toBe(1);
+    // The analysis gives every sample the detection-limit sentence among its reasons; the report says it once.
+    const reasons = details.flatMap((d) => d.match?.reasons ?? []);
+    expect(reasons.filter((r) => /below the detection limit/.test(r)).length).toBeGreaterThan(1);
+    expect(html.match(/amorphous/g)).toHaveLength(1);
   });
 
   it('prints on A4 unless Letter is chosen in the app settings, and keeps that choice', async () => {

@@ -233,6 +233,9 @@ describe("a chemist's day in the app (headless Chromium)", () => {
     const cautions = [...html.matchAll(/<p class="caution">([^<]*)<\/p>/g)].map((m) => m[1]!);
     expect(cautions).toHaveLength(3);
     for (const c of cautions) expect(html.split(c).length - 1).toBe(1);
+    // Not restated in each sample's reasons either.
+    expect(html.match(/amorphous/g)).toHaveLength(1);
+    expect(html.match(/apparent size/g)).toHaveLength(1);
     reportFile = join(SCREENSHOTS, 'day-report.html');
     writeFileSync(reportFile, html);
   });

@@ -85,6 +85,13 @@ export const REPORT_CAUTIONS: readonly string[] = [
  * is, and a long word wraps only when it alone is wider than its column.
  */
 const columns = (percents: number[]): string => `<colgroup>${percents.map((p) => `<col style="width:${p}%">`).join('')}</colgroup>`;
+/**
+ * Reasons that only restate a report caution (the analysis adds the detection-limit sentence to every
+ * sample's reasons): the report says it once, in its cautions, and leaves it out of each sample.
+ */
+const RESTATED_CAUTIONS: readonly RegExp[] = [/below the detection limit.*amorphous/i, /volume-weighted apparent size.*lower bound/i];
+const restatesCaution = (reason: string): boolean => RESTATED_CAUTIONS.some((pattern) => pattern.test(reason));
+
 const esc = (text: string): string => text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
 const num = (v: number | null | undefined, digits: number): string => (v === null || v === undefined || !Number.isFinite(v) ? '' : v.toFixed(digits));
 const size = (v: number | null, s: number | null): string => (v === null ? '—' : s === null || !Number.isFinite(s) ? `${v.toFixed(1)} nm` : `${v.toFixed(1)} ± ${s.toFixed(1)} nm`);
@@ -108,7 +115,7 @@ export function renderHtmlReport(input: ReportInput): string {
       (s) => `<section class="sample"><h3>${esc(s.name)}</h3><p class="small">File ${esc(s.fileName)}, SHA-256 <code>${esc(s.sha256)}</code>, ${esc(s.wavelength)}${s.simulated ? ', <strong>simulated pattern</strong>' : ''}.</p>
 ${s.figure ? patternFigureSvg(s.figure, `${s.name}${s.simulated ? ' (simulated)' : ''}`) : ''}
 ${s.sizeStrain ? sizeStrainFigureSvg(s.sizeStrain, `Size–strain plot of ${s.name}`) : ''}
-<ul>${s.reasons.map((r) => `<li>${esc(r)}</li>`).join('')}</ul>${s.warnings.length ? `<p class="small">Notes: ${s.warnings.map(esc).join('; ')}</p>` : ''}</section>`,
+<ul>${s.reasons.filter((r) => !restatesCaution(r)).map((r) => `<li>${esc(r)}</li>`).join('')}</ul>${s.warnings.length ? `<p class="small">Notes: ${s.warnings.map(esc).join('; ')}</p>` : ''}</section>`,
     )
     .join('\n');
   const pairs = (list: Array<[string, string]>): string => list.map(([k, v]) => `<tr><th>${esc(k)}</th><td>${esc(v)}</td></tr>`).join('');
