@@ -61,7 +61,7 @@ describe("a chemist's day in the app (headless Chromium)", () => {
   it('opens the demo project', async () => {
     const { page } = app;
     await page.getByTestId('open-demo').click();
-    await page.getByText(/Demo project ready/).waitFor({ timeout: 400_000 });
+    await page.getByText(/^Demo project ready: the LaB6 standard and 10 simulated samples\.$/).waitFor({ timeout: 400_000 });
     expect(await page.locator('[data-testid="sample-list"] li').count()).toBe(11);
     await shotsAtBothSizes(page, '01-demo');
   }, 420_000);
@@ -283,6 +283,27 @@ describe("a chemist's day in the app (headless Chromium)", () => {
     await page.getByTestId('paper-select').selectOption('A4');
     await page.getByText('Reports now print on A4 paper.').waitFor();
     await shotsAtBothSizes(page, '10-settings-paper');
+  }, 120_000);
+
+  it('starts a new project with its target phase, and the demo button goes back to the demo made before', async () => {
+    const { page } = app;
+    await page.getByRole('button', { name: 'New project' }).click();
+    await page.getByTestId('new-project-name').fill('Batch 15 workup');
+    await page.getByTestId('new-project-target').selectOption('methylammonium lead iodide');
+    await page.getByRole('button', { name: 'Create' }).click();
+    await page.getByRole('tab', { name: /Settings/ }).click();
+    expect(await page.getByTestId('target-select').inputValue()).toBe('methylammonium lead iodide');
+    await page.getByRole('button', { name: 'Demo project' }).click();
+    await page.getByText('Opened the demo project made before (its simulated samples are all there).').waitFor({ timeout: 60_000 });
+    const projects = await page.evaluate(async () => {
+      const r = await fetch('/api/project.list', { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: '{}' });
+      return ((await r.json()) as { result: Array<{ name: string; demo: boolean }> }).result;
+    });
+    expect(projects.filter((p) => p.demo)).toHaveLength(1);
+    expect(projects.map((p) => p.name)).toContain('Batch 15 workup');
+    await page.getByTestId('headline').waitFor();
+    expect(await page.locator('[data-testid="sample-list"] li[aria-selected="true"]').textContent()).toMatch(/^MAPbI3 as made/);
+    await shotsAtBothSizes(page, '11-demo-reopened');
   }, 120_000);
 
   it('raised no script errors in the page', () => {
