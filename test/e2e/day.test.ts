@@ -112,6 +112,11 @@ describe("a chemist's day in the app (headless Chromium)", () => {
     await page.getByTestId('ref-column').selectOption('twoTheta');
     await page.getByTestId('ref-wavelength').fill('1.540593');
     await page.getByTestId('ref-lines').fill(SILICON_2THETA);
+    // Long names and tags wrap: the library's table shows every column beside the form.
+    for (const [width, height] of SIZES) {
+      await page.setViewportSize({ width, height });
+      expect(await page.getByTestId('library-table').evaluate((t) => t.scrollWidth - t.parentElement!.clientWidth)).toBeLessThanOrEqual(1);
+    }
     await shotsAtBothSizes(page, '04-reference-by-hand');
     await page.getByTestId('ref-save').click();
     await page.getByTestId('reference-detail').waitFor();
