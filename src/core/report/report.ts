@@ -107,7 +107,7 @@ export function renderHtmlReport(input: ReportInput): string {
       (s) => `<tr class="${s.lowAngle.length ? 'extra' : ''}"><td>${esc(s.name)}${s.simulated ? ' <span class="sim">simulated</span>' : ''}</td><td>${esc(s.variant ?? '')}</td><td>${s.hours ?? ''}</td>
 <td><strong>${esc(s.verdict)}</strong></td><td>${esc(s.phase ?? '—')}${s.phaseVerdict ? ` (${esc(s.phaseVerdict)}, ${num(s.score, 2)})` : ''}</td>
 <td>${s.lowAngle.length ? s.lowAngle.map((p) => `${p.twoTheta.toFixed(2)}° (d ${p.d.toFixed(2)} Å, ${esc(p.phase ?? 'unexplained')})`).join('; ') : 'none'}</td>
-<td>${size(s.sizeNm, s.sizeSigmaNm)}${s.sizeLimit ? ` (${esc(s.sizeLimit)})` : ''}</td><td>${s.whSizeNm === null ? '—' : `${s.whSizeNm.toFixed(1)} nm`}${s.whStrain === null ? '' : s.whStrainDetected === false ? ', no strain detected' : `, ε ${s.whStrain.toExponential(1)}`}</td></tr>`,
+<td>${size(s.sizeNm, s.sizeSigmaNm)}${s.sizeLimit ? ` (${esc(s.sizeLimit)})` : ''}</td><td>${s.whSizeNm === null ? '—' : `${s.whSizeNm.toFixed(1)} nm`}${s.whStrain === null ? '' : s.whStrainDetected === false ? ', no strain detected' : `, <span class="nw">ε ${s.whStrain.toExponential(1)}</span>`}</td></tr>`,
     )
     .join('\n');
   const details = input.samples
@@ -135,7 +135,7 @@ th{background:#f3f1ec;font-weight:600}tr.extra td{background:#fbefe9}.small{font
 .truth,.caution{border-left:4px solid #2a8c82;background:#f1f7f6;padding:.5rem .8rem;margin:.8rem 0}.caution{border-color:#c08a2e;background:#fbf5ea}
 code{font-size:11px;word-break:break-all}svg{max-width:100%;height:auto}
 figure{margin:.6rem 0}figcaption{font-size:11px;color:#56636b}.key{white-space:nowrap;margin-right:.6rem}.swatch{display:inline-block;width:.8em;height:.5em;margin-right:.25em;vertical-align:middle}
-table{table-layout:fixed}td,th{overflow-wrap:anywhere;hyphens:auto}table.samples{font-size:12.5px}
+table{table-layout:fixed}td,th{overflow-wrap:anywhere;hyphens:auto}table.samples{font-size:12.5px}.nw{white-space:nowrap}
 @page{size:${input.paper ?? 'A4'};margin:14mm 12mm}
 @media print{body{margin:0;max-width:none;font-size:10.5pt}table.samples{font-size:8pt}th,td{padding:.2rem .3rem}h2{break-after:avoid}section.sample,figure,table tr{break-inside:avoid}.caution,.truth{break-inside:avoid}}
 </style></head><body>
