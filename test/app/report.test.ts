@@ -64,11 +64,15 @@ describe('the HTML report of the demo project', () => {
     expect(html.match(/amorphous/g)).toHaveLength(1);
   });
 
-  it('prints on A4 unless Letter is chosen in the app settings, and keeps that choice', async () => {
+  it('prints on A4 unless Letter is chosen in the app settings, and keeps that choice', { timeout: 120_000 }, async () => {
     expect(html).toContain('@page{size:A4;');
     expect((await ok<ApiResults['app.info']>('app.info', {})).preferences).toEqual({ paper: 'A4' });
     expect(await ok('app.preferences', { paper: 'Letter' })).toEqual({ paper: 'Letter' });
     expect((await ok<ExportedFile>('report.build', { format: 'html' })).text).toContain('@page{size:Letter;');
+    // The PDF made by the system's Chromium takes the page size from the report: Letter is 612 × 792 pt.
+    const pdf = Buffer.from((await ok<ExportedFile>('report.pdf', {})).bytesBase64!, 'base64').toString('latin1');
+    const boxes = new Set([...pdf.matchAll(/MediaBox\s*\[\s*0 0 ([\d.]+) ([\d.]+)\s*\]/g)].map((m) => `${Math.round(Number(m[1]))} × ${Math.round(Number(m[2]))}`));
+    expect([...boxes]).toEqual(['612 × 792']);
     const again = createAppApi({ mode: 'browser', dataDir });
     try {
       const reply = await again.call('app.info', {});
