@@ -3,7 +3,8 @@
  * PDF) and a CSV table. Both carry every setting, the reference versions, the app version and the
  * cautions, so a result can be judged and reproduced later.
  */
-import { niceTicks, PHASE_COLOURS, patternFigureSvg, sizeStrainFigureSvg, type PatternFigure, type SizeStrainFigure } from './figures.js';
+import { niceTicks } from '../model/ticks.js';
+import { PHASE_COLOURS, patternFigureSvg, sizeStrainFigureSvg, type PatternFigure, type SizeStrainFigure } from './figures.js';
 
 export interface ReportSample {
   name: string;
