@@ -76,7 +76,8 @@ function registerIpc(): void {
     const printer = new BrowserWindow({ show: false, webPreferences: { sandbox: true, contextIsolation: true, javascript: false } });
     try {
       await printer.loadURL(`data:text/html;charset=utf-8;base64,${Buffer.from(request.html).toString('base64')}`);
-      const pdf = await printer.webContents.printToPDF({ printBackground: true, pageSize: 'A4' });
+      // The page size comes from the report's own @page rule (A4 or Letter, the user's choice in Settings).
+      const pdf = await printer.webContents.printToPDF({ printBackground: true, preferCSSPageSize: true });
       await writeFile(result.filePath, pdf);
       return result.filePath;
     } finally {

@@ -167,7 +167,13 @@ export async function openDemo(): Promise<void> {
     setProject(state);
     app.screen = 'samples';
     changed();
+    // The demo opens on the sample made as usual, the one the others are compared with.
+    const selectAsMade = (): void => {
+      app.selected = app.project?.samples.find((s) => s.variant === 'as made')?.id ?? app.project?.samples[0]?.id ?? null;
+    };
     if (reopened && pending.length === 0) {
+      selectAsMade();
+      changed();
       notify('Opened the demo project made before (its simulated samples are all there).', 'done');
       return;
     }
@@ -176,9 +182,9 @@ export async function openDemo(): Promise<void> {
     });
     app.project = await call('project.state', {});
     app.info = await call('app.info', {});
-    app.selected = app.project.samples.find((s) => s.variant === 'as made')?.id ?? app.project.samples[0]?.id ?? null;
+    selectAsMade();
     changed();
-    notify(`Demo project ready: ${done} simulated samples${cancelled ? ' (cancelled before the rest)' : ''}.`, 'done');
+    notify(`Demo project ready: the LaB6 standard and ${done} simulated samples${cancelled ? ' (cancelled before the rest)' : ''}.`, 'done');
   } catch (err) {
     notify(errorText(err), 'error');
   }

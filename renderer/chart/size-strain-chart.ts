@@ -4,6 +4,7 @@
  * need a charting library, and SVG prints and exports as it is shown.
  */
 import type { SizeStrainView } from '../../src/api/contract.js';
+import { axisScale, niceTicks } from '../../src/core/model/ticks.js';
 
 const SVG_NS = 'http://www.w3.org/2000/svg';
 const WIDTH = 360;
@@ -17,16 +18,6 @@ function node(tag: string, attributes: Record<string, string | number>, text?: s
   return element;
 }
 
-/** Round tick values: 1, 2 or 5 times a power of ten, about four of them over the span. */
-function ticks(min: number, max: number): number[] {
-  const raw = (max - min) / 4;
-  const power = 10 ** Math.floor(Math.log10(raw));
-  const step = [1, 2, 5, 10].map((m) => m * power).find((s) => s >= raw) ?? raw;
-  const out: number[] = [];
-  for (let t = Math.ceil(min / step) * step; t <= max + step * 1e-9; t += step) out.push(Number(t.toPrecision(12)));
-  return out;
-}
-
 export function sizeStrainChart(view: SizeStrainView): SVGElement {
   const svg = node('svg', { viewBox: `0 0 ${WIDTH} ${HEIGHT}`, class: 'size-strain-chart', role: 'img', 'aria-label': 'Halder–Wagner size–strain plot' });
   const xs = view.points.map((p) => p.x);
@@ -38,10 +29,13 @@ export function sizeStrainChart(view: SizeStrainView): SVGElement {
   const py = (y: number): number => HEIGHT - MARGIN.bottom - ((y - yMin) / (yMax - yMin)) * (HEIGHT - MARGIN.top - MARGIN.bottom);
   svg.append(node('line', { x1: px(0), y1: py(yMin), x2: px(xMax), y2: py(yMin), class: 'axis' }));
   svg.append(node('line', { x1: px(0), y1: py(yMin), x2: px(0), y2: py(yMax), class: 'axis' }));
-  for (const t of ticks(0, xMax)) svg.append(node('text', { x: px(t), y: HEIGHT - MARGIN.bottom + 14, 'text-anchor': 'middle', class: 'tick' }, t.toPrecision(2)));
-  for (const t of ticks(yMin, yMax)) svg.append(node('text', { x: MARGIN.left - 4, y: py(t) + 3, 'text-anchor': 'end', class: 'tick' }, t === 0 ? '0' : t.toExponential(0)));
-  svg.append(node('text', { x: (px(0) + px(xMax)) / 2, y: HEIGHT - 6, 'text-anchor': 'middle', class: 'axis-title' }, 'β* / d*² (Å)'));
-  svg.append(node('text', { x: 12, y: (py(yMin) + py(yMax)) / 2, 'text-anchor': 'middle', class: 'axis-title', transform: `rotate(-90 12 ${(py(yMin) + py(yMax)) / 2})` }, '(β* / d*)²'));
+  // Round ticks with short labels; the power of ten goes into the axis title (as in the report).
+  const xScale = axisScale(xMax);
+  const yScale = axisScale(Math.max(Math.abs(yMin), yMax));
+  for (const t of niceTicks(0, xMax * xScale.factor, 4)) svg.append(node('text', { x: px(t / xScale.factor), y: HEIGHT - MARGIN.bottom + 14, 'text-anchor': 'middle', class: 'tick' }, String(t)));
+  for (const t of niceTicks(yMin * yScale.factor, yMax * yScale.factor, 4)) svg.append(node('text', { x: MARGIN.left - 4, y: py(t / yScale.factor) + 3, 'text-anchor': 'end', class: 'tick' }, String(t)));
+  svg.append(node('text', { x: (px(0) + px(xMax)) / 2, y: HEIGHT - 6, 'text-anchor': 'middle', class: 'axis-title' }, `β* / d*² (Å)${xScale.note}`));
+  svg.append(node('text', { x: 12, y: (py(yMin) + py(yMax)) / 2, 'text-anchor': 'middle', class: 'axis-title', transform: `rotate(-90 12 ${(py(yMin) + py(yMax)) / 2})` }, `(β* / d*)² (no unit)${yScale.note}`));
   svg.append(node('line', { x1: px(0), y1: py(view.intercept), x2: px(xMax), y2: py(view.intercept + view.slope * xMax), class: 'fit-line' }));
   for (const p of view.points) {
     svg.append(node('line', { x1: px(p.x), y1: py(p.y - p.sigmaY), x2: px(p.x), y2: py(p.y + p.sigmaY), class: 'error-bar' }));

@@ -4,7 +4,7 @@ import { loadSample } from '../base/sample-data.js';
 import { Chart, COLORS } from '../chart/pattern-chart.js';
 import { clear, field, h } from '../base/dom.js';
 import { app, changed } from '../base/state.js';
-import { notify, showError } from '../base/ui.js';
+import { notify, showError, withProgress } from '../base/ui.js';
 
 let chart: Chart | null = null;
 let fitted: InstrumentView | null = null;
@@ -40,8 +40,7 @@ export async function renderInstrument(root: HTMLElement): Promise<void> {
       const params = { sampleId: Number(sampleSelect.value), standard: standardSelect.value };
       if (save) {
         app.project = await call('instrument.save', params);
-        notify('Instrument profile saved to the project. Samples analysed before it are marked out of date: analyse them again to correct their sizes with it.', 'done');
-        changed();
+        await reanalyseStale('Instrument profile saved to the project');
       } else {
         fitted = await call('instrument.fit', params);
         show(result, fitted, false);
@@ -70,12 +69,26 @@ export async function renderInstrument(root: HTMLElement): Promise<void> {
   else if (current) show(result, current, true);
 }
 
+/**
+ * After the profile changed, analyse again the samples it made out of date (as saving the settings
+ * does), so sizes and series all use one profile; Cancel leaves the rest marked out of date.
+ */
+async function reanalyseStale(what: string): Promise<void> {
+  const stale = app.project!.samples.filter((s) => s.stale);
+  const { done, cancelled } = await withProgress('Analysing the samples again with the new instrument profile', stale, async (sample) => {
+    await call('sample.reanalyze', { id: sample.id });
+  });
+  app.project = await call('project.state', {});
+  app.details.clear();
+  changed();
+  notify(`${what}; ${done} sample${done === 1 ? '' : 's'} analysed again with it${cancelled ? ' (cancelled: the rest stay marked out of date)' : ''}.`, 'done');
+}
+
 async function clearProfile(): Promise<void> {
   try {
     app.project = await call('instrument.clear', {});
     fitted = null;
-    changed();
-    notify('Instrument profile removed. Samples analysed with it are marked out of date; sizes analysed from now on are not corrected for the instrument (lower bounds).', 'done');
+    await reanalyseStale('Instrument profile removed: sizes are no longer corrected for the instrument (lower bounds)');
   } catch (err) {
     showError(err);
   }

@@ -67,9 +67,9 @@ function referenceTable(refs: ReferenceSummary[], onPick: () => void): HTMLEleme
       h(
         'tr',
         { 'aria-selected': String(r.name === selectedName), tabindex: 0, 'data-reference': r.name, onclick: () => ((selectedName = r.name), onPick()), onkeydown: (e: Event) => (e as KeyboardEvent).key === 'Enter' && ((selectedName = r.name), onPick()) },
-        h('td', { class: 'left' }, r.name),
+        h('td', { class: 'left wrap' }, r.name),
         h('td', { class: 'left' }, r.formula),
-        h('td', { class: 'left' }, r.tags.join(', ')),
+        h('td', { class: 'left wrap' }, r.tags.join(', ')),
         h('td', {}, r.lines),
         h('td', {}, `v${r.version}`),
       ),

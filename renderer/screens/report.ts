@@ -14,6 +14,8 @@ export function renderReport(root: HTMLElement): void {
         { class: 'panel stack' },
         h('h2', {}, `Report of ${project.project.name}`),
         h('p', {}, 'The report lists every sample with its verdict, the reasons for it, low-angle extra peaks and crystallite sizes, and carries every setting, the instrument profile, the versions of the references used and the app version, with the cautions that go with such results.'),
+        h('p', { class: 'small' }, 'Figures: each sample’s pattern with its fit, the difference and the peaks marked by phase; its size–strain plot; the sizes across the series and the growth of other phases with exposure time.'),
+        h('p', { class: 'small', 'data-testid': 'report-paper' }, `Printed and saved as PDF on ${app.info?.preferences.paper ?? 'A4'} paper; change it in Settings.`),
         h(
           'div',
           { class: 'row' },

@@ -360,54 +360,81 @@ function verdictCard(detail: SampleDetail): HTMLElement {
   if (reasons.length) card.append(h('ul', { class: 'reasons' }, ...reasons.map((r) => h('li', {}, r))));
   const composition = compositionBlock(detail);
   if (composition) card.append(composition);
-  const size = detail.size;
-  card.append(h('h3', {}, 'Crystallite size'));
-  if (size?.scherrer) {
-    append(card, [
-      h('div', { class: 'size-line', 'data-testid': 'size' }, `Scherrer: ${sizeText(size.scherrer.sizeNm, Number.isFinite(size.scherrer.sizeSigmaNm) ? size.scherrer.sizeSigmaNm : null)}`),
-      size.sizeStrain
-        ? h('div', { 'data-testid': 'size-strain' }, `Size–strain: ${size.sizeStrain.statement}, R² ${fmt(size.sizeStrain.r2, 3)}`)
-        : h('div', { class: 'small', 'data-testid': 'size-strain' }, `No size–strain plot: ${size.sizeStrainReason ?? 'not available'}.`),
-      size.williamsonHall ? h('div', {}, `Williamson–Hall (Voigt parts): ${size.williamsonHall.sizeNm === null ? '—' : `${size.williamsonHall.sizeNm.toFixed(1)} nm`}, ${size.williamsonHall.strainStatement}, R² ${fmt(size.williamsonHall.r2, 2)}`) : null,
-      size.sizeStrain ? h('figure', { class: 'size-strain' }, sizeStrainChart(size.sizeStrain), h('figcaption', { class: 'small' }, size.sizeStrain.convention)) : null,
-      sizePeakTable(size.peaks, size.breadth),
-      h('div', { class: 'small' }, `K = ${size.k}, ${size.breadth === 'fwhm' ? 'FWHM' : 'integral breadth'}, ${size.instrumentCorrected ? `instrument-corrected (${size.correction})` : 'not corrected for the instrument (lower bound)'}${size.phase ? `, lines of ${size.phase}` : ''}.`),
-    ]);
-  } else {
-    card.append(h('div', { class: 'small', 'data-testid': 'size' }, 'No size: no resolved peak gave one.'));
-  }
-  for (const note of size?.notes ?? []) card.append(h('div', { class: 'small' }, note));
   card.append(labelsForm(detail));
   for (const note of detail.readerNotes) card.append(h('div', { class: 'small' }, `Reader: ${note}`));
   return card;
 }
 
-/** Per-peak sizes: hkl, 2θ, observed and sample breadth, size ± σ and its limit, every row shown. */
+/**
+ * The crystallite sizes across the full width below the verdict and the peaks: the summary lines,
+ * the size–strain plot and the per-peak table side by side, so no column of the table is hidden.
+ */
+function sizePanel(detail: SampleDetail): HTMLElement | null {
+  if (detail.problem) return null;
+  const size = detail.size;
+  const panel = h('div', { class: 'panel stack size-panel' }, h('h3', {}, 'Crystallite size'));
+  if (!size?.scherrer) {
+    panel.append(h('div', { class: 'small', 'data-testid': 'size' }, 'No size: no resolved peak gave one.'));
+    for (const note of size?.notes ?? []) panel.append(h('div', { class: 'small' }, note));
+    return panel;
+  }
+  append(panel, [
+    h('div', { class: 'size-line', 'data-testid': 'size' }, `Scherrer: ${sizeText(size.scherrer.sizeNm, Number.isFinite(size.scherrer.sizeSigmaNm) ? size.scherrer.sizeSigmaNm : null)}`),
+    size.sizeStrain
+      ? h('div', { 'data-testid': 'size-strain' }, `Size–strain: ${size.sizeStrain.statement}, R² ${fmt(size.sizeStrain.r2, 3)}`)
+      : h('div', { class: 'small', 'data-testid': 'size-strain' }, `No size–strain plot: ${size.sizeStrainReason ?? 'not available'}.`),
+    size.williamsonHall ? h('div', {}, `Williamson–Hall (Voigt parts): ${size.williamsonHall.sizeNm === null ? '—' : `${size.williamsonHall.sizeNm.toFixed(1)} nm`}, ${size.williamsonHall.strainStatement}, R² ${fmt(size.williamsonHall.r2, 2)}`) : null,
+  ]);
+  const side = h('div', { class: 'size-side' });
+  append(side, [
+    size.sizeStrain ? h('figure', { class: 'size-strain' }, sizeStrainChart(size.sizeStrain), h('figcaption', { class: 'small' }, size.sizeStrain.convention)) : null,
+    h(
+      'div',
+      { class: 'stack' },
+      sizePeakTable(size.peaks, size.breadth),
+      h('div', { class: 'small' }, `K = ${size.k}, ${size.breadth === 'fwhm' ? 'FWHM' : 'integral breadth'}, ${size.instrumentCorrected ? `instrument-corrected (${size.correction})` : 'not corrected for the instrument (lower bound)'}${size.phase ? `, lines of ${size.phase}` : ''}.`),
+      ...size.notes.map((note) => h('div', { class: 'small' }, note)),
+    ),
+  ]);
+  panel.append(side);
+  return panel;
+}
+
+/**
+ * Per-peak sizes as the command line gives them: hkl, 2θ, observed, instrument and sample breadth,
+ * size ± σ (a lower bound at the instrument limit) and the limit in words, every row shown.
+ */
 function sizePeakTable(peaks: NonNullable<SampleDetail['size']>['peaks'], breadth: string): HTMLElement {
+  const overlapped = peaks.filter((p) => p.limit === 'overlap').length;
   const kind = breadth === 'fwhm' ? 'FWHM' : 'β';
-  const limitText = (limit: string | null): string => (limit === 'instrument' ? 'instrument limit (lower bound)' : limit === 'overlap' ? 'overlapped' : '');
+  const degrees = (v: number | null): string => (v === null ? '—' : v.toFixed(4));
+  const sizeCell = (p: (typeof peaks)[number]): string => (p.limit === 'instrument' && p.sizeNm !== null ? `> ${p.sizeNm} nm` : sizeText(p.sizeNm, p.sizeSigmaNm));
+  // The limit in a few words; the command line's whole sentence shows on hover over the row.
+  const limitCell = (p: (typeof peaks)[number]): string => (p.limit === 'instrument' ? 'instrument limit (lower bound)' : p.limit === 'overlap' ? 'overlapped' : '');
   const table = h(
     'table',
     { class: 'size-peaks', 'data-testid': 'size-peaks' },
-    h('thead', {}, h('tr', {}, ...['hkl', '2θ (°)', `observed ${kind} (°)`, `sample ${kind} (°)`, 'size (nm)', 'no size because'].map((c) => h('th', {}, c)))),
+    h('thead', {}, h('tr', {}, ...['hkl', '2θ (°)', `observed ${kind} (°)`, `instrument ${kind} (°)`, `sample ${kind} (°)`, 'size (nm)', 'limit'].map((c) => h('th', {}, c)))),
     h(
       'tbody',
       {},
       ...peaks.map((p) =>
         h(
           'tr',
-          {},
+          { title: p.statement },
           h('td', {}, p.hkl ? hklText(p.hkl) : '—'),
           h('td', {}, p.twoTheta.toFixed(3)),
-          h('td', {}, p.observedBreadthDeg.toFixed(4)),
-          h('td', {}, p.sampleBreadthDeg.toFixed(4)),
-          h('td', {}, sizeText(p.sizeNm, p.sizeSigmaNm)),
-          h('td', {}, limitText(p.limit)),
+          h('td', {}, degrees(p.observedBreadthDeg)),
+          h('td', {}, degrees(p.instrumentBreadthDeg)),
+          h('td', {}, degrees(p.sampleBreadthDeg)),
+          h('td', {}, sizeCell(p)),
+          h('td', {}, limitCell(p)),
         ),
       ),
     ),
   );
-  return h('div', { class: 'table-scroll' }, table);
+  const note = overlapped ? h('div', { class: 'small' }, `${overlapped} peak${overlapped === 1 ? ' is' : 's are'} not resolved from a neighbouring peak, so give no size.`) : null;
+  return h('div', { class: 'size-table' }, table, note);
 }
 
 /** The answer in one sentence, before any evidence: target present or not, what else and its share, the low-angle alarm, the size. */
@@ -512,7 +539,13 @@ async function remove(detail: SampleDetail): Promise<void> {
 }
 
 function details(detail: SampleDetail, checked: Set<string>, legend: PhaseLegend[]): HTMLElement {
-  return h('div', { class: 'details' }, verdictCard(detail), h('div', { class: 'panel stack' }, candidates(detail, checked, legend), h('h3', {}, `Peaks (${detail.peaks.length})`), peakTable(detail, legend)));
+  return h(
+    'div',
+    { class: 'details' },
+    verdictCard(detail),
+    h('div', { class: 'panel stack' }, candidates(detail, checked, legend), h('h3', {}, `Peaks (${detail.peaks.length})`), peakTable(detail, legend)),
+    sizePanel(detail),
+  );
 }
 
 /** A small square in a phase's mark colour, beside its name in tables. */

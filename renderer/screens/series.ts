@@ -104,10 +104,10 @@ function rowsTable(view: SeriesView): HTMLElement {
           h('td', { class: 'left' }, r.name),
           h('td', { class: 'left' }, r.label),
           h('td', { class: 'left verdict-cell' }, h('span', { class: `badge ${verdictClass(r.verdict)}` }, r.verdict)),
-          h('td', { class: 'left small' }, r.otherPhases || '—'),
+          h('td', { class: 'left small wrap' }, r.otherPhases || '—'),
           h('td', {}, r.lowAngleCount),
           h('td', {}, r.impurityShare === null ? '—' : `${fmt(100 * r.impurityShare, 1)} %`),
-          h('td', {}, r.sizeNote === null ? sizeText(r.sizeNm, r.sizeSigmaNm) : h('span', { class: 'small', title: r.sizeNote }, r.sizeNm === null ? `— ${r.sizeNote}` : r.sizeNote)),
+          h('td', { class: r.sizeNote === null ? '' : 'wrap' }, r.sizeNote === null ? sizeText(r.sizeNm, r.sizeSigmaNm) : h('span', { class: 'small', title: r.sizeNote }, r.sizeNm === null ? `— ${r.sizeNote}` : r.sizeNote)),
         ),
       ),
     ),
@@ -123,7 +123,7 @@ function comparisonsPanel(view: SeriesView): HTMLElement {
     h(
       'table',
       { class: 'grid', 'data-testid': 'comparisons' },
-      h('tbody', {}, ...view.comparisons.map((c) => h('tr', {}, h('td', { class: 'left' }, `${c.a} vs ${c.b}`), h('td', { class: 'left' }, h('strong', {}, c.differs ? 'differs' : 'no significant difference')), h('td', { class: 'left small' }, `${c.test}: ${c.detail}`)))),
+      h('tbody', {}, ...view.comparisons.map((c) => h('tr', {}, h('td', { class: 'left' }, `${c.a} vs ${c.b}`), h('td', { class: 'left' }, h('strong', {}, c.differs ? 'differs' : 'no significant difference')), h('td', { class: 'left small wrap' }, `${c.test}: ${c.detail}`)))),
     ),
   );
 }

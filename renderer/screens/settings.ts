@@ -1,4 +1,4 @@
-import type { ProjectSettings } from '../../src/api/contract.js';
+import type { AppPreferences, ProjectSettings } from '../../src/api/contract.js';
 import { call } from '../base/api.js';
 import { field, h } from '../base/dom.js';
 import { app, changed } from '../base/state.js';
@@ -69,7 +69,29 @@ export async function renderSettings(root: HTMLElement): Promise<void> {
       showError(err);
     }
   });
-  root.append(h('div', { class: 'screen' }, projectPanel(), form));
+  root.append(h('div', { class: 'screen' }, projectPanel(), form, appPanel()));
+}
+
+/** The app's own settings, the same for every project: kept in the app-data folder. */
+function appPanel(): HTMLElement {
+  const paper = h('select', { 'aria-label': 'Report paper size', 'data-testid': 'paper-select' }, h('option', { value: 'A4' }, 'A4 (210 × 297 mm)'), h('option', { value: 'Letter' }, 'Letter (8.5 × 11 in)'));
+  paper.value = app.info?.preferences.paper ?? 'A4';
+  paper.addEventListener('change', async () => {
+    try {
+      const preferences = await call('app.preferences', { paper: paper.value as AppPreferences['paper'] });
+      if (app.info) app.info.preferences = preferences;
+      notify(`Reports now print on ${preferences.paper} paper.`, 'done');
+    } catch (err) {
+      showError(err);
+    }
+  });
+  return h(
+    'div',
+    { class: 'panel stack' },
+    h('h2', {}, 'App settings'),
+    h('div', { class: 'form' }, field('Report paper size', paper, 'Used by the HTML report when printed and by the PDF report.')),
+    h('span', { class: 'small' }, 'Kept with the app, the same for every project.'),
+  );
 }
 
 /** Rename the open project, or delete it (its file is kept in the projects folder's deleted/ folder). */

@@ -3,6 +3,7 @@ import type { MatchResult, Verdict } from '../core/match/types.js';
 export type { MatchResult, PhaseMatch, Verdict } from '../core/match/types.js';
 import type { StoredReference } from '../core/model/reference.js';
 import { NUMBER_SETTINGS, rangeMessage, type NumberSettingName } from '../core/analysis/settings.js';
+import { PAPER_SIZES, type PaperSize } from '../core/report/report.js';
 
 /**
  * The one API of the app: every method's input schema (checked at runtime wherever a call crosses
@@ -85,6 +86,8 @@ export const referenceSchema = z
 
 export const apiSchemas = {
   'app.info': z.object({}).strict(),
+  /** Read the app's own settings, or change those given. */
+  'app.preferences': z.object({ paper: z.enum(PAPER_SIZES).optional() }).strict(),
   'project.list': z.object({}).strict(),
   'project.create': z.object({ name, target: z.string().max(200).nullable().optional() }).strict(),
   'project.rename': z.object({ name }).strict(),
@@ -175,9 +178,12 @@ export interface SizePeakView {
   sizeNm: number | null;
   sizeSigmaNm: number | null;
   limit: 'instrument' | 'overlap' | null;
-  /** Observed breadth and the sample's own (instrument removed), degrees 2θ, of the kind the sizes use. */
+  /** Observed breadth, the instrument's at this angle (null without a profile) and the sample's own (instrument removed), degrees 2θ, of the kind the sizes use. */
   observedBreadthDeg: number;
+  instrumentBreadthDeg: number | null;
   sampleBreadthDeg: number;
+  /** The size or its limit in words, as the command line prints it ("larger than 180 nm (breadth within 20 % of the instrument's)"). */
+  statement: string;
 }
 
 export interface SizeStrainView {
@@ -295,6 +301,13 @@ export interface AppInfo {
   projects: ProjectSummary[];
   current: ProjectState | null;
   pdfAvailable: boolean;
+  preferences: AppPreferences;
+}
+
+/** The app's own settings, kept in the app-data folder beside the projects (not in a project). */
+export interface AppPreferences {
+  /** Paper size of printed and PDF reports (default A4). */
+  paper: PaperSize;
 }
 
 export interface ReferenceSummary {
@@ -354,6 +367,7 @@ export interface ExportedFile {
 
 export interface ApiResults {
   'app.info': AppInfo;
+  'app.preferences': AppPreferences;
   'project.list': ProjectSummary[];
   'project.create': ProjectState;
   'project.rename': ProjectState;

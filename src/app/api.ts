@@ -8,7 +8,7 @@ import { packageRoot } from '../node/library/seed.js';
 import { findChromium } from '../node/browser.js';
 import { buildCsvReport, buildHtmlReport } from './report-input.js';
 import { htmlToPdf } from '../node/pdf.js';
-import { appDataPaths, defaultAppDataRoot } from '../node/app-data.js';
+import { appDataPaths, defaultAppDataRoot, readPreferences, writePreferences } from '../node/app-data.js';
 import { apiSchemas, type ApiMethod, type ApiParsed, type ApiResults, type ReferenceSummary } from '../api/contract.js';
 import { addDemoSample, startDemoProject } from './demo.js';
 import type { ApiDispatcher, ApiReply } from '../api/reply.js';
@@ -56,7 +56,12 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
       projects: workspace.listProjects(),
       current: workspace.hasProject() ? workspace.state() : null,
       pdfAvailable: options.mode === 'electron' || findChromium() !== null,
+      preferences: readPreferences(paths),
     }),
+    'app.preferences': (changes) => {
+      const current = readPreferences(paths);
+      return changes.paper === undefined ? current : writePreferences(paths, { ...current, paper: changes.paper });
+    },
     'project.list': () => workspace.listProjects(),
     'project.create': ({ name, target }) => {
       firstRun = false;
@@ -119,9 +124,9 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
     'instrument.save': ({ sampleId, standard }) => workspace.saveInstrument(sampleId, standard),
     'instrument.clear': () => workspace.clearInstrument(),
     'series.get': ({ by }) => buildSeriesView(workspace, by),
-    'report.build': ({ format }) => (format === 'html' ? buildHtmlReport(workspace, version) : buildCsvReport(workspace, version)),
+    'report.build': ({ format }) => (format === 'html' ? buildHtmlReport(workspace, version, readPreferences(paths).paper) : buildCsvReport(workspace, version)),
     'report.pdf': async () => {
-      const html = buildHtmlReport(workspace, version);
+      const html = buildHtmlReport(workspace, version, readPreferences(paths).paper);
       const pdf = await htmlToPdf(html.text!, paths.root);
       return { fileName: html.fileName.replace(/\.html$/, '.pdf'), bytesBase64: pdf.toString('base64') };
     },

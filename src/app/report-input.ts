@@ -1,18 +1,18 @@
 import type { PatternFigure } from '../core/report/figures.js';
-import { REPORT_CAUTIONS, renderCsvReport, renderHtmlReport, reportFileBase, type ReportInput, type ReportSample } from '../core/report/report.js';
+import { REPORT_CAUTIONS, renderCsvReport, renderHtmlReport, reportFileBase, type PaperSize, type ReportInput, type ReportSample } from '../core/report/report.js';
 import type { ExportedFile } from '../api/contract.js';
 import { lowAnglePeaks } from '../core/analysis/verdict.js';
 import { buildSeriesView } from './series-view.js';
 import type { Workspace } from './workspace.js';
 
 /** Everything a report needs, gathered from the open project. */
-export function reportInput(workspace: Workspace, appVersion: string): ReportInput {
+export function reportInput(workspace: Workspace, appVersion: string, paper: PaperSize = 'A4'): ReportInput {
   const info = workspace.documentInfo();
   const s = info.settings;
   const references = new Map<string, number>();
   const samples: ReportSample[] = workspace.analyses().map(({ record, summary, result, referencesUsed }) => {
     for (const r of referencesUsed) references.set(r.name, r.version);
-    const wh = result?.size.williamsonHall as { sizeNm?: number | null; strain?: number } | null | undefined;
+    const wh = result?.size.williamsonHall as { sizeNm?: number | null; strain?: number; strainDetected?: boolean } | null | undefined;
     const phase = summary.phase ? result?.match.phases.find((p) => p.name === summary.phase!.name) : undefined;
     return {
       name: summary.name,
@@ -32,10 +32,20 @@ export function reportInput(workspace: Workspace, appVersion: string): ReportInp
       sizeLimit: result?.size.scherrer.limit ?? null,
       whSizeNm: wh?.sizeNm ?? null,
       whStrain: typeof wh?.strain === 'number' ? wh.strain : null,
+      whStrainDetected: wh?.strainDetected ?? true,
       wavelength: result?.settings.wavelength ?? s.wavelength,
       reasons: [...(result?.match.reasons ?? []), ...(phase?.reasons ?? [])],
       warnings: result?.warnings ?? [],
       figure: result ? patternFigure(workspace, record.id) : null,
+      sizeStrain: result?.size.sizeStrain
+        ? {
+            points: result.size.sizeStrain.plot.map((q) => ({ twoTheta: q.twoThetaDeg, x: q.x, y: q.y, sigmaY: q.sigmaY })),
+            slope: result.size.sizeStrain.slope,
+            intercept: result.size.sizeStrain.intercept,
+            statement: result.size.sizeStrain.statement,
+            convention: result.size.sizeStrain.convention,
+          }
+        : null,
     };
   });
   const variants = buildSeriesView(workspace, 'variant');
@@ -67,12 +77,13 @@ export function reportInput(workspace: Workspace, appVersion: string): ReportInp
       : null,
     references: [...references].map(([name, version]) => ({ name, version })).sort((a, b) => a.name.localeCompare(b.name)),
     samples,
-    variants: variants.rows.map((r) => ({ label: r.label, hours: r.hours, sizeNm: r.sizeNm, sizeSigmaNm: r.sizeSigmaNm, impurityShare: r.impurityShare })),
-    exposure: exposure.rows.map((r) => ({ label: r.label, hours: r.hours, sizeNm: r.sizeNm, sizeSigmaNm: r.sizeSigmaNm, impurityShare: r.impurityShare })),
+    variants: variants.rows.map((r) => ({ label: r.label, hours: r.hours, sizeNm: r.sizeNm, sizeSigmaNm: r.sizeSigmaNm })),
+    exposure: exposure.rows.map((r) => ({ label: r.label, hours: r.hours, sizeNm: r.sizeNm, sizeSigmaNm: r.sizeSigmaNm })),
     comparisons: [...variants.comparisons, ...exposure.comparisons],
-    growth: exposure.growth.map((g) => `${g.phase}: ${g.statement}`),
+    growth: exposure.growth.map((g) => ({ phase: g.phase, statement: g.statement, points: g.points, curve: g.curve })),
     // The report's cautions already say what the size cautions say: each once.
     cautions: [...REPORT_CAUTIONS],
+    paper,
   };
 }
 
@@ -87,8 +98,8 @@ function patternFigure(workspace: Workspace, id: number): PatternFigure | null {
   return { x, y, model, background, peaks: detail.peaks.map((p) => ({ twoTheta: p.twoTheta, phase: p.phase, lowAngle: p.lowAngle })) };
 }
 
-export function buildHtmlReport(workspace: Workspace, appVersion: string): ExportedFile {
-  const input = reportInput(workspace, appVersion);
+export function buildHtmlReport(workspace: Workspace, appVersion: string, paper: PaperSize = 'A4'): ExportedFile {
+  const input = reportInput(workspace, appVersion, paper);
   return { fileName: `${reportFileBase(input)}.html`, text: renderHtmlReport(input) };
 }
 

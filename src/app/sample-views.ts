@@ -127,7 +127,7 @@ export function sizeView(result: AnalysisResult): SizeView {
     correction: size.correction,
     phase: result.settings.sizePhase,
     instrumentCorrected: size.settings.instrument !== null,
-    peaks: size.peaks.map((p) => ({ twoTheta: p.twoTheta, hkl: p.hkl, sizeNm: p.sizeNm, sizeSigmaNm: p.sizeSigmaNm, limit: p.limit, observedBreadthDeg: p.observedBreadthDeg, sampleBreadthDeg: p.sampleBreadthDeg })),
+    peaks: size.peaks.map((p) => ({ twoTheta: p.twoTheta, hkl: p.hkl, sizeNm: p.sizeNm, sizeSigmaNm: p.sizeSigmaNm, limit: p.limit, observedBreadthDeg: p.observedBreadthDeg, instrumentBreadthDeg: p.instrumentBreadthDeg, sampleBreadthDeg: p.sampleBreadthDeg, statement: p.statement })),
     scherrer: size.scherrer.sizeNm !== null ? { sizeNm: size.scherrer.sizeNm, sizeSigmaNm: size.scherrer.sizeSigmaNm ?? Number.NaN } : null,
     williamsonHall:
       wh && typeof wh.strain === 'number'

@@ -39,6 +39,18 @@ describe('managing projects and samples', () => {
     expect(cleared.name).toBe('offcut_a.xy');
   });
 
+  it('removes a sample, so the same file added again is a duplicate of the one left only', async () => {
+    const before = await ok<ProjectState>('project.state', {});
+    const copy = before.samples.find((s) => s.fileName === 'offcut_a_copy.xy')!;
+    const after = await ok<ProjectState>('sample.remove', { id: copy.id });
+    expect(after.samples.map((s) => s.id)).toEqual(before.samples.filter((s) => s.id !== copy.id).map((s) => s.id));
+    const gone = (await api.call('sample.get', { id: copy.id })) as Extract<ApiReply, { ok: false }>;
+    expect(gone.ok).toBe(false);
+    expect(gone.error.kind).toBe('input');
+    const again = await ok<AddedSample>('sample.add', { fileName: 'offcut_a_again.xy', bytesBase64: b64(siliconPatternText()) });
+    expect(again.duplicateOf.map((d) => d.name)).toEqual(['offcut_a.xy']);
+  });
+
   it('renames and deletes a project, keeping its file in the deleted folder', async () => {
     const { project } = await ok<ProjectState>('project.rename', { name: 'Wafer offcuts, March' });
     expect(project.name).toBe('Wafer offcuts, March');

@@ -4,6 +4,8 @@
  * explains it (unexplained peaks marked apart). Axes carry round tick values.
  */
 
+import { axisScale, niceTicks } from '../model/ticks.js';
+
 export interface PatternFigure {
   x: ArrayLike<number>;
   y: ArrayLike<number>;
@@ -13,24 +15,13 @@ export interface PatternFigure {
 }
 
 /** Our own palette for phases in figures (colour-blind-safe order, after Okabe & Ito 2008, from memory). */
-const PHASE_COLOURS = ['#0072b2', '#009e73', '#cc79a7', '#e69f00', '#56b4e9', '#d55e00', '#6a3d9a', '#8c6d31'];
+export const PHASE_COLOURS = ['#0072b2', '#009e73', '#cc79a7', '#e69f00', '#56b4e9', '#d55e00', '#6a3d9a', '#8c6d31'];
 const OBSERVED = '#2b2f33';
 const MODEL = '#d55e00';
 const DIFFERENCE = '#6b7780';
 const UNEXPLAINED = '#b2182b';
 
 const esc = (text: string): string => text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
-
-/** Round tick values covering [lo, hi]: steps of 1, 2 or 5 × 10ⁿ, about `count` of them. */
-export function niceTicks(lo: number, hi: number, count = 6): number[] {
-  if (!(hi > lo)) return [lo];
-  const raw = (hi - lo) / count;
-  const power = 10 ** Math.floor(Math.log10(raw));
-  const step = [1, 2, 5, 10].map((m) => m * power).find((s) => s >= raw) ?? 10 * power;
-  const out: number[] = [];
-  for (let v = Math.ceil(lo / step) * step; v <= hi + step * 1e-9; v += step) out.push(Number(v.toPrecision(12)));
-  return out;
-}
 
 /** At most `buckets` × 2 points: the minimum and maximum of each bucket keep every peak's top. */
 function decimate(x: ArrayLike<number>, series: Array<ArrayLike<number>>, buckets: number): { x: number[]; series: number[][] } {
@@ -115,4 +106,57 @@ export function patternFigureSvg(figure: PatternFigure, title: string): string {
   if (figure.peaks.some((p) => p.phase === null)) legend.push(['unexplained peak (?! below the target’s first line)', UNEXPLAINED]);
   const key = legend.map(([label, colour]) => `<span class="key"><span class="swatch" style="background:${colour}"></span>${esc(label)}</span>`).join(' ');
   return `<figure class="pattern">${parts.join('')}<figcaption>${esc(title)} — ${key}</figcaption></figure>`;
+}
+
+/** A sample's Halder–Wagner plot: y = (β* / d*)² against x = β* / d*² (Å) with the fitted line y = slope·x + intercept. */
+export interface SizeStrainFigure {
+  points: Array<{ twoTheta: number; x: number; y: number; sigmaY: number }>;
+  slope: number;
+  intercept: number;
+  statement: string;
+  convention: string;
+}
+
+/** The size–strain plot of one sample: points with ± σ bars, the fitted line, round ticks, axes with units. */
+export function sizeStrainFigureSvg(figure: SizeStrainFigure, title: string): string {
+  if (figure.points.length < 2) return '';
+  const width = 420;
+  const height = 250;
+  const left = 62;
+  const right = 14;
+  const top = 12;
+  const bottom = 42;
+  const xs = figure.points.map((p) => p.x);
+  const ys = figure.points.flatMap((p) => [p.y - p.sigmaY, p.y + p.sigmaY]);
+  const xMax = Math.max(...xs) * 1.08;
+  const lineAt = (x: number): number => figure.intercept + figure.slope * x;
+  const yMax = Math.max(...ys, lineAt(0), lineAt(xMax)) * 1.08;
+  const yMin = Math.min(0, ...ys, lineAt(0), lineAt(xMax));
+  const xScale = axisScale(xMax);
+  const yScale = axisScale(Math.max(Math.abs(yMin), yMax));
+  const xAt = (v: number): number => left + (v / xMax) * (width - left - right);
+  const yAt = (v: number): number => top + (1 - (v - yMin) / (yMax - yMin)) * (height - top - bottom);
+  const f = (v: number): string => v.toFixed(1);
+  const parts: string[] = [`<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 ${width} ${height}" width="${width}" height="${height}" font-size="10" font-family="system-ui,sans-serif" role="img" aria-label="${esc(title)}">`];
+  parts.push(`<rect x="${left}" y="${top}" width="${width - left - right}" height="${height - top - bottom}" fill="none" stroke="#c9cdd1"/>`);
+  for (const t of niceTicks(0, xMax * xScale.factor, 5)) {
+    const x = f(xAt(t / xScale.factor));
+    parts.push(`<line x1="${x}" y1="${height - bottom}" x2="${x}" y2="${height - bottom + 4}" stroke="#24313a"/><text x="${x}" y="${height - bottom + 15}" text-anchor="middle">${t}</text>`);
+  }
+  for (const t of niceTicks(yMin * yScale.factor, yMax * yScale.factor, 4)) {
+    const y = f(yAt(t / yScale.factor));
+    parts.push(`<line x1="${left - 4}" y1="${y}" x2="${left}" y2="${y}" stroke="#24313a"/><text x="${left - 6}" y="${Number(y) + 3}" text-anchor="end">${t}</text>`);
+  }
+  parts.push(`<text x="${(left + width - right) / 2}" y="${height - 6}" text-anchor="middle">β*/d*² (Å)${esc(xScale.note)}</text>`);
+  parts.push(`<text transform="translate(14 ${(top + height - bottom) / 2}) rotate(-90)" text-anchor="middle">(β*/d*)² (no unit)${esc(yScale.note)}</text>`);
+  // The fitted line, clipped to the frame where it would leave it below yMin.
+  parts.push(`<line x1="${f(xAt(0))}" y1="${f(yAt(Math.max(yMin, lineAt(0))))}" x2="${f(xAt(xMax))}" y2="${f(yAt(Math.max(yMin, lineAt(xMax))))}" stroke="${MODEL}" stroke-width="1.2"/>`);
+  for (const p of figure.points) {
+    const x = f(xAt(p.x));
+    parts.push(`<line x1="${x}" y1="${f(yAt(p.y - p.sigmaY))}" x2="${x}" y2="${f(yAt(p.y + p.sigmaY))}" stroke="${PHASE_COLOURS[0]}"/>`);
+    parts.push(`<circle cx="${x}" cy="${f(yAt(p.y))}" r="3.5" fill="${PHASE_COLOURS[0]}"><title>${p.twoTheta.toFixed(2)}° 2θ</title></circle>`);
+  }
+  parts.push('</svg>');
+  const key = `<span class="key"><span class="swatch" style="background:${PHASE_COLOURS[0]}"></span>reflections (± σ)</span> <span class="key"><span class="swatch" style="background:${MODEL}"></span>fitted line</span>`;
+  return `<figure class="size-strain">${parts.join('')}<figcaption>${esc(title)}: ${esc(figure.statement)} — ${key}<br>${esc(figure.convention)}</figcaption></figure>`;
 }

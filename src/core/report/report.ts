@@ -3,7 +3,8 @@
  * PDF) and a CSV table. Both carry every setting, the reference versions, the app version and the
  * cautions, so a result can be judged and reproduced later.
  */
-import { niceTicks, patternFigureSvg, type PatternFigure } from './figures.js';
+import { niceTicks } from '../model/ticks.js';
+import { PHASE_COLOURS, patternFigureSvg, sizeStrainFigureSvg, type PatternFigure, type SizeStrainFigure } from './figures.js';
 
 export interface ReportSample {
   name: string;
@@ -24,19 +25,33 @@ export interface ReportSample {
   sizeLimit: string | null;
   whSizeNm: number | null;
   whStrain: number | null;
+  /** False when the strain does not stand above its uncertainty (then the table says so instead of a number). */
+  whStrainDetected?: boolean;
   wavelength: string;
   reasons: string[];
   warnings: string[];
   /** The pattern with its fit and peak marks, for the figure (null when the sample was not analysed). */
   figure?: PatternFigure | null;
+  /** The size–strain plot with its fitted line (null when the sample gave no size–strain result). */
+  sizeStrain?: SizeStrainFigure | null;
 }
+
+/** The paper sizes a report prints on; A4 unless the user chose Letter. */
+export const PAPER_SIZES = ['A4', 'Letter'] as const;
+export type PaperSize = (typeof PAPER_SIZES)[number];
 
 export interface ReportSeriesRow {
   label: string;
   hours: number | null;
   sizeNm: number | null;
   sizeSigmaNm: number | null;
-  impurityShare: number | null;
+}
+
+export interface ReportGrowth {
+  phase: string;
+  statement: string;
+  points: Array<{ hours: number; share: number }>;
+  curve: Array<{ hours: number; share: number }>;
 }
 
 export interface ReportInput {
@@ -52,11 +67,11 @@ export interface ReportInput {
   variants: ReportSeriesRow[];
   exposure: ReportSeriesRow[];
   comparisons: Array<{ a: string; b: string; differs: boolean; test: string; detail: string }>;
-  /** One sentence per phase growing with exposure time. */
-  growth: string[];
+  /** Each phase growing with exposure time: its sentence, its shares and the fitted curve (empty when none was fitted). */
+  growth: ReportGrowth[];
   cautions: string[];
   /** Paper size of the printed page (default A4). */
-  paper?: 'A4' | 'Letter';
+  paper?: PaperSize;
 }
 
 /** The cautions every report carries (DESIGN.md, "Cautions shown to users"). */
@@ -65,6 +80,18 @@ export const REPORT_CAUTIONS: readonly string[] = [
   'Scherrer sizes are volume-weighted apparent sizes of the coherently diffracting domains and lower bounds where strain also broadens the peaks; they are not the particle or aggregate sizes seen in microscopy.',
   'Samples and instruments are handled under the lab’s own radiation-safety and chemical-hygiene rules, including for moisture-sensitive, toxic or lead-containing materials.',
 ];
+
+/**
+ * Fixed column widths (percent of the page): the table never grows past the page however long a name
+ * is, and a long word wraps only when it alone is wider than its column.
+ */
+const columns = (percents: number[]): string => `<colgroup>${percents.map((p) => `<col style="width:${p}%">`).join('')}</colgroup>`;
+/**
+ * Reasons that only restate a report caution (the analysis adds the detection-limit sentence to every
+ * sample's reasons): the report says it once, in its cautions, and leaves it out of each sample.
+ */
+const RESTATED_CAUTIONS: readonly RegExp[] = [/below the detection limit.*amorphous/i, /volume-weighted apparent size.*lower bound/i];
+const restatesCaution = (reason: string): boolean => RESTATED_CAUTIONS.some((pattern) => pattern.test(reason));
 
 const esc = (text: string): string => text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
 const num = (v: number | null | undefined, digits: number): string => (v === null || v === undefined || !Number.isFinite(v) ? '' : v.toFixed(digits));
@@ -81,19 +108,20 @@ export function renderHtmlReport(input: ReportInput): string {
       (s) => `<tr class="${s.lowAngle.length ? 'extra' : ''}"><td>${esc(s.name)}${s.simulated ? ' <span class="sim">simulated</span>' : ''}</td><td>${esc(s.variant ?? '')}</td><td>${s.hours ?? ''}</td>
 <td><strong>${esc(s.verdict)}</strong></td><td>${esc(s.phase ?? '—')}${s.phaseVerdict ? ` (${esc(s.phaseVerdict)}, ${num(s.score, 2)})` : ''}</td>
 <td>${s.lowAngle.length ? s.lowAngle.map((p) => `${p.twoTheta.toFixed(2)}° (d ${p.d.toFixed(2)} Å, ${esc(p.phase ?? 'unexplained')})`).join('; ') : 'none'}</td>
-<td>${size(s.sizeNm, s.sizeSigmaNm)}${s.sizeLimit ? ` (${esc(s.sizeLimit)})` : ''}</td><td>${s.whSizeNm === null ? '—' : `${s.whSizeNm.toFixed(1)} nm`}${s.whStrain === null ? '' : `, ε ${s.whStrain.toExponential(1)}`}</td></tr>`,
+<td>${size(s.sizeNm, s.sizeSigmaNm)}${s.sizeLimit ? ` (${esc(s.sizeLimit)})` : ''}</td><td>${s.whSizeNm === null ? '—' : `${s.whSizeNm.toFixed(1)} nm`}${s.whStrain === null ? '' : s.whStrainDetected === false ? ', no strain detected' : `, <span class="nw">ε ${s.whStrain.toExponential(1)}</span>`}</td></tr>`,
     )
     .join('\n');
   const details = input.samples
     .map(
       (s) => `<section class="sample"><h3>${esc(s.name)}</h3><p class="small">File ${esc(s.fileName)}, SHA-256 <code>${esc(s.sha256)}</code>, ${esc(s.wavelength)}${s.simulated ? ', <strong>simulated pattern</strong>' : ''}.</p>
 ${s.figure ? patternFigureSvg(s.figure, `${s.name}${s.simulated ? ' (simulated)' : ''}`) : ''}
-<ul>${s.reasons.map((r) => `<li>${esc(r)}</li>`).join('')}</ul>${s.warnings.length ? `<p class="small">Notes: ${s.warnings.map(esc).join('; ')}</p>` : ''}</section>`,
+${s.sizeStrain ? sizeStrainFigureSvg(s.sizeStrain, `Size–strain plot of ${s.name}`) : ''}
+<ul>${s.reasons.filter((r) => !restatesCaution(r)).map((r) => `<li>${esc(r)}</li>`).join('')}</ul>${s.warnings.length ? `<p class="small">Notes: ${s.warnings.map(esc).join('; ')}</p>` : ''}</section>`,
     )
     .join('\n');
   const pairs = (list: Array<[string, string]>): string => list.map(([k, v]) => `<tr><th>${esc(k)}</th><td>${esc(v)}</td></tr>`).join('');
   const comparisons = input.comparisons.length
-    ? `<table><tr><th>Samples</th><th>Size difference</th><th>Test</th></tr>${input.comparisons
+    ? `<table>${columns([30, 22, 48])}<tr><th>Samples</th><th>Size difference</th><th>Test</th></tr>${input.comparisons
         .map((c) => `<tr><td>${esc(c.a)} vs ${esc(c.b)}</td><td>${c.differs ? '<strong>differs</strong>' : 'no significant difference'}</td><td>${esc(c.test)}: ${esc(c.detail)}</td></tr>`)
         .join('')}</table>`
     : '<p class="small">No pairwise comparison of sizes was made.</p>';
@@ -107,28 +135,28 @@ table{border-collapse:collapse;width:100%;margin:.5rem 0}th,td{border-bottom:1px
 th{background:#f3f1ec;font-weight:600}tr.extra td{background:#fbefe9}.small{font-size:12px;color:#56636b}.sim{font-size:11px;background:#eef3f6;border:1px solid #b9cbd6;border-radius:3px;padding:0 .3rem}
 .truth,.caution{border-left:4px solid #2a8c82;background:#f1f7f6;padding:.5rem .8rem;margin:.8rem 0}.caution{border-color:#c08a2e;background:#fbf5ea}
 code{font-size:11px;word-break:break-all}svg{max-width:100%;height:auto}
-figure.pattern{margin:.6rem 0}figcaption{font-size:11px;color:#56636b}.key{white-space:nowrap;margin-right:.6rem}.swatch{display:inline-block;width:.8em;height:.5em;margin-right:.25em;vertical-align:middle}
-table{table-layout:auto}td,th{overflow-wrap:anywhere}
+figure{margin:.6rem 0}figcaption{font-size:11px;color:#56636b}.key{white-space:nowrap;margin-right:.6rem}.swatch{display:inline-block;width:.8em;height:.5em;margin-right:.25em;vertical-align:middle}
+table{table-layout:fixed}td,th{overflow-wrap:anywhere;hyphens:auto}table.samples{font-size:12.5px}.nw{white-space:nowrap}
 @page{size:${input.paper ?? 'A4'};margin:14mm 12mm}
-@media print{body{margin:0;max-width:none;font-size:10.5pt}h2{break-after:avoid}section.sample,figure,table tr{break-inside:avoid}.caution,.truth{break-inside:avoid}}
+@media print{body{margin:0;max-width:none;font-size:10.5pt}table.samples{font-size:8pt}th,td{padding:.2rem .3rem}h2{break-after:avoid}section.sample,figure,table tr{break-inside:avoid}.caution,.truth{break-inside:avoid}}
 </style></head><body>
 <h1>${esc(input.projectName)}</h1>
 <p class="small">Crystallog ${esc(input.appVersion)} · report made ${esc(input.createdAt)}</p>
 ${input.demo ? `<div class="truth"><strong>Demo project: every pattern in it is simulated, not measured.</strong>${input.truth ? `<br>${esc(input.truth)}` : ''}</div>` : ''}
 <h2>Samples</h2>
-<table><tr><th>Sample</th><th>Variant</th><th>Hours</th><th>Verdict</th><th>Phase (verdict, score)</th><th>Low-angle extra peaks</th><th>Scherrer size</th><th>Williamson–Hall</th></tr>
+<table class="samples">${columns([13, 10, 6, 12, 17, 17, 12.5, 12.5])}<tr><th>Sample</th><th>Variant</th><th>Time (h)</th><th>Verdict</th><th>Phase (verdict, score)</th><th>Low-angle extra peaks</th><th>Scherrer size</th><th>Williamson–<wbr>Hall</th></tr>
 ${rows}</table>
 <h2>Crystallite size across the series</h2>
 ${seriesSvg(input.variants, 'variant')}
 ${seriesSvg(input.exposure, 'time')}
-${growthSvg(input.exposure)}
+${growthSvg(input.growth)}
 ${comparisons}
-${input.growth.length ? `<h2>Growth with exposure time</h2><ul>${input.growth.map((g) => `<li>${esc(g)}</li>`).join('')}</ul>` : ''}
+${input.growth.length ? `<h2>Growth with exposure time</h2><ul>${input.growth.map((g) => `<li>${esc(g.phase)}: ${esc(g.statement)}</li>`).join('')}</ul>` : ''}
 <h2>Why each verdict</h2>
 ${details}
-<h2>Settings</h2><table>${pairs(input.settings)}</table>
-<h2>Instrument profile</h2>${input.instrument ? `<table>${pairs(input.instrument)}</table>` : '<p>None: peak breadths were not corrected for the instrument, so sizes are lower bounds.</p>'}
-<h2>References used</h2><table><tr><th>Name</th><th>Version</th></tr>${input.references.map((r) => `<tr><td>${esc(r.name)}</td><td>${r.version}</td></tr>`).join('')}</table>
+<h2>Settings</h2><table>${columns([40, 60])}${pairs(input.settings)}</table>
+<h2>Instrument profile</h2>${input.instrument ? `<table>${columns([40, 60])}${pairs(input.instrument)}</table>` : '<p>None: peak breadths were not corrected for the instrument, so sizes are lower bounds.</p>'}
+<h2>References used</h2><table>${columns([80, 20])}<tr><th>Name</th><th>Version</th></tr>${input.references.map((r) => `<tr><td>${esc(r.name)}</td><td>${r.version}</td></tr>`).join('')}</table>
 <h2>Cautions</h2>${input.cautions.map((c) => `<p class="caution">${esc(c)}</p>`).join('\n')}
 </body></html>
 `;
@@ -142,7 +170,7 @@ function smallChartFrame(yMax: number, yTickScale: number, yTitle: string): { pa
   const yAt = (v: number): number => top + (1 - v / yMax) * (height - top - bottom);
   const parts: string[] = [`<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 ${width} ${height}" width="${width}" height="${height}" font-size="11" font-family="system-ui,sans-serif">`];
   parts.push(`<line x1="${left}" y1="${height - bottom}" x2="${width - 10}" y2="${height - bottom}" stroke="#24313a"/><line x1="${left}" y1="${top}" x2="${left}" y2="${height - bottom}" stroke="#24313a"/>`);
-  for (const v of niceTicks(0, yMax * yTickScale, 4)) parts.push(`<text x="${left - 6}" y="${yAt(v / yTickScale) + 4}" text-anchor="end">${v}</text>`);
+  for (const v of niceTicks(0, yMax * yTickScale, 5)) parts.push(`<text x="${left - 6}" y="${yAt(v / yTickScale) + 4}" text-anchor="end">${v}</text>`);
   parts.push(`<text transform="translate(14 ${(height - bottom) / 2}) rotate(-90)" text-anchor="middle">${esc(yTitle)}</text>`);
   return { parts, yAt };
 }
@@ -162,25 +190,36 @@ function seriesSvg(rows: ReportSeriesRow[], by: 'variant' | 'time'): string {
     parts.push(`<text x="${x}" y="${height - bottom + 16}" text-anchor="middle">${esc(by === 'time' ? `${p.hours} h` : p.label)}</text>`);
   });
   parts.push('</svg>');
-  return `<p class="small">${by === 'variant' ? 'By workup variant' : 'By exposure time'} (error bars: ± one standard uncertainty)</p>${parts.join('')}`;
+  return `<figure class="series"><figcaption>${by === 'variant' ? 'By workup variant' : 'By exposure time'} (error bars: ± one standard uncertainty)</figcaption>${parts.join('')}</figure>`;
 }
 
-/** The other phases' share against exposure time: the growth of a hydrolysis or hydration product. */
-function growthSvg(rows: ReportSeriesRow[]): string {
-  const points = rows.filter((r) => r.hours !== null && r.impurityShare !== null) as Array<ReportSeriesRow & { hours: number; impurityShare: number }>;
-  if (points.length < 2) return '';
+/**
+ * Each other phase's share against exposure time (the growth of a hydrolysis or hydration product):
+ * its measured points and, where the data support one, its fitted growth curve.
+ */
+function growthSvg(curves: ReportGrowth[]): string {
+  const drawn = curves.filter((g) => g.points.length >= 2);
+  if (!drawn.length) return '';
   const { width, height, left, bottom } = SMALL_CHART;
-  const maxHours = Math.max(...points.map((p) => p.hours)) || 1;
-  const maxShare = Math.min(1, Math.max(0.05, ...points.map((p) => p.impurityShare)) * 1.15);
+  const all = drawn.flatMap((g) => [...g.points, ...g.curve]);
+  const maxHours = Math.max(...all.map((p) => p.hours)) || 1;
+  const maxShare = Math.min(1, Math.max(0.05, ...all.map((p) => p.share)) * 1.15);
   const xAt = (h: number): number => left + (h / maxHours) * (width - left - 16);
-  const { parts, yAt } = smallChartFrame(maxShare, 100, 'other phases (%)');
+  const { parts, yAt } = smallChartFrame(maxShare, 100, 'share (%)');
   for (const h of niceTicks(0, maxHours, 6)) parts.push(`<text x="${xAt(h)}" y="${height - bottom + 16}" text-anchor="middle">${h}</text>`);
   parts.push(`<text x="${(left + width) / 2}" y="${height - 4}" text-anchor="middle">exposure (h)</text>`);
-  const sorted = [...points].sort((a, b) => a.hours - b.hours);
-  parts.push(`<path d="${sorted.map((p, i) => `${i ? 'L' : 'M'}${xAt(p.hours).toFixed(1)} ${yAt(p.impurityShare).toFixed(1)}`).join('')}" fill="none" stroke="#d55e00"/>`);
-  for (const p of sorted) parts.push(`<circle cx="${xAt(p.hours)}" cy="${yAt(p.impurityShare)}" r="4" fill="#d55e00"/>`);
+  const trace = (points: Array<{ hours: number; share: number }>): string => points.map((p, i) => `${i ? 'L' : 'M'}${xAt(p.hours).toFixed(1)} ${yAt(p.share).toFixed(1)}`).join('');
+  const key: string[] = [];
+  drawn.forEach((g, i) => {
+    const colour = PHASE_COLOURS[(i + 1) % PHASE_COLOURS.length]!;
+    const sorted = [...g.points].sort((a, b) => a.hours - b.hours);
+    if (g.curve.length) parts.push(`<path d="${trace(g.curve)}" fill="none" stroke="${colour}" stroke-width="1.4"/>`);
+    else parts.push(`<path d="${trace(sorted)}" fill="none" stroke="${colour}" stroke-dasharray="3 3"/>`);
+    for (const p of sorted) parts.push(`<circle cx="${xAt(p.hours).toFixed(1)}" cy="${yAt(p.share).toFixed(1)}" r="4" fill="${colour}"/>`);
+    key.push(`<span class="key"><span class="swatch" style="background:${colour}"></span>${esc(g.phase)} (${g.curve.length ? 'points and fitted growth curve' : 'points joined; no curve fitted'})</span>`);
+  });
   parts.push('</svg>');
-  return `<p class="small">Share of the pattern not explained by the target, against exposure time</p>${parts.join('')}`;
+  return `<figure class="growth"><figcaption>Share of each other phase against exposure time</figcaption>${parts.join('')}<figcaption>${key.join(' ')}</figcaption></figure>`;
 }
 
 const CSV_COLUMNS = [
