@@ -9,6 +9,7 @@ import { normalisationFactor, normalisedTitle, scaledSeries, sharedRange, type N
 import { phaseMarking, satelliteLabel } from '../chart/phase-marks.js';
 import { nearestIndex } from '../chart/readout.js';
 import { chartToSvg } from '../chart/svg.js';
+import { compositionOf, phaseShareText } from '../../src/api/composition.js';
 import { sizeStrainChart } from '../chart/size-strain-chart.js';
 import { append, field, fmt, h, hklText, sizeText } from '../base/dom.js';
 import { app, changed, verdictClass } from '../base/state.js';
@@ -443,7 +444,7 @@ function headline(detail: SampleDetail): string {
   const target = detail.phase;
   parts.push(target ? `${target.name} ${target.verdict}` : 'No target phase set');
   const others = (detail.match?.phases ?? []).filter((p) => p.verdict !== 'not-seen' && p.name !== target?.name);
-  if (others.length) parts.push(`with ${others.map(shareText).join(', ')}`);
+  if (others.length) parts.push(`with ${others.map(phaseShareText).join(', ')}`);
   const sentence = [parts.join(' ')];
   const low = detail.lowAnglePeaks.length;
   if (low) sentence.push(`${low} low-angle extra peak${low > 1 ? 's' : ''} (possible hydrolysis)`);
@@ -452,37 +453,21 @@ function headline(detail: SampleDetail): string {
   return `${sentence.join(' · ')}.`;
 }
 
-/** A phase with its weight % where quantified (absolute with an internal standard), else its share of the peak area. */
-function shareText(p: PhaseMatch): string {
-  const uncertain = p.verdict === 'uncertain' ? ' (uncertain)' : '';
-  const absolute = p.absoluteWeightFraction ?? null;
-  if (absolute !== null) return `${p.name} ${percentText(absolute, p.absoluteWeightFractionSigma ?? null)} wt %${uncertain}`;
-  if (p.weightFraction !== null) return `${p.name} ${percentText(p.weightFraction, p.weightFractionSigma ?? null)} wt % of the crystalline part${uncertain}`;
-  return `${p.name} ${(100 * p.explainedAreaShare).toFixed(0)} % of peak area${uncertain}`;
-}
-
-/** A fraction (0–1) as a percentage with its σ, to the σ's first digit. */
-function percentText(fraction: number, sigma: number | null): string {
-  if (sigma === null || !(sigma > 0)) return (100 * fraction).toFixed(0);
-  const digits = Math.max(0, Math.min(2, 1 - Math.floor(Math.log10(100 * sigma))));
-  return `${(100 * fraction).toFixed(digits)} ± ${(100 * sigma).toFixed(digits)}`;
-}
-
 /**
- * What the sample is made of: each phase seen with its weight % ± σ (absolute, and the amorphous
- * content, when an internal standard was declared), else the crystallinity estimate with its caveat.
+ * What the sample is made of (composition.ts): each phase seen with its weight % ± σ, absolute with
+ * the amorphous content where an internal standard was declared, else the crystallinity estimate.
  */
 function compositionBlock(detail: SampleDetail): HTMLElement | null {
-  const match = detail.match;
-  if (!match) return null;
-  const seen = match.phases.filter((p) => p.verdict !== 'not-seen');
-  const rows: HTMLElement[] = seen.map((p) => h('li', {}, shareText(p)));
-  if (match.amorphous) rows.push(h('li', { 'data-testid': 'amorphous' }, `amorphous and unidentified matter ${percentText(match.amorphous.fraction, match.amorphous.sigma)} wt %`));
-  const notes: HTMLElement[] = [];
-  if (match.quantificationStatement) notes.push(h('p', { class: 'small' }, match.quantificationStatement));
-  if (!match.amorphous && detail.crystallinity) notes.push(h('p', { class: 'small', 'data-testid': 'crystallinity' }, `Crystallinity without a standard: ${detail.crystallinity.statement}`));
-  if (!rows.length && !notes.length) return null;
-  return h('div', { 'data-testid': 'composition' }, h('h3', {}, 'Composition'), rows.length ? h('ul', { class: 'composition' }, ...rows) : null, ...notes);
+  if (!detail.match) return null;
+  const { parts, notes } = compositionOf(detail.match, detail.crystallinity);
+  if (!parts.length && !notes.length) return null;
+  return h(
+    'div',
+    { 'data-testid': 'composition' },
+    h('h3', {}, 'Composition'),
+    parts.length ? h('ul', { class: 'composition' }, ...parts.map((t) => h('li', {}, t))) : null,
+    ...notes.map((t) => h('p', { class: 'small' }, t)),
+  );
 }
 
 function labelsForm(detail: SampleDetail): HTMLElement {

@@ -1,3 +1,4 @@
+import { compositionOf } from '../api/composition.js';
 import type { PatternFigure } from '../core/report/figures.js';
 import { REPORT_CAUTIONS, renderCsvReport, renderHtmlReport, reportFileBase, type PaperSize, type ReportInput, type ReportSample } from '../core/report/report.js';
 import type { ExportedFile } from '../api/contract.js';
@@ -37,6 +38,7 @@ export function reportInput(workspace: Workspace, appVersion: string, paper: Pap
       reasons: [...(result?.match.reasons ?? []), ...(phase?.reasons ?? [])],
       warnings: result?.warnings ?? [],
       figure: result ? patternFigure(workspace, record.id) : null,
+      composition: result ? compositionOf(result.match, result.crystallinity ?? null) : { parts: [], notes: [] },
       sizeStrain: result?.size.sizeStrain
         ? {
             points: result.size.sizeStrain.plot.map((q) => ({ twoTheta: q.twoThetaDeg, x: q.x, y: q.y, sigmaY: q.sigmaY })),

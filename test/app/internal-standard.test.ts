@@ -82,4 +82,11 @@ describe('an internal standard declared for the project', () => {
     expect(after.match.amorphous).not.toBeNull();
     expect(after.match.amorphous!.sigma).toBeGreaterThan(0);
   });
+
+  it('the report says the composition as the screen does: absolute weight % ± σ and the amorphous content', async () => {
+    const report = await ok<{ text: string }>('report.build', { format: 'html' });
+    const composition = /<strong>Composition:<\/strong> ([^<]*)<\/p>/.exec(report.text)?.[1] ?? '';
+    expect(composition).toMatch(/test oxide \d+(\.\d+)? ± \d+(\.\d+)? wt %/);
+    expect(composition).toMatch(/amorphous and unidentified matter -?\d+(\.\d+)? ± \d+(\.\d+)? wt %/);
+  });
 });

@@ -34,6 +34,8 @@ export interface ReportSample {
   figure?: PatternFigure | null;
   /** The size–strain plot with its fitted line (null when the sample gave no size–strain result). */
   sizeStrain?: SizeStrainFigure | null;
+  /** What the sample is made of, as the screen says it: one line per phase seen (weight % ± σ), and how they were formed. */
+  composition?: { parts: string[]; notes: string[] };
 }
 
 /** The paper sizes a report prints on; A4 unless the user chose Letter. */
@@ -116,6 +118,7 @@ export function renderHtmlReport(input: ReportInput): string {
       (s) => `<section class="sample"><h3>${esc(s.name)}</h3><p class="small">File ${esc(s.fileName)}, SHA-256 <code>${esc(s.sha256)}</code>, ${esc(s.wavelength)}${s.simulated ? ', <strong>simulated pattern</strong>' : ''}.</p>
 ${s.figure ? patternFigureSvg(s.figure, `${s.name}${s.simulated ? ' (simulated)' : ''}`) : ''}
 ${s.sizeStrain ? sizeStrainFigureSvg(s.sizeStrain, `Size–strain plot of ${s.name}`) : ''}
+${s.composition && s.composition.parts.length ? `<p><strong>Composition:</strong> ${s.composition.parts.map(esc).join('; ')}.</p>${s.composition.notes.map((n) => `<p class="small">${esc(n)}</p>`).join('')}` : ''}
 <ul>${s.reasons.filter((r) => !restatesCaution(r)).map((r) => `<li>${esc(r)}</li>`).join('')}</ul>${s.warnings.length ? `<p class="small">Notes: ${s.warnings.map(esc).join('; ')}</p>` : ''}</section>`,
     )
     .join('\n');
