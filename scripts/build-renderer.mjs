@@ -10,32 +10,27 @@ const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const out = join(root, 'dist');
 const started = Date.now();
 
+/** One script of the page (renderer/NAME → dist/renderer/OUT), bundled for the browser. */
+function pageBundle(name, outName, extra = {}) {
+  return build({
+    entryPoints: [join(root, 'renderer', name)],
+    outfile: join(out, 'renderer', outName),
+    bundle: true,
+    format: 'iife',
+    platform: 'browser',
+    target: 'chrome120',
+    minify: true,
+    sourcemap: 'linked',
+    logLevel: 'warning',
+    ...extra,
+  });
+}
+
 await mkdir(join(out, 'renderer'), { recursive: true });
 await Promise.all([
-  build({
-    entryPoints: [join(root, 'renderer', 'main.ts')],
-    outfile: join(out, 'renderer', 'app.js'),
-    bundle: true,
-    format: 'iife',
-    platform: 'browser',
-    target: 'chrome120',
-    minify: true,
-    sourcemap: 'linked',
-    legalComments: 'linked',
-    logLevel: 'warning',
-  }),
+  pageBundle('main.ts', 'app.js', { legalComments: 'linked' }),
   // The page's worker that fetches and decodes a long pattern's curves off the page's thread.
-  build({
-    entryPoints: [join(root, 'renderer', 'decode-worker.ts')],
-    outfile: join(out, 'renderer', 'decode-worker.js'),
-    bundle: true,
-    format: 'iife',
-    platform: 'browser',
-    target: 'chrome120',
-    minify: true,
-    sourcemap: 'linked',
-    logLevel: 'warning',
-  }),
+  pageBundle('decode-worker.ts', 'decode-worker.js'),
   build({
     entryPoints: [join(root, 'electron', 'main.ts')],
     outfile: join(out, 'electron', 'main.js'),

@@ -79,6 +79,16 @@ function ask(request: Omit<DecodeRequest, 'seq'>, w: Worker): Promise<DecodeAnsw
 }
 
 /** A sample's detail, its curves decoded off the page's thread where a worker can be had. */
+/** A sample's loaded detail, kept in `details` once loaded (the screens share it while the project stays as it is). */
+export async function cachedSample(details: Map<number, LoadedSample>, id: number): Promise<LoadedSample> {
+  let detail = details.get(id);
+  if (!detail) {
+    detail = await loadSample(id);
+    details.set(id, detail);
+  }
+  return detail;
+}
+
 export async function loadSample(id: number): Promise<LoadedSample> {
   const w = decodeWorker();
   if (!w) return decodeDetail(await call('sample.get', { id }));

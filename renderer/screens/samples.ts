@@ -1,6 +1,6 @@
 import type { PatternPreview, PhaseMatch, SampleDetail, SampleSummary } from '../../src/api/contract.js';
 import { call, decodeFloats, saveFile } from '../base/api.js';
-import { loadSample, type LoadedSample } from '../base/sample-data.js';
+import { cachedSample, type LoadedSample } from '../base/sample-data.js';
 import { COARSE_ABOVE_POINTS, nextTask } from '../chart/coarse.js';
 import { timings } from '../base/actions.js';
 import { COLORS, PatternChart, type PatternSeries, type PeakMark, type PatternViewModel, type PhaseLegend } from '../chart/pattern-chart.js';
@@ -136,13 +136,8 @@ function renderPreview(main: HTMLElement, preview: PatternPreview): void {
   timings.lastPreviewMs = performance.now() - timings.dropStarted;
 }
 
-async function sampleDetail(id: number): Promise<LoadedSample> {
-  let detail = app.details.get(id);
-  if (!detail) {
-    detail = await loadSample(id);
-    app.details.set(id, detail);
-  }
-  return detail;
+function sampleDetail(id: number): Promise<LoadedSample> {
+  return cachedSample(app.details, id);
 }
 
 function series(detail: LoadedSample): PatternSeries {
@@ -444,7 +439,7 @@ function headline(detail: SampleDetail): string {
   const target = detail.phase;
   parts.push(target ? `${target.name} ${target.verdict}` : 'No target phase set');
   const others = (detail.match?.phases ?? []).filter((p) => p.verdict !== 'not-seen' && p.name !== target?.name);
-  if (others.length) parts.push(`with ${others.map(phaseShareText).join(', ')}`);
+  if (others.length) parts.push(`with ${others.map((p) => phaseShareText(p, true)).join(', ')}`);
   const sentence = [parts.join(' ')];
   const low = detail.lowAnglePeaks.length;
   if (low) sentence.push(`${low} low-angle extra peak${low > 1 ? 's' : ''} (possible hydrolysis)`);

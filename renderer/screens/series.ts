@@ -1,6 +1,6 @@
 import type { SeriesView } from '../../src/api/contract.js';
 import { call } from '../base/api.js';
-import { loadSample, type LoadedSample } from '../base/sample-data.js';
+import { cachedSample } from '../base/sample-data.js';
 import { drawHeatMap } from '../chart/heat-map.js';
 import { Chart, COLORS, errorBarPlugin, PatternChart } from '../chart/pattern-chart.js';
 import { fmt, h, sizeText } from '../base/dom.js';
@@ -150,22 +150,13 @@ function patternsPanel(view: SeriesView): HTMLElement {
   );
 }
 
-async function seriesDetail(id: number): Promise<LoadedSample> {
-  let detail = app.details.get(id);
-  if (!detail) {
-    detail = await loadSample(id);
-    app.details.set(id, detail);
-  }
-  return detail;
-}
-
 async function drawPatterns(screen: HTMLElement, view: SeriesView): Promise<void> {
   const waterfallCanvas = screen.querySelector<HTMLCanvasElement>('[data-testid="waterfall"]');
   const heatCanvas = screen.querySelector<HTMLCanvasElement>('[data-testid="heat-map"]');
   if (!waterfallCanvas || !heatCanvas) return;
   const patterns: Array<{ label: string; lambda: number; x: Float32Array; y: Float32Array }> = [];
   for (const row of view.rows) {
-    const detail = await seriesDetail(row.sampleId);
+    const detail = await cachedSample(app.details, row.sampleId);
     patterns.push({ label: row.label, lambda: detail.lambda1, x: detail.curves.x, y: detail.curves.y });
   }
   if (!waterfallCanvas.isConnected) return;

@@ -83,8 +83,9 @@ export function reportInput(workspace: Workspace, appVersion: string, paper: Pap
     exposure: exposure.rows.map((r) => ({ label: r.label, hours: r.hours, sizeNm: r.sizeNm, sizeSigmaNm: r.sizeSigmaNm })),
     comparisons: [...variants.comparisons, ...exposure.comparisons],
     growth: exposure.growth.map((g) => ({ phase: g.phase, statement: g.statement, points: g.points, curve: g.curve })),
-    // The report's cautions already say what the size cautions say: each once.
-    cautions: [...REPORT_CAUTIONS],
+    // The report's cautions already say what the size cautions say: each once. What the composition
+    // lines assume is the same sentence for samples measured alike: said once, with the cautions.
+    cautions: [...REPORT_CAUTIONS, ...new Set(samples.flatMap((s) => s.composition?.notes ?? []))],
     paper,
   };
 }

@@ -59,6 +59,15 @@ export async function openApp(): Promise<AppSession> {
 
 export const chromiumAvailable = (): boolean => existsSync(CHROMIUM);
 
+/** From the first-run screen: a new empty project with this name and target phase, ready for files. */
+export async function startEmptyProject(page: Page, name: string, target: string): Promise<void> {
+  await page.getByRole('button', { name: 'Start an empty project' }).click();
+  await page.getByTestId('new-project-name').fill(name);
+  await page.getByTestId('new-project-target').selectOption(target);
+  await page.getByRole('button', { name: 'Create' }).click();
+  await page.getByTestId('open-patterns').waitFor();
+}
+
 export function pageProblems(page: Page): string[] {
   return (page as Page & { problems?: string[] }).problems ?? [];
 }

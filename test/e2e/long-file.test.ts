@@ -8,7 +8,7 @@ import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { siliconPatternText } from '../app/fixtures.js';
-import { chromiumAvailable, openApp, pageProblems, SCREENSHOTS, type AppSession } from './harness.js';
+import { chromiumAvailable, openApp, pageProblems, startEmptyProject, SCREENSHOTS, type AppSession } from './harness.js';
 
 let app: AppSession;
 const shot = (name: string) => app.page.screenshot({ path: join(SCREENSHOTS, `${name}.png`) });
@@ -31,11 +31,7 @@ describe('a very large pattern file (headless Chromium)', () => {
     if (!chromiumAvailable()) throw new Error('Chromium is missing at /usr/bin/chromium: apt-get install -y chromium (or set CRYSTALLOG_TEST_CHROMIUM)');
     app = await openApp();
     const { page } = app;
-    await page.getByRole('button', { name: 'Start an empty project' }).click();
-    await page.getByTestId('new-project-name').fill('long file');
-    await page.getByTestId('new-project-target').selectOption('methylammonium lead iodide');
-    await page.getByRole('button', { name: 'Create' }).click();
-    await page.getByTestId('open-patterns').waitFor();
+    await startEmptyProject(page, 'long file', 'methylammonium lead iodide');
   }, 120_000);
   afterAll(async () => {
     await app?.close();

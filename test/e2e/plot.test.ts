@@ -8,7 +8,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { siliconPatternText } from '../app/fixtures.js';
-import { chromiumAvailable, openApp, pageProblems, ROOT, SCREENSHOTS, type AppSession } from './harness.js';
+import { chromiumAvailable, openApp, pageProblems, startEmptyProject, ROOT, SCREENSHOTS, type AppSession } from './harness.js';
 
 let app: AppSession;
 const shot = (name: string) => app.page.screenshot({ path: join(SCREENSHOTS, `${name}.png`) });
@@ -28,11 +28,7 @@ describe('the pattern plot (headless Chromium)', () => {
     app = await openApp();
     const { page } = app;
     await page.setViewportSize({ width: 1440, height: 900 });
-    await page.getByRole('button', { name: 'Start an empty project' }).click();
-    await page.getByTestId('new-project-name').fill('plot checks');
-    await page.getByTestId('new-project-target').selectOption('methylammonium lead iodide');
-    await page.getByRole('button', { name: 'Create' }).click();
-    await page.getByTestId('open-patterns').waitFor();
+    await startEmptyProject(page, 'plot checks', 'methylammonium lead iodide');
   }, 120_000);
   afterAll(async () => {
     await app?.close();

@@ -39,11 +39,12 @@ export function crystallinityEstimate(pattern: Pattern, peaks: readonly FittedPe
   const percent = 100 * share;
   return {
     percent: Math.round(percent * 10) / 10,
-    statement:
-      `crystalline share of the scattering about ${percent.toFixed(0)} % (peak area over all area above the baseline): ` +
-      'for comparing samples of one material measured alike, not a weight fraction; an internal standard gives the amorphous content',
+    statement: `crystalline share of the scattering about ${percent.toFixed(0)} % (peak area over all area above the baseline): ${CRYSTALLINITY_CAVEAT}`,
   };
 }
+
+/** What the crystallinity estimate is and is not good for. */
+export const CRYSTALLINITY_CAVEAT = 'for comparing samples of one material measured alike, not a weight fraction; an internal standard gives the non-crystalline content by weight';
 
 function movingAverage(y: ArrayLike<number>, width: number): Float64Array {
   const n = y.length;

@@ -118,7 +118,7 @@ export function renderHtmlReport(input: ReportInput): string {
       (s) => `<section class="sample"><h3>${esc(s.name)}</h3><p class="small">File ${esc(s.fileName)}, SHA-256 <code>${esc(s.sha256)}</code>, ${esc(s.wavelength)}${s.simulated ? ', <strong>simulated pattern</strong>' : ''}.</p>
 ${s.figure ? patternFigureSvg(s.figure, `${s.name}${s.simulated ? ' (simulated)' : ''}`) : ''}
 ${s.sizeStrain ? sizeStrainFigureSvg(s.sizeStrain, `Size–strain plot of ${s.name}`) : ''}
-${s.composition && s.composition.parts.length ? `<p><strong>Composition:</strong> ${s.composition.parts.map(esc).join('; ')}.</p>${s.composition.notes.map((n) => `<p class="small">${esc(n)}</p>`).join('')}` : ''}
+${s.composition && s.composition.parts.length ? `<p><strong>Composition:</strong> ${s.composition.parts.map(esc).join('; ')}.</p>` : ''}
 <ul>${s.reasons.filter((r) => !restatesCaution(r)).map((r) => `<li>${esc(r)}</li>`).join('')}</ul>${s.warnings.length ? `<p class="small">Notes: ${s.warnings.map(esc).join('; ')}</p>` : ''}</section>`,
     )
     .join('\n');
