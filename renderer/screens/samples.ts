@@ -58,8 +58,11 @@ export async function renderSamples(root: HTMLElement): Promise<void> {
   let spare = marking.legend.length;
   const stacked = normalised([detail, ...overlays].map(series));
   main.append(toolbar(detail, stacked.note, stacked.range), box, differencePanel(detail, project.samples), details(detail, checked, marking.legend));
+  // A simulated pattern is never called measured in the legend.
+  const shown = detail.simulated ? { ...stacked.series[0]!, label: `${detail.name} (simulated)` } : stacked.series[0]!;
   const view: PatternViewModel = {
-    main: stacked.series[0]!,
+    main: shown,
+    measured: !detail.simulated,
     overlays: stacked.series.slice(1),
     marks: marking.marks.map((m) => ({ ...m, y: m.y / stacked.factors[0]! })),
     phases: marking.legend,
