@@ -115,7 +115,7 @@ function shareTyped<T extends Float64Array | Int32Array | Float32Array>(array: T
  */
 function shareLines(references: readonly StoredReference[]): SharedLines {
   const whole = wholeBlockOf(references);
-  if (whole && !('read' in whole.lines)) {
+  if (whole && 'values' in whole.lines) {
     const { values, indices, indexStart } = whole.lines;
     return { values: shareBytes(values), indices: shareBytes(indices), valueStart: whole.valueStart, indexStart, count: whole.count };
   }
@@ -157,7 +157,7 @@ function referencesFromShared(heads: readonly ReferenceHead[], shared: SharedLin
     valueStart: shared.valueStart,
     count: shared.count,
   };
-  return heads.map((head, r) => withLazyLines(head, { snapshot: block, r }));
+  return heads.map((head, r) => withLazyLines(head, { block, r }));
 }
 
 /**

@@ -2,22 +2,14 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { SILICON, siliconPatternText } from '../app/fixtures.js';
-import { chromiumAvailable, openApp, pageProblems, SCREENSHOTS, type AppSession } from './harness.js';
+import { openApp, pickFile, pageProblems, SCREENSHOTS, type AppSession } from './harness.js';
 
 let app: AppSession;
 const shot = (name: string) => app.page.screenshot({ path: join(SCREENSHOTS, `${name}.png`) });
 
-/** Pick a file with the page's own file picker, opened by the button with this test id. */
-async function pickFile(buttonTestId: string, file: string): Promise<void> {
-  const chooser = app.page.waitForEvent('filechooser');
-  await app.page.getByTestId(buttonTestId).click();
-  await (await chooser).setFiles(file);
-}
-
 describe('the app in a real browser (browser mode, headless Chromium)', () => {
   beforeAll(async () => {
     // No silent skip: these tests need Debian's Chromium (.ci/run installs it).
-    if (!chromiumAvailable()) throw new Error('Chromium is missing at /usr/bin/chromium: apt-get install -y chromium (or set CRYSTALLOG_TEST_CHROMIUM)');
     app = await openApp();
   });
   afterAll(async () => {
@@ -132,7 +124,7 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     const { page } = app;
     const file = join(app.dataDir, 'silicon-check_10k.xy');
     writeFileSync(file, siliconPatternText({ points: 10001 }));
-    await pickFile('open-patterns', file);
+    await pickFile(app.page, file);
     await page.locator('[data-testid="sample-list"] li', { hasText: 'silicon-check_10k' }).waitFor();
     await page.getByTestId('verdict').waitFor();
     const timings = await page.evaluate(() => (window as unknown as { crystallogTimings: { lastAddMs: number; lastDrawMs: number } }).crystallogTimings);
@@ -145,7 +137,7 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     const { page } = app;
     const file = join(app.dataDir, 'silicon-long_50k.xy');
     writeFileSync(file, siliconPatternText({ points: 50001, seed: 77 }));
-    await pickFile('open-patterns', file);
+    await pickFile(app.page, file);
     await page.locator('[data-testid="sample-list"] li', { hasText: 'silicon-long_50k' }).waitFor();
     await page.getByTestId('verdict').waitFor();
     // Zoom in first, as one does before panning, then time each pan step (chart update with decimation).
@@ -168,14 +160,14 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     const { page } = app;
     const file = join(app.dataDir, 'broken.xy');
     writeFileSync(file, '2theta counts\n10.00 120\n10.02 lots\n');
-    await pickFile('open-patterns', file);
+    await pickFile(app.page, file);
     const alert = page.getByRole('alert').first();
     await alert.waitFor();
     const text = (await alert.textContent()) ?? '';
     expect(text).toMatch(/broken\.xy, line 3: .*not a number/);
     expect(text).not.toMatch(/at .*\.(ts|js):\d+/);
     // The same file refused again counts up on the same line instead of stacking another.
-    await pickFile('open-patterns', file);
+    await pickFile(app.page, file);
     await page.getByRole('alert').filter({ hasText: '(×2)' }).waitFor();
     expect(await page.getByRole('alert').count()).toBe(1);
     await shot('05-malformed-file');
@@ -204,7 +196,7 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     const file = join(app.dataDir, 'sodium-chloride.csv');
     // NaCl lines of NBS Circular 539 (Swanson & Fuyat, 1953), from memory.
     writeFileSync(file, '# name: sodium chloride test\n# formula: NaCl\n# source: NBS Circular 539 (from memory)\nd,intensity\n3.258,13\n2.821,100\n1.994,55\n1.628,15\n');
-    await pickFile('library-import', file);
+    await pickFile(app.page, file, 'library-import');
     await page.getByText('Imported sodium chloride test.').waitFor();
     await expect.poll(() => page.getByTestId('reference-detail').textContent()).toContain('NBS Circular 539');
   });

@@ -9,7 +9,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { chromiumAvailable, openApp, pageProblems, ROOT, SCREENSHOTS, type AppSession } from './harness.js';
+import { openApp, pageProblems, ROOT, SCREENSHOTS, type AppSession } from './harness.js';
 
 let app: AppSession;
 
@@ -51,7 +51,6 @@ const OWN_TEXT = readFileSync(join(ROOT, 'examples', 'simulated_MAPbI3_humid-air
 
 describe("a chemist's day in the app (headless Chromium)", () => {
   beforeAll(async () => {
-    if (!chromiumAvailable()) throw new Error('Chromium is missing at /usr/bin/chromium: apt-get install -y chromium (or set CRYSTALLOG_TEST_CHROMIUM)');
     app = await openApp();
   }, 120_000);
   afterAll(async () => {

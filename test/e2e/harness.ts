@@ -21,6 +21,8 @@ export interface AppSession {
 
 /** Build the screens, start browser mode on a fresh app-data folder, and open it in headless Chromium. */
 export async function openApp(): Promise<AppSession> {
+  // Never a silent skip: without Chromium the browser tests fail with what to install.
+  if (!chromiumAvailable()) throw new Error(`Chromium is missing at ${CHROMIUM}: apt-get install -y chromium (or set CRYSTALLOG_TEST_CHROMIUM)`);
   execFileSync(process.execPath, [join(ROOT, 'scripts', 'build-renderer.mjs')], { stdio: 'ignore' });
   mkdirSync(SCREENSHOTS, { recursive: true });
   const dataDir = mkdtempSync(join(tmpdir(), 'crystallog-e2e-'));
@@ -58,6 +60,13 @@ export async function openApp(): Promise<AppSession> {
 }
 
 export const chromiumAvailable = (): boolean => existsSync(CHROMIUM);
+
+/** Pick a file with the page's own file picker, opened by the button with this test id. */
+export async function pickFile(page: Page, file: string, buttonTestId = 'open-patterns'): Promise<void> {
+  const chooser = page.waitForEvent('filechooser');
+  await page.getByTestId(buttonTestId).click();
+  await (await chooser).setFiles(file);
+}
 
 /** From the first-run screen: a new empty project with this name and target phase, ready for files. */
 export async function startEmptyProject(page: Page, name: string, target: string): Promise<void> {

@@ -8,16 +8,10 @@ import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { siliconPatternText } from '../app/fixtures.js';
-import { chromiumAvailable, openApp, pageProblems, startEmptyProject, SCREENSHOTS, type AppSession } from './harness.js';
+import { openApp, pickFile, pageProblems, startEmptyProject, SCREENSHOTS, type AppSession } from './harness.js';
 
 let app: AppSession;
 const shot = (name: string) => app.page.screenshot({ path: join(SCREENSHOTS, `${name}.png`) });
-
-async function pickFile(file: string): Promise<void> {
-  const chooser = app.page.waitForEvent('filechooser');
-  await app.page.getByTestId('open-patterns').click();
-  await (await chooser).setFiles(file);
-}
 
 /** The project's samples as the engine has them (not as the page shows them). */
 const storedSamples = (): Promise<Array<{ fileName: string }>> =>
@@ -28,7 +22,6 @@ const storedSamples = (): Promise<Array<{ fileName: string }>> =>
 
 describe('a very large pattern file (headless Chromium)', () => {
   beforeAll(async () => {
-    if (!chromiumAvailable()) throw new Error('Chromium is missing at /usr/bin/chromium: apt-get install -y chromium (or set CRYSTALLOG_TEST_CHROMIUM)');
     app = await openApp();
     const { page } = app;
     await startEmptyProject(page, 'long file', 'methylammonium lead iodide');
@@ -41,7 +34,7 @@ describe('a very large pattern file (headless Chromium)', () => {
     const { page } = app;
     const file = join(app.dataDir, 'silicon-2M-lines.xy');
     writeFileSync(file, siliconPatternText({ points: 2_000_000, seed: 9, xDecimals: 6 }));
-    await pickFile(file);
+    await pickFile(app.page, file);
 
     // The pattern is drawn from the engine's reduced copy while the analysis runs: no verdict yet.
     await page.getByTestId('pattern-preview').waitFor({ timeout: 120_000 });
@@ -71,7 +64,7 @@ describe('a very large pattern file (headless Chromium)', () => {
     // The app still works: the next file is read, analysed and added as usual.
     const small = join(app.dataDir, 'silicon-after.xy');
     writeFileSync(small, siliconPatternText({ points: 10_001, seed: 4 }));
-    await pickFile(small);
+    await pickFile(app.page, small);
     await page.getByTestId('verdict').waitFor({ timeout: 60_000 });
     expect((await storedSamples()).map((s) => s.fileName)).toEqual(['silicon-after.xy']);
     expect(await page.locator('[data-testid="sample-list"] li').count()).toBe(1);
@@ -84,7 +77,7 @@ describe('a very large pattern file (headless Chromium)', () => {
     const { page } = app;
     const broken = join(app.dataDir, 'broken.xy');
     writeFileSync(broken, '10.0 100\n10.1 120\n10.2 abc\n');
-    await pickFile(broken);
+    await pickFile(app.page, broken);
     await page.getByText(/broken\.xy.*line 3/).waitFor({ timeout: 30_000 });
     expect((await storedSamples()).map((s) => s.fileName)).toEqual(['silicon-after.xy']);
     await page.getByTestId('verdict').waitFor();
@@ -94,7 +87,7 @@ describe('a very large pattern file (headless Chromium)', () => {
     const { page } = app;
     const file = join(app.dataDir, 'silicon-300k.xy');
     writeFileSync(file, siliconPatternText({ points: 300_001, seed: 6, xDecimals: 6 }));
-    await pickFile(file);
+    await pickFile(app.page, file);
     await page.locator('[data-testid="sample-list"] li', { hasText: 'silicon-300k' }).waitFor({ timeout: 120_000 });
     await page.getByTestId('verdict').waitFor();
     const chart = page.locator('canvas[data-testid="pattern-chart"]:not([data-preview])');

@@ -8,23 +8,16 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { siliconPatternText } from '../app/fixtures.js';
-import { chromiumAvailable, openApp, pageProblems, startEmptyProject, ROOT, SCREENSHOTS, type AppSession } from './harness.js';
+import { openApp, pickFile, pageProblems, startEmptyProject, ROOT, SCREENSHOTS, type AppSession } from './harness.js';
 
 let app: AppSession;
 const shot = (name: string) => app.page.screenshot({ path: join(SCREENSHOTS, `${name}.png`) });
-
-async function pickFile(file: string): Promise<void> {
-  const chooser = app.page.waitForEvent('filechooser');
-  await app.page.getByTestId('open-patterns').click();
-  await (await chooser).setFiles(file);
-}
 
 const drawnPoints = () => app.page.getByTestId('pattern-chart').evaluate((el) => Number((el as HTMLCanvasElement).dataset.drawnPoints));
 const canvasWidth = () => app.page.getByTestId('pattern-chart').evaluate((el) => el.getBoundingClientRect().width);
 
 describe('the pattern plot (headless Chromium)', () => {
   beforeAll(async () => {
-    if (!chromiumAvailable()) throw new Error('Chromium is missing at /usr/bin/chromium: apt-get install -y chromium (or set CRYSTALLOG_TEST_CHROMIUM)');
     app = await openApp();
     const { page } = app;
     await page.setViewportSize({ width: 1440, height: 900 });
@@ -38,7 +31,7 @@ describe('the pattern plot (headless Chromium)', () => {
     const { page } = app;
     const file = join(app.dataDir, 'silicon-long_100k.xy');
     writeFileSync(file, siliconPatternText({ points: 100_001, seed: 3 }));
-    await pickFile(file);
+    await pickFile(app.page, file);
     await page.locator('[data-testid="sample-list"] li', { hasText: 'silicon-long_100k' }).waitFor({ timeout: 120_000 });
     await page.getByTestId('verdict').waitFor();
     const width = await canvasWidth();
@@ -118,7 +111,7 @@ describe('the pattern plot (headless Chromium)', () => {
 
   it('labels matched peaks with their hkl on request, without overlaps, over reference sticks scaled to the pattern', async () => {
     const { page } = app;
-    await pickFile(join(ROOT, 'examples', 'simulated_MAPbI3_humid-air_24h.xy'));
+    await pickFile(app.page, join(ROOT, 'examples', 'simulated_MAPbI3_humid-air_24h.xy'));
     await page.locator('[data-testid="sample-list"] li', { hasText: 'humid-air_24h' }).waitFor({ timeout: 120_000 });
     await page.getByTestId('verdict').waitFor();
     const labels = () => page.getByTestId('pattern-chart').evaluate((el) => ({ shown: Number((el as HTMLCanvasElement).dataset.labelsShown), hidden: Number((el as HTMLCanvasElement).dataset.labelsHidden) }));
@@ -157,7 +150,7 @@ describe('the pattern plot (headless Chromium)', () => {
     // d = 3.1356 × 1.540593 / 1.392252 = 3.4697 Å: a line there at 3 % of the pattern's scale.
     const file = join(app.dataDir, 'silicon-kbeta.xy');
     writeFileSync(file, siliconPatternText({ extraLowAngleD: 3.4697, extraScale: 0.03, seed: 11 }));
-    await pickFile(file);
+    await pickFile(app.page, file);
     await page.locator('[data-testid="sample-list"] li', { hasText: 'silicon-kbeta' }).click();
     await page.getByTestId('verdict').waitFor();
     await page.waitForFunction(() => document.querySelector('[data-testid="pattern-chart"]')?.getAttribute('aria-label')?.includes('silicon-kbeta'));

@@ -89,22 +89,13 @@ export interface PackedBlock {
 }
 
 /** Reference r of a packed block: its lines are cut out (or read) only when asked for (a match of 100 000 references looks at a few hundred). */
-export interface SnapshotSlice {
-  snapshot: PackedBlock;
+export interface BlockSlice {
+  block: PackedBlock;
   r: number;
 }
 
 /** The packed lines of references read from a store (their stored bytes, or where they lie in a snapshot), so no line objects are needed. */
-const packedOf = new WeakMap<object, PackedLines | SnapshotSlice>();
-
-export function rememberPacked(ref: Reference, packed: PackedLines | SnapshotSlice): void {
-  packedOf.set(ref, packed);
-}
-
-/** After a reference's lines were replaced, its stored bytes no longer describe them. */
-export function forgetPacked(ref: Reference): void {
-  packedOf.delete(ref);
-}
+const packedOf = new WeakMap<object, PackedLines | BlockSlice>();
 
 /**
  * The block the references' lines already lie in, in this order (reference r at position r of one
@@ -114,8 +105,8 @@ export function wholeBlockOf(references: readonly Reference[]): PackedBlock | nu
   let block: PackedBlock | null = null;
   for (let r = 0; r < references.length; r++) {
     const known = packedOf.get(references[r]!);
-    if (!known || !('snapshot' in known) || known.r !== r || (block !== null && known.snapshot !== block)) return null;
-    block = known.snapshot;
+    if (!known || !('block' in known) || known.r !== r || (block !== null && known.block !== block)) return null;
+    block = known.block;
   }
   return block && !('read' in block.lines) && block.count.length === references.length ? block : null;
 }
@@ -124,18 +115,18 @@ export function wholeBlockOf(references: readonly Reference[]): PackedBlock | nu
 export function packedLinesOf(ref: Reference): PackedLines {
   const known = packedOf.get(ref);
   if (!known) return packLines(ref.lines);
-  if (!('snapshot' in known)) return known;
+  if (!('block' in known)) return known;
   const packed = sliceOf(known);
   // A read from the library is kept; a slice of a loaded block stays a slice (cheap to cut again, and wholeBlockOf still sees the block).
-  if ('read' in known.snapshot.lines) packedOf.set(ref, packed);
+  if ('read' in known.block.lines) packedOf.set(ref, packed);
   return packed;
 }
 
-function sliceOf({ snapshot, r }: SnapshotSlice): PackedLines {
-  const { lines } = snapshot;
+function sliceOf({ block, r }: BlockSlice): PackedLines {
+  const { lines } = block;
   if ('read' in lines) return lines.read(r);
-  const count = snapshot.count[r]!;
-  const start = snapshot.valueStart[r]!;
+  const count = block.count[r]!;
+  const start = block.valueStart[r]!;
   const indexStart = lines.indexStart[r]!;
   return {
     count,
@@ -156,7 +147,7 @@ const LAZY_LINES: PropertyDescriptor = {
     return lines;
   },
   set(this: Reference, lines: ReferenceLine[]) {
-    forgetPacked(this);
+    packedOf.delete(this); // its stored bytes no longer describe the new lines
     Object.defineProperty(this, 'lines', { value: lines, writable: true, enumerable: true, configurable: true });
   },
   enumerable: true,
@@ -164,8 +155,8 @@ const LAZY_LINES: PropertyDescriptor = {
 };
 
 /** Give a reference read from a store lines that are decoded from `packed` when first read. */
-export function withLazyLines<T extends Omit<Reference, 'lines'>>(ref: T, packed: PackedLines | SnapshotSlice): T & Reference {
+export function withLazyLines<T extends Omit<Reference, 'lines'>>(ref: T, packed: PackedLines | BlockSlice): T & Reference {
   Object.defineProperty(ref, 'lines', LAZY_LINES);
-  rememberPacked(ref as T & Reference, packed);
+  packedOf.set(ref, packed);
   return ref as T & Reference;
 }

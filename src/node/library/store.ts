@@ -1,7 +1,7 @@
 import type { Statement } from 'better-sqlite3';
 import { InputError } from '../../core/errors.js';
 import { formatReferenceJson, toFileEntry } from '../../core/library/json-format.js';
-import { packLines, packedLinesOf, unpackValues, withLazyLines, type PackedBlock, type PackedLines, type SnapshotSlice } from './packing.js';
+import { packLines, packedLinesOf, unpackValues, withLazyLines, type PackedBlock, type PackedLines, type BlockSlice } from './packing.js';
 import type { Reference, StoredReference } from '../../core/model/reference.js';
 import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from './schema.js';
 import { DEFAULT_BUSY_TIMEOUT_MS, openDatabase, readMeta, schemaVersion, writeMeta, type Db } from './sqlite.js';
@@ -206,9 +206,10 @@ export class ReferenceLibrary {
 
   /**
    * Every current reference with the d-sorted index over their lines, from the snapshot kept with the
-   * library (one read, one JSON parse, lines decoded only for the references a match looks at). When
-   * the snapshot is missing or older than the library, it is made from the packed line arrays (never
-   * from line objects) and, when the file is writable, stored.
+   * library (its arrays read part by part, one JSON parse, lines decoded only for the references a
+   * match looks at; with linesOnDemand the lines are not loaded at all but read per reference while
+   * the library is open). When the snapshot is missing or older than the library, it is made from
+   * the packed line arrays (never from line objects) and, when the file is writable, stored.
    */
   referencesWithIndex(options: { linesOnDemand?: boolean } = {}): { references: StoredReference[]; index: ReferenceIndex } {
     const head = this.statements.snapshotHead.get();
@@ -564,7 +565,7 @@ function referencesFromSnapshot(headsJson: string, lines: { values: Buffer; indi
     block.valueStart[r] = doubles;
     block.count[r] = count;
     doubles += 2 * count;
-    return storedReference(id, version, name, source, details, createdAt, { snapshot: block, r });
+    return storedReference(id, version, name, source, details, createdAt, { block, r });
   });
 }
 
@@ -667,7 +668,7 @@ function storedFromRow([id, version, name, source, detailsJson, createdAt, count
   return storedReference(id, version, name, source, JSON.parse(detailsJson) as VersionDetails, createdAt, { count, values, indices });
 }
 
-function storedReference(id: number, version: number, name: string, source: string, details: VersionDetails, createdAt: string, packed: PackedLines | SnapshotSlice): StoredReference {
+function storedReference(id: number, version: number, name: string, source: string, details: VersionDetails, createdAt: string, packed: PackedLines | BlockSlice): StoredReference {
   const ref: Omit<StoredReference, 'lines'> = { id, version, createdAt, name, formula: details.formula, tags: details.tags, source };
   if (details.notes !== undefined) ref.notes = details.notes;
   if (details.rir !== undefined) ref.rir = details.rir;
