@@ -472,12 +472,14 @@ function labelsForm(detail: SampleDetail): HTMLElement {
   const name = h('input', { type: 'text', value: detail.name, placeholder: detail.fileName, 'aria-label': 'Sample name' });
   const variant = h('input', { type: 'text', value: detail.variant ?? '', placeholder: 'as made, washed…', 'aria-label': 'Workup variant' });
   const hours = h('input', { type: 'number', min: 0, step: 'any', value: detail.hours ?? '', 'aria-label': 'Exposure hours' });
+  const temperature = h('input', { type: 'number', min: -273.15, step: 'any', value: detail.temperature ?? '', 'aria-label': 'Temperature in °C', title: 'Annealing, drying or measuring temperature' });
   const form = h(
     'form',
     { class: 'row' },
     field('Name', name),
     field('Variant', variant),
     field('Exposure (h)', hours),
+    field('Temperature (°C)', temperature),
     h('button', { type: 'submit', class: 'secondary' }, 'Save labels'),
     h('button', { type: 'button', class: 'secondary', onclick: () => void reanalyze(detail.id) }, 'Re-analyse'),
     h('button', { type: 'button', class: 'danger', onclick: () => void remove(detail) }, 'Remove'),
@@ -486,7 +488,7 @@ function labelsForm(detail: SampleDetail): HTMLElement {
     event.preventDefault();
     try {
       const newName = name.value.trim();
-      await call('sample.label', { id: detail.id, variant: variant.value.trim() || null, hours: hours.value === '' ? null : Number(hours.value), name: newName && newName !== detail.fileName ? newName : null });
+      await call('sample.label', { id: detail.id, variant: variant.value.trim() || null, hours: hours.value === '' ? null : Number(hours.value), temperature: temperature.value === '' ? null : Number(temperature.value), name: newName && newName !== detail.fileName ? newName : null });
       app.project = await call('project.state', {});
       app.details.delete(detail.id);
       changed();

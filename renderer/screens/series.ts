@@ -6,13 +6,21 @@ import { Chart, COLORS, errorBarPlugin, PatternChart } from '../chart/pattern-ch
 import { fmt, h, sizeText } from '../base/dom.js';
 import { app, changed, verdictClass } from '../base/state.js';
 
-let by: 'variant' | 'time' = 'variant';
+type SeriesAxis = SeriesView['by'];
+
+let by: SeriesAxis = 'variant';
+/** How each ordering is named: its switch, the chart's x axis, the table's column and the patterns' order. */
+const AXIS_WORDS: Record<SeriesAxis, { pick: string; axis: string; column: string; order: string }> = {
+  variant: { pick: 'by workup variant', axis: 'workup variant', column: 'variant', order: 'in the order the variants were first added, the first at the bottom' },
+  time: { pick: 'by exposure time', axis: 'exposure', column: 'exposure', order: 'by exposure time, earliest at the bottom' },
+  temperature: { pick: 'by temperature', axis: 'temperature', column: 'temperature', order: 'by temperature, lowest at the bottom' },
+};
 let waterfallOffset = 0.5;
 const charts: Chart[] = [];
 let waterfall: PatternChart | null = null;
 let heatMapObserver: ResizeObserver | null = null;
 
-/** Samples by workup variant or exposure time: verdicts, sizes ± σ, differences, impurity growth. */
+/** Samples by workup variant, exposure time or temperature: verdicts, sizes ± σ, differences, impurity growth. */
 export async function renderSeries(root: HTMLElement): Promise<void> {
   while (charts.length) charts.pop()!.destroy();
   waterfall?.destroy();
@@ -20,12 +28,12 @@ export async function renderSeries(root: HTMLElement): Promise<void> {
   heatMapObserver?.disconnect();
   heatMapObserver = null;
   const view = await call('series.get', { by });
-  const pick = (value: 'variant' | 'time', text: string): HTMLElement => h('button', { 'aria-pressed': String(by === value), onclick: () => ((by = value), changed()) }, text);
+  const pick = (value: SeriesAxis): HTMLElement => h('button', { 'aria-pressed': String(by === value), onclick: () => ((by = value), changed()) }, AXIS_WORDS[value].pick);
   const sizeCanvas = h('canvas', { role: 'img', 'aria-label': 'Crystallite size by sample' });
   const screen = h(
     'div',
     { class: 'screen stack', 'data-testid': 'series' },
-    h('div', { class: 'row' }, h('h2', {}, 'Series'), h('span', { class: 'segmented' }, pick('variant', 'by workup variant'), pick('time', 'by exposure time'))),
+    h('div', { class: 'row' }, h('h2', {}, 'Series'), h('span', { class: 'segmented' }, pick('variant'), pick('time'), pick('temperature'))),
     ...view.notes.map((n) => h('p', { class: 'caution' }, n)),
     h('div', { class: 'two-col' }, h('div', { class: 'panel' }, h('h3', {}, 'Scherrer size ± σ'), h('div', { class: 'series-chart' }, sizeCanvas)), growthPanel(view)),
     patternsPanel(view),
@@ -53,7 +61,7 @@ export async function renderSeries(root: HTMLElement): Promise<void> {
         responsive: true,
         maintainAspectRatio: false,
         plugins: { legend: { display: false } },
-        scales: { x: { type: 'category', offset: true, title: { display: true, text: by === 'time' ? 'exposure' : 'workup variant' } }, y: { title: { display: true, text: 'crystallite size (nm)' }, ...(sized.length ? { suggestedMin: Math.max(0, low - pad), suggestedMax: high + pad } : {}) } },
+        scales: { x: { type: 'category', offset: true, title: { display: true, text: AXIS_WORDS[by].axis } }, y: { title: { display: true, text: 'crystallite size (nm)' }, ...(sized.length ? { suggestedMin: Math.max(0, low - pad), suggestedMax: high + pad } : {}) } },
       },
     }),
   );
@@ -93,7 +101,7 @@ function rowsTable(view: SeriesView): HTMLElement {
   return h(
     'table',
     { class: 'grid' },
-    h('thead', {}, h('tr', {}, ...['sample', view.by === 'time' ? 'exposure' : 'variant', 'verdict', 'other phases', 'low-angle peaks', 'not from target', 'Scherrer size'].map((t, i) => h('th', { class: i < 4 ? 'left' : '' }, t)))),
+    h('thead', {}, h('tr', {}, ...['sample', AXIS_WORDS[view.by].column, 'verdict', 'other phases', 'low-angle peaks', 'not from target', 'Scherrer size'].map((t, i) => h('th', { class: i < 4 ? 'left' : '' }, t)))),
     h(
       'tbody',
       {},
@@ -136,7 +144,7 @@ function patternsPanel(view: SeriesView): HTMLElement {
     waterfallOffset = Number(offset.value);
     changed();
   });
-  const order = view.by === 'time' ? 'by exposure time, earliest at the bottom' : 'in the order the variants were first added, the first at the bottom';
+  const order = AXIS_WORDS[view.by].order;
   return h(
     'div',
     { class: 'panel stack', 'data-testid': 'series-patterns' },

@@ -16,6 +16,8 @@ const name = z.string().trim().min(1, 'a name is needed').max(200).refine(hasNoC
 /** A file's name as the user's system gave it (only shown and stored, never used as a path). */
 const fileName = z.string().min(1, 'a file name is needed').max(300).refine(hasNoControls, 'a file name cannot hold control characters (such as NUL)');
 const finite = z.number().finite();
+/** A temperature in °C, at or above absolute zero. */
+const celsius = finite.min(-273.15);
 
 /** A number within the settings table's range (core/model/setting-ranges.ts), with the table's sentence as its error. */
 function settingNumber(name: NumberSettingName): z.ZodNumber {
@@ -97,18 +99,18 @@ export const apiSchemas = {
   'project.demoSample': z.object({ index: z.number().int().min(0).max(100) }).strict(),
   'project.state': z.object({}).strict(),
   'project.settings': z.object({ settings: settingsSchema.partial() }).strict(),
-  'sample.add': z.object({ fileName, bytesBase64: base64, variant: z.string().max(100).optional(), hours: finite.min(0).optional() }).strict(),
+  'sample.add': z.object({ fileName, bytesBase64: base64, variant: z.string().max(100).optional(), hours: finite.min(0).optional(), temperature: celsius.optional() }).strict(),
   /** A file in progress: its bytes as they came (a binary request body, or bytes over the desktop bridge) or as base64. */
   'sample.stage': z
     .object({ jobId, fileName, bytes: z.instanceof(Uint8Array).optional(), bytesBase64: base64.optional() })
     .strict()
     .refine((input) => (input.bytes === undefined) !== (input.bytesBase64 === undefined), 'send the file bytes once, as bytes or as base64'),
-  'sample.commit': z.object({ jobId, variant: z.string().max(100).optional(), hours: finite.min(0).optional() }).strict(),
+  'sample.commit': z.object({ jobId, variant: z.string().max(100).optional(), hours: finite.min(0).optional(), temperature: celsius.optional() }).strict(),
   'sample.cancel': z.object({ jobId }).strict(),
   'sample.progress': z.object({ jobId }).strict(),
   'sample.get': z.object({ id: z.number().int().positive() }).strict(),
   'sample.label': z
-    .object({ id: z.number().int().positive(), variant: z.string().max(100).nullable(), hours: finite.min(0).nullable(), name: name.nullable().optional() })
+    .object({ id: z.number().int().positive(), variant: z.string().max(100).nullable(), hours: finite.min(0).nullable(), temperature: celsius.nullable().optional(), name: name.nullable().optional() })
     .strict(),
   'sample.remove': z.object({ id: z.number().int().positive() }).strict(),
   'sample.reanalyze': z.object({ id: z.number().int().positive() }).strict(),
@@ -124,7 +126,7 @@ export const apiSchemas = {
   'instrument.fit': z.object({ sampleId: z.number().int().positive(), standard: name }).strict(),
   'instrument.save': z.object({ sampleId: z.number().int().positive(), standard: name }).strict(),
   'instrument.clear': z.object({}).strict(),
-  'series.get': z.object({ by: z.enum(['variant', 'time']) }).strict(),
+  'series.get': z.object({ by: z.enum(['variant', 'time', 'temperature']) }).strict(),
   'report.build': z.object({ format: z.enum(['html', 'csv']) }).strict(),
   'report.pdf': z.object({}).strict(),
 } as const;
@@ -150,6 +152,8 @@ export interface SampleSummary {
   fileName: string;
   variant: string | null;
   hours: number | null;
+  /** Temperature in °C (annealing, drying...). */
+  temperature: number | null;
   simulated: boolean;
   verdict: SampleVerdict;
   /** The best phase and its verdict (the target's when one is set). */
@@ -331,6 +335,7 @@ export interface SeriesRowView {
   name: string;
   label: string;
   hours: number | null;
+  temperature: number | null;
   verdict: SampleVerdict;
   lowAngleCount: number;
   impurityShare: number | null;
@@ -352,7 +357,7 @@ export interface GrowthView {
 }
 
 export interface SeriesView {
-  by: 'variant' | 'time';
+  by: 'variant' | 'time' | 'temperature';
   rows: SeriesRowView[];
   comparisons: Array<{ a: string; b: string; differs: boolean; test: string; detail: string }>;
   growth: GrowthView[];

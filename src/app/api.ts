@@ -85,18 +85,18 @@ export function createAppApi(options: AppApiOptions): ApiDispatcher & { workspac
     'project.demoSample': ({ index }) => addDemoSample(workspace, index),
     'project.state': () => workspace.state(),
     'project.settings': ({ settings }) => workspace.updateSettings(settings),
-    'sample.add': ({ fileName, bytesBase64, variant, hours }) => workspace.addSample(fileName, Buffer.from(bytesBase64, 'base64'), { variant, hours }),
+    'sample.add': ({ fileName, bytesBase64, variant, hours, temperature }) => workspace.addSample(fileName, Buffer.from(bytesBase64, 'base64'), { variant, hours, temperature }),
     'sample.stage': ({ jobId, fileName, bytes, bytesBase64 }) => {
       const content = bytes ?? Buffer.from(bytesBase64 ?? '', 'base64');
       const maxBytes = maxPatternBytes(process.env[MAX_PATTERN_MB_SETTING]);
       if (content.byteLength > maxBytes) throw new InputError(`${fileName}: ${tooLargeMessage(content.byteLength, maxBytes)}`);
       return workspace.stageSample(jobId, fileName, content);
     },
-    'sample.commit': ({ jobId, variant, hours }) => workspace.commitSample(jobId, { variant, hours }),
+    'sample.commit': ({ jobId, variant, hours, temperature }) => workspace.commitSample(jobId, { variant, hours, temperature }),
     'sample.cancel': ({ jobId }) => ({ cancelled: workspace.cancelSample(jobId) }),
     'sample.progress': ({ jobId }) => ({ stage: workspace.sampleStage(jobId) }),
     'sample.get': ({ id }) => workspace.sampleDetail(id),
-    'sample.label': ({ id, variant, hours, name }) => workspace.labelSample(id, variant, hours, name),
+    'sample.label': ({ id, variant, hours, temperature, name }) => workspace.labelSample(id, { variant, hours, temperature, name }),
     'sample.remove': ({ id }) => workspace.removeSample(id),
     'sample.reanalyze': ({ id }) => workspace.reanalyze(id),
     'library.list': ({ search, tag }) => workspace.library().list({ search, tag }).map(referenceSummary),

@@ -21,6 +21,7 @@ export function reportInput(workspace: Workspace, appVersion: string, paper: Pap
       sha256: record.sha256,
       variant: record.variant,
       hours: record.exposureHours,
+      temperature: record.temperatureC,
       simulated: summary.simulated,
       verdict: summary.problem ? `not analysed: ${summary.problem}` : summary.verdict,
       phase: summary.phase?.name ?? null,
@@ -52,6 +53,8 @@ export function reportInput(workspace: Workspace, appVersion: string, paper: Pap
   });
   const variants = buildSeriesView(workspace, 'variant');
   const exposure = buildSeriesView(workspace, 'time');
+  const temperatures = buildSeriesView(workspace, 'temperature');
+  const seriesRows = (view: typeof exposure) => view.rows.map((r) => ({ label: r.label, hours: r.hours, temperature: r.temperature, sizeNm: r.sizeNm, sizeSigmaNm: r.sizeSigmaNm }));
   const instrument = info.instrument;
   return {
     appVersion,
@@ -79,9 +82,10 @@ export function reportInput(workspace: Workspace, appVersion: string, paper: Pap
       : null,
     references: [...references].map(([name, version]) => ({ name, version })).sort((a, b) => a.name.localeCompare(b.name)),
     samples,
-    variants: variants.rows.map((r) => ({ label: r.label, hours: r.hours, sizeNm: r.sizeNm, sizeSigmaNm: r.sizeSigmaNm })),
-    exposure: exposure.rows.map((r) => ({ label: r.label, hours: r.hours, sizeNm: r.sizeNm, sizeSigmaNm: r.sizeSigmaNm })),
-    comparisons: [...variants.comparisons, ...exposure.comparisons],
+    variants: seriesRows(variants),
+    exposure: seriesRows(exposure),
+    temperatures: seriesRows(temperatures),
+    comparisons: [...variants.comparisons, ...exposure.comparisons, ...temperatures.comparisons],
     growth: exposure.growth.map((g) => ({ phase: g.phase, statement: g.statement, points: g.points, curve: g.curve })),
     // The report's cautions already say what the size cautions say: each once. What the composition
     // lines assume is the same sentence for samples measured alike: said once, with the cautions.

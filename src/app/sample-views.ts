@@ -62,6 +62,7 @@ export function baseSummary(record: SampleRecord): SampleSummary {
     fileName: record.fileName,
     variant: record.variant,
     hours: record.exposureHours,
+    temperature: record.temperatureC,
     simulated: /simulated/i.test(record.fileName),
     verdict: 'not analysed',
     phase: null,

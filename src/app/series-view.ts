@@ -4,29 +4,43 @@ import { analyzeSeries, type SeriesResult } from '../core/series/series.js';
 import type { GrowthView, SeriesRowView, SeriesView } from '../api/contract.js';
 import type { AnalysisResult } from '../core/analysis/analyse.js';
 import type { Workspace } from './workspace.js';
+import type { SampleRecord } from '../node/project-store.js';
+
+type SeriesAxis = SeriesView['by'];
+
+/** What each way of ordering a series reads from a sample: its value (null: not in the series) and its label. */
+const AXES: Record<SeriesAxis, { valueOf: (r: SampleRecord) => number | null; labelOf: (r: SampleRecord) => string; missing: string }> = {
+  variant: { valueOf: () => null, labelOf: (r) => r.variant!, missing: 'No analysed sample has a workup variant yet: set one in Samples.' },
+  time: { valueOf: (r) => r.exposureHours, labelOf: (r) => `${r.exposureHours} h`, missing: 'No analysed sample has an exposure time yet: set one in Samples.' },
+  temperature: { valueOf: (r) => r.temperatureC, labelOf: (r) => `${r.temperatureC} °C`, missing: 'No analysed sample has a temperature yet: set one in Samples.' },
+};
 
 /**
- * Samples of the open project as a series: by workup variant (in the order first seen) or by
- * exposure time (ascending), with verdicts, sizes ± σ, the pairwise size comparisons and the
- * growth of other phases over time, from the series module.
+ * Samples of the open project as a series: by workup variant (in the order first seen), by exposure
+ * time or by temperature (ascending), with verdicts, sizes ± σ, the size comparisons (pairs for
+ * variants, the trend for an ordered series) and the growth of other phases over time, from the
+ * series module.
  */
-export function buildSeriesView(workspace: Workspace, by: 'variant' | 'time'): SeriesView {
+export function buildSeriesView(workspace: Workspace, by: SeriesAxis): SeriesView {
   const target = workspace.documentInfo().settings.target;
+  const axis = AXES[by];
   const members = workspace
     .analyses()
-    .filter(({ record, result }) => result !== null && (by === 'variant' ? record.variant !== null : record.exposureHours !== null))
-    .sort((a, b) => (by === 'time' ? (a.record.exposureHours ?? 0) - (b.record.exposureHours ?? 0) : 0));
+    .filter(({ record, result }) => result !== null && (by === 'variant' ? record.variant !== null : axis.valueOf(record) !== null))
+    .sort((a, b) => (axis.valueOf(a.record) ?? 0) - (axis.valueOf(b.record) ?? 0));
   const notes: string[] = [];
   if (members.length === 0) {
-    notes.push(by === 'variant' ? 'No analysed sample has a workup variant yet: set one in Samples.' : 'No analysed sample has an exposure time yet: set one in Samples.');
+    notes.push(axis.missing);
     return { by, rows: [], comparisons: [], growth: [], notes };
   }
   if (!target) notes.push('No target phase is set, so verdicts and impurity shares are not given; set the target in Settings.');
-  const labels = uniqueLabels(members.map(({ record }) => (by === 'variant' ? record.variant! : `${record.exposureHours} h`)));
+  const labels = uniqueLabels(members.map(({ record }) => axis.labelOf(record)));
   const results = members.map((m) => m.result as AnalysisResult);
   let series: SeriesResult | null = null;
   try {
-    const samples = seriesSamplesFromAnalyses(results, { labels, target, ...(by === 'time' ? { exposureHours: members.map((m) => m.record.exposureHours!) } : {}) });
+    const values = members.map((m) => axis.valueOf(m.record) as number);
+    const ordering = by === 'time' ? { exposureHours: values } : by === 'temperature' ? { temperaturesC: values } : {};
+    const samples = seriesSamplesFromAnalyses(results, { labels, target, ...ordering });
     series = analyzeSeries(samples);
     notes.push(...series.warnings);
   } catch (err) {
@@ -41,6 +55,7 @@ export function buildSeriesView(workspace: Workspace, by: 'variant' | 'time'): S
       name: summary.name,
       label: labels[i]!,
       hours: record.exposureHours,
+      temperature: record.temperatureC,
       verdict: summary.verdict,
       lowAngleCount: summary.lowAngleCount,
       impurityShare: targetPhase ? Math.max(0, 1 - targetPhase.explainedAreaShare) : null,
@@ -52,7 +67,7 @@ export function buildSeriesView(workspace: Workspace, by: 'variant' | 'time'): S
   });
   const comparisons = (series?.comparison.pairs ?? []).filter((p) => p.testable).map((p) => ({ a: p.a, b: p.b, differs: p.differs, test: 'difference on shared reflections, Holm-adjusted', detail: p.statement }));
   const trend = series?.comparison.trend;
-  if (trend) comparisons.push({ a: 'first sample', b: 'last (trend over time)', differs: trend.differs, test: 'weighted regression slope', detail: trend.statement });
+  if (trend) comparisons.push({ a: 'first sample', b: `last (trend over ${by === 'temperature' ? 'temperature' : 'time'})`, differs: trend.differs, test: 'weighted regression slope', detail: trend.statement });
   if (series && comparisons.length) notes.push(`Size comparison: ${series.comparison.test}.`);
   return { by, rows, comparisons, growth: by === 'time' && series ? series.growth.map(growthView) : [], notes };
 }

@@ -27,7 +27,7 @@ import {
 import type { AppDataPaths } from '../node/app-data.js';
 import type { ReferenceLibrary } from '../node/library/store.js';
 import { ProjectStore, type SampleRecord } from '../node/project-store.js';
-import { guessHours, guessVariant } from './file-names.js';
+import { guessHours, guessTemperature, guessVariant } from './file-names.js';
 import { LibraryAccess } from './library-access.js';
 import { PatternJobs } from './pattern-jobs.js';
 import {
@@ -76,6 +76,8 @@ export interface SampleLabels {
   label?: string | null;
   variant?: string | null;
   hours?: number | null;
+  /** °C */
+  temperature?: number | null;
 }
 
 export class Workspace {
@@ -281,7 +283,8 @@ export class Workspace {
   private keepSample(fileName: string, bytes: Uint8Array, labels: SampleLabels): SampleRecord {
     const variant = labels.variant !== undefined ? labels.variant : guessVariant(fileName);
     const hours = labels.hours !== undefined ? labels.hours : guessHours(fileName);
-    return this.project().store.addSample({ fileName, bytes, label: labels.label ?? null, variant, exposureHours: hours });
+    const temperature = labels.temperature !== undefined ? labels.temperature : guessTemperature(fileName);
+    return this.project().store.addSample({ fileName, bytes, label: labels.label ?? null, variant, exposureHours: hours, temperatureC: temperature });
   }
 
   reanalyze(id: number): SampleSummary {
@@ -290,9 +293,15 @@ export class Workspace {
     return this.analyze(record, readPatternBytes(store.getSampleBytes(id), record.fileName));
   }
 
-  /** New labels for a sample; `name` renames it (null gives back the file name), undefined keeps it. */
-  labelSample(id: number, variant: string | null, hours: number | null, name?: string | null): SampleSummary {
-    const changes = { variant, exposureHours: hours, ...(name !== undefined ? { label: name ? name : null } : {}) };
+  /** New labels for a sample; `name` renames it (null gives back the file name); what is undefined is kept. */
+  labelSample(id: number, labels: { variant: string | null; hours: number | null; temperature?: number | null | undefined; name?: string | null | undefined }): SampleSummary {
+    const { variant, hours, temperature, name } = labels;
+    const changes = {
+      variant,
+      exposureHours: hours,
+      ...(temperature !== undefined ? { temperatureC: temperature } : {}),
+      ...(name !== undefined ? { label: name ? name : null } : {}),
+    };
     const record = this.project().store.updateSample(id, changes);
     return this.summaryOf(record);
   }
@@ -401,7 +410,7 @@ export class Workspace {
     const saved = store.latestResult<SavedAnalysis>(record.id)?.result;
     if (!saved) return baseSummary(record);
     const reason = staleReason(saved, this.currentBasis());
-    const summary: SampleSummary = { ...baseSummary(record), ...saved.summary, name: record.label ?? saved.summary.name, variant: record.variant, hours: record.exposureHours, stale: reason !== null, staleReason: reason };
+    const summary: SampleSummary = { ...baseSummary(record), ...saved.summary, name: record.label ?? saved.summary.name, variant: record.variant, hours: record.exposureHours, temperature: record.temperatureC, stale: reason !== null, staleReason: reason };
     // The pattern the instrument profile was fitted to is the standard, not a product sample.
     if (doc.instrument?.standard.sha256 === record.sha256 && !summary.problem) summary.verdict = 'instrument standard';
     return summary;

@@ -22,6 +22,8 @@ export interface NewSample {
   /** Workup variant: as made, ground, washed, annealed... */
   variant?: string | null;
   exposureHours?: number | null;
+  /** Annealing, drying or measuring temperature in °C, for temperature series. */
+  temperatureC?: number | null;
   notes?: string | null;
 }
 
@@ -34,11 +36,12 @@ export interface SampleRecord {
   label: string | null;
   variant: string | null;
   exposureHours: number | null;
+  temperatureC: number | null;
   notes: string | null;
   addedAt: string;
 }
 
-export type SampleChanges = Partial<Pick<SampleRecord, 'label' | 'variant' | 'exposureHours' | 'notes'>>;
+export type SampleChanges = Partial<Pick<SampleRecord, 'label' | 'variant' | 'exposureHours' | 'temperatureC' | 'notes'>>;
 
 export interface SavedResult<T = unknown> {
   id: number;
@@ -88,6 +91,10 @@ export const PROJECT_MIGRATIONS: readonly Migration[] = [
   (db) => {
     db.exec(`ALTER TABLE result ADD COLUMN curves BLOB`);
   },
+  // 3: a temperature per sample (annealing, drying...), the ordering of a temperature series.
+  (db) => {
+    db.exec(`ALTER TABLE sample ADD COLUMN temperature_c REAL CHECK (temperature_c IS NULL OR temperature_c >= -273.15)`);
+  },
 ];
 
 /** The curves an analysis drew: background and fitted model, one value per pattern point. */
@@ -104,6 +111,7 @@ interface SampleRow {
   label: string | null;
   variant: string | null;
   exposure_hours: number | null;
+  temperature_c: number | null;
   notes: string | null;
   added_at: string;
 }
@@ -118,7 +126,7 @@ interface ResultRow {
 
 /** The curves blob is read only when a sample is opened, not with every list of results. */
 const RESULT_COLUMNS = 'id, sample_id, json, references_used, saved_at';
-const SAMPLE_COLUMNS = 'id, file_name, sha256, byte_length, label, variant, exposure_hours, notes, added_at';
+const SAMPLE_COLUMNS = 'id, file_name, sha256, byte_length, label, variant, exposure_hours, temperature_c, notes, added_at';
 
 export class ProjectStore {
   private readonly statements: ReturnType<typeof prepareStatements>;
@@ -144,6 +152,7 @@ export class ProjectStore {
     if (!fileName) throw new InputError('a sample needs the name of its file');
     if (!(sample.bytes instanceof Uint8Array)) throw new InputError(`the sample ${fileName} has no file content`);
     checkExposure(sample.exposureHours, fileName);
+    checkTemperature(sample.temperatureC, fileName);
     const id = this.write(() =>
       Number(
         this.statements.insertSample.run({
@@ -154,6 +163,7 @@ export class ProjectStore {
           label: sample.label ?? null,
           variant: sample.variant ?? null,
           exposure_hours: sample.exposureHours ?? null,
+          temperature_c: sample.temperatureC ?? null,
           notes: sample.notes ?? null,
           added_at: new Date().toISOString(),
         }).lastInsertRowid,
@@ -189,6 +199,7 @@ export class ProjectStore {
   updateSample(id: number, changes: SampleChanges): SampleRecord {
     const current = this.requireSample(id);
     checkExposure(changes.exposureHours, current.fileName);
+    checkTemperature(changes.temperatureC, current.fileName);
     const next = { ...current, ...changes };
     this.write(() =>
       this.statements.updateSample.run({
@@ -196,6 +207,7 @@ export class ProjectStore {
         label: next.label ?? null,
         variant: next.variant ?? null,
         exposure_hours: next.exposureHours ?? null,
+        temperature_c: next.temperatureC ?? null,
         notes: next.notes ?? null,
       }),
     );
@@ -276,13 +288,13 @@ export class ProjectStore {
 
 function prepareStatements(db: Db) {
   return {
-    insertSample: db.prepare(`INSERT INTO sample (file_name, sha256, byte_length, bytes, label, variant, exposure_hours, notes, added_at)
-      VALUES (@file_name, @sha256, @byte_length, @bytes, @label, @variant, @exposure_hours, @notes, @added_at)`),
+    insertSample: db.prepare(`INSERT INTO sample (file_name, sha256, byte_length, bytes, label, variant, exposure_hours, temperature_c, notes, added_at)
+      VALUES (@file_name, @sha256, @byte_length, @bytes, @label, @variant, @exposure_hours, @temperature_c, @notes, @added_at)`),
     listSamples: db.prepare(`SELECT ${SAMPLE_COLUMNS} FROM sample ORDER BY id`) as Statement<[], SampleRow>,
     sample: db.prepare(`SELECT ${SAMPLE_COLUMNS} FROM sample WHERE id = ?`) as Statement<[number], SampleRow>,
     samplesBySha256: db.prepare(`SELECT ${SAMPLE_COLUMNS} FROM sample WHERE sha256 = ? ORDER BY id`) as Statement<[string], SampleRow>,
     sampleBytes: db.prepare(`SELECT sha256, bytes FROM sample WHERE id = ?`) as Statement<[number], { sha256: string; bytes: Buffer }>,
-    updateSample: db.prepare(`UPDATE sample SET label = @label, variant = @variant, exposure_hours = @exposure_hours, notes = @notes WHERE id = @id`),
+    updateSample: db.prepare(`UPDATE sample SET label = @label, variant = @variant, exposure_hours = @exposure_hours, temperature_c = @temperature_c, notes = @notes WHERE id = @id`),
     deleteSample: db.prepare(`DELETE FROM sample WHERE id = ?`),
     insertResult: db.prepare(`INSERT INTO result (sample_id, json, references_used, saved_at, curves) VALUES (?, ?, ?, ?, ?)`),
     latestCurves: db.prepare(`SELECT curves FROM result WHERE sample_id = ? ORDER BY id DESC LIMIT 1`) as Statement<[number], { curves: Buffer | null }>,
@@ -303,6 +315,7 @@ function sampleFromRow(row: SampleRow): SampleRecord {
     label: row.label,
     variant: row.variant,
     exposureHours: row.exposure_hours,
+    temperatureC: row.temperature_c,
     notes: row.notes,
     addedAt: row.added_at,
   };
@@ -352,6 +365,13 @@ function checkExposure(hours: number | null | undefined, fileName: string): void
   if (hours === undefined || hours === null) return;
   if (!Number.isFinite(hours) || hours < 0) {
     throw new InputError(`the exposure time of ${fileName} must be zero or more hours (got ${hours})`);
+  }
+}
+
+function checkTemperature(celsius: number | null | undefined, fileName: string): void {
+  if (celsius === undefined || celsius === null) return;
+  if (!Number.isFinite(celsius) || celsius < -273.15) {
+    throw new InputError(`the temperature of ${fileName} must be a number of °C at or above absolute zero (−273.15 °C; got ${celsius})`);
   }
 }
 

@@ -105,9 +105,14 @@ describe('project files from before curves were kept', () => {
     expect(schemaVersion(v1)).toBe(1);
     v1.close();
     const now = ProjectStore.open(file);
-    expect(now.schemaVersion).toBe(2);
+    expect(now.schemaVersion).toBe(3);
     expect(now.latestResult(1)!.result).toEqual({ summary: 'kept' });
     expect(now.latestCurves(1)).toBeNull();
+    // Step 3 gives samples a temperature: none for the old ones, settable now, checked at the door.
+    expect(now.getSample(1)!.temperatureC).toBeNull();
+    expect(now.updateSample(1, { temperatureC: 150 }).temperatureC).toBe(150);
+    expect(() => now.updateSample(1, { temperatureC: -300 })).toThrow(/absolute zero/);
+    expect(now.getSample(1)!.temperatureC).toBe(150);
     now.close();
   });
 });

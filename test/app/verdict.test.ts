@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import type { MatchResult, PhaseMatch } from '../../src/core/match/types.js';
 import { lowAnglePeaks, sampleVerdict } from '../../src/core/analysis/verdict.js';
-import { guessHours, guessVariant } from '../../src/app/file-names.js';
+import { guessHours, guessTemperature, guessVariant } from '../../src/app/file-names.js';
 import { renderCsvReport, renderHtmlReport, type ReportInput } from '../../src/core/report/report.js';
 
 function phase(name: string, verdict: PhaseMatch['verdict'], lines: Array<[number, boolean?]>): PhaseMatch {
@@ -50,6 +50,15 @@ describe('labels read from file names', () => {
     expect(guessHours('air_24h.xy')).toBe(24);
     expect(guessHours('air 1.5 hours.csv')).toBe(1.5);
     expect(guessHours('sample_h2o.xy')).toBeNull();
+  });
+
+  it('finds the temperature in °C, and not in a lower-case c or a batch letter', () => {
+    expect(guessTemperature('annealed_150C.xy')).toBe(150);
+    expect(guessTemperature('dried 80 °C.csv')).toBe(80);
+    expect(guessTemperature('anneal-200degC.xy')).toBe(200);
+    expect(guessTemperature('batch 3c.xy')).toBeNull();
+    expect(guessTemperature('MAPbI3_CsBr.xy')).toBeNull();
+    expect(guessTemperature('air_24h.xy')).toBeNull();
   });
 });
 

@@ -3,7 +3,7 @@ import { normalDeviate, seededUniform } from '../../src/core/numeric/random.js';
 import { InputError } from '../../src/core/errors.js';
 import { twoThetaFromD } from '../../src/core/model/units.js';
 import { anodeWavelength } from '../../src/core/model/wavelengths.js';
-import { analyzeSeries, exposureHoursFromLabel, type SeriesSample } from '../../src/core/series/series.js';
+import { analyzeSeries, exposureHoursFromLabel, temperatureCFromLabel, type SeriesSample } from '../../src/core/series/series.js';
 import { crystalliteSizes, type SizeOptions } from '../../src/core/size/sizes.js';
 import { broadenedProfile, CU_KA1, cubicPhase, fittedPeak, typicalInstrumentProfile } from '../size/fixtures.js';
 
@@ -84,5 +84,50 @@ describe('series over exposure time', () => {
     expect(exposureHoursFromLabel('2h')).toBe(2);
     expect(exposureHoursFromLabel('1,5 d')).toBe(36);
     expect(exposureHoursFromLabel('washed')).toBeNull();
+  });
+});
+
+describe('series over temperature', () => {
+  // Annealing grows crystallites: 30 → 60 nm over 25–200 °C is a clear trend; a flat series is not.
+  const temperatures = [25, 80, 120, 160, 200];
+  const annealed = (sizeAt: (t: number) => number, seed: number) =>
+    temperatures.map((t, i) => sample(`${t} °C`, sizeAt(t), seed + i, { temperatureC: temperatureCFromLabel(`${t} °C`) }));
+
+  it('is ordered by temperature and tested for a trend per °C, not by all pairs', () => {
+    const r = analyzeSeries(annealed((t) => 30 + (30 * (t - 25)) / 175, 40));
+    expect(r.kind).toBe('temperature');
+    expect(r.rows.map((row) => row.temperatureC)).toEqual(temperatures);
+    expect(r.comparison.pairs).toHaveLength(0);
+    expect(r.growth).toHaveLength(0);
+    const trend = r.comparison.trend!;
+    expect(trend.differs).toBe(true);
+    // The true slope is 30 nm / 175 °C = 0.171 nm/°C; the fitted one must carry it within 3σ.
+    expect(Math.abs(trend.slopeNmPerUnit - 30 / 175)).toBeLessThan(3 * trend.slopeSigma);
+    expect(trend.statement).toMatch(/nm per °C/);
+  });
+
+  it('finds no trend in a series annealed without growth', () => {
+    const r = analyzeSeries(annealed(() => 40, 60));
+    expect(r.kind).toBe('temperature');
+    expect(r.comparison.trend!.differs).toBe(false);
+  });
+
+  it('treats a series where only some samples have a temperature as workup variants, and says so', () => {
+    const samples = annealed(() => 40, 80);
+    samples[2] = { ...samples[2]!, temperatureC: null };
+    const r = analyzeSeries(samples);
+    expect(r.kind).toBe('workup');
+    expect(r.warnings.join(' ')).toMatch(/only some samples have a temperature/);
+  });
+
+  it('reads temperatures from labels in °C or K, and nothing from other labels', () => {
+    expect(temperatureCFromLabel('150 °C')).toBe(150);
+    expect(temperatureCFromLabel('150C')).toBe(150);
+    expect(temperatureCFromLabel('80 degC')).toBe(80);
+    expect(temperatureCFromLabel('423.15 K')).toBeCloseTo(150, 10);
+    expect(temperatureCFromLabel('-20 °C')).toBe(-20);
+    expect(temperatureCFromLabel('annealed')).toBeNull();
+    expect(temperatureCFromLabel('2 h')).toBeNull();
+    expect(temperatureCFromLabel('-300 °C')).toBeNull();
   });
 });

@@ -82,6 +82,17 @@ describe('crystallog instrument / size / series commands', () => {
     expect(pooled.comparison.pairs.every((p) => !p.differs)).toBe(true);
   });
 
+  it('series --temperatures orders an annealing series by °C and tests its trend; a bad entry is named', async () => {
+    const files = [[25, 20], [100, 35], [200, 60]].map(([celsius, sizeNm], i) => writePattern(`anneal-${celsius}`, phase.lines, sizeNm, 20 + i));
+    const r = await seriesCommand(files, { temperatures: '25,100,200', library: libraryPath, target: phase.name, instrument: profilePath });
+    expect(r.kind).toBe('temperature');
+    expect(r.rows.map((row) => row.temperatureC)).toEqual([25, 100, 200]);
+    expect(r.comparison.pairs).toHaveLength(0);
+    expect(r.comparison.trend!.differs).toBe(true);
+    expect(r.comparison.trend!.statement).toMatch(/nm per °C/);
+    await expect(seriesCommand(files, { temperatures: '25,hot,200', library: libraryPath, target: phase.name })).rejects.toThrow(/--temperatures: entry 2 "hot"/);
+  });
+
   it('series stops with the reason of a file that cannot be read, naming it', async () => {
     const files = [2, 3, 4, 5, 6].map((seed) => writePattern(`ok-${seed}`, phase.lines, 30, seed));
     const broken = join(dir, 'broken.xy');

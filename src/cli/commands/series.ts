@@ -13,6 +13,7 @@ import { loadInstrumentProfile } from './instrument.js';
 interface SeriesCommandOptions {
   labels?: string;
   hours?: string;
+  temperatures?: string;
   library: string;
   target: string;
   instrument?: string;
@@ -36,10 +37,11 @@ export interface SeriesCommandResult extends SeriesResult {
 export function registerSeries(program: Command): void {
   program
     .command('series')
-    .description('Compare samples of one product (workup variants or exposure times): verdicts, low-angle extra peaks, sizes, and whether the sizes differ.')
+    .description('Compare samples of one product (workup variants, exposure times or temperatures): verdicts, low-angle extra peaks, sizes, and whether the sizes differ.')
     .argument('<files...>', 'pattern files, one per sample')
     .option('--labels <list>', 'comma-separated labels, one per file (e.g. "as made,ground,washed" or "0 h,1 h,4 h")')
     .option('--hours <list>', 'comma-separated exposure times in hours, one per file (default: read from time labels)')
+    .option('--temperatures <list>', 'comma-separated temperatures in °C (annealing, drying...), one per file (default: read from labels such as "150 °C")')
     .requiredOption('--library <db>', 'reference library file')
     .requiredOption('--target <name>', 'the expected phase')
     .option('--instrument <profile>', 'instrument profile JSON from "crystallog instrument" (or its name in the library)')
@@ -59,6 +61,15 @@ function splitList(text: string | undefined): string[] | undefined {
   return text === undefined ? undefined : text.split(',').map((s) => s.trim());
 }
 
+/** A comma-separated list of numbers (a decimal comma is not possible inside it: "1,5" is two entries). */
+function numberList(option: string, text: string | undefined, valid: (v: number) => boolean, what: string): number[] | undefined {
+  return splitList(text)?.map((entry, i) => {
+    const value = Number(entry);
+    if (entry === '' || !Number.isFinite(value) || !valid(value)) throw new InputError(`option ${option}: entry ${i + 1} "${entry}" is not ${what}`);
+    return value;
+  });
+}
+
 /** From this many files on, the patterns are analysed on the worker-thread pool (below it, start-up costs more than it saves). */
 const POOL_FROM_FILES = 6;
 
@@ -66,15 +77,12 @@ export async function seriesCommand(files: string[], o: SeriesCommandOptions): P
   const alpha = numberOption('--alpha', o.alpha, (v) => v > 0 && v < 0.5, 'give a significance level between 0 and 0.5, such as 0.05');
   const settings = settingsFromFlags(o);
   const labels = splitList(o.labels);
-  const hours = splitList(o.hours)?.map((h, i) => {
-    const value = Number(h.replace(',', '.'));
-    if (h === '' || !Number.isFinite(value) || value < 0) throw new InputError(`option --hours: entry ${i + 1} "${h}" is not a time in hours`);
-    return value;
-  });
+  const hours = numberList('--hours', o.hours, (v) => v >= 0, 'a time in hours');
+  const temperatures = numberList('--temperatures', o.temperatures, (v) => v >= -273.15, 'a temperature in °C');
   const references = loadAllReferences(o.library);
   const instrument = o.instrument !== undefined ? loadInstrumentProfile(o.instrument, o.library) : null;
   const analyses = files.length >= POOL_FROM_FILES ? await analyzeOnPool(files, { references, instrument, settings }) : analyzeInTurn(files, createAnalysisContext(references, instrument, settings));
-  const samples = seriesSamplesFromAnalyses(analyses, { ...(labels ? { labels } : {}), ...(hours ? { exposureHours: hours } : {}), target: o.target });
+  const samples = seriesSamplesFromAnalyses(analyses, { ...(labels ? { labels } : {}), ...(hours ? { exposureHours: hours } : {}), ...(temperatures ? { temperaturesC: temperatures } : {}), target: o.target });
   const groups = splitList(o.replicates);
   if (groups && groups.length !== files.length) throw new InputError(`option --replicates: ${groups.length} groups for ${files.length} files; give one per file, in the same order`);
   groups?.forEach((g, i) => (samples[i]!.replicateGroup = g === '' ? null : g));

@@ -4,13 +4,15 @@
 import type { AnalysisResult } from './analyse.js';
 import type { PhaseMatch } from '../match/types.js';
 import { InputError } from '../errors.js';
-import { exposureHoursFromLabel, type SeriesPhaseShare, type SeriesSample } from '../series/series.js';
+import { exposureHoursFromLabel, temperatureCFromLabel, type SeriesPhaseShare, type SeriesSample } from '../series/series.js';
 
 export interface SeriesLabelling {
   /** One label per analysis (default: the file names). */
   labels?: readonly string[];
   /** Exposure times in hours, one per analysis (default: read from the labels when every label is a time). */
   exposureHours?: readonly number[];
+  /** Temperatures in °C, one per analysis (default: read from the labels when every label is a temperature). */
+  temperaturesC?: readonly number[];
   /** The expected phase: its verdict is the row's verdict; every other present phase is an impurity. */
   target: string | null;
 }
@@ -23,9 +25,12 @@ export function seriesSamplesFromAnalyses(results: readonly AnalysisResult[], la
   if (labelling.exposureHours && labelling.exposureHours.length !== n) {
     throw new InputError(`${labelling.exposureHours.length} exposure times for ${n} files; give one per file, in the same order`);
   }
+  if (labelling.temperaturesC && labelling.temperaturesC.length !== n) {
+    throw new InputError(`${labelling.temperaturesC.length} temperatures for ${n} files; give one per file, in the same order`);
+  }
   const labels = labelling.labels ?? results.map((r) => r.file);
-  const fromLabels = labels.map(exposureHoursFromLabel);
-  const hours = labelling.exposureHours ?? (fromLabels.every((h) => h !== null) ? (fromLabels as number[]) : null);
+  const hours = labelling.exposureHours ?? everyOrNull(labels.map(exposureHoursFromLabel));
+  const temperatures = labelling.temperaturesC ?? everyOrNull(labels.map(temperatureCFromLabel));
   const target = labelling.target?.toLowerCase() ?? null;
 
   // A phase is measured by Chung weight fractions when it is quantified wherever it explains peaks;
@@ -54,6 +59,7 @@ export function seriesSamplesFromAnalyses(results: readonly AnalysisResult[], la
       file: r.file,
       sha256: r.sha256,
       exposureHours: hours ? hours[i] : null,
+      temperatureC: temperatures ? temperatures[i] : null,
       verdict: target === null ? null : (targetMatch?.verdict ?? 'not-seen'),
       lowAnglePeaks: r.match.unexplained.filter((u) => u.lowAngle).map((u) => ({ twoTheta: u.twoTheta, d: u.d, height: u.height })),
       otherPhases,
@@ -68,4 +74,9 @@ export function seriesSamplesFromAnalyses(results: readonly AnalysisResult[], la
 function explains(p: PhaseMatch): boolean {
   if (p.verdict === 'not-seen') return false;
   return p.inExplanation ?? (p.weightFraction !== null || p.verdict === 'present');
+}
+
+/** The values when every label gave one, else null. */
+function everyOrNull(values: ReadonlyArray<number | null>): number[] | null {
+  return values.every((v) => v !== null) ? (values as number[]) : null;
 }

@@ -12,6 +12,8 @@ export interface ReportSample {
   sha256: string;
   variant: string | null;
   hours: number | null;
+  /** °C (annealing, drying...). */
+  temperature?: number | null;
   simulated: boolean;
   verdict: string;
   phase: string | null;
@@ -45,6 +47,8 @@ export type PaperSize = (typeof PAPER_SIZES)[number];
 export interface ReportSeriesRow {
   label: string;
   hours: number | null;
+  /** °C, for a temperature series. */
+  temperature?: number | null;
   sizeNm: number | null;
   sizeSigmaNm: number | null;
 }
@@ -68,6 +72,8 @@ export interface ReportInput {
   samples: ReportSample[];
   variants: ReportSeriesRow[];
   exposure: ReportSeriesRow[];
+  /** The samples ordered by temperature (annealing, drying...), when they have one. */
+  temperatures?: ReportSeriesRow[];
   comparisons: Array<{ a: string; b: string; differs: boolean; test: string; detail: string }>;
   /** Each phase growing with exposure time: its sentence, its shares and the fitted curve (empty when none was fitted). */
   growth: ReportGrowth[];
@@ -107,7 +113,7 @@ export function reportFileBase(input: ReportInput): string {
 export function renderHtmlReport(input: ReportInput): string {
   const rows = input.samples
     .map(
-      (s) => `<tr class="${s.lowAngle.length ? 'extra' : ''}"><td>${esc(s.name)}${s.simulated ? ' <span class="sim">simulated</span>' : ''}</td><td>${esc(s.variant ?? '')}</td><td>${s.hours ?? ''}</td>
+      (s) => `<tr class="${s.lowAngle.length ? 'extra' : ''}"><td>${esc(s.name)}${s.simulated ? ' <span class="sim">simulated</span>' : ''}</td><td>${esc(s.variant ?? '')}</td><td>${esc(conditionsText(s))}</td>
 <td><strong>${esc(s.verdict)}</strong></td><td>${esc(s.phase ?? '—')}${s.phaseVerdict ? ` (${esc(s.phaseVerdict)}, ${num(s.score, 2)})` : ''}</td>
 <td>${s.lowAngle.length ? s.lowAngle.map((p) => `${p.twoTheta.toFixed(2)}° (d ${p.d.toFixed(2)} Å, ${esc(p.phase ?? 'unexplained')})`).join('; ') : 'none'}</td>
 <td>${size(s.sizeNm, s.sizeSigmaNm)}${s.sizeLimit ? ` (${esc(s.sizeLimit)})` : ''}</td><td>${s.whSizeNm === null ? '—' : `${s.whSizeNm.toFixed(1)} nm`}${s.whStrain === null ? '' : s.whStrainDetected === false ? ', no strain detected' : `, <span class="nw">ε ${s.whStrain.toExponential(1)}</span>`}</td></tr>`,
@@ -147,11 +153,12 @@ table{table-layout:fixed}td,th{overflow-wrap:anywhere;hyphens:auto}table.samples
 <p class="small">Crystallog ${esc(input.appVersion)} · report made ${esc(input.createdAt)}</p>
 ${input.demo ? `<div class="truth"><strong>Demo project: every pattern in it is simulated, not measured.</strong>${input.truth ? `<br>${esc(input.truth)}` : ''}</div>` : ''}
 <h2>Samples</h2>
-<table class="samples">${columns([13, 10, 6, 12, 17, 17, 12.5, 12.5])}<tr><th>Sample</th><th>Variant</th><th>Time (h)</th><th>Verdict</th><th>Phase (verdict, score)</th><th>Low-angle extra peaks</th><th>Scherrer size</th><th>Williamson–<wbr>Hall</th></tr>
+<table class="samples">${columns([13, 10, 6, 12, 17, 17, 12.5, 12.5])}<tr><th>Sample</th><th>Variant</th><th>Time, temp.</th><th>Verdict</th><th>Phase (verdict, score)</th><th>Low-angle extra peaks</th><th>Scherrer size</th><th>Williamson–<wbr>Hall</th></tr>
 ${rows}</table>
 <h2>Crystallite size across the series</h2>
 ${seriesSvg(input.variants, 'variant')}
 ${seriesSvg(input.exposure, 'time')}
+${seriesSvg(input.temperatures ?? [], 'temperature')}
 ${growthSvg(input.growth)}
 ${comparisons}
 ${input.growth.length ? `<h2>Growth with exposure time</h2><ul>${input.growth.map((g) => `<li>${esc(g.phase)}: ${esc(g.statement)}</li>`).join('')}</ul>` : ''}
@@ -163,6 +170,11 @@ ${details}
 <h2>Cautions</h2>${input.cautions.map((c) => `<p class="caution">${esc(c)}</p>`).join('\n')}
 </body></html>
 `;
+}
+
+/** A sample's exposure time and temperature, with units ("24 h", "150 °C"). */
+function conditionsText(s: ReportSample): string {
+  return [s.hours !== null ? `${s.hours} h` : '', typeof s.temperature === 'number' ? `${s.temperature} °C` : ''].filter(Boolean).join(', ');
 }
 
 /** The frame every small series chart shares: its size, margins, the two axes and the y tick labels. */
@@ -178,8 +190,10 @@ function smallChartFrame(yMax: number, yTickScale: number, yTitle: string): { pa
   return { parts, yAt };
 }
 
-/** A small inline SVG chart: sizes ± σ by variant, or impurity share and size by exposure time. */
-function seriesSvg(rows: ReportSeriesRow[], by: 'variant' | 'time'): string {
+const SERIES_CAPTIONS = { variant: 'By workup variant', time: 'By exposure time', temperature: 'By temperature' } as const;
+
+/** A small inline SVG chart: sizes ± σ by variant, by exposure time or by temperature. */
+function seriesSvg(rows: ReportSeriesRow[], by: keyof typeof SERIES_CAPTIONS): string {
   const points = rows.filter((r) => r.sizeNm !== null);
   if (points.length < 2) return '';
   const { width, height, left, bottom } = SMALL_CHART;
@@ -190,10 +204,10 @@ function seriesSvg(rows: ReportSeriesRow[], by: 'variant' | 'time'): string {
     const x = xAt(i);
     const s = Number.isFinite(p.sizeSigmaNm ?? NaN) ? p.sizeSigmaNm! : 0;
     parts.push(`<line x1="${x}" y1="${yAt(p.sizeNm! - s)}" x2="${x}" y2="${yAt(p.sizeNm! + s)}" stroke="#3f6fa0"/><circle cx="${x}" cy="${yAt(p.sizeNm!)}" r="4" fill="#3f6fa0"/>`);
-    parts.push(`<text x="${x}" y="${height - bottom + 16}" text-anchor="middle">${esc(by === 'time' ? `${p.hours} h` : p.label)}</text>`);
+    parts.push(`<text x="${x}" y="${height - bottom + 16}" text-anchor="middle">${esc(by === 'time' ? `${p.hours} h` : by === 'temperature' ? `${p.temperature} °C` : p.label)}</text>`);
   });
   parts.push('</svg>');
-  return `<figure class="series"><figcaption>${by === 'variant' ? 'By workup variant' : 'By exposure time'} (error bars: ± one standard uncertainty)</figcaption>${parts.join('')}</figure>`;
+  return `<figure class="series"><figcaption>${SERIES_CAPTIONS[by]} (error bars: ± one standard uncertainty)</figcaption>${parts.join('')}</figure>`;
 }
 
 /**
@@ -226,7 +240,7 @@ function growthSvg(curves: ReportGrowth[]): string {
 }
 
 const CSV_COLUMNS = [
-  'sample', 'file', 'sha256', 'simulated', 'variant', 'exposure_hours', 'verdict', 'phase', 'phase_verdict', 'score',
+  'sample', 'file', 'sha256', 'simulated', 'variant', 'exposure_hours', 'temperature_c', 'verdict', 'phase', 'phase_verdict', 'score',
   'low_angle_peaks_2theta', 'unexplained_peaks', 'scherrer_size_nm', 'scherrer_size_sigma_nm', 'size_limit', 'wh_size_nm', 'wh_strain', 'wavelength',
 ] as const;
 
@@ -249,7 +263,7 @@ export function renderCsvReport(input: ReportInput): string {
   for (const s of input.samples) {
     lines.push(
       [
-        s.name, s.fileName, s.sha256, s.simulated, s.variant, s.hours, s.verdict, s.phase, s.phaseVerdict, s.score === null ? null : s.score.toFixed(3),
+        s.name, s.fileName, s.sha256, s.simulated, s.variant, s.hours, s.temperature ?? null, s.verdict, s.phase, s.phaseVerdict, s.score === null ? null : s.score.toFixed(3),
         s.lowAngle.map((p) => p.twoTheta.toFixed(3)).join(' '), s.unexplainedCount, s.sizeNm === null ? null : s.sizeNm.toFixed(2),
         s.sizeSigmaNm === null || !Number.isFinite(s.sizeSigmaNm) ? null : s.sizeSigmaNm.toFixed(2), s.sizeLimit, s.whSizeNm === null ? null : s.whSizeNm.toFixed(2),
         s.whStrain === null ? null : s.whStrain.toExponential(3), s.wavelength,

@@ -42,6 +42,8 @@ export interface ComparisonOptions {
   preparationSpreadRelative?: number;
   /** Test pairs: 'all' (default for variants) or 'none' (default for an ordered series, which gets a trend test). */
   pairs?: 'all' | 'none';
+  /** Unit of the ordering variable, named in the trend's statement ("h", "°C"; default "unit"). */
+  orderUnit?: string;
 }
 
 export interface PairComparison {
@@ -64,7 +66,7 @@ export interface PairComparison {
 }
 
 export interface TrendTest {
-  /** Size change per unit of the ordering variable (nm per hour for an exposure series). */
+  /** Size change per unit of the ordering variable (nm per hour for an exposure series, nm per °C for a temperature series). */
   slopeNmPerUnit: number;
   slopeSigma: number;
   pValue: number;
@@ -219,7 +221,7 @@ export function compareSizes(samples: readonly SizeForComparison[], options: Com
     const what = `${fmt(pair.differenceNm as number)} ± ${fmt(pair.differenceSigmaNm as number)} nm (95 % interval ${fmt(lo)} to ${fmt(hi)} nm${where}; p = ${pair.pAdjusted.toPrecision(2)} after Holm, α = ${alpha})`;
     pair.statement = pair.differs ? `sizes differ: ${what}` : `no difference beyond the uncertainty: ${what}`;
   }
-  const trend = ordered ? trendTest(samples, reproducibility.relative, alpha) : null;
+  const trend = ordered ? trendTest(samples, reproducibility.relative, alpha, opts.orderUnit ?? 'unit') : null;
   const test =
     `${pooled ? "replicate groups compared by Welch's t-test" : 'two-sided z-test'} on the difference of Scherrer sizes over the reflections both samples share, ` +
     `with each sample's fit uncertainty and a preparation spread of ${(100 * reproducibility.relative).toPrecision(2)} % (${reproducibility.source === 'replicates' ? 'measured from the replicates' : reproducibility.source === 'user' ? 'as set' : 'default, from memory: set it or mark replicates'})` +
@@ -263,7 +265,7 @@ function comparePair(a: Side, b: Side, spread: number, replicateDof: number | nu
 }
 
 /** Weighted least-squares slope of size against the ordering variable, with σ and a two-sided z p-value. */
-function trendTest(samples: readonly SizeForComparison[], spread: number, alpha: number): TrendTest | null {
+function trendTest(samples: readonly SizeForComparison[], spread: number, alpha: number, unit: string): TrendTest | null {
   const points = samples.filter((s) => s.sizeNm !== null && !s.lowerBound && s.sizeSigmaNm !== null);
   if (points.length < 3) return null;
   let sw = 0;
@@ -287,7 +289,7 @@ function trendTest(samples: readonly SizeForComparison[], spread: number, alpha:
   const slopeSigma = Math.sqrt(sw / det);
   const pValue = normalTwoSidedP(slope / slopeSigma);
   const differs = pValue < alpha;
-  const what = `${fmt(slope)} ± ${fmt(slopeSigma)} nm per unit (p = ${pValue.toPrecision(2)}, α = ${alpha})`;
+  const what = `${fmt(slope)} ± ${fmt(slopeSigma)} nm per ${unit} (p = ${pValue.toPrecision(2)}, α = ${alpha})`;
   return { slopeNmPerUnit: slope, slopeSigma, pValue, differs, statement: differs ? `the size changes along the series: ${what}` : `no trend beyond the uncertainty: ${what}` };
 }
 

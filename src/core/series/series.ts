@@ -1,7 +1,7 @@
 /**
- * A series of samples (workup variants or exposure times) analysed with one instrument profile and
- * one set of settings: a row per sample, pairwise size comparisons, and the growth of other phases'
- * shares over exposure time.
+ * A series of samples (workup variants, exposure times or temperatures) analysed with one instrument
+ * profile and one set of settings: a row per sample, size comparisons (pairs, or the trend of an
+ * ordered series), and the growth of other phases' shares over exposure time.
  */
 import { InputError } from '../errors.js';
 import type { SizeResult, SizeSettings } from '../size/sizes.js';
@@ -29,6 +29,8 @@ export interface SeriesSample {
   sha256?: string;
   /** Exposure time in hours, for exposure series. */
   exposureHours?: number | null;
+  /** Temperature in °C (annealing, drying or measuring temperature), for temperature series. */
+  temperatureC?: number | null;
   /** Samples with the same group are replicate preparations of one variant (their spread measures reproducibility). */
   replicateGroup?: string | null;
   /** The target phase's verdict, or null without a target. */
@@ -70,6 +72,7 @@ export interface SeriesRow {
   /** The phase whose lines gave the sizes (null: every fitted peak). */
   sizePhase: string | null;
   exposureHours: number | null;
+  temperatureC: number | null;
   verdict: string | null;
   lowAnglePeaks: SeriesSample['lowAnglePeaks'];
   otherPhases: SeriesPhaseShare[];
@@ -86,7 +89,8 @@ export interface SeriesGrowth {
 }
 
 export interface SeriesResult {
-  kind: 'workup' | 'exposure';
+  /** exposure: every sample has a time; temperature: every sample has a temperature (and not all a time). */
+  kind: 'workup' | 'exposure' | 'temperature';
   rows: SeriesRow[];
   comparison: SizeComparisonResult;
   growth: SeriesGrowth[];
@@ -137,6 +141,7 @@ export function analyzeSeries(samples: readonly SeriesSample[], options: SeriesO
       file: s.file,
       sizePhase: s.size.settings.phase?.name ?? null,
       exposureHours: s.exposureHours ?? null,
+      temperatureC: s.temperatureC ?? null,
       verdict: s.verdict,
       lowAnglePeaks: s.lowAnglePeaks,
       otherPhases: s.otherPhases,
@@ -153,6 +158,12 @@ export function analyzeSeries(samples: readonly SeriesSample[], options: SeriesO
     };
   });
 
+  const timed = samples.filter((s) => isNumber(s.exposureHours));
+  const heated = samples.filter((s) => isNumber(s.temperatureC));
+  const kind: SeriesResult['kind'] =
+    samples.length > 1 && timed.length === samples.length ? 'exposure' : samples.length > 1 && heated.length === samples.length ? 'temperature' : 'workup';
+  const orderOf = (s: SeriesSample): number | null => (kind === 'exposure' ? (s.exposureHours as number) : kind === 'temperature' ? (s.temperatureC as number) : null);
+
   const comparison = compareSizes(
     samples.map((s) => ({
       label: s.label,
@@ -162,21 +173,21 @@ export function analyzeSeries(samples: readonly SeriesSample[], options: SeriesO
       phase: s.size.settings.phase?.name ?? null,
       reflections: reflectionSizes(s.size),
       replicateGroup: s.replicateGroup ?? null,
-      order: s.exposureHours ?? null,
+      order: orderOf(s),
     })),
     {
       alpha: options.alpha ?? DEFAULT_ALPHA,
+      orderUnit: kind === 'temperature' ? '°C' : 'h',
       ...(options.preparationSpreadRelative !== undefined ? { preparationSpreadRelative: options.preparationSpreadRelative } : {}),
       ...(options.pairs ? { pairs: options.pairs } : {}),
     },
   );
 
-  const timed = samples.filter((s) => typeof s.exposureHours === 'number' && Number.isFinite(s.exposureHours));
-  const kind: SeriesResult['kind'] = timed.length === samples.length && samples.length > 1 ? 'exposure' : 'workup';
   const growth = kind === 'exposure' ? growthOfOtherPhases(timed) : [];
 
   const warnings: string[] = [];
-  if (timed.length > 0 && timed.length < samples.length) warnings.push('only some samples have an exposure time: the series is treated as workup variants');
+  if (kind === 'workup' && timed.length > 0 && timed.length < samples.length) warnings.push('only some samples have an exposure time: the series is treated as workup variants');
+  if (kind === 'workup' && heated.length > 0 && heated.length < samples.length) warnings.push('only some samples have a temperature: the series is treated as workup variants');
   const byArea = [...new Set(samples.flatMap((s) => s.otherPhases.filter((p) => p.basis === 'peak area share').map((p) => p.name)))];
   if (byArea.length > 0) {
     // One warning for all such phases (a long series may name many).
@@ -187,6 +198,10 @@ export function analyzeSeries(samples: readonly SeriesSample[], options: SeriesO
   }
   const references = mergeReferences(samples);
   return { kind, rows, comparison, growth, settings: reference, references, warnings, cautions: [...SIZE_CAUTIONS] };
+}
+
+function isNumber(value: number | null | undefined): value is number {
+  return typeof value === 'number' && Number.isFinite(value);
 }
 
 /** Phases named one by one in a warning before the rest are counted. */
@@ -232,4 +247,16 @@ export function exposureHoursFromLabel(label: string): number | null {
   if (unit === 'min' || unit === 'm') return value / 60;
   if (unit.startsWith('d')) return value * 24;
   return value;
+}
+
+/**
+ * Temperature in °C from a label such as "150 °C", "150C", "150 degC" or "423 K"; null when the label
+ * names no temperature.
+ */
+export function temperatureCFromLabel(label: string): number | null {
+  const m = /^\s*(-?\d+(?:[.,]\d+)?)\s*(°\s*C|deg\s*C|C|K)\s*$/i.exec(label);
+  if (!m) return null;
+  const value = Number(m[1].replace(',', '.'));
+  const celsius = m[2].toUpperCase() === 'K' ? value - 273.15 : value;
+  return celsius >= -273.15 ? celsius : null;
 }
