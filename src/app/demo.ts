@@ -40,12 +40,15 @@ const PHASES: DemoPhase[] = [
 ];
 
 /** Crystallite sizes the variants were simulated with (the truth the tool should recover). */
-export const DEMO_VARIANT_SIZES_NM: ReadonlyArray<{ variant: string; sizeNm: number }> = [
+export const DEMO_VARIANT_SIZES_NM: ReadonlyArray<{ variant: string; sizeNm: number; temperatureC?: number }> = [
   { variant: 'as made', sizeNm: 48 },
   { variant: 'ground', sizeNm: 46 },
   { variant: 'washed', sizeNm: 48 },
   { variant: 'sonicated', sizeNm: 47 },
-  { variant: 'annealed 100 °C', sizeNm: 75 },
+  // An annealing ladder (growth with temperature is our own choice), so the demo has a temperature series.
+  { variant: 'annealed 80 °C', sizeNm: 58, temperatureC: 80 },
+  { variant: 'annealed 100 °C', sizeNm: 75, temperatureC: 100 },
+  { variant: 'annealed 120 °C', sizeNm: 92, temperatureC: 120 },
 ];
 
 export const DEMO_EXPOSURE_HOURS = [0, 2, 6, 24, 48] as const;
@@ -96,6 +99,7 @@ interface DemoFile {
   label: string;
   variant: string | null;
   hours: number | null;
+  temperature: number | null;
   phases: SimulatedPhase[];
   seed: number;
 }
@@ -107,6 +111,7 @@ function demoFiles(refs: Map<DemoPhase['key'], Reference>): DemoFile[] {
     label: `MAPbI3 ${v.variant}`,
     variant: v.variant,
     hours: null,
+    temperature: v.temperatureC ?? null,
     phases: [{ lines: target, scale: 1, sizeNm: v.sizeNm }],
     seed: 101 + i,
   }));
@@ -115,7 +120,7 @@ function demoFiles(refs: Map<DemoPhase['key'], Reference>): DemoFile[] {
     const phases: SimulatedPhase[] = [{ lines: target, scale: 1 - hydrate - pbi2, sizeNm: 48 }];
     if (hydrate > 0) phases.push({ lines: refs.get('hydrate')!.lines, scale: hydrate, sizeNm: 30 });
     if (pbi2 > 0) phases.push({ lines: refs.get('pbi2')!.lines, scale: pbi2, sizeNm: 40 });
-    files.push({ fileName: `simulated_MAPbI3_humid-air_${hours}h.xy`, label: `humid air ${hours} h`, variant: null, hours, phases, seed: 201 + i });
+    files.push({ fileName: `simulated_MAPbI3_humid-air_${hours}h.xy`, label: `humid air ${hours} h`, variant: null, hours, temperature: null, phases, seed: 201 + i });
   });
   return files;
 }
@@ -130,7 +135,7 @@ export function demoTruth(): string {
     `Truth the patterns were simulated from (the library's references for methylammonium lead iodide (MAPbI3), its monohydrate, lead iodide and LaB6; ` +
     `Cu Kα1/Kα2, 5–60° 2θ in 0.01° steps, Poisson counting noise, a typical lab instrument broadening, LaB6 standard without size broadening): ` +
     `MAPbI3 crystallite sizes ${sizes}; exposure series at 48 nm with the monohydrate (30 nm) and PbI2 (40 nm) ` +
-    `growing as share of the line scale — ${growth}. Only the annealed sample truly differs in size. ${DEMO_SAFETY_NOTE}`
+    `growing as share of the line scale — ${growth}. Only the annealed samples truly differ in size, growing with the annealing temperature. ${DEMO_SAFETY_NOTE}`
   );
 }
 
@@ -189,5 +194,5 @@ export function startDemoProject(workspace: Workspace): { state: ProjectState; s
 export function addDemoSample(workspace: Workspace, index: number): SampleSummary {
   const file = demoFiles(references())[index];
   if (!file) throw new InputError(`the demo has no sample number ${index + 1}`);
-  return workspace.addSample(file.fileName, writeDemoFile(workspace, file.fileName, file.phases, file.seed), { label: file.label, variant: file.variant, hours: file.hours });
+  return workspace.addSample(file.fileName, writeDemoFile(workspace, file.fileName, file.phases, file.seed), { label: file.label, variant: file.variant, hours: file.hours, temperature: file.temperature });
 }

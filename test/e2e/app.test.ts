@@ -1,8 +1,12 @@
 import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { DEMO_EXPOSURE_HOURS, DEMO_VARIANT_SIZES_NM } from '../../src/app/demo.js';
 import { SILICON, siliconPatternText } from '../app/fixtures.js';
 import { openApp, pickFile, pageProblems, SCREENSHOTS, type AppSession } from './harness.js';
+
+/** The LaB6 standard, one sample per workup variant and one per exposure time. */
+const DEMO_SAMPLE_COUNT = 1 + DEMO_VARIANT_SIZES_NM.length + DEMO_EXPOSURE_HOURS.length;
 
 let app: AppSession;
 const shot = (name: string) => app.page.screenshot({ path: join(SCREENSHOTS, `${name}.png`) });
@@ -24,7 +28,7 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     await page.getByTestId('progress').waitFor({ timeout: 60_000 });
     await shot('01b-demo-progress');
     await page.getByText(/Demo project ready/).waitFor({ timeout: 400_000 });
-    expect(await page.locator('[data-testid="sample-list"] li').count()).toBe(11);
+    expect(await page.locator('[data-testid="sample-list"] li').count()).toBe(DEMO_SAMPLE_COUNT);
     expect(await page.getByTestId('demo-truth').textContent()).toMatch(/simulated/i);
   }, 420_000);
 
@@ -239,14 +243,23 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     await page.getByText(/Settings saved; \d+ samples re-analysed/).waitFor({ timeout: 120_000 });
   }, 300_000);
 
-  it('shows the series by variant and by exposure time', async () => {
+  it('shows the series by variant, by exposure time and by annealing temperature', async () => {
     const { page } = app;
+    const column = (n: number) => page.getByTestId('series').locator(`table.grid:not([data-testid]) tbody tr td:nth-child(${n})`).allTextContents();
     await page.getByRole('tab', { name: /Series/ }).click();
     await page.getByTestId('series').waitFor();
+    expect(await column(2)).toContain('annealed 100 °C');
     await shot('08-series-variant');
     await page.getByRole('button', { name: 'by exposure time' }).click();
-    await page.getByTestId('series').waitFor();
+    await page.getByRole('columnheader', { name: 'exposure' }).waitFor();
+    expect(await column(2)).toEqual(['0 h', '2 h', '6 h', '24 h', '48 h']);
     await shot('09-series-time');
+    await page.getByRole('button', { name: 'by temperature' }).click();
+    await page.getByRole('columnheader', { name: 'temperature' }).waitFor();
+    expect(await column(2)).toEqual(['80 °C', '100 °C', '120 °C']);
+    // An ordered series is tested by its trend, not by all pairs.
+    await expect.poll(() => page.getByTestId('comparisons').textContent()).toMatch(/weighted regression slope: the size changes along the series: [\d.]+ ± \S+ nm per °C/);
+    await shot('09b-series-temperature');
   });
 
   it('exports an HTML report carrying settings, versions and cautions', async () => {

@@ -9,7 +9,11 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { DEMO_EXPOSURE_HOURS, DEMO_VARIANT_SIZES_NM } from '../../src/app/demo.js';
 import { openApp, pageProblems, ROOT, SCREENSHOTS, type AppSession } from './harness.js';
+
+/** The LaB6 standard, one sample per workup variant and one per exposure time. */
+const DEMO_SAMPLE_COUNT = 1 + DEMO_VARIANT_SIZES_NM.length + DEMO_EXPOSURE_HOURS.length;
 
 let app: AppSession;
 
@@ -60,8 +64,8 @@ describe("a chemist's day in the app (headless Chromium)", () => {
   it('opens the demo project', async () => {
     const { page } = app;
     await page.getByTestId('open-demo').click();
-    await page.getByText(/^Demo project ready: the LaB6 standard and 10 simulated samples\.$/).waitFor({ timeout: 400_000 });
-    expect(await page.locator('[data-testid="sample-list"] li').count()).toBe(11);
+    await page.getByText(`Demo project ready: the LaB6 standard and ${DEMO_SAMPLE_COUNT - 1} simulated samples.`, { exact: true }).waitFor({ timeout: 400_000 });
+    expect(await page.locator('[data-testid="sample-list"] li').count()).toBe(DEMO_SAMPLE_COUNT);
     await shotsAtBothSizes(page, '01-demo');
   }, 420_000);
 
