@@ -382,7 +382,7 @@ function sizePanel(detail: SampleDetail): HTMLElement | null {
     size.sizeStrain
       ? h('div', { 'data-testid': 'size-strain' }, `Size–strain: ${size.sizeStrain.statement}, R² ${fmt(size.sizeStrain.r2, 3)}`)
       : h('div', { class: 'small', 'data-testid': 'size-strain' }, `No size–strain plot: ${size.sizeStrainReason ?? 'not available'}.`),
-    size.williamsonHall ? h('div', {}, `Williamson–Hall (Voigt parts): ${size.williamsonHall.sizeNm === null ? '—' : `${size.williamsonHall.sizeNm.toFixed(1)} nm`}, ${size.williamsonHall.strainStatement}, R² ${fmt(size.williamsonHall.r2, 2)}`) : null,
+    size.williamsonHall ? h('div', { 'data-testid': 'williamson-hall' }, `Cross-check, Williamson–Hall (Voigt parts): ${size.williamsonHall.sizeNm === null ? '—' : `${size.williamsonHall.sizeNm.toFixed(1)} nm`}, ${size.williamsonHall.strainStatement}, R² ${fmt(size.williamsonHall.r2, 2)}`) : null,
   ]);
   const side = h('div', { class: 'size-side' });
   append(side, [

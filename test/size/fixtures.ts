@@ -7,6 +7,8 @@ import { TYPICAL_LAB_INSTRUMENT, type InstrumentBroadening } from '../../src/cor
 import type { Reference } from '../../src/core/model/reference.js';
 import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 import { fitInstrumentProfile, type InstrumentProfile } from '../../src/core/size/instrument.js';
+import type { SizeStrainPoint } from '../../src/core/size/size-strain-points.js';
+import { PHI_GAUSSIAN, PHI_LORENTZIAN, voigtIntegralBreadth } from '../../src/core/size/voigt.js';
 
 export const CU_KA1 = 1.5405929;
 
@@ -88,4 +90,36 @@ export function typicalInstrumentProfile(): InstrumentProfile {
       return fittedPeak(tt, p.fwhm, p.eta);
     });
   return fitInstrumentProfile(peaks, siliconStandard(), { wavelength: anodeWavelength('Cu'), name: 'typical lab instrument (simulated)', date: '2025-01-01' });
+}
+
+/**
+ * Exact sample broadening of a size (Lorentzian FWHM Kλ/(D cosθ)) and a strain (Gaussian FWHM 4ε tanθ)
+ * (Scherrer 1918; Stokes & Wilson 1944), with the whole integral breadth of their Voigt (exact
+ * convolution, de Keijser et al., J. Appl. Cryst. 15, 308 (1982)); 1 % σ on every width, at least
+ * `gaussianSigmaFloorDeg` on the Gaussian part. `scatter` multiplies the Lorentzian parts and
+ * `gaussianScatter` adds to the Gaussian parts (degrees), reflection by reflection.
+ */
+export function exactSizeStrainPoints(
+  sizeNm: number,
+  strain: number,
+  angles: readonly number[],
+  scatter: readonly number[] = [],
+  options: { gaussianScatterDeg?: readonly number[]; gaussianSigmaFloorDeg?: number } = {},
+): SizeStrainPoint[] {
+  return angles.map((tt, i) => {
+    const theta = (tt / 2) * DEG_TO_RAD;
+    const l = ((0.9 * CU_KA1) / (sizeNm * 10 * Math.cos(theta)) / DEG_TO_RAD) * (scatter[i] ?? 1);
+    const g = Math.max(0, (4 * strain * Math.tan(theta)) / DEG_TO_RAD + (options.gaussianScatterDeg?.[i] ?? 0));
+    const beta = voigtIntegralBreadth({ lorentzian: l / PHI_LORENTZIAN, gaussian: g / PHI_GAUSSIAN });
+    return {
+      twoThetaDeg: tt,
+      lorentzianDeg: l,
+      lorentzianSigmaDeg: 0.01 * l,
+      gaussianDeg: g,
+      gaussianSigmaDeg: Math.max(0.01 * g, options.gaussianSigmaFloorDeg ?? 0.002),
+      integralBreadthDeg: beta,
+      integralBreadthSigmaDeg: 0.01 * beta,
+      hkl: null,
+    };
+  });
 }

@@ -67,3 +67,20 @@ export function strainStatementOf(strain: number, sigma: number, detected: boole
     ? `microstrain ${strain.toExponential(2)} ± ${sigma.toExponential(1)}`
     : `no strain detected (|ε| < ${STRAIN_SIGNIFICANT_SIGMAS}σ = ${(STRAIN_SIGNIFICANT_SIGMAS * sigma).toExponential(1)})`;
 }
+
+/**
+ * When the quoted size–strain method (Halder–Wagner) and the Williamson–Hall cross-check disagree on
+ * whether there is strain, a sentence saying so and what to make of it; null when they agree.
+ */
+export function strainDisagreement(
+  quoted: { strain: number; strainSigma: number; strainDetected: boolean },
+  crossCheck: { strain: number; strainSigma: number; strainDetected: boolean },
+): string | null {
+  if (quoted.strainDetected === crossCheck.strainDetected) return null;
+  const [found, notFound] = quoted.strainDetected ? ['Halder–Wagner', 'Williamson–Hall'] : ['Williamson–Hall', 'Halder–Wagner'];
+  const detected = quoted.strainDetected ? quoted : crossCheck;
+  return (
+    `${found} finds a microstrain of ${detected.strain.toExponential(1)} ± ${detected.strainSigma.toExponential(1)}, ${notFound} none above ${STRAIN_SIGNIFICANT_SIGMAS}σ: ` +
+    `the two weigh the reflections differently, so the strain is not established; quote the Halder–Wagner result and treat any strain as at most about ${(Math.abs(detected.strain) + STRAIN_SIGNIFICANT_SIGMAS * detected.strainSigma).toExponential(1)}`
+  );
+}

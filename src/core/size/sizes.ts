@@ -26,7 +26,7 @@ import {
   type ProfileBreadths,
 } from './voigt.js';
 import { halderWagner, type SizeStrainResult } from './halder-wagner.js';
-import type { SizeStrainPoint } from './size-strain-points.js';
+import { strainDisagreement, type SizeStrainPoint } from './size-strain-points.js';
 import { williamsonHall, type WilliamsonHallResult } from './williamson-hall.js';
 
 export type SizeLimit = 'instrument' | 'overlap' | null;
@@ -350,6 +350,8 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
   if (hwResult) warnings.push(...hwResult.warnings);
   if (!instrument && hwResult) warnings.push('no instrument profile: the size–strain plots include the instrument\'s broadening (sizes too small, strains too large)');
   if (whResult?.anisotropy?.detected) warnings.push(whResult.anisotropy.statement);
+  const disagreement = whResult && hwResult ? strainDisagreement(hwResult, whResult) : null;
+  if (disagreement) warnings.push(disagreement);
 
   const settings: SizeSettings = {
     k,
