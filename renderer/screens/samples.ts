@@ -372,8 +372,17 @@ function sizePanel(detail: SampleDetail): HTMLElement | null {
   if (detail.problem) return null;
   const size = detail.size;
   const panel = h('div', { class: 'panel stack size-panel' }, h('h3', {}, 'Crystallite size'));
+  if (!size?.scherrer && size?.groupFit) {
+    // Every line overlapped another phase's: the size comes from the constrained group fit of the pattern.
+    panel.append(
+      h('div', { class: 'size-line', 'data-testid': 'size' }, `Constrained group fit: ${sizeText(size.groupFit.sizeNm, size.groupFit.sizeSigmaNm)}`),
+      h('div', { class: 'small' }, size.groupFit.convention),
+    );
+    for (const note of size.notes) panel.append(h('div', { class: 'small' }, note));
+    return panel;
+  }
   if (!size?.scherrer) {
-    panel.append(h('div', { class: 'small', 'data-testid': 'size' }, 'No size: no resolved peak gave one.'));
+    panel.append(h('div', { class: 'small', 'data-testid': 'size' }, size?.groupFitReason ? `No size: ${size.groupFitReason}.` : 'No size: no resolved peak gave one.'));
     for (const note of size?.notes ?? []) panel.append(h('div', { class: 'small' }, note));
     return panel;
   }

@@ -35,7 +35,7 @@ export async function renderSeries(root: HTMLElement): Promise<void> {
     { class: 'screen stack', 'data-testid': 'series' },
     h('div', { class: 'row' }, h('h2', {}, 'Series'), h('span', { class: 'segmented' }, pick('variant'), pick('time'), pick('temperature'))),
     ...view.notes.map((n) => h('p', { class: 'caution' }, n)),
-    h('div', { class: 'two-col' }, h('div', { class: 'panel' }, h('h3', {}, 'Scherrer size ± σ'), h('div', { class: 'series-chart' }, sizeCanvas)), growthPanel(view)),
+    h('div', { class: 'two-col' }, h('div', { class: 'panel' }, h('h3', {}, 'Crystallite size ± σ'), h('div', { class: 'series-chart' }, sizeCanvas)), growthPanel(view)),
     patternsPanel(view),
     h('div', { class: 'panel' }, rowsTable(view)),
     comparisonsPanel(view),
@@ -101,7 +101,7 @@ function rowsTable(view: SeriesView): HTMLElement {
   return h(
     'table',
     { class: 'grid' },
-    h('thead', {}, h('tr', {}, ...['sample', AXIS_WORDS[view.by].column, 'verdict', 'other phases', 'low-angle peaks', 'not from target', 'Scherrer size'].map((t, i) => h('th', { class: i < 4 ? 'left' : '' }, t)))),
+    h('thead', {}, h('tr', {}, ...['sample', AXIS_WORDS[view.by].column, 'verdict', 'other phases', 'low-angle peaks', 'not from target', 'crystallite size'].map((t, i) => h('th', { class: i < 4 ? 'left' : '' }, t)))),
     h(
       'tbody',
       {},
@@ -115,7 +115,7 @@ function rowsTable(view: SeriesView): HTMLElement {
           h('td', { class: 'left small wrap' }, r.otherPhases || '—'),
           h('td', {}, r.lowAngleCount),
           h('td', {}, r.impurityShare === null ? '—' : `${fmt(100 * r.impurityShare, 1)} %`),
-          h('td', { class: r.sizeNote === null ? '' : 'wrap' }, r.sizeNote === null ? sizeText(r.sizeNm, r.sizeSigmaNm) : h('span', { class: 'small', title: r.sizeNote }, r.sizeNm === null ? `— ${r.sizeNote}` : r.sizeNote)),
+          h('td', { class: r.sizeNote === null ? '' : 'wrap' }, r.sizeNote === null ? `${sizeText(r.sizeNm, r.sizeSigmaNm)}${r.sizeMethod === 'constrained-group-fit' ? ' (group fit)' : ''}` : h('span', { class: 'small', title: r.sizeNote }, r.sizeNm === null ? `— ${r.sizeNote}` : r.sizeNote)),
         ),
       ),
     ),

@@ -162,6 +162,8 @@ export interface SampleSummary {
   unexplainedCount: number;
   sizeNm: number | null;
   sizeSigmaNm: number | null;
+  /** How the size was had: the Scherrer mean of resolved peaks, or a constrained group fit where every line was overlapped. */
+  sizeMethod?: 'scherrer' | 'constrained-group-fit' | null;
   /** Sentence when the analysis failed (the raw file is still kept). */
   problem: string | null;
   analysisMs: number | null;
@@ -215,6 +217,9 @@ export interface SizeView {
   instrumentCorrected: boolean;
   peaks: SizePeakView[];
   scherrer: { sizeNm: number; sizeSigmaNm: number } | null;
+  /** Where every line was overlapped: the constrained group fit's size, with its sentence and convention. */
+  groupFit?: { sizeNm: number; sizeSigmaNm: number; statement: string; convention: string } | null;
+  groupFitReason?: string | null;
   williamsonHall: { sizeNm: number | null; strain: number; strainDetected: boolean; strainStatement: string; r2: number } | null;
   /** The size–strain result to quote (Halder–Wagner), with its plot; null with the reason when it is no result. */
   sizeStrain: SizeStrainView | null;
@@ -343,6 +348,7 @@ export interface SeriesRowView {
   otherPhases: string;
   sizeNm: number | null;
   sizeSigmaNm: number | null;
+  sizeMethod?: 'scherrer' | 'constrained-group-fit' | null;
   /** Why there is no size (or only a bound), in a few words; null when there is one. */
   sizeNote: string | null;
 }

@@ -4,6 +4,7 @@
  */
 import type { AnalysisResult } from '../core/analysis/analyse.js';
 import { lowAnglePeaks, sampleVerdict, type LowAnglePeak } from '../core/analysis/verdict.js';
+import { quotedSize } from '../core/size/sizes.js';
 import { instrumentWidthAt, type InstrumentProfile } from '../core/size/instrument.js';
 import type { InstrumentView, PeakView, ProjectSettings, SampleSummary, SizeView } from '../api/contract.js';
 import type { SampleRecord } from '../node/project-store.js';
@@ -77,6 +78,12 @@ export function baseSummary(record: SampleRecord): SampleSummary {
   };
 }
 
+/** The size a sample is listed with (the Scherrer mean, else the constrained group fit's), and how it was had. */
+function quotedSizeOf(result: AnalysisResult): Pick<SampleSummary, 'sizeNm' | 'sizeSigmaNm' | 'sizeMethod'> {
+  const quoted = quotedSize(result.size);
+  return { sizeNm: quoted?.sizeNm ?? null, sizeSigmaNm: quoted?.sizeSigmaNm ?? null, sizeMethod: quoted?.method ?? null };
+}
+
 export function summaryFromResult(record: SampleRecord, result: AnalysisResult, target: string | null, analysisMs: number): SampleSummary {
   const { verdict, phase } = sampleVerdict(result.match, target);
   return {
@@ -85,8 +92,7 @@ export function summaryFromResult(record: SampleRecord, result: AnalysisResult, 
     phase: phase ? { name: phase.name, verdict: phase.verdict, score: phase.score } : null,
     lowAngleCount: lowAnglePeaks(result.match, target).length,
     unexplainedCount: result.match.unexplained.length,
-    sizeNm: result.size.scherrer.sizeNm,
-    sizeSigmaNm: result.size.scherrer.sizeSigmaNm,
+    ...quotedSizeOf(result),
     analysisMs,
   };
 }
@@ -130,6 +136,8 @@ export function sizeView(result: AnalysisResult): SizeView {
     instrumentCorrected: size.settings.instrument !== null,
     peaks: size.peaks.map((p) => ({ twoTheta: p.twoTheta, hkl: p.hkl, sizeNm: p.sizeNm, sizeSigmaNm: p.sizeSigmaNm, limit: p.limit, observedBreadthDeg: p.observedBreadthDeg, instrumentBreadthDeg: p.instrumentBreadthDeg, sampleBreadthDeg: p.sampleBreadthDeg, statement: p.statement })),
     scherrer: size.scherrer.sizeNm !== null ? { sizeNm: size.scherrer.sizeNm, sizeSigmaNm: size.scherrer.sizeSigmaNm ?? Number.NaN } : null,
+    groupFit: size.groupFit ? { sizeNm: size.groupFit.sizeNm, sizeSigmaNm: size.groupFit.sizeSigmaNm, statement: size.groupFit.statement, convention: size.groupFit.convention } : null,
+    groupFitReason: size.groupFitReason ?? null,
     williamsonHall:
       wh && typeof wh.strain === 'number'
         ? { sizeNm: wh.sizeNm ?? null, strain: wh.strain, strainDetected: wh.strainDetected ?? true, strainStatement: wh.strainStatement ?? `microstrain ${wh.strain.toExponential(2)}`, r2: wh.r2 ?? Number.NaN }

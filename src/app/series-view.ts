@@ -1,6 +1,7 @@
 import { isInputError } from '../core/errors.js';
 import { seriesSamplesFromAnalyses } from '../core/analysis/series-from-analysis.js';
 import { analyzeSeries, type SeriesResult } from '../core/series/series.js';
+import { EVERY_PEAK_OVERLAPS } from '../core/size/sizes.js';
 import type { GrowthView, SeriesRowView, SeriesView } from '../api/contract.js';
 import type { AnalysisResult } from '../core/analysis/analyse.js';
 import type { Workspace } from './workspace.js';
@@ -62,6 +63,7 @@ export function buildSeriesView(workspace: Workspace, by: SeriesAxis): SeriesVie
       otherPhases: others.map((o) => `${o.name} ${(100 * o.share).toFixed(0)} %${o.basis === 'peak area share' ? ' of peak area' : ''}`).join(', '),
       sizeNm: summary.sizeNm,
       sizeSigmaNm: summary.sizeSigmaNm,
+      sizeMethod: summary.sizeMethod ?? null,
       sizeNote: summary.sizeNm !== null && summary.sizeSigmaNm !== null ? null : sizeNoteOf(result),
     };
   });
@@ -75,7 +77,8 @@ export function buildSeriesView(workspace: Workspace, by: SeriesAxis): SeriesVie
 /** A few words on why a sample has no size, or only a bound. */
 function sizeNoteOf(result: AnalysisResult | null): string | null {
   if (!result) return 'not analysed';
-  if (result.size.warnings.some((w) => w.startsWith('every peak'))) return 'every peak overlaps another line';
+  if (result.size.groupFitReason) return result.size.groupFitReason;
+  if (result.size.warnings.some((w) => w.startsWith(EVERY_PEAK_OVERLAPS))) return 'every peak overlaps another line';
   return result.size.scherrer.statement;
 }
 

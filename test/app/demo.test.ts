@@ -76,6 +76,19 @@ describe('the demo project lets the user see the tool recover the truth it was s
     }
   });
 
+  it('keeps a size for the target through the humid-air series, from a constrained group fit where every line overlaps the hydrate’s', () => {
+    // Truth: the target was simulated at 48 nm at every exposure time.
+    const methods: string[] = [];
+    for (const hours of DEMO_EXPOSURE_HOURS) {
+      const s = sample(`humid air ${hours} h`);
+      methods.push(`${hours} h: ${s.sizeMethod} ${s.sizeNm?.toFixed(1)} ± ${s.sizeSigmaNm?.toFixed(1)} nm`);
+      expect(s.sizeNm).not.toBeNull();
+      expect(s.sizeSigmaNm).toBeGreaterThan(0);
+      expect(Math.abs(s.sizeNm! - 48) / 48).toBeLessThan(0.2);
+    }
+    console.log(`humid-air series sizes (truth 48 nm): ${methods.join('; ')}`);
+  });
+
   it('shows the share not explained by the target growing with exposure time', async () => {
     const series = await ok<SeriesView>('series.get', { by: 'time' });
     const shares = series.rows.map((r) => r.impurityShare ?? 0);

@@ -4,6 +4,7 @@ import { analyzeFiles, defaultWorkerCount, type BatchFileOutcome } from '../../n
 import type { AnalysisResult, AnalysisSettings } from '../../core/analysis/analyse.js';
 import { InputError } from '../../core/errors.js';
 import { parseInstrumentProfile, type InstrumentProfile } from '../../core/size/instrument.js';
+import { quotedSize } from '../../core/size/sizes.js';
 import { loadReferencesWithIndex } from '../common/io.js';
 import { addMatchFlags, settingsFromFlags, TOLERANCE_HELP, type AnalysisFlags } from '../common/settings-flags.js';
 import { BACKGROUND_OPTION_HELP, numberOption, runCommand } from '../common/run-command.js';
@@ -164,7 +165,8 @@ function textLine(o: BatchFileOutcome): string {
   const best = r.match.phases.find((p) => p.name.toLowerCase() === r.settings.target?.toLowerCase()) ?? r.match.phases[0];
   const phase = best ? `${best.name} ${best.verdict} (score ${best.score.toFixed(2)})` : 'no phase';
   const lowAngle = r.match.unexplained.filter((u) => u.lowAngle).length;
-  const size = r.size.scherrer.sizeNm === null ? 'no size' : `Scherrer ${r.size.scherrer.sizeNm.toFixed(1)}${r.size.scherrer.sizeSigmaNm !== null ? ` ± ${r.size.scherrer.sizeSigmaNm.toFixed(1)}` : ''} nm`;
+  const quoted = quotedSize(r.size);
+  const size = quoted === null ? 'no size' : `${quoted.method === 'scherrer' ? 'Scherrer' : 'group fit'} ${quoted.sizeNm.toFixed(1)}${quoted.sizeSigmaNm !== null ? ` ± ${quoted.sizeSigmaNm.toFixed(1)}` : ''} nm`;
   return `${r.file}: ${r.peaks.length} peaks; ${phase}; ${r.match.unexplained.length} unexplained (${lowAngle} low-angle); ${size}\n`;
 }
 

@@ -21,7 +21,8 @@ import type { FittedPeak, NoiseEstimate } from '../model/peak.js';
 import type { OtherPhaseLine } from '../size/assign.js';
 import type { InstrumentProfile } from '../size/instrument.js';
 import { median } from '../numeric/numeric.js';
-import { crystalliteSizes, type SizeResult } from '../size/sizes.js';
+import { crystalliteSizes, EVERY_PEAK_OVERLAPS, type SizeResult } from '../size/sizes.js';
+import { needsGroupFit, overlappedPhaseSize } from './overlapped-size.js';
 import type { BreadthKind, CorrectionKind } from '../size/voigt.js';
 
 export type { AnalysisSettings } from './settings.js';
@@ -177,6 +178,18 @@ export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisCont
     phaseIsTarget: sizeReference !== null && sizeReference.name.toLowerCase() === targetName,
   });
   if (!sizeReference) warnings.push('no phase was found present: sizes come from every fitted peak');
+  if (sizeReference && needsGroupFit(size)) {
+    const outcome = overlappedPhaseSize({ pattern, search, match, size, sized: sizeReference, referenceByName: byName, instrument, wavelength });
+    if ('reason' in outcome) {
+      size.groupFit = null;
+      size.groupFitReason = outcome.reason;
+      size.warnings.push(outcome.reason);
+    } else {
+      size.groupFit = outcome;
+      size.warnings = size.warnings.filter((w) => !w.startsWith(EVERY_PEAK_OVERLAPS));
+      size.warnings.push(`every line of ${sizeReference.name} overlaps another phase's: its size, ${outcome.statement}`);
+    }
+  }
   warnings.push(...size.warnings);
   if (match.featureless) warnings.push('the pattern shows too few clear peaks to support a phase claim');
 

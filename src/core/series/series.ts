@@ -5,7 +5,7 @@
  */
 import { InputError } from '../errors.js';
 import type { SizeResult, SizeSettings } from '../size/sizes.js';
-import { SIZE_CAUTIONS } from '../size/sizes.js';
+import { quotedSize, SIZE_CAUTIONS } from '../size/sizes.js';
 import { compareSizes, DEFAULT_ALPHA, type ReflectionSize, type SizeComparisonResult } from './compare.js';
 import { fitGrowth, type GrowthAnalysis } from './kinetics.js';
 
@@ -55,8 +55,12 @@ export interface SeriesOptions {
   pairs?: 'all' | 'none';
 }
 
-/** Each resolved reflection's size with the σ of its own fit (size ∝ 1/breadth), keyed by hkl. */
+/**
+ * Each resolved reflection's size with the σ of its own fit (size ∝ 1/breadth), keyed by hkl; a size from
+ * the constrained group fit stands as one entry of its own, so it is compared only with another such size.
+ */
 function reflectionSizes(size: SizeResult): ReflectionSize[] {
+  if (size.scherrer.sizeNm === null && size.groupFit) return [{ hkl: 'constrained group fit', sizeNm: size.groupFit.sizeNm, sizeSigmaNm: size.groupFit.sizeSigmaNm }];
   return size.peaks
     .filter((p) => p.limit === null && p.sizeNm !== null && p.sampleBreadthDeg > 0)
     .map((p) => ({
@@ -77,6 +81,8 @@ export interface SeriesRow {
   lowAnglePeaks: SeriesSample['lowAnglePeaks'];
   otherPhases: SeriesPhaseShare[];
   scherrer: { sizeNm: number | null; sizeSigmaNm: number | null; limit: 'instrument' | null; statement: string };
+  /** Where every line of the phase was overlapped: the constrained group fit's size. */
+  groupFit: { sizeNm: number; sizeSigmaNm: number; statement: string } | null;
   williamsonHall: { sizeNm: number | null; sizeSigmaNm: number | null; strain: number | null; strainSigma: number | null; strainDetected: boolean; r2: number | null; limit: 'instrument' | null } | null;
   warnings: string[];
 }
@@ -151,6 +157,7 @@ export function analyzeSeries(samples: readonly SeriesSample[], options: SeriesO
         limit: s.size.scherrer.limit,
         statement: s.size.scherrer.statement,
       },
+      groupFit: s.size.groupFit ? { sizeNm: s.size.groupFit.sizeNm, sizeSigmaNm: s.size.groupFit.sizeSigmaNm, statement: s.size.groupFit.statement } : null,
       williamsonHall: wh
         ? { sizeNm: wh.sizeNm, sizeSigmaNm: wh.sizeSigmaNm, strain: wh.strain, strainSigma: wh.strainSigma, strainDetected: wh.strainDetected, r2: wh.r2, limit: wh.limit }
         : null,
@@ -165,16 +172,19 @@ export function analyzeSeries(samples: readonly SeriesSample[], options: SeriesO
   const orderOf = (s: SeriesSample): number | null => (kind === 'exposure' ? (s.exposureHours as number) : kind === 'temperature' ? (s.temperatureC as number) : null);
 
   const comparison = compareSizes(
-    samples.map((s) => ({
+    samples.map((s) => {
+      const quoted = quotedSize(s.size);
+      return {
       label: s.label,
-      sizeNm: s.size.scherrer.sizeNm,
-      sizeSigmaNm: s.size.scherrer.sizeSigmaFitNm ?? s.size.scherrer.sizeSigmaNm,
-      lowerBound: s.size.scherrer.limit === 'instrument',
+      sizeNm: quoted?.sizeNm ?? null,
+      sizeSigmaNm: quoted ? (quoted.sizeSigmaFitNm ?? quoted.sizeSigmaNm) : null,
+      lowerBound: quoted?.limit === 'instrument',
       phase: s.size.settings.phase?.name ?? null,
       reflections: reflectionSizes(s.size),
       replicateGroup: s.replicateGroup ?? null,
       order: orderOf(s),
-    })),
+      };
+    }),
     {
       alpha: options.alpha ?? DEFAULT_ALPHA,
       orderUnit: kind === 'temperature' ? '°C' : 'h',

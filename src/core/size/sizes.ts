@@ -28,6 +28,7 @@ import {
 import { halderWagner, type SizeStrainResult } from './halder-wagner.js';
 import { strainDisagreement, type SizeStrainPoint } from './size-strain-points.js';
 import { williamsonHall, type WilliamsonHallResult } from './williamson-hall.js';
+import type { GroupFitSize } from './group-fit.js';
 
 export type SizeLimit = 'instrument' | 'overlap' | null;
 
@@ -117,6 +118,12 @@ export interface SizeResult {
   /** The size–strain result to quote (Halder–Wagner); null with sizeStrainReason when it is no result. */
   sizeStrain: SizeStrainResult | null;
   sizeStrainReason?: string;
+  /**
+   * Where every line of the phase is overlapped by another phase's: its size from a constrained group fit
+   * of the pattern (analysis/overlapped-size.ts), or the reason even that failed. Absent where not tried.
+   */
+  groupFit?: GroupFitSize | null;
+  groupFitReason?: string;
   /** Voigt correction only: mean of the Lorentzian-part sizes and of the Gaussian-part strains. */
   singleLine: { sizeNm: number | null; sizeSigmaNm: number | null; strain: number | null; strainSigma: number | null } | null;
   zeroShiftDeg: number;
@@ -130,6 +137,21 @@ export const SIZE_CAUTIONS: readonly string[] = [
   'Where strain or defects also broaden the peaks, a Scherrer size is a lower bound.',
   'Size–strain plots assume one size and one strain for every direction; their sizes and strains depend on the stated convention (K, breadth) and are comparable only within it.',
 ];
+
+/** How the warning that no peak stands alone begins (the group fit replaces it when it gives a size). */
+export const EVERY_PEAK_OVERLAPS = 'every peak';
+
+/**
+ * The size to quote: the Scherrer mean of the resolved peaks, else the constrained group fit's where every
+ * line was overlapped; null when there is neither.
+ */
+export function quotedSize(size: SizeResult): { sizeNm: number; sizeSigmaNm: number | null; sizeSigmaFitNm: number | null; limit: 'instrument' | null; method: 'scherrer' | 'constrained-group-fit'; statement: string } | null {
+  const s = size.scherrer;
+  if (s.sizeNm !== null) return { sizeNm: s.sizeNm, sizeSigmaNm: s.sizeSigmaNm, sizeSigmaFitNm: s.sizeSigmaFitNm, limit: s.limit, method: 'scherrer', statement: s.statement };
+  const g = size.groupFit;
+  if (g) return { sizeNm: g.sizeNm, sizeSigmaNm: g.sizeSigmaNm, sizeSigmaFitNm: g.sizeSigmaFitNm ?? g.sizeSigmaNm, limit: null, method: 'constrained-group-fit', statement: g.statement };
+  return null;
+}
 
 /** Floor on a fitted breadth's relative uncertainty (a fit never knows a width better than this in practice). */
 const MIN_SIGMA_RELATIVE = 0.002;
@@ -322,7 +344,7 @@ export function crystalliteSizes(peaks: readonly FittedPeak[], options: SizeOpti
   }
   if (sizes.length > 0 && sizes.every((s) => s.limit === 'overlap')) {
     warnings.push(
-      `every peak${options.phase ? ` of ${options.phase.name}` : ''} overlaps a neighbouring line (of this phase or of another phase present), which would broaden it: no size; a purer sample or a pattern where some lines stand alone is needed`,
+      `${EVERY_PEAK_OVERLAPS} ${options.phase ? `of ${options.phase.name} ` : ''}overlaps a neighbouring line (of this phase or of another phase present), which would broaden it: no size; a purer sample or a pattern where some lines stand alone is needed`,
     );
   }
   const atLimit = sizes.filter((s) => s.limit === 'instrument').length;
