@@ -198,8 +198,8 @@ export const ONLY_OURS: readonly string[] = [
   'file checksums, reader notes, warnings and the per-file JSON report; library digest',
 ];
 export const ONLY_PEER: readonly string[] = [
-  'a bounded trust-region refit (scipy "trf") where the free Levenberg–Marquardt fit leaves the limits; ours keeps every step within the box in one bounded LM',
-  'each peak evaluated over its whole group region in the fit (ours only within its own reach); others over their reach, as ours',
+  'where the free Levenberg–Marquardt fit leaves the limits, the parameters past them are held at the limit and the rest refitted (active set, up to 3 more fits); ours keeps every step inside the box in one bounded LM',
+  'each peak evaluated over its whole group region in the fit (ours within its reach, 5–25 FWHM, clipped to the region: the same points unless a group spans more than a peak\'s reach); the other peaks under a group over their reach, as ours',
   'phases screened without a shift, then only the 8 best refined (ours refines the shift inside the explanation of every candidate it weighs)',
 ];
 
