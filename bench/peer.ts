@@ -37,6 +37,8 @@ export interface Agreement {
   maxTwoThetaDiffDeg: number;
   maxFwhmRelDiff: number;
   samePhaseSets: number;
+  /** Files where both sized the same phase (sizes are compared on those only). */
+  sameSizedPhase: number;
   maxScherrerRelDiff: number | null;
   maxWilliamsonHallRelDiff: number | null;
   tolerances: { twoThetaDeg: number; fwhmRel: number; scherrerRel: number; williamsonHallRel: number; clearPeakShare: number };
@@ -124,11 +126,13 @@ interface OursFile {
   peaks: OursPeak[];
   match: { phases: Array<{ name: string; verdict: string }> };
   size: { scherrer: { sizeNm: number | null }; williamsonHall: { sizeNm: number | null } | null };
+  settings: { sizePhase: string | null };
 }
 interface PeerFile {
   file: string;
   peaks: number[][];
   phases: string[];
+  sizedPhase: string | null;
   size: { scherrerNm: number | null; williamsonHallNm: number | null };
 }
 
@@ -151,7 +155,7 @@ export function agreement(oursOut: string, peerOut: string): Agreement {
   const ours = (JSON.parse(readFileSync(oursOut, 'utf8')) as { files: OursFile[] }).files;
   const peer = new Map((JSON.parse(readFileSync(peerOut, 'utf8')) as PeerFile[]).map((f) => [f.file, f]));
   const a: Agreement = {
-    files: 0, oursPeaks: 0, peerPeaks: 0, paired: 0, clearPaired: 0, clearWithin: 0, maxTwoThetaDiffDeg: 0, maxFwhmRelDiff: 0, samePhaseSets: 0,
+    files: 0, oursPeaks: 0, peerPeaks: 0, paired: 0, clearPaired: 0, clearWithin: 0, maxTwoThetaDiffDeg: 0, maxFwhmRelDiff: 0, samePhaseSets: 0, sameSizedPhase: 0,
     maxScherrerRelDiff: null, maxWilliamsonHallRelDiff: null, tolerances: TOLERANCES, pass: false,
   };
   const maxOf = (x: number | null, y: number | null): number | null => (y === null ? x : Math.max(x ?? 0, y));
@@ -177,6 +181,9 @@ export function agreement(oursOut: string, peerOut: string): Agreement {
     }
     const present = o.match.phases.filter((ph) => ph.verdict !== 'not-seen').map((ph) => ph.name).sort();
     if (present.join('\n') === [...p.phases].sort().join('\n')) a.samePhaseSets++;
+    // Which present phase is sized is the match's choice (ours: the first in its ranking); sizes compare only when both chose the same.
+    if (o.settings.sizePhase !== p.sizedPhase) continue;
+    a.sameSizedPhase++;
     a.maxScherrerRelDiff = maxOf(a.maxScherrerRelDiff, relDiff(o.size.scherrer.sizeNm, p.size.scherrerNm));
     a.maxWilliamsonHallRelDiff = maxOf(a.maxWilliamsonHallRelDiff, relDiff(o.size.williamsonHall?.sizeNm, p.size.williamsonHallNm));
   }

@@ -403,7 +403,7 @@ function printPeer(peer: { rounds: PeerRound[]; summary: Record<string, number>;
     '',
     `Agreement on the same ${a.files} files (last round's outputs): ours ${a.oursPeaks} peaks, scipy ${a.peerPeaks}; ${a.paired} of ours have a scipy peak within ½ FWHM (${a.clearPaired} clear: ≥ 20σ, not overlapped)`,
     `  clear peaks within |Δ2θ| ≤ ${a.tolerances.twoThetaDeg}° and |ΔFWHM|/FWHM ≤ ${100 * a.tolerances.fwhmRel} %: ${a.clearWithin}/${a.clearPaired} (${((100 * a.clearWithin) / Math.max(1, a.clearPaired)).toFixed(1)} %, tolerance ≥ ${100 * a.tolerances.clearPeakShare} %); largest differences: |Δ2θ| ${a.maxTwoThetaDiffDeg.toFixed(4)}°, |ΔFWHM|/FWHM ${(100 * a.maxFwhmRelDiff).toFixed(1)} %`,
-    `  Scherrer size max rel. diff ${a.maxScherrerRelDiff === null ? '—' : `${(100 * a.maxScherrerRelDiff).toFixed(1)} %`} (tolerance ${100 * a.tolerances.scherrerRel} %); Williamson–Hall size ${a.maxWilliamsonHallRelDiff === null ? '—' : `${(100 * a.maxWilliamsonHallRelDiff).toFixed(1)} %`} (tolerance ${100 * a.tolerances.williamsonHallRel} %); same present phases in ${a.samePhaseSets}/${a.files}`,
+    `  Scherrer size max rel. diff ${a.maxScherrerRelDiff === null ? '—' : `${(100 * a.maxScherrerRelDiff).toFixed(1)} %`} (tolerance ${100 * a.tolerances.scherrerRel} %); Williamson–Hall size ${a.maxWilliamsonHallRelDiff === null ? '—' : `${(100 * a.maxWilliamsonHallRelDiff).toFixed(1)} %`} (tolerance ${100 * a.tolerances.williamsonHallRel} %); same present phases in ${a.samePhaseSets}/${a.files}; sizes compared where both sized the same phase: ${a.sameSizedPhase}/${a.files}`,
     `  ${a.pass ? 'within tolerances' : 'NOT within tolerances'}`,
     '',
     'What ours does that the scipy peer does not:',

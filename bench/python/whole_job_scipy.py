@@ -747,7 +747,7 @@ def analyze(path, index=None):
     accepted, shift = match(index, peaks, x[0], x[-1])
     size = sizes(index, peaks, accepted, shift, x[0], x[-1])
     return {"file": path, "peaks": peaks[:, [0, 1, 2, 3]].round(6).tolist(), "overlapped": overlapped(peaks).tolist() if len(peaks) else [],
-            "phases": [a["name"] for a in accepted], "zeroDeg": shift[0], "displacementCosDeg": shift[1], "size": size}
+            "phases": [a["name"] for a in accepted], "sizedPhase": accepted[0]["name"] if accepted else None, "zeroDeg": shift[0], "displacementCosDeg": shift[1], "size": size}
 
 
 def per_file_ms(work, items, repeats):
