@@ -18,6 +18,7 @@ import { dFromTwoTheta } from '../src/core/model/units.js';
 import { anodeWavelength } from '../src/core/model/wavelengths.js';
 import { readPatternFile } from '../src/node/files.js';
 import { findPeaks } from '../src/core/process/peaks.js';
+import { findPython } from './peer.js';
 import { fitWork, resetFitWork } from '../src/core/process/fit.js';
 import { BENCH_WAVELENGTH, prepareInputs } from './inputs.js';
 import { timeStats, type BenchRow } from './types.js';
@@ -88,13 +89,15 @@ export async function run(): Promise<BenchRow[]> {
   const here = dirname(fileURLToPath(import.meta.url));
   const scriptPath = [join(here, 'python', 'peaks_scipy.py'), join(here, '..', '..', 'bench', 'python', 'peaks_scipy.py')].find((p) => existsSync(p)) ?? 'peaks_scipy.py';
   try {
-    const output = execFileSync('/usr/bin/python3', [scriptPath, file, String(wavelength.lambda1), String(wavelength.lambda2), String(wavelength.ratio)], {
+    const found = findPython();
+    if ('missing' in found) throw new Error(found.missing);
+    const output = execFileSync(found.python, [scriptPath, file, String(wavelength.lambda1), String(wavelength.lambda2), String(wavelength.ratio)], {
       encoding: 'utf8',
       stdio: ['ignore', 'pipe', 'pipe'],
     });
     const python = JSON.parse(output.trim().split('\n').pop() as string) as { medianMs: number; minMs: number; maxMs: number; peaks: number; scipy: string };
     rows.push({
-      name: 'process: same steps in scipy (savgol_filter, numpy SNIP, find_peaks, curve_fit per peak)',
+      name: 'process: same steps in scipy (whole_job_scipy.py: Kα2-stripped find_peaks, grouped least_squares fits, analytic Jacobian)',
       medianMs: python.medianMs,
       minMs: python.minMs,
       maxMs: python.maxMs,
@@ -102,7 +105,7 @@ export async function run(): Promise<BenchRow[]> {
     });
   } catch (err) {
     const message = err instanceof Error ? err.message : String(err);
-    const hint = /No module named|ModuleNotFoundError|ENOENT/.test(message) ? 'scipy missing: apt-get install python3-scipy' : message.split('\n')[0];
+    const hint = message.split('\n')[0];
     rows.push({ name: 'process: scipy comparison skipped', medianMs: Number.NaN, minMs: Number.NaN, maxMs: Number.NaN, note: hint });
   }
   return rows;

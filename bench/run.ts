@@ -1,11 +1,13 @@
 /**
  * `npm run bench [-- --quick] [--files N] [--step-files N] [--repeats N] [--whole-job-repeats N]
- *   [--large-library N] [--python-files N] [--no-python] [--no-modules]`
+ *   [--large-library N] [--python-files N] [--peer-rounds N] [--no-python] [--no-modules]`
  *
  * Generates simulated inputs (fixed seeds, cached), times each step of the job on the same files as
- * a committed numpy/scipy script (bench/python/whole_job_scipy.py), runs `crystallog analyze` over
- * all files as a child process (wall time and peak RSS), runs every area's bench module, prints a
- * table with the ratio ours/theirs per step and for the whole job, and writes bench/results.json.
+ * a committed numpy/scipy script that does the same steps (bench/python/whole_job_scipy.py), runs
+ * `crystallog analyze` over all files as a child process (wall time and peak RSS), then the whole job
+ * against the scipy peer on the same files, the peer over as many processes as our workers, interleaved
+ * over rounds, CPU and wall of each process tree (bench/peer.ts) with an agreement check; runs every
+ * area's bench module, prints the tables and writes bench/results.json.
  * Nothing is installed: without scipy the Python column is skipped with the command to install it.
  */
 import { spawnSync } from 'node:child_process';
@@ -30,6 +32,7 @@ import { analyzeSeries } from '../src/core/series/series.js';
 import { crystalliteSizes } from '../src/core/size/sizes.js';
 import { asStored, BENCH_WAVELENGTH, prepareInputs, prepareLargeLibraryJson, syntheticLibrary, type BenchInputs } from './inputs.js';
 import { timeStats, type BenchRow } from './types.js';
+import { agreement, findPython, interleavedRounds, ONLY_OURS, ONLY_PEER, summariseRounds, type Agreement, type PeerRound } from './peer.js';
 
 interface BenchConfig {
   quick: boolean;
@@ -40,8 +43,10 @@ interface BenchConfig {
   largeLibrary: number;
   wholeJobRepeats: number;
   seriesRepeats: number;
-  /** Files the Python whole job runs over (the first N of the same list). */
+  /** Files the interleaved whole-job comparison runs over, both sides (the first N of the same list). */
   pythonFiles: number;
+  /** Rounds of ours, peer (alternating which goes first). */
+  peerRounds: number;
   python: boolean;
   modules: boolean;
 }
@@ -56,7 +61,7 @@ interface Comparison {
 }
 
 const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..', '..');
-const PYTHON = '/usr/bin/python3';
+let PYTHON = 'python3';
 const PYTHON_SCRIPT = join(ROOT, 'bench', 'python', 'whole_job_scipy.py');
 const RESULTS_FILE = join(ROOT, 'bench', 'results.json');
 const CLI = join(ROOT, 'bin', 'crystallog.js');
@@ -77,7 +82,8 @@ function parseArgs(argv: string[]): BenchConfig {
     largeLibrary: valueOf('--large-library') ?? (quick ? 20_000 : 100_000),
     wholeJobRepeats: valueOf('--whole-job-repeats') ?? (quick ? 1 : 3),
     seriesRepeats: quick ? 1 : 3,
-    pythonFiles: Math.min(patterns, valueOf('--python-files') ?? (quick ? 10 : patterns)),
+    pythonFiles: Math.min(patterns, valueOf('--python-files') ?? (quick ? 10 : 100)),
+    peerRounds: valueOf('--peer-rounds') ?? (quick ? 2 : 3),
     python: !argv.includes('--no-python'),
     modules: !argv.includes('--no-modules') && !quick,
   };
@@ -213,7 +219,7 @@ function measureSteps(inputs: BenchInputs, config: BenchConfig): { rows: BenchRo
 }
 
 /** `crystallog analyze` over all files as a child process: wall time and peak RSS (GNU time). */
-function measureWholeJob(inputs: BenchInputs, config: BenchConfig): { row: BenchRow; runs: number[]; peakRssMb: number | null } {
+function measureWholeJob(inputs: BenchInputs, config: BenchConfig): { row: BenchRow; runs: number[]; peakRssMb: number | null; db: string } {
   // A fresh library file each run, made by the current code (cheap for 1 000 references).
   const db = join(inputs.dir, 'library-1k.db');
   for (const file of [db, `${db}-wal`, `${db}-shm`]) rmSync(file, { force: true });
@@ -245,6 +251,7 @@ function measureWholeJob(inputs: BenchInputs, config: BenchConfig): { row: Bench
   return {
     runs,
     peakRssMb,
+    db,
     row: {
       name: `analyze ${config.patterns} files end to end (CLI, ${availableParallelism()} workers, match 1k)`,
       ...s,
@@ -257,15 +264,15 @@ function measureWholeJob(inputs: BenchInputs, config: BenchConfig): { row: Bench
 interface PythonResult {
   versions: Record<string, string>;
   steps: Record<string, number[]>;
-  wholeJob?: { files: number; runsMs: number[]; peaksPerFile: number };
   index100kBuildMs?: number;
   peaksFound: number[];
+  fitWorkPerFile?: Record<string, number>;
 }
 
 function pythonAvailable(): string | null {
-  const check = spawnSync(PYTHON, ['-c', 'import numpy, scipy'], { encoding: 'utf8' });
-  if (check.error) return `${PYTHON} not found; install it with: apt-get install python3 python3-numpy python3-scipy`;
-  if (check.status !== 0) return `numpy/scipy missing for ${PYTHON}; install them with: apt-get install python3-numpy python3-scipy`;
+  const found = findPython();
+  if ('missing' in found) return found.missing;
+  PYTHON = found.python;
   return null;
 }
 
@@ -273,18 +280,17 @@ function runPython(inputs: BenchInputs, config: BenchConfig): PythonResult {
   const list = join(inputs.dir, `files-${config.patterns}.txt`);
   writeFileSync(list, inputs.patternFiles.join('\n') + '\n');
   const largeJson = prepareLargeLibraryJson(syntheticLibrary(config.largeLibrary));
-  log(`python: same steps on ${config.stepFiles} files, whole job on ${config.pythonFiles} files (this is the slow part)`);
+  log(`python: same steps on ${config.stepFiles} files, one process`);
   const child = spawnSync(
     PYTHON,
     [
       PYTHON_SCRIPT,
+      '--mode', 'steps',
       '--files', list,
       '--library', inputs.smallLibraryFlatJson,
       '--large-library', largeJson,
       '--step-files', String(config.stepFiles),
       '--repeats', String(config.repeats),
-      '--whole-job-files', String(config.pythonFiles),
-      '--whole-job-repeats', '1',
     ],
     { encoding: 'utf8', maxBuffer: 2 ** 28, stdio: ['ignore', 'pipe', 'inherit'] },
   );
@@ -370,6 +376,44 @@ function machineSpeedProbeMs(): number {
   return timeStats(times).medianMs;
 }
 
+/** Wall time of a bare `node -e 0` (median of 3): the machine's load, stated beside the figures. */
+function bareNodeMs(): number {
+  const times: number[] = [];
+  for (let i = 0; i < 3; i++) {
+    const start = performance.now();
+    spawnSync(process.execPath, ['-e', '0']);
+    times.push(performance.now() - start);
+  }
+  return timeStats(times).medianMs;
+}
+
+/** The interleaved whole-job comparison, the agreement check and what each side does that the other does not. */
+function printPeer(peer: { rounds: PeerRound[]; summary: Record<string, number>; agreement: Agreement }, config: BenchConfig, loadMs: number): void {
+  const s = peer.summary;
+  const a = peer.agreement;
+  const w = availableParallelism();
+  const files = config.pythonFiles;
+  const out = [
+    `\nWhole job against the scipy peer: ${files} files, ${peer.rounds.length} interleaved round(s) (ours, peer / peer, ours), ours ${w} worker threads, peer ${w} processes; load: bare node -e 0 ${loadMs.toFixed(0)} ms`,
+    `${''.padEnd(34)} ${'ours'.padStart(10)} ${'scipy'.padStart(10)} ${'scipy/ours'.padStart(11)}  note`,
+    `${'CPU, user + sys, process tree'.padEnd(34)} ${`${s.oursCpuS.toFixed(1)} s`.padStart(10)} ${`${s.peerCpuS.toFixed(1)} s`.padStart(10)} ${`${s.cpuRatio.toFixed(1)}×`.padStart(11)}  target ≥ 20× (${s.cpuRatio >= 20 ? 'met' : 'missed'}); median of per-round ratios`,
+    `${'wall'.padEnd(34)} ${formatMs(s.oursWallMs).padStart(10)} ${formatMs(s.peerWallMs).padStart(10)} ${`${s.wallRatio.toFixed(1)}×`.padStart(11)}  per file: ours ${formatMs(s.oursWallMs / files)}, scipy ${formatMs(s.peerWallMs / files)}`,
+    `${'CPU per file'.padEnd(34)} ${formatMs((1000 * s.oursCpuS) / files).padStart(10)} ${formatMs((1000 * s.peerCpuS) / files).padStart(10)}`,
+    `${'peak RSS'.padEnd(34)} ${`${s.oursRssMb.toFixed(0)} MB`.padStart(10)} ${`${s.peerLargestProcessRssMb.toFixed(0)} MB`.padStart(10)} ${''.padStart(11)}  ours: one process; scipy: largest process (parent ${s.peerSelfRssMb.toFixed(0)} MB + ${w} × worker ${s.peerWorkerRssMb.toFixed(0)} MB = ${(s.peerSelfRssMb + w * s.peerWorkerRssMb).toFixed(0)} MB at most in all)`,
+    '',
+    `Agreement on the same ${a.files} files (last round's outputs): ours ${a.oursPeaks} peaks, scipy ${a.peerPeaks}; ${a.paired} of ours have a scipy peak within ½ FWHM (${a.clearPaired} clear: ≥ 20σ, not overlapped)`,
+    `  clear peaks within |Δ2θ| ≤ ${a.tolerances.twoThetaDeg}° and |ΔFWHM|/FWHM ≤ ${100 * a.tolerances.fwhmRel} %: ${a.clearWithin}/${a.clearPaired} (${((100 * a.clearWithin) / Math.max(1, a.clearPaired)).toFixed(1)} %, tolerance ≥ ${100 * a.tolerances.clearPeakShare} %); largest differences: |Δ2θ| ${a.maxTwoThetaDiffDeg.toFixed(4)}°, |ΔFWHM|/FWHM ${(100 * a.maxFwhmRelDiff).toFixed(1)} %`,
+    `  Scherrer size max rel. diff ${a.maxScherrerRelDiff === null ? '—' : `${(100 * a.maxScherrerRelDiff).toFixed(1)} %`} (tolerance ${100 * a.tolerances.scherrerRel} %); Williamson–Hall size ${a.maxWilliamsonHallRelDiff === null ? '—' : `${(100 * a.maxWilliamsonHallRelDiff).toFixed(1)} %`} (tolerance ${100 * a.tolerances.williamsonHallRel} %); same present phases in ${a.samePhaseSets}/${a.files}; sizes compared where both sized the same phase: ${a.sameSizedPhase}/${a.files}`,
+    `  ${a.pass ? 'within tolerances' : 'NOT within tolerances'}`,
+    '',
+    'What ours does that the scipy peer does not:',
+    ...ONLY_OURS.map((line) => `  - ${line}`),
+    'What the scipy peer does that ours does not:',
+    ...ONLY_PEER.map((line) => `  - ${line}`),
+  ];
+  process.stdout.write(out.join('\n') + '\n');
+}
+
 /** Linux's CPU pressure over the last minute (share of time some task waited for a CPU), or null. */
 function cpuPressureAvg60(): number | null {
   try {
@@ -387,6 +431,8 @@ async function main(): Promise<void> {
   const probeStartMs = machineSpeedProbeMs();
   const pressureStart = cpuPressureAvg60();
   log(`machine speed probe (a fixed loop, not our code): ${probeStartMs.toFixed(1)} ms${pressureStart !== null ? `; CPU pressure ${pressureStart} % over the last minute` : ''}`);
+  const loadMs = bareNodeMs();
+  log(`load: a bare \`node -e 0\` takes ${loadMs.toFixed(0)} ms (median of 3)`);
   log(`inputs: ${config.patterns} simulated patterns (cached in the temp folder; first run simulates them)`);
   const inputs = prepareInputs(config.patterns, log);
 
@@ -400,26 +446,34 @@ async function main(): Promise<void> {
   if (missing) log(`scipy column skipped: ${missing}`);
   else python = runPython(inputs, config);
 
+  let peer: { rounds: PeerRound[]; summary: Record<string, number>; agreement: Agreement } | null = null;
+  if (python) {
+    const files = inputs.patternFiles.slice(0, config.pythonFiles);
+    log(`whole job against the scipy peer: ${files.length} files, ${config.peerRounds} interleaved round(s), ours ${availableParallelism()} workers, peer ${availableParallelism()} processes`);
+    const run = interleavedRounds({
+      python: PYTHON, script: PYTHON_SCRIPT, cli: CLI, db: whole.db, flatLibrary: inputs.smallLibraryFlatJson,
+      files, workers: availableParallelism(), rounds: config.peerRounds, dir: inputs.dir, log,
+    });
+    peer = { rounds: run.rounds, summary: summariseRounds(run.rounds), agreement: agreement(run.oursOut, run.peerOut) };
+  }
+
   const theirs = (key: string): number | null => (python?.steps[key] ? timeStats(python.steps[key]).medianMs : null);
   const ours = (key: string): number => timeStats(steps.perFile[key]).medianMs;
-  const oursWholePerFile = timeStats(whole.runs).medianMs / config.patterns;
-  const theirsWholePerFile = python?.wholeJob ? timeStats(python.wholeJob.runsMs).medianMs / python.wholeJob.files : null;
   const comparisons: Comparison[] = [
     compare('read (per file)', ours('read'), theirs('read')),
-    compare('peaks (per file)', ours('peaks'), theirs('peaks'), 'scipy: savgol + SNIP + find_peaks + curve_fit per peak'),
-    compare('match 1k (per file)', ours('match1k'), theirs('match1k'), 'scipy: nearest-line only, no shift refinement or scoring'),
+    compare('peaks (per file)', ours('peaks'), theirs('peaks'), 'both: smooth, SNIP, Kα2-stripped search, grouped pseudo-Voigt + Kα2 fits, pruning'),
+    compare('match 1k (per file)', ours('match1k'), theirs('match1k'), 'scipy: screen + zero/displacement refinement of 8 candidates, phases in turn'),
     compare(`match ${config.largeLibrary / 1000}k (per file)`, ours('match100k'), theirs('match100k')),
-    compare('size (per file)', ours('size'), theirs('size'), 'scipy: Scherrer only'),
+    compare('size (per file)', ours('size'), theirs('size'), 'both: Scherrer + Williamson–Hall (Voigt parts); ours also Halder–Wagner'),
     compare('one file end to end, one thread', ours('analyze'), theirs('read') !== null ? ['read', 'peaks', 'match1k', 'size'].reduce((s, k) => s + (theirs(k) ?? 0), 0) : null),
-    compare(
-      'whole job (per file, ours with all cores)',
-      oursWholePerFile,
-      theirsWholePerFile,
-      python?.wholeJob ? `ours ${config.patterns} files via CLI; scipy ${python.wholeJob.files} files, one process (as written by hand)` : '',
-    ),
   ];
-  const pythonNote = python ? `Python ${python.versions.python}, numpy ${python.versions.numpy}, scipy ${python.versions.scipy}` : `not run: ${missing}`;
+  const pythonNote = python ? `${PYTHON}: Python ${python.versions.python}, numpy ${python.versions.numpy}, scipy ${python.versions.scipy}` : `not run: ${missing}`;
   printComparisons(comparisons, pythonNote);
+  if (python?.fitWorkPerFile) {
+    const w = python.fitWorkPerFile;
+    process.stdout.write(`scipy fit work per file: ${w.lmFits.toFixed(0)} group fits (${w.boundedRefits.toFixed(1)} refitted bounded), ${w.residualCalls.toFixed(0)} residual and ${w.jacobianCalls.toFixed(0)} Jacobian evaluations\n`);
+  }
+  if (peer) printPeer(peer, config, loadMs);
 
   const areas = config.modules ? await runAreaModules() : {};
   const probeEndMs = machineSpeedProbeMs();
@@ -433,7 +487,9 @@ async function main(): Promise<void> {
     inputs: { dir: inputs.dir, patterns: config.patterns, points: 10_001, simulated: true },
     steps: steps.rows,
     wholeJob: { ...whole.row, runsMs: whole.runs, peakRssMb: whole.peakRssMb, files: config.patterns },
-    python: python ? { versions: python.versions, steps: python.steps, wholeJob: python.wholeJob ?? null, peaksFound: python.peaksFound } : { skipped: missing },
+    python: python ? { versions: python.versions, steps: python.steps, peaksFound: python.peaksFound, fitWorkPerFile: python.fitWorkPerFile ?? null } : { skipped: missing },
+    peer: peer ?? null,
+    loadNodeStartMs: loadMs,
     comparisons,
     areas,
   };
