@@ -6,7 +6,8 @@
 import { describe, expect, it } from 'vitest';
 import { analyzePattern } from '../../src/core/analysis/analyse.js';
 import { crystalliteSizes } from '../../src/core/size/sizes.js';
-import { CU, exposureSample, perovskiteContext, reference, simulate, STANDARD, standardProfile, TARGET } from '../series/perovskite-fixtures.js';
+import { createAnalysisContext } from '../../src/core/analysis/analyse.js';
+import { CU, exposureSample, LEAD_IODIDE, perovskiteContext, reference, references, simulate, STANDARD, standardProfile, TARGET } from '../series/perovskite-fixtures.js';
 
 const instrument = standardProfile();
 const context = perovskiteContext(instrument);
@@ -47,6 +48,19 @@ describe('crystallite sizes of a phase with many close lines', () => {
         else expect(r.groupFitReason).toMatch(/constrained group fit/);
         expect(r.warnings.join(' ')).toMatch(/every line of methylammonium lead iodide overlaps another phase's: its size, [\d.]+ ± [\d.]+ nm from a constrained group fit|constrained group fit/);
       }
+    }
+  });
+
+  it('with no target set, sizes the phase that explains most of the peak area, not a minor one that scores a hair higher', () => {
+    const noTarget = createAnalysisContext(references, instrument, { wavelength: CU });
+    for (const seed of [301, 302]) {
+      // 85 wt % target (48 nm) with 15 wt % lead iodide (40 nm).
+      const r = exposureSample(0, 0.15, seed, noTarget);
+      const present = r.match.phases.filter((p) => p.verdict !== 'not-seen');
+      expect(present.map((p) => p.name)).toEqual(expect.arrayContaining([TARGET, LEAD_IODIDE]));
+      const major = present.reduce((a, b) => (b.explainedAreaShare > a.explainedAreaShare ? b : a));
+      expect(major.name).toBe(TARGET);
+      expect(r.settings.sizePhase).toBe(TARGET);
     }
   });
 

@@ -162,7 +162,7 @@ export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisCont
   const chosen = settings.sizePhase !== null ? (findByName(references, settings.sizePhase) ?? null) : null;
   const sizePhaseMatch = chosen
     ? (match.phases.find((p) => p.name === chosen.name) ?? null)
-    : (present.find((p) => p.name.toLowerCase() === targetName) ?? present[0] ?? null);
+    : (present.find((p) => p.name.toLowerCase() === targetName) ?? majorPhase(present));
   const sizeReference = chosen ?? (sizePhaseMatch ? (byName.get(sizePhaseMatch.name) ?? null) : null);
   const otherLines = present.filter((p) => p.name !== sizeReference?.name).flatMap((p) => otherPhaseLines(p, byName.get(p.name), peaks, wavelength));
   const size = crystalliteSizes(peaks, {
@@ -219,6 +219,16 @@ export function analyzePatternWithCurves(pattern: Pattern, context: AnalysisCont
     warnings,
   };
   return { result, curves: { background: search.background, model: search.model } };
+}
+
+/**
+ * With no target, the phase sized is the one that explains most of the peak area (a minor phase can
+ * score a hair above the main one, and its size would then stand for the sample's).
+ */
+function majorPhase(present: readonly PhaseMatch[]): PhaseMatch | null {
+  let best: PhaseMatch | null = null;
+  for (const p of present) if (!best || p.explainedAreaShare > best.explainedAreaShare) best = p;
+  return best;
 }
 
 /** The matching tolerance as the settings state it: in d, in FWHM units (the profile's FWHM where there is one), or in 2θ at Cu Kα. */
