@@ -456,7 +456,9 @@ function headline(detail: SampleDetail): string {
   const low = detail.lowAnglePeaks.length;
   if (low) sentence.push(`${low} low-angle extra peak${low > 1 ? 's' : ''} (possible hydrolysis)`);
   const scherrer = detail.size?.scherrer;
+  const groupFit = detail.size?.groupFit;
   if (scherrer) sentence.push(`size ${sizeText(scherrer.sizeNm, Number.isFinite(scherrer.sizeSigmaNm) ? scherrer.sizeSigmaNm : null)}`);
+  else if (groupFit) sentence.push(`size ${sizeText(groupFit.sizeNm, groupFit.sizeSigmaNm)} (group fit: every line overlaps another phase's)`);
   return `${sentence.join(' · ')}.`;
 }
 

@@ -58,7 +58,11 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     await page.getByTestId('low-angle').waitFor();
     expect(await page.getByTestId('low-angle').textContent()).toMatch(/Low-angle extra peaks? below the target’s first line: \d+\.\d+° 2θ/);
     expect(await page.getByTestId('verdict').textContent()).toBe('Target with extra peaks');
-    expect(await page.getByTestId('headline').textContent()).toMatch(/\d+ low-angle extra peaks? \(possible hydrolysis\)/);
+    expect(await page.getByTestId('headline').textContent()).toMatch(/\d+ low-angle extra peaks? \(possible hydrolysis\) · size \d+\.\d ± \d+\.\d nm \(group fit/);
+    // Every target line overlaps the hydrate's by now: the size comes from the constrained group fit (simulated at 48 nm).
+    const size = await page.getByTestId('size').textContent();
+    expect(size).toMatch(/^Constrained group fit: \d+\.\d ± \d+\.\d nm$/);
+    expect(Math.abs(Number(/: ([\d.]+) ±/.exec(size!)![1]) / 48 - 1)).toBeLessThan(0.1);
     await shot('03-samples-humid-48h');
   });
 
