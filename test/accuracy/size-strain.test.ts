@@ -116,10 +116,10 @@ describe('size–strain accuracy (independent true-Voigt simulator)', () => {
     }
   });
 
-  // Target ±2 % from 5 to 150 nm. Measured: met to 80 nm; −2.2 % and −2.3 % at 120 and 150 nm, where the
-  // sample adds under a third of the observed breadth and a pseudo-Voigt fit of the true-Voigt instrument
-  // lines shifts the subtraction by about 1 %. That limit is asserted (±3 %) and stated, not hidden.
-  it('Scherrer sizes of strain-free powders are unbiased within ±2 % from 5 to 80 nm and ±3 % at 120–150 nm', () => {
+  // Target ±2 % from 5 to 150 nm. A pseudo-Voigt fit of a true-Voigt line leaves a small spurious Gaussian
+  // excess over the instrument's, which biased 120–150 nm by −2 to −2.5 %; a sample Gaussian part below 2σ is
+  // now left out of the Scherrer breadth (sizes.ts), measured −1.0 % and −1.2 % there.
+  it('Scherrer sizes of strain-free powders are unbiased within ±2 % from 5 to 150 nm', () => {
     const rows: string[] = [];
     let within = 0;
     const sizes = [5, 10, 20, 40, 80, 120, 150];
@@ -127,10 +127,10 @@ describe('size–strain accuracy (independent true-Voigt simulator)', () => {
       const values: number[] = [];
       for (let seed = 0; seed < 4; seed++) values.push(sizesOf(d, 0, 700 + 10 * d + seed).scherrer.sizeNm!);
       const bias = mean(values) / d - 1;
-      if (Math.abs(bias) <= (d <= 80 ? 0.02 : 0.03)) within++;
+      if (Math.abs(bias) <= 0.02) within++;
       rows.push(`${d} nm: ${pct(bias)}`);
     }
-    console.log(`Scherrer size bias (mean of 4 draws): ${rows.join(', ')}; within ±2 % (±3 % above 80 nm): ${within}/${sizes.length} (target ±2 % throughout)`);
+    console.log(`Scherrer size bias (mean of 4 draws): ${rows.join(', ')}; within ±2 %: ${within}/${sizes.length} (target ±2 % throughout)`);
     expect(within).toBe(sizes.length);
   });
 });
