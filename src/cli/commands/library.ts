@@ -178,9 +178,17 @@ export function importCommand(files: string[], o: ImportOptions): ImportResult {
   }
 }
 
+/** Names of what a file brought, in full up to a dozen; a large library is named by its first and last few (the JSON output lists all). */
+const NAMES_IN_FULL = 12;
+function namesText(names: readonly string[]): string {
+  const quoted = (list: readonly string[]) => list.map((n) => `"${n}"`).join(', ');
+  if (names.length <= NAMES_IN_FULL) return quoted(names);
+  return `${names.length} references: ${quoted(names.slice(0, 3))}, … ${quoted(names.slice(-3))} (--json lists them all)`;
+}
+
 function importText(r: ImportResult): string {
   const lines = r.files.flatMap(({ file, references, skipped }) => [
-    ...(references.length > 0 ? [`${file}: ${references.map((n) => `"${n}"`).join(', ')}`] : []),
+    ...(references.length > 0 ? [`${file}: ${namesText(references)}`] : []),
     ...skipped.map((s) => `${file}: skipped data_${s.block} (line ${s.line}): ${s.reason}`),
   ]);
   const summary = `Imported into ${r.library}: ${r.added.length} added, ${r.updated.length} updated (old versions kept), ${r.unchanged.length} unchanged.`;
