@@ -1,5 +1,6 @@
 import type { Pattern } from '../../src/core/model/pattern.js';
 import type { ReferenceLine } from '../../src/core/model/reference.js';
+import { areaForHeight, type GivenLine } from '../simulator/pattern.js';
 
 /** A pattern from plain arrays (σ = √counts unless given), labelled as a test input. */
 export function patternOf(x: ArrayLike<number>, y: ArrayLike<number>, sigma?: ArrayLike<number>): Pattern {
@@ -13,6 +14,14 @@ export function patternOf(x: ArrayLike<number>, y: ArrayLike<number>, sigma?: Ar
     meta: {},
     readerNotes: [],
   };
+}
+
+/** Pseudo-Voigt lines (η = 0.5) of given tops, [2θ, counts per point at a 0.02° step], FWHM growing with 2θ from a base. */
+export function linesOfHeights(tops: ReadonlyArray<readonly [number, number]>, baseFwhmDeg = 0.07): GivenLine[] {
+  return tops.map(([twoThetaDeg, height]) => {
+    const shape = { fwhmDeg: baseFwhmDeg + 0.0015 * twoThetaDeg, eta: 0.5 };
+    return { twoThetaDeg, shape, area: areaForHeight(height, shape) };
+  });
 }
 
 /**

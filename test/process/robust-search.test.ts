@@ -4,20 +4,13 @@ import { fitPeakGroups } from '../../src/core/process/fit.js';
 import { conditionalInverse } from '../../src/core/numeric/cholesky.js';
 import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 import type { FittedPeak } from '../../src/core/model/peak.js';
-import { patternOf } from './helpers.js';
-import { areaForHeight, simulate, type SimLine, type SimPattern } from './robust-simulator.js';
+import { simulateLinePattern, type LineSimulationSettings } from '../simulator/pattern.js';
+import { linesOfHeights, patternOf } from './helpers.js';
 
 const CU = anodeWavelength('Cu');
 
-/** A crystalline phase: Kα1 heights in counts per point at a 0.02° step, widths growing with 2θ. */
-function lines(tops: Array<[number, number]>): SimLine[] {
-  return tops.map(([twoTheta, height]) => {
-    const fwhm = 0.07 + 0.0015 * twoTheta;
-    return { twoTheta, fwhm, eta: 0.5, area: areaForHeight(height, fwhm, 0.5) };
-  });
-}
-
-const TARGET = lines([
+/** A crystalline phase: Kα1 heights in counts per point at a 0.02° step. */
+const TARGET = linesOfHeights([
   [14.1, 7000],
   [19.9, 1500],
   [24.5, 3000],
@@ -27,11 +20,9 @@ const TARGET = lines([
   [43.2, 1200],
   [50.2, 900],
 ]);
-const CRYSTALLINE_COUNTS = TARGET.reduce((s, l) => s + 1.5 * l.area, 0);
 
-function search(spec: SimPattern): FittedPeak[] {
-  const { x, y } = simulate(spec);
-  return findPeaks(patternOf(x, y), { wavelength: CU }).peaks;
+function search(spec: LineSimulationSettings): FittedPeak[] {
+  return findPeaks(simulateLinePattern(spec), { wavelength: CU }).peaks;
 }
 
 function found(peaks: FittedPeak[], twoTheta: number, within: number): boolean {
@@ -62,11 +53,10 @@ describe('a group whose normal matrix is singular', () => {
   });
 
   it('keeps its peak: two identical starts on one Kα1/Kα2 line (nearly degenerate, both too weak alone) leave one peak, not none', () => {
-    const line = lines([[28.4, 5000]]);
-    const { x, y } = simulate({ fromDeg: 26, toDeg: 31, stepDeg: 0.02, background: 100, lines: line, seed: 3 });
-    const background = new Float64Array(x.length).fill(100);
+    const pattern = simulateLinePattern({ twoThetaMinDeg: 26, twoThetaMaxDeg: 31, stepDeg: 0.02, backgroundCounts: 100, lines: linesOfHeights([[28.4, 5000]]), seed: 3 });
+    const background = new Float64Array(pattern.x.length).fill(100);
     const start = { twoTheta: 28.41, height: 4000, fwhm: 0.12, eta: 0.5 };
-    const { peaks } = fitPeakGroups(patternOf(x, y), background, [start, { ...start }], { wavelength: CU, pruneBelowSigma: 3 });
+    const { peaks } = fitPeakGroups(pattern, background, [start, { ...start }], { wavelength: CU, pruneBelowSigma: 3 });
     expect(peaks).toHaveLength(1);
     expect(Math.abs(peaks[0].twoTheta - 28.4)).toBeLessThan(0.005);
     // The survivor is refitted alone: its uncertainties are finite again.
@@ -77,14 +67,14 @@ describe('a group whose normal matrix is singular', () => {
 describe('peak search under a broad amorphous hump (independent simulator, Poisson noise)', () => {
   const draws = 12;
   const results = Array.from({ length: draws }, (_, d) => {
-    const spec: SimPattern = {
-      fromDeg: 5,
-      toDeg: 60,
+    const spec: LineSimulationSettings = {
+      twoThetaMinDeg: 5,
+      twoThetaMaxDeg: 60,
       stepDeg: 0.02,
-      background: 150,
+      backgroundCounts: 150,
       lines: TARGET,
       // Hump centred under the 7 000-count line at 28.4°, FWHM 2–6°, area 0.3 to 1.0 × the crystalline area.
-      hump: { twoTheta: 26 + (d % 4), fwhm: [2, 3, 4, 6][d % 4], area: CRYSTALLINE_COUNTS * [0.3, 0.65, 1][d % 3] },
+      humps: [{ centerDeg: 26 + (d % 4), fwhmDeg: [2, 3, 4, 6][d % 4], areaRelative: [0.3, 0.65, 1][d % 3] }],
       seed: 1000 + d,
     };
     return search(spec);
@@ -95,7 +85,7 @@ describe('peak search under a broad amorphous hump (independent simulator, Poiss
     let allFound = 0;
     for (const peaks of results) {
       if (found(peaks, 14.1, 0.03) && found(peaks, 28.4, 0.03)) strongFound++;
-      if (TARGET.every((l) => found(peaks, l.twoTheta, 0.03))) allFound++;
+      if (TARGET.every((l) => found(peaks, l.twoThetaDeg, 0.03))) allFound++;
     }
     console.log(`hump: both 7 000-count lines found in ${strongFound}/${draws} draws (target ${draws}/${draws}); all 8 lines in ${allFound}/${draws} (target ${draws}/${draws})`);
     expect(strongFound).toBe(draws);
@@ -114,11 +104,8 @@ describe('detection does not depend on the step size (the same counts per degree
   // One noise draw at 0.01°, and the same counts summed in pairs: the same measurement at a 0.02° step.
   // Weak lines of 60–90 counts (per 0.02°) on 150 stand 5–7 σ per point at 0.02° but only 3.5–5 σ at
   // 0.01°; their area stands about as many σ at both steps.
-  function stepLines(baseFwhm: number, weak: number): SimLine[] {
-    return [[12.5, 1.5 * weak], [18.3, 4000], [22.7, (7 / 6) * weak], [27.0, 2000], [33.4, weak], [38.8, 1200], [45.1, (4 / 3) * weak], [52.6, 700]].map(([twoTheta, height]) => {
-      const fwhm = baseFwhm + 0.0015 * twoTheta;
-      return { twoTheta, fwhm, eta: 0.5, area: areaForHeight(height, fwhm, 0.5) };
-    });
+  function stepLines(baseFwhm: number, weak: number) {
+    return linesOfHeights([[12.5, 1.5 * weak], [18.3, 4000], [22.7, (7 / 6) * weak], [27.0, 2000], [33.4, weak], [38.8, 1200], [45.1, (4 / 3) * weak], [52.6, 700]], baseFwhm);
   }
   const draws = 40;
 
@@ -131,7 +118,7 @@ describe('detection does not depend on the step size (the same counts per degree
     let lostFine = 0;
     let lostCoarse = 0;
     for (let d = 0; d < draws; d++) {
-      const { x, y } = simulate({ fromDeg: 8, toDeg: 58.01, stepDeg: 0.01, background: 150, lines: truth, seed: 5000 + d });
+      const { x, y } = simulateLinePattern({ twoThetaMinDeg: 8, twoThetaMaxDeg: 58.01, stepDeg: 0.01, backgroundCounts: 150, lines: truth, seed: 5000 + d });
       const half = x.length >> 1;
       const xCoarse = new Float64Array(half);
       const yCoarse = new Float64Array(half);
@@ -142,15 +129,16 @@ describe('detection does not depend on the step size (the same counts per degree
       const fine = findPeaks(patternOf(x, y), { wavelength: CU }).peaks;
       const coarse = findPeaks(patternOf(xCoarse, yCoarse), { wavelength: CU }).peaks;
       if (fine.length === coarse.length && fine.every((p) => found(coarse, p.twoTheta, 0.02))) same++;
-      lostFine += truth.filter((l) => !found(fine, l.twoTheta, 0.03)).length;
-      lostCoarse += truth.filter((l) => !found(coarse, l.twoTheta, 0.03)).length;
+      lostFine += truth.filter((l) => !found(fine, l.twoThetaDeg, 0.03)).length;
+      lostCoarse += truth.filter((l) => !found(coarse, l.twoThetaDeg, 0.03)).length;
     }
     console.log(
       `step (${_name}): identical peak sets in ${same}/${draws} = ${((100 * same) / draws).toFixed(0)} % (target ≥ 95 %); ` +
         `lines lost at 0.01° ${lostFine}, at 0.02° ${lostCoarse} of ${draws * truth.length}`,
     );
-    // Measured: 37/40 (sharp) and 35/40 (broad); the code before this change gave 34/40 and 17/40. The
-    // issue's 95 % is not reached yet: this assertion holds the level reached, not the target.
+    // Measured: 39/40 (sharp) and 38/40 (broad) on these draws; 37/40 and 35/40 on the earlier simulator's
+    // draws, where the code before the robust-search change gave 34/40 and 17/40. The issue's 95 % is not
+    // reached on every set of draws: this assertion holds the level reached, not the target.
     expect(same / draws).toBeGreaterThanOrEqual(0.85);
   });
 });

@@ -3,7 +3,7 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { seededUniform } from '../../src/core/numeric/random.js';
 import { dSpacing, reflectionList, type Miller, type SimulatedCell } from './cell.js';
-import { CU_KALPHA1, faceCentredClasses, simulatePowderPattern } from './pattern.js';
+import { areaForHeight, CU_KALPHA1, CU_KALPHA2, faceCentredClasses, lineProfile, simulateLinePattern, simulatePowderPattern } from './pattern.js';
 
 const golden = JSON.parse(readFileSync(new URL('../golden/simulator/d-spacings.json', import.meta.url), 'utf8')) as {
   cells: Array<{ cell: number[]; d: Array<[number[], number]> }>;
@@ -68,5 +68,32 @@ describe('test simulator', () => {
     const displaced = apex(simulatePowderPattern({ ...base, displacementMm: 0.2 }));
     expect(displaced - plain).toBeCloseTo((-2 * 0.2 * Math.cos((14.2204 * Math.PI) / 180) / 240) * (180 / Math.PI), 3);
   });
-});
 
+  it('gives a pseudo-Voigt of the stated FWHM and unit area (Thompson, Cox & Hastings: both parts of one FWHM)', () => {
+    for (const eta of [0, 0.5, 1]) {
+      const shape = { fwhmDeg: 0.2, eta };
+      expect(lineProfile(0.1, shape) / lineProfile(0, shape)).toBeCloseTo(0.5, 12);
+    }
+    expect(lineProfile(0, { fwhmDeg: 0.2, eta: 1 })).toBeCloseTo(2 / (Math.PI * 0.2), 12);
+    let area = 0;
+    for (let dx = -2; dx <= 2; dx += 1e-4) area += lineProfile(dx, { fwhmDeg: 0.2, eta: 0 }) * 1e-4;
+    expect(area).toBeCloseTo(1, 9);
+  });
+
+  it('puts a line given by its Kα1 2θ and its Kα2 partner where a phase of the same d puts them', () => {
+    const silicon = { phases: [{ a: 5.43123, intensities: new Map([[3, 100]]) }], twoThetaMinDeg: 28, twoThetaMaxDeg: 29, stepDeg: 0.0005, peakCounts: 1e9, backgroundCounts: 0, seed: 1, instrument: { u: 0, v: 0, w: 1e-6, x: 0, y: 0.001 } };
+    const kAlpha1 = apex(simulatePowderPattern({ ...silicon, beam: [{ lambda: CU_KALPHA1, weight: 1 }] }));
+    const kAlpha2 = apex(simulatePowderPattern({ ...silicon, beam: [{ lambda: CU_KALPHA2, weight: 1 }] }));
+    const shape = { fwhmDeg: 0.002, eta: 0.5 };
+    const given = { ...silicon, lines: [{ twoThetaDeg: kAlpha1, area: areaForHeight(1e9, shape), shape }], beam: [{ lambda: CU_KALPHA1, weight: 0 }, { lambda: CU_KALPHA2, weight: 1 }] };
+    expect(Math.abs(apex(simulateLinePattern(given)) - kAlpha2)).toBeLessThan(0.001);
+  });
+
+  it('counts per point in proportion to the step: the same counts per degree at 0.01° and 0.02°', () => {
+    const shape = { fwhmDeg: 0.15, eta: 0.5 };
+    const total = (stepDeg: number) => simulateLinePattern({ twoThetaMinDeg: 20, twoThetaMaxDeg: 40, stepDeg, backgroundCounts: 0, seed: 7, lines: [{ twoThetaDeg: 30, area: 1e6, shape }] }).y.reduce((a, b) => a + b, 0);
+    // Kα1 area 10⁶ plus its Kα2 partner's 0.5 × 10⁶, counted at a 0.02° reference step: σ of the sum about 1 200.
+    expect(Math.abs(total(0.02) - 1.5e6)).toBeLessThan(5000);
+    expect(Math.abs(total(0.01) - 1.5e6)).toBeLessThan(5000);
+  });
+});
