@@ -19,6 +19,7 @@ import {
   strainStatementOf,
   twoThetaSpan,
   type SizeStrainConvention,
+  type SizeStrainOutcome,
   type SizeStrainPoint,
 } from './size-strain-points.js';
 import { PHI_GAUSSIAN, PHI_LORENTZIAN } from './voigt.js';
@@ -31,20 +32,10 @@ export interface HalderWagnerPlotPoint {
   sigmaY: number;
 }
 
-export interface SizeStrainResult {
+/** `limit` is "instrument" when the slope is not above zero by 2σ (sizeNm is then the lower bound). */
+export interface SizeStrainResult extends SizeStrainOutcome {
   method: 'halder-wagner';
-  convention: string;
-  sizeNm: number | null;
-  sizeSigmaNm: number | null;
-  /** "instrument" when the slope is not above zero by 2σ (sizeNm is then the lower bound). */
-  limit: 'instrument' | null;
-  strain: number;
-  strainSigma: number;
-  strainDetected: boolean;
-  strainStatement: string;
-  r2: number;
   reflections: number;
-  twoThetaSpanDeg: { min: number; max: number };
   /** True when size and strain were refined with the exact Voigt breadth after the plot (a strain was detected). */
   exactVoigt: boolean;
   /** The fitted line y = slope·x + intercept (slope 1/D in Å⁻¹, intercept (2ε)², integral-breadth convention). */
@@ -53,8 +44,6 @@ export interface SizeStrainResult {
   intercept: number;
   interceptSigma: number;
   plot: HalderWagnerPlotPoint[];
-  statement: string;
-  warnings: string[];
 }
 
 /** Effective-variance passes (the weights depend on the slope; three to five settle it). */

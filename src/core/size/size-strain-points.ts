@@ -35,6 +35,26 @@ export function describeConvention(c: SizeStrainConvention): string {
   return `size D = Kλ/(w_L·cosθ) with K = ${c.k} and w_L the ${w} of the Lorentzian part; strain ε = w_G/(4·tanθ) with w_G the ${w} of the Gaussian part`;
 }
 
+/** What every size–strain result states, whichever plot it comes from. */
+export interface SizeStrainOutcome {
+  /** The size and strain definitions used (K, breadth kind), in words. */
+  convention: string;
+  /** Size in nm, or the lower bound when `limit` is "instrument"; null when beyond what the widths can tell. */
+  sizeNm: number | null;
+  sizeSigmaNm: number | null;
+  limit: 'instrument' | null;
+  /** Microstrain ε, as fitted even when not significant. */
+  strain: number;
+  strainSigma: number;
+  /** |ε| ≥ 2σ: a strain is reported; otherwise "no strain detected". */
+  strainDetected: boolean;
+  strainStatement: string;
+  r2: number;
+  twoThetaSpanDeg: { min: number; max: number };
+  statement: string;
+  warnings: string[];
+}
+
 /** At least this many resolved reflections make a size–strain plot (common practice). */
 export const MIN_SIZE_STRAIN_REFLECTIONS = 4;
 /** The reflections must span at least this ratio of sinθ (of d*) to separate a constant from a d*-proportional breadth. */

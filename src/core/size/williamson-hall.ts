@@ -16,6 +16,7 @@ import {
   strainStatementOf,
   twoThetaSpan,
   type SizeStrainConvention,
+  type SizeStrainOutcome,
   type SizeStrainPoint,
 } from './size-strain-points.js';
 
@@ -35,24 +36,10 @@ export interface WilliamsonHallPlotPoint {
   strainSigmaY: number;
 }
 
-export interface WilliamsonHallResult {
+/** `limit` is "instrument" when the Lorentzian part is not above zero by 2σ; r² is the uncentred r² of the strain line through the origin. */
+export interface WilliamsonHallResult extends SizeStrainOutcome {
   method: 'williamson-hall-voigt';
-  /** The size and strain definitions used (K, breadth kind), in words. */
-  convention: string;
-  /** Size in nm, or the lower bound when `limit` is "instrument" (Lorentzian part not above zero by 2σ). */
-  sizeNm: number | null;
-  sizeSigmaNm: number | null;
-  limit: 'instrument' | null;
-  /** Microstrain ε (ε = w_G/(4 tanθ)), as fitted even when not significant. */
-  strain: number;
-  strainSigma: number;
-  /** |ε| ≥ 2σ: a strain is reported; otherwise "no strain detected". */
-  strainDetected: boolean;
-  strainStatement: string;
-  /** Uncentred r² of the strain line through the origin. */
-  r2: number;
   peaksUsed: number;
-  twoThetaSpanDeg: { min: number; max: number };
   /** Kλ/D (the mean of w_L cosθ, radians) and its uncertainty. */
   intercept: number;
   interceptSigma: number;
@@ -62,8 +49,6 @@ export interface WilliamsonHallResult {
   pValue: number;
   anisotropy: AnisotropyNote | null;
   plot: WilliamsonHallPlotPoint[];
-  statement: string;
-  warnings: string[];
 }
 
 export interface FamilyResidual {
