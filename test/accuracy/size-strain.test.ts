@@ -4,25 +4,21 @@
  * against the simulated truth. Rates are printed beside the targets of the issue they answer.
  */
 import { describe, expect, it } from 'vitest';
-import type { Reference } from '../../src/core/model/reference.js';
+import { cubicReference } from './support.js';
 import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 import { findPeaks } from '../../src/core/process/peaks.js';
 import { fitInstrumentProfile } from '../../src/core/size/instrument.js';
 import { crystalliteSizes, type SizeResult } from '../../src/core/size/sizes.js';
-import { faceCentredClasses, hklOfClass, simulatePowderPattern, type CubicPhase } from '../simulator/pattern.js';
+import { faceCentredClasses, simulatePowderPattern, type CubicPhase } from '../simulator/pattern.js';
 
 const CU = anodeWavelength('Cu');
 const RANGE = { twoThetaMinDeg: 20, twoThetaMaxDeg: 130, stepDeg: 0.02 };
 
-function referenceOf(name: string, a: number, classes: ReadonlyMap<number, number>, tags: string[]): Reference {
-  const lines = [...classes].map(([s, intensity]) => ({ d: a / Math.sqrt(s), intensity, hkl: hklOfClass(s)! }));
-  return { name, formula: 'X', tags, source: 'accuracy-test simulator', lines: lines.sort((p, q) => q.d - p.d) };
-}
 
 // A well-crystallised face-centred cubic standard (a = 4.157 Å) fixes the instrument profile.
 const STANDARD_CLASSES = new Map(faceCentredClasses(60).map((s, i) => [s, 100 / (1 + 0.3 * i)]));
 const standardPattern = simulatePowderPattern({ phases: [{ a: 4.157, intensities: STANDARD_CLASSES }], ...RANGE, peakCounts: 40000, backgroundCounts: 100, seed: 1, name: 'line-profile standard' });
-const instrument = fitInstrumentProfile(findPeaks(standardPattern, { wavelength: CU }).peaks, referenceOf('test standard', 4.157, STANDARD_CLASSES, ['standard']), {
+const instrument = fitInstrumentProfile(findPeaks(standardPattern, { wavelength: CU }).peaks, cubicReference('test standard', 4.157, STANDARD_CLASSES, ['standard']), {
   wavelength: CU,
   name: 'simulated instrument',
 });
@@ -30,7 +26,7 @@ const instrument = fitInstrumentProfile(findPeaks(standardPattern, { wavelength:
 // The sample: a face-centred cubic phase (a = 5.64 Å), eleven well separated reflections in range.
 const SAMPLE_A = 5.64;
 const SAMPLE_CLASSES = new Map(faceCentredClasses(56).map((s, i) => [s, 100 / (1 + 0.25 * i)]));
-const sample = referenceOf('test sample', SAMPLE_A, SAMPLE_CLASSES, ['target']);
+const sample = cubicReference('test sample', SAMPLE_A, SAMPLE_CLASSES, ['target']);
 
 function sizesOf(sizeNm: number, strain: number, seed: number, peakCounts = 20000): SizeResult {
   const phase: CubicPhase = { a: SAMPLE_A, intensities: SAMPLE_CLASSES, sizeNm, strain };

@@ -3,10 +3,10 @@
  * references built from the simulator's own line lists (its own metric, not the app's reference
  * builder), a few test phases of every crystal system, and the per-case random draws.
  */
-import type { StoredReference } from '../../src/core/model/reference.js';
+import type { Reference, StoredReference } from '../../src/core/model/reference.js';
 import { seededUniform } from '../../src/core/numeric/random.js';
 import { dSpacing, reflectionList, type SimulatedCell, type SimulatedReflection } from '../simulator/cell.js';
-import { CU_KALPHA1, CU_KALPHA2, KALPHA2_RATIO, type BeamLine, type CellPhase } from '../simulator/pattern.js';
+import { CU_KALPHA1, CU_KALPHA2, hklOfClass, KALPHA2_RATIO, type BeamLine, type CellPhase } from '../simulator/pattern.js';
 
 /** A library reference with the simulator's lines of a cell (d by the simulator's metric, intensities 0–100). */
 export function storedReference(id: number, name: string, cell: SimulatedCell, spaceGroup: string, reflections: readonly SimulatedReflection[], rir = 3): StoredReference {
@@ -105,3 +105,9 @@ export function reflectionsOf(phase: TestPhase, dMin: number, seed: number): Sim
 }
 
 export const rate = (k: number, n: number): string => `${k}/${n} = ${((100 * k) / Math.max(1, n)).toFixed(1)} %`;
+
+/** A face-centred cubic reference from the simulator's reflection classes (h² + k² + l² → intensity), lines by decreasing d. */
+export function cubicReference(name: string, a: number, classes: ReadonlyMap<number, number>, tags: string[]): Reference {
+  const lines = [...classes].map(([s, intensity]) => ({ d: a / Math.sqrt(s), intensity, hkl: hklOfClass(s)! }));
+  return { name, formula: 'X', tags, source: 'accuracy-test simulator', lines: lines.sort((p, q) => q.d - p.d) };
+}

@@ -4,6 +4,7 @@
  * cell), sized against the simulated truth over noise draws, with σ checked against the spread.
  */
 import { describe, expect, it } from 'vitest';
+import { cubicReference } from '../accuracy/support.js';
 import type { Reference } from '../../src/core/model/reference.js';
 import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 import { twoThetaFromD } from '../../src/core/model/units.js';
@@ -11,26 +12,22 @@ import { findPeaks } from '../../src/core/process/peaks.js';
 import { fitInstrumentProfile } from '../../src/core/size/instrument.js';
 import { constrainedGroupFit, type GroupFitPhase, type GroupFitSize } from '../../src/core/size/group-fit.js';
 import { crystalliteSizes } from '../../src/core/size/sizes.js';
-import { faceCentredClasses, hklOfClass, simulatePowderPattern, type CubicPhase } from '../simulator/pattern.js';
+import { faceCentredClasses, simulatePowderPattern, type CubicPhase } from '../simulator/pattern.js';
 
 const CU = anodeWavelength('Cu');
 const RANGE = { twoThetaMinDeg: 20, twoThetaMaxDeg: 100, stepDeg: 0.02 };
 
-function referenceOf(name: string, a: number, classes: ReadonlyMap<number, number>, tags: string[]): Reference {
-  const lines = [...classes].map(([s, intensity]) => ({ d: a / Math.sqrt(s), intensity, hkl: hklOfClass(s)! }));
-  return { name, formula: 'X', tags, source: 'accuracy-test simulator', lines: lines.sort((p, q) => q.d - p.d) };
-}
 
 const STANDARD_CLASSES = new Map(faceCentredClasses(60).map((s, i) => [s, 100 / (1 + 0.3 * i)]));
 const standardPattern = simulatePowderPattern({ phases: [{ a: 4.157, intensities: STANDARD_CLASSES }], twoThetaMinDeg: 15, twoThetaMaxDeg: 110, stepDeg: 0.02, peakCounts: 40000, backgroundCounts: 100, seed: 1, name: 'line-profile standard' });
-const instrument = fitInstrumentProfile(findPeaks(standardPattern, { wavelength: CU }).peaks, referenceOf('test standard', 4.157, STANDARD_CLASSES, ['standard']), { wavelength: CU, name: 'simulated instrument' });
+const instrument = fitInstrumentProfile(findPeaks(standardPattern, { wavelength: CU }).peaks, cubicReference('test standard', 4.157, STANDARD_CLASSES, ['standard']), { wavelength: CU, name: 'simulated instrument' });
 
 // Target: fcc, a = 5.64 Å, 40 nm. Look-alike: the same lines from a 0.3 % larger cell, 25 nm, 0.8 of the scale.
 const CLASSES = new Map(faceCentredClasses(40).map((s, i) => [s, 100 / (1 + 0.25 * i)]));
 const TARGET = { a: 5.64, sizeNm: 40 };
 const LOOK_ALIKE = { a: 5.64 * 1.003, sizeNm: 25, scale: 0.8 };
-const targetRef = referenceOf('target', TARGET.a, CLASSES, ['target']);
-const lookAlikeRef = referenceOf('look-alike', LOOK_ALIKE.a, CLASSES, []);
+const targetRef = cubicReference('target', TARGET.a, CLASSES, ['target']);
+const lookAlikeRef = cubicReference('look-alike', LOOK_ALIKE.a, CLASSES, []);
 
 function patternOf(seed: number) {
   const phases: CubicPhase[] = [
@@ -94,7 +91,7 @@ describe('constrained group fit (independent true-Voigt simulator)', () => {
     const search = findPeaks(pattern, { wavelength: CU });
     const variance = Float64Array.from(pattern.sigma!, (s) => s * s);
     // A phase that is not in the pattern at all: the fit finds no line of it and says so.
-    const absent: GroupFitPhase = { name: 'absent phase', lines: linesOf(referenceOf('absent phase', 5.0, CLASSES, [])), startScale: 1000, startSizeNm: 60 };
+    const absent: GroupFitPhase = { name: 'absent phase', lines: linesOf(cubicReference('absent phase', 5.0, CLASSES, [])), startScale: 1000, startSizeNm: 60 };
     const twin = constrainedGroupFit({ x: pattern.x, y: pattern.y, background: search.background, variance, wavelength: CU, instrument, k: 0.9, breadth: 'fwhm', phases: [absent, { name: 'target', lines: linesOf(targetRef), startScale: 1000, startSizeNm: 60 }, { name: 'look-alike', lines: linesOf(lookAlikeRef), startScale: 1000, startSizeNm: 60 }] });
     expect('reason' in twin ? twin.reason : `a size: ${(twin as GroupFitSize).statement}`).toMatch(/^even a constrained group fit (finds the lines of absent phase no stronger|leaves the size of absent phase uncertain|puts the size of absent phase at the edge)/);
   });

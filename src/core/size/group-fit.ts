@@ -14,6 +14,7 @@
  * with the instrument 1σ broader).
  */
 import type { Wavelength } from '../model/wavelengths.js';
+import { lowerBound } from '../model/sorted.js';
 import { DEG_TO_RAD } from '../model/units.js';
 import { choleskyFactor, choleskySolve } from '../numeric/cholesky.js';
 import { LevenbergMarquardt } from '../numeric/levenberg-marquardt.js';
@@ -219,7 +220,7 @@ export function constrainedGroupFit(input: GroupFitInput): GroupFitOutcome {
   const addLine = (out: PhaseColumns, centre: number, area: number, fwhm: number, eta: number, dFwhm: number, dEta: number, dCentreDCell: number, reach: number): void => {
     const lorentzNorm = 2 / (Math.PI * fwhm);
     const gaussNorm = GAUSS_NORM / fwhm;
-    for (let q = firstAtOrAbove(px, centre - reach); q < n && px[q] < centre + reach; q++) {
+    for (let q = lowerBound(px, centre - reach); q < n && px[q] < centre + reach; q++) {
       const u = (px[q] - centre) / fwhm;
       const u2 = u * u;
       const denominator = 1 + 4 * u2;
@@ -344,18 +345,6 @@ export function constrainedGroupFit(input: GroupFitInput): GroupFitOutcome {
       `${sized.sizeNm.toPrecision(3)} ± ${sized.sizeSigmaNm.toPrecision(2)} nm from a constrained group fit of ${sizedLines} overlapped line(s) of ${name} ` +
       `beside ${others.map((o) => `${o.name} (${o.sizeNm.toPrecision(3)} nm)`).join(', ')}, positions from ${input.positionsFrom ?? "the phases' cells"}, reduced χ² ${reducedChi2.toFixed(2)}`,
   };
-}
-
-/** Index of the first value ≥ v in an ascending array (its length when none). */
-function firstAtOrAbove(sorted: Float64Array, v: number): number {
-  let lo = 0;
-  let hi = sorted.length;
-  while (lo < hi) {
-    const mid = (lo + hi) >>> 1;
-    if (sorted[mid] < v) lo = mid + 1;
-    else hi = mid;
-  }
-  return lo;
 }
 
 /** Diagonal of the inverse of a symmetric positive-definite matrix, or null when it is singular. */
