@@ -1,7 +1,7 @@
 /**
  * A one-file command loads only what it needs (issue 15: start-up): `crystallog peaks FILE` loads the
  * CLI frame, its own command module and the peak search, and no schema library, CSV package, SQLite
- * binding or other command's module. Checked on the compiled CLI as a user runs it (`npm test` builds
+ * binding, portable SHA-256 (the file's hash is Node's native one) or other command's module. Checked on the compiled CLI as a user runs it (`npm test` builds
  * it first), by a module resolve hook that lists every module the process loads.
  */
 import { spawnSync } from 'node:child_process';
@@ -30,7 +30,7 @@ describe('start-up of a one-file command', () => {
     expect(status).toBe(0);
     expect(modules.some((m) => m.endsWith('/dist/src/cli/commands/peaks.js'))).toBe(true);
     expect(modules.some((m) => m.endsWith('/dist/src/core/process/peaks.js'))).toBe(true);
-    const heavy = modules.filter((m) => /\/node_modules\/(zod|papaparse|better-sqlite3)\//.test(m));
+    const heavy = modules.filter((m) => /\/node_modules\/(zod|papaparse|better-sqlite3|@noble\/hashes)\//.test(m));
     const otherCommands = modules.filter((m) => /\/cli\/commands\/(?!peaks\.js|index\.js)[^/]+\.js$/.test(m));
     expect(heavy).toEqual([]);
     expect(otherCommands).toEqual([]);

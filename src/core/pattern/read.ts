@@ -1,49 +1,11 @@
 import { sha256Hex } from '../model/checksum.js';
 import type { Pattern } from '../model/pattern.js';
-import { readColumnText } from './readers/columns.js';
-import { decodeText } from './readers/decode.js';
-import { finishData, type RawPattern } from './readers/finish.js';
-import { looksLikeCif, readPowderCif } from './readers/pdcif.js';
+import { readHashedPatternBytes } from './read-hashed.js';
 
 /**
- * Read a powder pattern from file bytes: column text (XY, CSV with or without header) or powder CIF,
- * told apart by content (a CIF has a data_ block; a .cif name alone does not make a file CIF).
- * The bytes are not changed; their SHA-256 identifies the original file (the caller may pass it in when
- * a faster native hash is at hand).
+ * Read a powder pattern from file bytes (see read-hashed.ts for the formats). Their SHA-256 identifies
+ * the original file; the caller may pass it in when a faster native hash is at hand.
  */
 export function readPatternBytes(bytes: Uint8Array, fileName: string, known: { sha256?: string } = {}): Pattern {
-  const text = decodeText(bytes, fileName);
-  const raw: RawPattern = looksLikeCif(text) || (hasCifExtension(fileName) && startsLikeCif(text))
-    ? readPowderCif(text, fileName)
-    : readColumnText(text, fileName);
-  const data = finishData(raw, fileName);
-  return {
-    x: data.x,
-    y: data.y,
-    sigma: data.sigma,
-    wavelength: raw.wavelength,
-    source: {
-      file: fileName,
-      sha256: known.sha256 ?? sha256Hex(bytes),
-      byteLength: bytes.byteLength,
-      format: raw.format,
-    },
-    meta: raw.meta,
-    readerNotes: data.notes,
-    dataEndLine: raw.lastLine,
-  };
-}
-
-/** The first line that is neither blank nor a # comment starts with data_, loop_ or a _tag. */
-function startsLikeCif(text: string): boolean {
-  for (const line of text.slice(0, 20000).split('\n')) {
-    const content = line.trim();
-    if (content === '' || content.startsWith('#')) continue;
-    return /^(data_|loop_|_)/i.test(content);
-  }
-  return false;
-}
-
-function hasCifExtension(fileName: string): boolean {
-  return /\.(cif|pdcif)$/i.test(fileName);
+  return readHashedPatternBytes(bytes, fileName, known.sha256 ?? sha256Hex(bytes));
 }

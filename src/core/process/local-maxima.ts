@@ -38,22 +38,10 @@ export function findLocalMaxima(y: Float64Array, options: LocalMaximaOptions = {
         const peak = (i + ahead - 1) >> 1;
         if (y[peak] >= limitAt(options.minHeight, peak)) {
           const top = y[peak];
-          let leftMin = top;
-          let leftBase = peak;
-          for (let k = peak; k >= 0 && y[k] <= top; k--) {
-            if (y[k] < leftMin) {
-              leftMin = y[k];
-              leftBase = k;
-            }
-          }
-          let rightMin = top;
-          let rightBase = peak;
-          for (let k = peak; k < n && y[k] <= top; k++) {
-            if (y[k] < rightMin) {
-              rightMin = y[k];
-              rightBase = k;
-            }
-          }
+          const leftBase = leftBaseOf(y, peak);
+          const rightBase = rightBaseOf(y, peak);
+          const leftMin = y[leftBase];
+          const rightMin = y[rightBase];
           const prominence = top - Math.max(leftMin, rightMin);
           if (prominence >= limitAt(options.minProminence, peak)) {
             found.push(peak);
@@ -74,4 +62,34 @@ export function findLocalMaxima(y: Float64Array, options: LocalMaximaOptions = {
     leftBases: Int32Array.from(lefts),
     rightBases: Int32Array.from(rights),
   };
+}
+
+// The two walks are functions of their own: the JIT compiles each small loop once, not the whole search per loop.
+
+/** Walking down from the peak while no point is higher: the lowest point reached (the nearest of equals). */
+function leftBaseOf(y: Float64Array, peak: number): number {
+  const top = y[peak];
+  let min = top;
+  let base = peak;
+  for (let k = peak; k >= 0 && y[k] <= top; k--) {
+    if (y[k] < min) {
+      min = y[k];
+      base = k;
+    }
+  }
+  return base;
+}
+
+/** As leftBaseOf, walking up. */
+function rightBaseOf(y: Float64Array, peak: number): number {
+  const top = y[peak];
+  let min = top;
+  let base = peak;
+  for (let k = peak; k < y.length && y[k] <= top; k++) {
+    if (y[k] < min) {
+      min = y[k];
+      base = k;
+    }
+  }
+  return base;
 }

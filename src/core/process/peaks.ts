@@ -98,7 +98,9 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
   // The background is clipped from a more strongly smoothed copy, so that it follows the noise less: a
   // moving average (order 0), whose weights are all positive, so no ringing beside sharp peaks drags it down.
   const forBackground = savitzkyGolay(y, { windowPoints: oddAtMost(BACKGROUND_SMOOTHING * windowPoints, n), polyOrder: 0 });
-  const noise = options.noise ?? 'auto';
+  const model = options.noise ?? 'auto';
+  // Whether the intensities can be counts depends on the pattern alone: judged once, not at every background.
+  const noise: NoiseInput = { model, notCounts: model === 'auto' ? notCountsReason(pattern) : null };
   const automatic = options.backgroundHalfWidthDeg === undefined;
   const widestAuto = Math.min(MAX_AUTO_HALF_WIDTH_DEG, (x[n - 1] - x[0]) / 4);
   let halfWidthDeg = options.backgroundHalfWidthDeg ?? DEFAULT_CLIPPING_HALF_WIDTH_DEG;
@@ -125,7 +127,7 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
     snip,
     guesses,
     { ...options, pruneBelowSigma: options.pruneBelowSigma ?? thresholdSigma, minFwhmDeg: options.minFwhmDeg ?? MIN_FWHM_STEPS * meanStep, maxFwhmDeg: bounded.ceiling },
-    { thresholdSigma, weightSigma: noise === 'pattern' ? undefined : smoothedSigma(smoothed, snip, noiseSigma), convergedChi2Change: CONVERGED_CHI2_CHANGE },
+    { thresholdSigma, weightSigma: model === 'pattern' ? undefined : smoothedSigma(smoothed, snip, noiseSigma), convergedChi2Change: CONVERGED_CHI2_CHANGE },
   );
   // The fitted widths are better than the search's: if they ask for a much wider window, search and fit again.
   if (automatic) {
@@ -144,6 +146,12 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
   };
 }
 
+/** The noise model asked for, and why the pattern's intensities cannot be counts (null: they can, or the model is not 'auto'). */
+interface NoiseInput {
+  model: NoiseModel;
+  notCounts: string | null;
+}
+
 interface BackgroundLevel {
   snip: Float64Array;
   noiseSigma: Float64Array;
@@ -151,7 +159,7 @@ interface BackgroundLevel {
 }
 
 /** Background by SNIP with the given clipping half-width (lifted to the middle of the noise), and its σ. */
-function backgroundAt(pattern: Pattern, smoothed: Float64Array, forBackground: Float64Array, halfWidthDeg: number, noise: NoiseModel): BackgroundLevel {
+function backgroundAt(pattern: Pattern, smoothed: Float64Array, forBackground: Float64Array, halfWidthDeg: number, noise: NoiseInput): BackgroundLevel {
   const { x } = pattern;
   const clipped = snipBackground(x, forBackground, { clippingHalfWidthDeg: halfWidthDeg, maxWindowPoints: SNIP_MAX_WINDOW_POINTS });
   const snip = liftToNoiseMedian(x, smoothed, clipped, backgroundSigma(pattern, clipped, noise), 2 * halfWidthDeg);
@@ -318,9 +326,9 @@ const SG7_RESIDUAL_VARIANCE = 1 - 7 / 21;
  * is unmoved by the peaks, and the smooth follows peaks and background slopes, so only the scatter is left.
  * A smooth curve (a noise-free simulation) leaves next to no residual: then counting statistics are used.
  */
-function estimateNoise(pattern: Pattern, background: Float64Array, noise: NoiseModel): NoiseEstimate {
-  if (noise === 'pattern') return { model: 'pattern', scale: 1, notCounts: null, note: null };
-  const notCounts = noise === 'counts' ? null : notCountsReason(pattern);
+function estimateNoise(pattern: Pattern, background: Float64Array, noise: NoiseInput): NoiseEstimate {
+  if (noise.model === 'pattern') return { model: 'pattern', scale: 1, notCounts: null, note: null };
+  const notCounts = noise.notCounts;
   if (notCounts === null) return { model: 'counts', scale: 1, notCounts: null, note: null };
   const { y } = pattern;
   const n = y.length;
@@ -370,8 +378,8 @@ function backgroundFloor(background: Float64Array, counts: boolean): number {
 }
 
 /** σ of the background at each point: the pattern's own sigma, or the noise scale times √background. */
-function backgroundSigma(pattern: Pattern, background: Float64Array, noise: NoiseModel | NoiseEstimate): Float64Array {
-  const estimate = typeof noise === 'string' ? estimateNoise(pattern, background, noise) : noise;
+function backgroundSigma(pattern: Pattern, background: Float64Array, noise: NoiseInput | NoiseEstimate): Float64Array {
+  const estimate = 'scale' in noise ? noise : estimateNoise(pattern, background, noise);
   const n = pattern.y.length;
   const sigma = new Float64Array(n);
   if (estimate.model === 'pattern') {

@@ -125,27 +125,39 @@ export function liftToNoiseMedian(x: Float64Array, y: Float64Array, background: 
   for (let b = 0; b < blocks; b++) {
     const end = b === blocks - 1 ? n : lowerBound(x, x[0] + ((b + 1) * span) / blocks);
     centres[b] = 0.5 * (x[start] + x[Math.max(start, end - 1)]);
-    let median = 0;
-    for (let round = 0; round < 4; round++) {
-      let count = 0;
-      for (let i = start; i < end; i++) {
-        const d = y[i] - background[i];
-        if (round === 0 || d <= median + 2 * sigma[i]) scratch[count++] = d;
-      }
-      if (count === 0) break;
-      median = medianOf(scratch.subarray(0, count));
-    }
-    offsets[b] = Math.max(median, 0);
+    offsets[b] = Math.max(blockMedian(y, background, sigma, start, end, scratch), 0);
     start = end;
   }
+  addInterpolated(x, centres, offsets, out);
+  return out;
+}
+
+/** The median of y − background over points [start, end) that are not peaks (dropping those over 2σ above the median, 4 rounds). */
+function blockMedian(y: Float64Array, background: Float64Array, sigma: Float64Array, start: number, end: number, scratch: Float64Array): number {
+  // (Each long loop of the lift sits in a small function of its own: the JIT then compiles each on its own, once.)
+  let median = 0;
+  for (let round = 0; round < 4; round++) {
+    let count = 0;
+    for (let i = start; i < end; i++) {
+      const d = y[i] - background[i];
+      if (round === 0 || d <= median + 2 * sigma[i]) scratch[count++] = d;
+    }
+    if (count === 0) break;
+    median = medianOf(scratch.subarray(0, count));
+  }
+  return median;
+}
+
+/** Add to out the offsets given at the block centres, linearly interpolated to x (held flat beyond the first and last centre). */
+function addInterpolated(x: Float64Array, centres: Float64Array, offsets: Float64Array, out: Float64Array): void {
+  const blocks = centres.length;
   let b = 0;
-  for (let i = 0; i < n; i++) {
+  for (let i = 0; i < x.length; i++) {
     while (b + 1 < blocks && centres[b + 1] <= x[i]) b++;
     if (blocks === 1 || x[i] <= centres[0]) out[i] += offsets[0];
     else if (b + 1 >= blocks) out[i] += offsets[blocks - 1];
     else out[i] += offsets[b] + ((x[i] - centres[b]) / (centres[b + 1] - centres[b])) * (offsets[b + 1] - offsets[b]);
   }
-  return out;
 }
 
 /** Median by selection (Hoare, Commun. ACM 4, 321 (1961)): the same value a full sort gives, in linear time; reorders `values`. */
