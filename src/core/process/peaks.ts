@@ -2,7 +2,7 @@ import { InputError } from '../errors.js';
 import type { Pattern } from '../model/pattern.js';
 import type { Wavelength } from '../model/wavelengths.js';
 import { fitPeakGroups } from './fit.js';
-import { partnerTwoThetaDeg, strippedVariance, stripKAlpha2 } from './kalpha2.js';
+import { kAlpha1Sources, partnerTwoThetaDeg, strippedVariance, stripKAlpha2 } from './kalpha2.js';
 import { findLocalMaxima } from './local-maxima.js';
 import { savitzkyGolay } from './savitzky-golay.js';
 import { DEFAULT_CLIPPING_HALF_WIDTH_DEG, liftToNoiseMedian, snipBackground } from './snip.js';
@@ -166,7 +166,9 @@ function candidates(pattern: Pattern, options: PeakSearchOptions, smoothed: Floa
   const n = x.length;
   const net = new Float64Array(n);
   for (let i = 0; i < n; i++) net[i] = smoothed[i] - snip[i];
-  const kAlpha1 = stripKAlpha2(x, net, options.wavelength);
+  // One Kα1 source angle per point for both strippings.
+  const sources = kAlpha1Sources(x, options.wavelength) ?? undefined;
+  const kAlpha1 = stripKAlpha2(x, net, options.wavelength, undefined, sources);
   // Above its surroundings, a peak is judged against the noise at its own level (all counts there, and
   // the noise the Kα2 stripping carried over from the Kα1 intensity it subtracted).
   const levelVariance = new Float64Array(n);
@@ -174,7 +176,7 @@ function candidates(pattern: Pattern, options: PeakSearchOptions, smoothed: Floa
     const level = snip[i] > 0 ? Math.max(smoothed[i], snip[i]) / snip[i] : 1;
     levelVariance[i] = noiseSigma[i] * noiseSigma[i] * level;
   }
-  const strippedLevelVariance = strippedVariance(x, levelVariance, options.wavelength);
+  const strippedLevelVariance = strippedVariance(x, levelVariance, options.wavelength, sources);
   const minHeight = new Float64Array(n);
   const minProminence = new Float64Array(n);
   for (let i = 0; i < n; i++) {
