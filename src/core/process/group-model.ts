@@ -333,7 +333,9 @@ export class GroupModel implements NormalEquationsTarget {
           const w = weight[i];
           chi2 += w * residual * residual;
           // Lower triangle (row ≥ column) block by block: peaks in increasing order.
-          for (let a = 0; a < active; a++) {
+          if (perPeak === 4) {
+            this.addPoint4(normal, gradient, active, w, residual, t, bgRow, slopeRow);
+          } else for (let a = 0; a < active; a++) {
             const ja = a * perPeak;
             const baseA = activeBase[a];
             for (let r = 0; r < perPeak; r++) {
@@ -370,6 +372,77 @@ export class GroupModel implements NormalEquationsTarget {
     gradient[bgBase + 1] = gSlope;
     for (let r = 0; r < paramCount; r++) for (let c = r + 1; c < paramCount; c++) normal[r * paramCount + c] = normal[c * paramCount + r];
     return chi2;
+  }
+
+  /**
+   * One point's terms of the lower triangle (row ≥ column) for `active` peaks of four parameters each, their
+   * derivatives in jac (in activeBase's order): each peak's row block against the peaks before it and itself,
+   * its background-line cells and its gradient.
+   */
+  private addPoint4(normal: Float64Array, gradient: Float64Array, active: number, w: number, residual: number, t: number, bgRow: number, slopeRow: number): void {
+    const { jac, activeBase, paramCount } = this;
+    for (let a = 0; a < active; a++) {
+      const ja = a * 4;
+      const baseA = activeBase[a];
+      const a0 = jac[ja];
+      const a1 = jac[ja + 1];
+      const a2 = jac[ja + 2];
+      const a3 = jac[ja + 3];
+      const w0 = w * a0;
+      const w1 = w * a1;
+      const w2 = w * a2;
+      const w3 = w * a3;
+      const row0 = baseA * paramCount;
+      const row1 = row0 + paramCount;
+      const row2 = row1 + paramCount;
+      const row3 = row2 + paramCount;
+      for (let c = 0; c < a; c++) {
+        const jb = c * 4;
+        const col = activeBase[c];
+        const b0 = jac[jb];
+        const b1 = jac[jb + 1];
+        const b2 = jac[jb + 2];
+        const b3 = jac[jb + 3];
+        normal[row0 + col] += w0 * b0;
+        normal[row0 + col + 1] += w0 * b1;
+        normal[row0 + col + 2] += w0 * b2;
+        normal[row0 + col + 3] += w0 * b3;
+        normal[row1 + col] += w1 * b0;
+        normal[row1 + col + 1] += w1 * b1;
+        normal[row1 + col + 2] += w1 * b2;
+        normal[row1 + col + 3] += w1 * b3;
+        normal[row2 + col] += w2 * b0;
+        normal[row2 + col + 1] += w2 * b1;
+        normal[row2 + col + 2] += w2 * b2;
+        normal[row2 + col + 3] += w2 * b3;
+        normal[row3 + col] += w3 * b0;
+        normal[row3 + col + 1] += w3 * b1;
+        normal[row3 + col + 2] += w3 * b2;
+        normal[row3 + col + 3] += w3 * b3;
+      }
+      normal[row0 + baseA] += w0 * a0;
+      normal[row1 + baseA] += w1 * a0;
+      normal[row1 + baseA + 1] += w1 * a1;
+      normal[row2 + baseA] += w2 * a0;
+      normal[row2 + baseA + 1] += w2 * a1;
+      normal[row2 + baseA + 2] += w2 * a2;
+      normal[row3 + baseA] += w3 * a0;
+      normal[row3 + baseA + 1] += w3 * a1;
+      normal[row3 + baseA + 2] += w3 * a2;
+      normal[row3 + baseA + 3] += w3 * a3;
+      normal[bgRow + baseA] += w0;
+      normal[bgRow + baseA + 1] += w1;
+      normal[bgRow + baseA + 2] += w2;
+      normal[bgRow + baseA + 3] += w3;
+      normal[slopeRow + baseA] += w0 * t;
+      normal[slopeRow + baseA + 1] += w1 * t;
+      normal[slopeRow + baseA + 2] += w2 * t;
+      normal[slopeRow + baseA + 3] += w3 * t;
+      gradient[baseA] += w0 * residual;
+      gradient[baseA + 1] += w1 * residual;
+      gradient[baseA + 2] += w2 * residual;
+      gradient[baseA + 3] += w3 * residual;
+    }
   }
 
   /** The sorted distinct edges of the runs: first, last and every window's ends, into `edges`; returns their count. */

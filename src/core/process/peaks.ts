@@ -1,13 +1,13 @@
 import { InputError } from '../errors.js';
 import type { Pattern } from '../model/pattern.js';
 import type { Wavelength } from '../model/wavelengths.js';
-import { fitPeakGroups } from './fit.js';
+import { fitPeakGroups, type PeakAcceptance } from './fit.js';
 import { kAlpha1Sources, partnerTwoThetaDeg, strippedVariance, stripKAlpha2 } from './kalpha2.js';
 import { findLocalMaxima } from './local-maxima.js';
 import { savitzkyGolay } from './savitzky-golay.js';
 import { DEFAULT_CLIPPING_HALF_WIDTH_DEG, liftToNoiseMedian, snipBackground } from './snip.js';
 import { lowerBound } from '../model/sorted.js';
-import type { NoiseEstimate, NoiseModel, PeakGuess, PeakSearchOptions, PeakSearchResult } from '../model/peak.js';
+import type { NoiseEstimate, NoiseModel, PeakFitOptions, PeakGuess, PeakSearchOptions, PeakSearchResult } from '../model/peak.js';
 
 /**
  * Peak search and fit. The pattern is smoothed (Savitzky–Golay), its background taken by SNIP, the
@@ -68,6 +68,42 @@ const CLEAR_PEAK_SIGMA = 10;
 const CONVERGED_CHI2_CHANGE = 0.01;
 
 export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSearchResult {
+  const search = searchFitInputs(pattern, options);
+  const { x } = pattern;
+  const n = x.length;
+  const { snip, noiseSigma } = search.level;
+  const fit = fitPeakGroups(pattern, snip, search.guesses, search.fitOptions, search.acceptance);
+  // The fitted widths are better than the search's: if they ask for a much wider window, search and fit again.
+  if (search.automatic) {
+    const wanted = Math.min(CLIPPING_WIDTHS_PER_FWHM * typicalBroadWidth(fit.peaks.filter((p) => !p.overlapped)), search.widestAuto);
+    if (wanted > REFIT_MARGIN * search.halfWidthDeg) return findPeaks(pattern, { ...options, backgroundHalfWidthDeg: wanted });
+  }
+  return {
+    peaks: fit.peaks,
+    background: fit.background,
+    model: fit.model,
+    wavelength: options.wavelength,
+    points: n,
+    smoothed: search.smoothed,
+    noiseSigma,
+    noise: search.level.noise,
+  };
+}
+
+/** What the search hands its profile fit: background, σ and noise model, the candidates, and the fit's options. */
+export interface SearchFitInputs {
+  level: BackgroundLevel;
+  smoothed: Float64Array;
+  guesses: PeakGuess[];
+  fitOptions: PeakFitOptions;
+  acceptance: PeakAcceptance;
+  automatic: boolean;
+  halfWidthDeg: number;
+  widestAuto: number;
+}
+
+/** The search up to its profile fit: smoothing, background, Kα2 stripping, candidates (also for timing the fit alone). */
+export function searchFitInputs(pattern: Pattern, options: PeakSearchOptions): SearchFitInputs {
   const { x, y } = pattern;
   const n = x.length;
   const file = pattern.source.file;
@@ -120,31 +156,19 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
     guesses = bounded.guesses;
   }
   const { snip, noiseSigma } = level;
-  const fit = fitPeakGroups(
-    pattern,
-    snip,
-    guesses,
-    { ...options, pruneBelowSigma: options.pruneBelowSigma ?? thresholdSigma, minFwhmDeg: options.minFwhmDeg ?? MIN_FWHM_STEPS * meanStep, maxFwhmDeg: bounded.ceiling },
-    { thresholdSigma, weightSigma: noise === 'pattern' ? undefined : smoothedSigma(smoothed, snip, noiseSigma), convergedChi2Change: CONVERGED_CHI2_CHANGE },
-  );
-  // The fitted widths are better than the search's: if they ask for a much wider window, search and fit again.
-  if (automatic) {
-    const wanted = Math.min(CLIPPING_WIDTHS_PER_FWHM * typicalBroadWidth(fit.peaks.filter((p) => !p.overlapped)), widestAuto);
-    if (wanted > REFIT_MARGIN * halfWidthDeg) return findPeaks(pattern, { ...options, backgroundHalfWidthDeg: wanted });
-  }
   return {
-    peaks: fit.peaks,
-    background: fit.background,
-    model: fit.model,
-    wavelength: options.wavelength,
-    points: n,
+    level,
     smoothed,
-    noiseSigma,
-    noise: level.noise,
+    guesses,
+    fitOptions: { ...options, pruneBelowSigma: options.pruneBelowSigma ?? thresholdSigma, minFwhmDeg: options.minFwhmDeg ?? MIN_FWHM_STEPS * meanStep, maxFwhmDeg: bounded.ceiling },
+    acceptance: { thresholdSigma, weightSigma: noise === 'pattern' ? undefined : smoothedSigma(smoothed, snip, noiseSigma), convergedChi2Change: CONVERGED_CHI2_CHANGE },
+    automatic,
+    halfWidthDeg,
+    widestAuto,
   };
 }
 
-interface BackgroundLevel {
+export interface BackgroundLevel {
   snip: Float64Array;
   noiseSigma: Float64Array;
   noise: NoiseEstimate;
