@@ -65,7 +65,7 @@ let PYTHON = 'python3';
 const PYTHON_SCRIPT = join(ROOT, 'bench', 'python', 'whole_job_scipy.py');
 const RESULTS_FILE = join(ROOT, 'bench', 'results.json');
 const CLI = join(ROOT, 'bin', 'crystallog.js');
-const AREA_MODULES = ['read', 'process', 'crystal', 'library', 'match', 'scale', 'size', 'app', 'plot'];
+const AREA_MODULES = ['read', 'process', 'engine', 'crystal', 'library', 'match', 'scale', 'size', 'app', 'plot'];
 
 function parseArgs(argv: string[]): BenchConfig {
   const quick = argv.includes('--quick');

@@ -12,8 +12,10 @@ export interface NormalEquationsTarget {
   /**
    * χ² at `params` (the first `count` entries), filling `normal` (count × count, row-major, both triangles)
    * with JᵀWJ and `gradient` (count) with JᵀW·(data − model): the Gauss–Newton step δ solves N·δ = g.
+   * It may stop once χ² is known to reach `stopAt` and return any value ≥ stopAt, leaving normal and
+   * gradient unfinished (the solver then rejects the step and never reads them).
    */
-  evaluate(params: Float64Array, normal: Float64Array, gradient: Float64Array): number;
+  evaluate(params: Float64Array, normal: Float64Array, gradient: Float64Array, stopAt?: number): number;
 }
 
 export interface LevenbergMarquardtOptions {
@@ -137,9 +139,10 @@ export class LevenbergMarquardt {
         predicted += step[a] * (2 * gradient[a] - row);
       }
       if (!clipped && damping < GAUSS_NEWTON_DAMPING && predicted < absoluteTolerance) break;
-      // The trial's normal matrix goes to the spare buffers; they become the current ones only if it is accepted.
+      // The trial's normal matrix goes to the spare buffers; they become the current ones only if it is accepted
+      // (a trial that reaches the current χ² is rejected, so its evaluation may stop there).
       evaluations++;
-      const trialChi2 = target.evaluate(trial, this.spareNormal, this.spareGradient);
+      const trialChi2 = target.evaluate(trial, this.spareNormal, this.spareGradient, chi2);
       if (trialChi2 < chi2) {
         const chi2Before = chi2;
         const gain = (chi2 - trialChi2) / Math.max(chi2, 1e-300);

@@ -62,6 +62,34 @@ export function addPeak(setting: PeakFitSetting, target: Float64Array, p: Float6
   }
 }
 
+// lineAt's outputs besides the shape.
+const L_BEND = 0; // −8u·(mix·L² + (1 − mix)·ln2·G): d(shape)/du
+const L_LOR_MINUS_GAU = 1;
+const L_INV = 2; // 1/FWHM of the half dx lies in
+const L_U = 3;
+const L_SIDE = 4; // +1 on the low-angle half, −1 on the high-angle half
+const LINE_VALUES = 5;
+
+/**
+ * One line of a unit-height split pseudo-Voigt at dx from its centre (profiles.ts's splitPseudoVoigt):
+ * returns the shape, and into out its derivative by u = dx/FWHM(half) and the parts the chain rule needs.
+ */
+function lineAt(dx: number, invLow: number, invHigh: number, mix: number, out: Float64Array): number {
+  const low = dx < 0;
+  const inv = low ? invLow : invHigh;
+  const u = dx * inv;
+  const u2 = u * u;
+  const lor = 1 / (1 + 4 * u2);
+  const gau = u2 > GAUSS_CUT_U2 ? 0 : Math.exp(-FOUR_LN2 * u2);
+  const gaussShare = 1 - mix;
+  out[L_BEND] = -8 * u * (mix * lor * lor + gaussShare * LN2 * gau);
+  out[L_LOR_MINUS_GAU] = lor - gau;
+  out[L_INV] = inv;
+  out[L_U] = u;
+  out[L_SIDE] = low ? 1 : -1;
+  return mix * lor + gaussShare * gau;
+}
+
 /** One group's model in a workspace sized for the largest group so far (nothing allocated per point). */
 export class GroupModel implements NormalEquationsTarget {
   peakCount = 0;
@@ -79,9 +107,15 @@ export class GroupModel implements NormalEquationsTarget {
   private prep = new Float64Array(0);
   private activeBase = new Int32Array(0);
   private jac = new Float64Array(0);
+  private activePeak = new Int32Array(0);
+  private readonly line = new Float64Array(LINE_VALUES);
+  /** Edges of the runs of points with one fixed set of peaks (see evaluate). */
+  private edges = new Int32Array(0);
+  private readonly doublet: boolean;
 
   constructor(private readonly setting: PeakFitSetting) {
     this.others = new Float64Array(setting.x.length);
+    this.doublet = setting.lambda2 !== null;
   }
 
   /** Make ready for `peakCount` peaks at `params` on points [regionStart, regionEnd), each peak on its window within. */
@@ -100,6 +134,8 @@ export class GroupModel implements NormalEquationsTarget {
       this.lo = new Int32Array(size);
       this.hi = new Int32Array(size);
       this.prep = new Float64Array(size * PREP);
+      this.activePeak = new Int32Array(size);
+      this.edges = new Int32Array(2 * size + 2);
     }
     for (let k = 0; k < peakCount; k++) {
       const base = k * perPeak;
@@ -140,120 +176,335 @@ export class GroupModel implements NormalEquationsTarget {
     }
   }
 
-  /** χ² of the group at `params`, filling `normal` with JᵀWJ and `gradient` with JᵀW(y − model). */
-  evaluate(params: Float64Array, normal: Float64Array, gradient: Float64Array): number {
-    // An imported constant is read through its module binding at every use (measured: 5 % slower here), so
-    // the hot loop reads local copies.
-    const [posAt, heightAt, widthA, widthB, asymAt] = [POS, HEIGHT, WIDTH_A, WIDTH_B, ASYM];
-    const [fwhmAt, dFwhmDA, dFwhmDB, dEtaDA, dEtaDB] = [W_FWHM, W_DFWHM_DA, W_DFWHM_DB, W_DETA_DA, W_DETA_DB];
-    const [ln2, fourLn2, gaussCut] = [LN2, FOUR_LN2, GAUSS_CUT_U2];
+  /**
+   * χ² of the group at `params`, filling `normal` with JᵀWJ and `gradient` with JᵀW(y − model); stops early,
+   * returning a partial sum ≥ stopAt (normal and gradient then unfinished), once χ² is known to reach stopAt.
+   * The points are taken in runs between window edges, each with one fixed set of peaks: a run under no peak
+   * or (four parameters each) under one peak keeps its sums in locals; every cell still adds its terms point
+   * by point in the same order, so the result is the same to the bit as a point-by-point accumulation.
+   */
+  evaluate(params: Float64Array, normal: Float64Array, gradient: Float64Array, stopAt = Number.POSITIVE_INFINITY): number {
     this.prepare(params);
-    const { x, y, weight, background, perPeak, ratio } = this.setting;
-    const { others, prep, lo, hi, activeBase, jac } = this;
+    const { x, y, weight, background, perPeak } = this.setting;
+    const { others, lo, hi, activeBase, activePeak, jac } = this;
     const paramCount = this.paramCount;
-    const asymmetric = perPeak === 5;
-    const doublet = this.setting.lambda2 !== null;
-    const bgBase = this.peakCount * perPeak;
+    const peakCount = this.peakCount;
+    const middle = this.middle;
+    const bgBase = peakCount * perPeak;
     const offset = params[bgBase];
     const slope = params[bgBase + 1];
     normal.fill(0, 0, paramCount * paramCount);
     gradient.fill(0, 0, paramCount);
     fitWork.evaluations++;
-    for (let k = 0; k < this.peakCount; k++) fitWork.profilePoints += hi[k] - lo[k];
+    for (let k = 0; k < peakCount; k++) fitWork.profilePoints += hi[k] - lo[k];
+    const edgeCount = this.runEdges();
+    const edges = this.edges;
+    const bgRow = bgBase * paramCount;
+    const slopeRow = bgRow + paramCount;
+    // The background line's own cells and χ², summed in locals over all points.
     let chi2 = 0;
-    for (let i = this.first; i < this.last; i++) {
-      const xi = x[i];
-      const t = xi - this.middle;
-      let model = background[i] + others[i] + offset + slope * t;
-      let active = 0; // peaks whose windows hold this point; their derivatives in jac, perPeak each
-      for (let k = 0; k < this.peakCount; k++) {
-        if (i < lo[k] || i >= hi[k]) continue;
-        const base = k * perPeak;
-        const pr = k * PREP;
-        const height = params[base + heightAt];
-        const mix = prep[pr + P_MIX];
-        const invLow = prep[pr + P_INV_LOW];
-        const invHigh = prep[pr + P_INV_HIGH];
-        const gaussShare = 1 - mix;
-        // Kα1 component, then its Kα2 partner: shape, and d(shape)/du by the chain rule to each parameter
-        // (profiles.ts's splitPseudoVoigt and its derivatives written out: this loop is the fit's hot spot, and a
-        // kernel call per point, not inlined here, measured 11 % slower).
-        let dx = xi - params[base + posAt];
-        let inv = dx < 0 ? invLow : invHigh;
-        let u = dx * inv;
-        let u2 = u * u;
-        let lor = 1 / (1 + 4 * u2);
-        let gau = u2 > gaussCut ? 0 : Math.exp(-fourLn2 * u2);
-        let shape = mix * lor + gaussShare * gau;
-        let h = height;
-        model += h * shape;
-        let slopeTerm = -h * (-8 * u * (mix * lor * lor + gaussShare * ln2 * gau));
-        let dPos = slopeTerm * inv;
-        let dWidth = slopeTerm * u;
-        let dAsym = slopeTerm * u * (dx < 0 ? 1 : -1) * inv;
-        let dEta = h * (lor - gau);
-        let dHeight = shape;
-        if (doublet) {
-          h = ratio * height;
-          dx = xi - prep[pr + P_POS2];
-          inv = dx < 0 ? invLow : invHigh;
-          u = dx * inv;
-          u2 = u * u;
-          lor = 1 / (1 + 4 * u2);
-          gau = u2 > gaussCut ? 0 : Math.exp(-fourLn2 * u2);
-          shape = mix * lor + gaussShare * gau;
-          model += h * shape;
-          slopeTerm = -h * (-8 * u * (mix * lor * lor + gaussShare * ln2 * gau));
-          dPos += slopeTerm * inv * prep[pr + P_DPOS2];
-          dWidth += slopeTerm * u;
-          dAsym += slopeTerm * u * (dx < 0 ? 1 : -1) * inv;
-          dEta += h * (lor - gau);
-          dHeight += ratio * shape;
+    let nOffOff = 0;
+    let nSlopeOff = 0;
+    let nSlopeSlope = 0;
+    let gOff = 0;
+    let gSlope = 0;
+    for (let run = 0; run + 1 < edgeCount; run++) {
+      const from = edges[run];
+      const to = edges[run + 1];
+      let active = 0;
+      for (let k = 0; k < peakCount; k++) if (lo[k] <= from && from < hi[k]) activePeak[active++] = k;
+      if (active === 0) {
+        for (let i = from; i < to; i++) {
+          const t = x[i] - middle;
+          const residual = y[i] - (background[i] + others[i] + offset + slope * t);
+          const w = weight[i];
+          chi2 += w * residual * residual;
+          nOffOff += w;
+          nSlopeOff += w * t;
+          nSlopeSlope += w * t * t;
+          gOff += w * residual;
+          gSlope += w * t * residual;
+          if (chi2 >= stopAt) return chi2;
         }
-        dWidth *= prep[pr + P_INV_FWHM];
-        dEta *= prep[pr + P_DMIX];
-        const j = active * perPeak;
-        activeBase[active++] = base;
-        jac[j + posAt] = dPos;
-        jac[j + heightAt] = dHeight;
-        jac[j + widthA] = dWidth * prep[pr + dFwhmDA] + dEta * prep[pr + dEtaDA];
-        jac[j + widthB] = dWidth * prep[pr + dFwhmDB] + dEta * prep[pr + dEtaDB];
-        if (asymmetric) jac[j + asymAt] = dAsym * prep[pr + fwhmAt];
-      }
-      const residual = y[i] - model;
-      const w = weight[i];
-      chi2 += w * residual * residual;
-      // Lower triangle (row ≥ column) block by block: peaks in increasing order, the background slots last.
-      const bgRow = bgBase * paramCount;
-      const slopeRow = bgRow + paramCount;
-      for (let a = 0; a < active; a++) {
-        const ja = a * perPeak;
-        const baseA = activeBase[a];
-        for (let r = 0; r < perPeak; r++) {
-          const wr = w * jac[ja + r];
-          const row = (baseA + r) * paramCount;
-          gradient[baseA + r] += wr * residual;
-          for (let b = 0; b < a; b++) {
-            const jb = b * perPeak;
-            const cell = row + activeBase[b];
-            normal[cell] += wr * jac[jb];
-            normal[cell + 1] += wr * jac[jb + 1];
-            normal[cell + 2] += wr * jac[jb + 2];
-            normal[cell + 3] += wr * jac[jb + 3];
-            if (asymmetric) normal[cell + 4] += wr * jac[jb + 4];
+      } else if (active === 1 && perPeak === 4) {
+        // One peak: its 4×4 block, its background-row cells and its gradient in locals for the run.
+        const k = activePeak[0];
+        const b = k * 4;
+        const r0 = b * paramCount + b;
+        const r1 = r0 + paramCount;
+        const r2 = r1 + paramCount;
+        const r3 = r2 + paramCount;
+        let n00 = normal[r0];
+        let n10 = normal[r1];
+        let n11 = normal[r1 + 1];
+        let n20 = normal[r2];
+        let n21 = normal[r2 + 1];
+        let n22 = normal[r2 + 2];
+        let n30 = normal[r3];
+        let n31 = normal[r3 + 1];
+        let n32 = normal[r3 + 2];
+        let n33 = normal[r3 + 3];
+        let o0 = normal[bgRow + b];
+        let o1 = normal[bgRow + b + 1];
+        let o2 = normal[bgRow + b + 2];
+        let o3 = normal[bgRow + b + 3];
+        let s0 = normal[slopeRow + b];
+        let s1 = normal[slopeRow + b + 1];
+        let s2 = normal[slopeRow + b + 2];
+        let s3 = normal[slopeRow + b + 3];
+        let g0 = gradient[b];
+        let g1 = gradient[b + 1];
+        let g2 = gradient[b + 2];
+        let g3 = gradient[b + 3];
+        for (let i = from; i < to; i++) {
+          const xi = x[i];
+          const t = xi - middle;
+          const model = this.peakAt(xi, k, params, background[i] + others[i] + offset + slope * t, 0);
+          const j0 = jac[0];
+          const j1 = jac[1];
+          const j2 = jac[2];
+          const j3 = jac[3];
+          const residual = y[i] - model;
+          const w = weight[i];
+          chi2 += w * residual * residual;
+          const w0 = w * j0;
+          g0 += w0 * residual;
+          n00 += w0 * j0;
+          o0 += w0;
+          s0 += w0 * t;
+          const w1 = w * j1;
+          g1 += w1 * residual;
+          n10 += w1 * j0;
+          n11 += w1 * j1;
+          o1 += w1;
+          s1 += w1 * t;
+          const w2 = w * j2;
+          g2 += w2 * residual;
+          n20 += w2 * j0;
+          n21 += w2 * j1;
+          n22 += w2 * j2;
+          o2 += w2;
+          s2 += w2 * t;
+          const w3 = w * j3;
+          g3 += w3 * residual;
+          n30 += w3 * j0;
+          n31 += w3 * j1;
+          n32 += w3 * j2;
+          n33 += w3 * j3;
+          o3 += w3;
+          s3 += w3 * t;
+          nOffOff += w;
+          nSlopeOff += w * t;
+          nSlopeSlope += w * t * t;
+          gOff += w * residual;
+          gSlope += w * t * residual;
+          if (chi2 >= stopAt) return chi2;
+        }
+        normal[r0] = n00;
+        normal[r1] = n10;
+        normal[r1 + 1] = n11;
+        normal[r2] = n20;
+        normal[r2 + 1] = n21;
+        normal[r2 + 2] = n22;
+        normal[r3] = n30;
+        normal[r3 + 1] = n31;
+        normal[r3 + 2] = n32;
+        normal[r3 + 3] = n33;
+        normal[bgRow + b] = o0;
+        normal[bgRow + b + 1] = o1;
+        normal[bgRow + b + 2] = o2;
+        normal[bgRow + b + 3] = o3;
+        normal[slopeRow + b] = s0;
+        normal[slopeRow + b + 1] = s1;
+        normal[slopeRow + b + 2] = s2;
+        normal[slopeRow + b + 3] = s3;
+        gradient[b] = g0;
+        gradient[b + 1] = g1;
+        gradient[b + 2] = g2;
+        gradient[b + 3] = g3;
+      } else {
+        for (let a = 0; a < active; a++) activeBase[a] = activePeak[a] * perPeak;
+        for (let i = from; i < to; i++) {
+          const xi = x[i];
+          const t = xi - middle;
+          let model = background[i] + others[i] + offset + slope * t;
+          for (let a = 0; a < active; a++) model = this.peakAt(xi, activePeak[a], params, model, a * perPeak);
+          const residual = y[i] - model;
+          const w = weight[i];
+          chi2 += w * residual * residual;
+          // Lower triangle (row ≥ column) block by block: peaks in increasing order.
+          if (perPeak === 4) {
+            this.addPoint4(normal, gradient, active, w, residual, t, bgRow, slopeRow);
+          } else for (let a = 0; a < active; a++) {
+            const ja = a * perPeak;
+            const baseA = activeBase[a];
+            for (let r = 0; r < perPeak; r++) {
+              const wr = w * jac[ja + r];
+              const row = (baseA + r) * paramCount;
+              gradient[baseA + r] += wr * residual;
+              for (let c = 0; c < a; c++) {
+                const jb = c * perPeak;
+                const cell = row + activeBase[c];
+                normal[cell] += wr * jac[jb];
+                normal[cell + 1] += wr * jac[jb + 1];
+                normal[cell + 2] += wr * jac[jb + 2];
+                normal[cell + 3] += wr * jac[jb + 3];
+                if (perPeak === 5) normal[cell + 4] += wr * jac[jb + 4];
+              }
+              for (let c = 0; c <= r; c++) normal[row + baseA + c] += wr * jac[ja + c];
+              normal[bgRow + baseA + r] += wr;
+              normal[slopeRow + baseA + r] += wr * t;
+            }
           }
-          for (let c = 0; c <= r; c++) normal[row + baseA + c] += wr * jac[ja + c];
-          normal[bgRow + baseA + r] += wr;
-          normal[slopeRow + baseA + r] += wr * t;
+          nOffOff += w;
+          nSlopeOff += w * t;
+          nSlopeSlope += w * t * t;
+          gOff += w * residual;
+          gSlope += w * t * residual;
+          if (chi2 >= stopAt) return chi2;
         }
       }
-      normal[bgRow + bgBase] += w;
-      normal[slopeRow + bgBase] += w * t;
-      normal[slopeRow + bgBase + 1] += w * t * t;
-      gradient[bgBase] += w * residual;
-      gradient[bgBase + 1] += w * t * residual;
     }
+    normal[bgRow + bgBase] = nOffOff;
+    normal[slopeRow + bgBase] = nSlopeOff;
+    normal[slopeRow + bgBase + 1] = nSlopeSlope;
+    gradient[bgBase] = gOff;
+    gradient[bgBase + 1] = gSlope;
     for (let r = 0; r < paramCount; r++) for (let c = r + 1; c < paramCount; c++) normal[r * paramCount + c] = normal[c * paramCount + r];
     return chi2;
+  }
+
+  /**
+   * One point's terms of the lower triangle (row ≥ column) for `active` peaks of four parameters each, their
+   * derivatives in jac (in activeBase's order): each peak's row block against the peaks before it and itself,
+   * its background-line cells and its gradient.
+   */
+  private addPoint4(normal: Float64Array, gradient: Float64Array, active: number, w: number, residual: number, t: number, bgRow: number, slopeRow: number): void {
+    const { jac, activeBase, paramCount } = this;
+    for (let a = 0; a < active; a++) {
+      const ja = a * 4;
+      const baseA = activeBase[a];
+      const a0 = jac[ja];
+      const a1 = jac[ja + 1];
+      const a2 = jac[ja + 2];
+      const a3 = jac[ja + 3];
+      const w0 = w * a0;
+      const w1 = w * a1;
+      const w2 = w * a2;
+      const w3 = w * a3;
+      const row0 = baseA * paramCount;
+      const row1 = row0 + paramCount;
+      const row2 = row1 + paramCount;
+      const row3 = row2 + paramCount;
+      for (let c = 0; c < a; c++) {
+        const jb = c * 4;
+        const col = activeBase[c];
+        const b0 = jac[jb];
+        const b1 = jac[jb + 1];
+        const b2 = jac[jb + 2];
+        const b3 = jac[jb + 3];
+        normal[row0 + col] += w0 * b0;
+        normal[row0 + col + 1] += w0 * b1;
+        normal[row0 + col + 2] += w0 * b2;
+        normal[row0 + col + 3] += w0 * b3;
+        normal[row1 + col] += w1 * b0;
+        normal[row1 + col + 1] += w1 * b1;
+        normal[row1 + col + 2] += w1 * b2;
+        normal[row1 + col + 3] += w1 * b3;
+        normal[row2 + col] += w2 * b0;
+        normal[row2 + col + 1] += w2 * b1;
+        normal[row2 + col + 2] += w2 * b2;
+        normal[row2 + col + 3] += w2 * b3;
+        normal[row3 + col] += w3 * b0;
+        normal[row3 + col + 1] += w3 * b1;
+        normal[row3 + col + 2] += w3 * b2;
+        normal[row3 + col + 3] += w3 * b3;
+      }
+      normal[row0 + baseA] += w0 * a0;
+      normal[row1 + baseA] += w1 * a0;
+      normal[row1 + baseA + 1] += w1 * a1;
+      normal[row2 + baseA] += w2 * a0;
+      normal[row2 + baseA + 1] += w2 * a1;
+      normal[row2 + baseA + 2] += w2 * a2;
+      normal[row3 + baseA] += w3 * a0;
+      normal[row3 + baseA + 1] += w3 * a1;
+      normal[row3 + baseA + 2] += w3 * a2;
+      normal[row3 + baseA + 3] += w3 * a3;
+      normal[bgRow + baseA] += w0;
+      normal[bgRow + baseA + 1] += w1;
+      normal[bgRow + baseA + 2] += w2;
+      normal[bgRow + baseA + 3] += w3;
+      normal[slopeRow + baseA] += w0 * t;
+      normal[slopeRow + baseA + 1] += w1 * t;
+      normal[slopeRow + baseA + 2] += w2 * t;
+      normal[slopeRow + baseA + 3] += w3 * t;
+      gradient[baseA] += w0 * residual;
+      gradient[baseA + 1] += w1 * residual;
+      gradient[baseA + 2] += w2 * residual;
+      gradient[baseA + 3] += w3 * residual;
+    }
+  }
+
+  /** The sorted distinct edges of the runs: first, last and every window's ends, into `edges`; returns their count. */
+  private runEdges(): number {
+    const { edges, lo, hi } = this;
+    let count = 0;
+    const insert = (at: number): void => {
+      let j = count;
+      while (j > 0 && edges[j - 1] > at) j--;
+      if (j > 0 && edges[j - 1] === at) return;
+      edges.copyWithin(j + 1, j, count);
+      edges[j] = at;
+      count++;
+    };
+    insert(this.first);
+    insert(this.last);
+    for (let k = 0; k < this.peakCount; k++) {
+      insert(lo[k]);
+      insert(hi[k]);
+    }
+    return count;
+  }
+
+  /**
+   * `model` plus peak k (Kα1 and Kα2 partner) at xi, its derivatives by the peak's parameters into
+   * jac[at …]: profiles.ts's splitPseudoVoigt and its derivatives by u (lineAt), by the chain rule to each parameter.
+   */
+  private peakAt(xi: number, k: number, params: Float64Array, model: number, at: number): number {
+    const { perPeak, ratio } = this.setting;
+    const { prep, jac, line } = this;
+    const base = k * perPeak;
+    const pr = k * PREP;
+    const height = params[base + HEIGHT];
+    const mix = prep[pr + P_MIX];
+    const invLow = prep[pr + P_INV_LOW];
+    const invHigh = prep[pr + P_INV_HIGH];
+    let shape = lineAt(xi - params[base + POS], invLow, invHigh, mix, line);
+    model += height * shape;
+    let slopeTerm = -height * line[L_BEND];
+    let dPos = slopeTerm * line[L_INV];
+    let dWidth = slopeTerm * line[L_U];
+    let dAsym = perPeak === 5 ? dWidth * line[L_SIDE] * line[L_INV] : 0;
+    let dEta = height * line[L_LOR_MINUS_GAU];
+    let dHeight = shape;
+    if (this.doublet) {
+      const h = ratio * height;
+      shape = lineAt(xi - prep[pr + P_POS2], invLow, invHigh, mix, line);
+      model += h * shape;
+      slopeTerm = -h * line[L_BEND];
+      dPos += slopeTerm * line[L_INV] * prep[pr + P_DPOS2];
+      dWidth += slopeTerm * line[L_U];
+      if (perPeak === 5) dAsym += slopeTerm * line[L_U] * line[L_SIDE] * line[L_INV];
+      dEta += h * line[L_LOR_MINUS_GAU];
+      dHeight += ratio * shape;
+    }
+    dWidth *= prep[pr + P_INV_FWHM];
+    dEta *= prep[pr + P_DMIX];
+    jac[at + POS] = dPos;
+    jac[at + HEIGHT] = dHeight;
+    jac[at + WIDTH_A] = dWidth * prep[pr + W_DFWHM_DA] + dEta * prep[pr + W_DETA_DA];
+    jac[at + WIDTH_B] = dWidth * prep[pr + W_DFWHM_DB] + dEta * prep[pr + W_DETA_DB];
+    if (perPeak === 5) jac[at + ASYM] = dAsym * prep[pr + W_FWHM];
+    return model;
   }
 }

@@ -8,11 +8,11 @@ import type { Wavelength } from '../model/wavelengths.js';
  * and the background is added back, so the background itself is not scaled.
  * Returns y unchanged (a copy) for a single-line wavelength.
  */
-export function stripKAlpha2(x: Float64Array, y: Float64Array, wavelength: Wavelength, background?: Float64Array): Float64Array {
+export function stripKAlpha2(x: Float64Array, y: Float64Array, wavelength: Wavelength, background?: Float64Array, sources?: Float64Array): Float64Array {
   const n = y.length;
   const out = new Float64Array(n);
   for (let i = 0; i < n; i++) out[i] = background ? y[i] - background[i] : y[i];
-  rachinger(x, out, wavelength, -wavelength.ratio);
+  rachinger(x, out, wavelength, -wavelength.ratio, sources);
   if (background) for (let i = 0; i < n; i++) out[i] += background[i];
   return out;
 }
@@ -27,22 +27,33 @@ export function partnerTwoThetaDeg(twoThetaDeg: number, lambda1: number, lambda2
  * Variance of the stripped intensities, given the variance of the input at each point: the recursion
  * adds ratio² times the (interpolated) variance of the stripped value that was subtracted.
  */
-export function strippedVariance(x: Float64Array, variance: Float64Array, wavelength: Wavelength): Float64Array {
+export function strippedVariance(x: Float64Array, variance: Float64Array, wavelength: Wavelength, sources?: Float64Array): Float64Array {
   const out = variance.slice();
-  rachinger(x, out, wavelength, wavelength.ratio * wavelength.ratio);
+  rachinger(x, out, wavelength, wavelength.ratio * wavelength.ratio, sources);
   return out;
 }
 
-/** In place, upwards in 2θ: v[i] += factor · v(2θ of the Kα1 line whose Kα2 partner is at x[i]). */
-function rachinger(x: Float64Array, v: Float64Array, wavelength: Wavelength, factor: number): void {
-  const n = v.length;
+/**
+ * 2θ of the Kα1 line whose Kα2 partner lies at each x[i] (same d: sinθ1 = (λ1/λ2)·sinθ2), for the strippings of
+ * one pattern to share; null for a single-line wavelength.
+ */
+export function kAlpha1Sources(x: Float64Array, wavelength: Wavelength): Float64Array | null {
   const { lambda1, lambda2 } = wavelength;
-  if (lambda2 === null || factor === 0 || n < 2) return;
+  if (lambda2 === null) return null;
   const lambdaRatio = lambda1 / lambda2;
+  const sources = new Float64Array(x.length);
+  for (let i = 0; i < x.length; i++) sources[i] = (2 * Math.asin(lambdaRatio * Math.sin((x[i] * DEG_TO_RAD) / 2))) / DEG_TO_RAD;
+  return sources;
+}
+
+/** In place, upwards in 2θ: v[i] += factor · v(2θ of the Kα1 line whose Kα2 partner is at x[i]); sources from kAlpha1Sources (made here if not given). */
+function rachinger(x: Float64Array, v: Float64Array, wavelength: Wavelength, factor: number, given?: Float64Array): void {
+  const n = v.length;
+  if (wavelength.lambda2 === null || factor === 0 || n < 2) return;
+  const sources = given ?? (kAlpha1Sources(x, wavelength) as Float64Array);
   let j = 0; // index with x[j] <= source 2θ < x[j + 1], moves monotonically upwards
   for (let i = 1; i < n; i++) {
-    // Same d: sinθ1 = (λ1/λ2)·sinθ2.
-    const source = (2 * Math.asin(lambdaRatio * Math.sin((x[i] * DEG_TO_RAD) / 2))) / DEG_TO_RAD;
+    const source = sources[i];
     if (source < x[0]) continue;
     while (j + 1 < i && x[j + 1] <= source) j++;
     if (j + 1 >= i) continue; // partner closer than one step: nothing resolvable to strip

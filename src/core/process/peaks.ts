@@ -1,13 +1,13 @@
 import { InputError } from '../errors.js';
 import type { Pattern } from '../model/pattern.js';
 import type { Wavelength } from '../model/wavelengths.js';
-import { fitPeakGroups } from './fit.js';
-import { partnerTwoThetaDeg, strippedVariance, stripKAlpha2 } from './kalpha2.js';
+import { fitPeakGroups, type PeakAcceptance } from './fit.js';
+import { kAlpha1Sources, partnerTwoThetaDeg, strippedVariance, stripKAlpha2 } from './kalpha2.js';
 import { findLocalMaxima } from './local-maxima.js';
 import { savitzkyGolay } from './savitzky-golay.js';
 import { DEFAULT_CLIPPING_HALF_WIDTH_DEG, liftToNoiseMedian, snipBackground } from './snip.js';
 import { lowerBound } from '../model/sorted.js';
-import type { NoiseEstimate, NoiseModel, PeakGuess, PeakSearchOptions, PeakSearchResult } from '../model/peak.js';
+import type { NoiseEstimate, NoiseModel, PeakFitOptions, PeakGuess, PeakSearchOptions, PeakSearchResult } from '../model/peak.js';
 
 /**
  * Peak search and fit. The pattern is smoothed (Savitzky–Golay), its background taken by SNIP, the
@@ -68,6 +68,42 @@ const CLEAR_PEAK_SIGMA = 10;
 const CONVERGED_CHI2_CHANGE = 0.01;
 
 export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSearchResult {
+  const search = searchFitInputs(pattern, options);
+  const { x } = pattern;
+  const n = x.length;
+  const { snip, noiseSigma } = search.level;
+  const fit = fitPeakGroups(pattern, snip, search.guesses, search.fitOptions, search.acceptance);
+  // The fitted widths are better than the search's: if they ask for a much wider window, search and fit again.
+  if (search.automatic) {
+    const wanted = Math.min(CLIPPING_WIDTHS_PER_FWHM * typicalBroadWidth(fit.peaks.filter((p) => !p.overlapped)), search.widestAuto);
+    if (wanted > REFIT_MARGIN * search.halfWidthDeg) return findPeaks(pattern, { ...options, backgroundHalfWidthDeg: wanted });
+  }
+  return {
+    peaks: fit.peaks,
+    background: fit.background,
+    model: fit.model,
+    wavelength: options.wavelength,
+    points: n,
+    smoothed: search.smoothed,
+    noiseSigma,
+    noise: search.level.noise,
+  };
+}
+
+/** What the search hands its profile fit: background, σ and noise model, the candidates, and the fit's options. */
+export interface SearchFitInputs {
+  level: BackgroundLevel;
+  smoothed: Float64Array;
+  guesses: PeakGuess[];
+  fitOptions: PeakFitOptions;
+  acceptance: PeakAcceptance;
+  automatic: boolean;
+  halfWidthDeg: number;
+  widestAuto: number;
+}
+
+/** The search up to its profile fit: smoothing, background, Kα2 stripping, candidates (also for timing the fit alone). */
+export function searchFitInputs(pattern: Pattern, options: PeakSearchOptions): SearchFitInputs {
   const { x, y } = pattern;
   const n = x.length;
   const file = pattern.source.file;
@@ -122,27 +158,15 @@ export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSea
     guesses = bounded.guesses;
   }
   const { snip, noiseSigma } = level;
-  const fit = fitPeakGroups(
-    pattern,
-    snip,
-    guesses,
-    { ...options, pruneBelowSigma: options.pruneBelowSigma ?? thresholdSigma, minFwhmDeg: options.minFwhmDeg ?? MIN_FWHM_STEPS * meanStep, maxFwhmDeg: bounded.ceiling },
-    { thresholdSigma, weightSigma: model === 'pattern' ? undefined : smoothedSigma(smoothed, snip, noiseSigma), convergedChi2Change: CONVERGED_CHI2_CHANGE },
-  );
-  // The fitted widths are better than the search's: if they ask for a much wider window, search and fit again.
-  if (automatic) {
-    const wanted = Math.min(CLIPPING_WIDTHS_PER_FWHM * typicalBroadWidth(fit.peaks.filter((p) => !p.overlapped)), widestAuto);
-    if (wanted > REFIT_MARGIN * halfWidthDeg) return findPeaks(pattern, { ...options, backgroundHalfWidthDeg: wanted });
-  }
   return {
-    peaks: fit.peaks,
-    background: fit.background,
-    model: fit.model,
-    wavelength: options.wavelength,
-    points: n,
+    level,
     smoothed,
-    noiseSigma,
-    noise: level.noise,
+    guesses,
+    fitOptions: { ...options, pruneBelowSigma: options.pruneBelowSigma ?? thresholdSigma, minFwhmDeg: options.minFwhmDeg ?? MIN_FWHM_STEPS * meanStep, maxFwhmDeg: bounded.ceiling },
+    acceptance: { thresholdSigma, weightSigma: model === 'pattern' ? undefined : smoothedSigma(smoothed, snip, noiseSigma), convergedChi2Change: CONVERGED_CHI2_CHANGE },
+    automatic,
+    halfWidthDeg,
+    widestAuto,
   };
 }
 
@@ -152,7 +176,7 @@ interface NoiseInput {
   notCounts: string | null;
 }
 
-interface BackgroundLevel {
+export interface BackgroundLevel {
   snip: Float64Array;
   noiseSigma: Float64Array;
   noise: NoiseEstimate;
@@ -174,7 +198,9 @@ function candidates(pattern: Pattern, options: PeakSearchOptions, smoothed: Floa
   const n = x.length;
   const net = new Float64Array(n);
   for (let i = 0; i < n; i++) net[i] = smoothed[i] - snip[i];
-  const kAlpha1 = stripKAlpha2(x, net, options.wavelength);
+  // One Kα1 source angle per point for both strippings.
+  const sources = kAlpha1Sources(x, options.wavelength) ?? undefined;
+  const kAlpha1 = stripKAlpha2(x, net, options.wavelength, undefined, sources);
   // Above its surroundings, a peak is judged against the noise at its own level (all counts there, and
   // the noise the Kα2 stripping carried over from the Kα1 intensity it subtracted).
   const levelVariance = new Float64Array(n);
@@ -182,7 +208,7 @@ function candidates(pattern: Pattern, options: PeakSearchOptions, smoothed: Floa
     const level = snip[i] > 0 ? Math.max(smoothed[i], snip[i]) / snip[i] : 1;
     levelVariance[i] = noiseSigma[i] * noiseSigma[i] * level;
   }
-  const strippedLevelVariance = strippedVariance(x, levelVariance, options.wavelength);
+  const strippedLevelVariance = strippedVariance(x, levelVariance, options.wavelength, sources);
   const minHeight = new Float64Array(n);
   const minProminence = new Float64Array(n);
   for (let i = 0; i < n; i++) {

@@ -58,14 +58,11 @@ export function snipBackground(x: Float64Array, y: Float64Array, options: SnipOp
     // 2p ≤ n − 1 (p never exceeds a point's distance to either end), so the three ranges do not overlap.
     for (let i = 0; i < p; i++) next[i] = v[i];
     for (let i = n - p; i < n; i++) next[i] = v[i];
+    // Branch-free clip: v ≥ 0 is never NaN, so min(mean, here) is the clipping rule's `mean < here ? mean : here`
+    // (the one branch left, on the window, follows the grid, not the data).
     for (let i = p; i < n - p; i++) {
       const here = v[i];
-      if (windowPoints[i] < p) {
-        next[i] = here;
-        continue;
-      }
-      const mean = 0.5 * (v[i - p] + v[i + p]);
-      next[i] = mean < here ? mean : here;
+      next[i] = windowPoints[i] < p ? here : Math.min(0.5 * (v[i - p] + v[i + p]), here);
     }
     const swap = v;
     v = next;
