@@ -37,7 +37,7 @@ export interface AnalysisContext {
   /** SHA-256 over the names and versions of the references: which library state gave these results. */
   libraryDigest: string;
   /** The references by name (built once, not per pattern). */
-  referenceByName: ReadonlyMap<string, StoredReference>;
+  referenceByName: ReferenceLookup;
 }
 
 export interface ReferenceVersion {
@@ -91,8 +91,34 @@ export function createAnalysisContext(
     instrument,
     settings: full,
     libraryDigest: index?.libraryDigest ?? libraryDigest(references),
-    referenceByName: new Map(references.map((r) => [r.name, r])),
+    referenceByName: new ReferencesByName(references),
   };
+}
+
+/** Finds a reference by its exact name. */
+export interface ReferenceLookup {
+  get(name: string): StoredReference | undefined;
+}
+
+/** Scans below this many lookups, then builds a map (a single match asks for a few names out of 100 000). */
+const SCANS_BEFORE_MAP = 16;
+
+/** References by exact name: the first few lookups scan the list, later ones use a map built once. */
+export class ReferencesByName implements ReferenceLookup {
+  private map: Map<string, StoredReference> | null = null;
+  private scans = 0;
+  constructor(private readonly references: readonly StoredReference[]) {}
+  get(name: string): StoredReference | undefined {
+    if (this.map) return this.map.get(name);
+    if (this.scans++ < SCANS_BEFORE_MAP) {
+      // Scanned from the end: with equal names the last wins, as in a map built from the list.
+      for (let i = this.references.length - 1; i >= 0; i--) if (this.references[i]!.name === name) return this.references[i];
+      return undefined;
+    }
+    this.map = new Map();
+    for (const r of this.references) this.map.set(r.name, r);
+    return this.map.get(name);
+  }
 }
 
 /** A named target must be in the library (names compare without regard to case). */

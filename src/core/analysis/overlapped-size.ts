@@ -4,6 +4,7 @@
  * present phase's lines at the positions of its refined cell and the sample's one shift.
  */
 import { dSpacing } from '../crystal/metric.js';
+import type { ReferenceLookup } from './analyse.js';
 import type { MatchResult, PhaseMatch } from '../match/types.js';
 import type { Pattern } from '../model/pattern.js';
 import type { PeakSearchResult } from '../model/peak.js';
@@ -23,7 +24,7 @@ export interface OverlappedSizeInput {
   match: MatchResult;
   size: SizeResult;
   sized: StoredReference;
-  referenceByName: ReadonlyMap<string, StoredReference>;
+  referenceByName: ReferenceLookup;
   instrument: InstrumentProfile | null;
   wavelength: Wavelength;
 }
