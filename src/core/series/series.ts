@@ -175,14 +175,14 @@ export function analyzeSeries(samples: readonly SeriesSample[], options: SeriesO
     samples.map((s) => {
       const quoted = quotedSize(s.size);
       return {
-      label: s.label,
-      sizeNm: quoted?.sizeNm ?? null,
-      sizeSigmaNm: quoted ? (quoted.sizeSigmaFitNm ?? quoted.sizeSigmaNm) : null,
-      lowerBound: quoted?.limit === 'instrument',
-      phase: s.size.settings.phase?.name ?? null,
-      reflections: reflectionSizes(s.size),
-      replicateGroup: s.replicateGroup ?? null,
-      order: orderOf(s),
+        label: s.label,
+        sizeNm: quoted?.sizeNm ?? null,
+        sizeSigmaNm: quoted ? (quoted.sizeSigmaFitNm ?? quoted.sizeSigmaNm) : null,
+        lowerBound: quoted?.limit === 'instrument',
+        phase: s.size.settings.phase?.name ?? null,
+        reflections: reflectionSizes(s.size),
+        replicateGroup: s.replicateGroup ?? null,
+        order: orderOf(s),
       };
     }),
     {

@@ -22,6 +22,7 @@ import { FOUR_LN2, thompsonCoxHastings, thompsonCoxHastingsWithDerivatives } fro
 import { partnerTwoThetaDeg } from '../process/kalpha2.js';
 import type { InstrumentProfile } from './instrument.js';
 import { instrumentWidthAt } from './instrument-width.js';
+import { scherrerBreadthDeg } from './scherrer.js';
 import { PHI_GAUSSIAN, PHI_LORENTZIAN, voigtParts, type BreadthKind } from './voigt.js';
 
 export interface GroupFitPhase {
@@ -84,9 +85,6 @@ const MAX_RELATIVE_SIGMA = 0.5;
 /** The fit may move each phase's cell by this relative amount and the zero by this much (degrees 2θ) from where the match put them. */
 const MAX_CELL_CHANGE = 0.003;
 const MAX_ZERO_DEG = 0.05;
-/** Height of a unit-area Gaussian times its FWHM. */
-const GAUSS_NORM = 2 * Math.sqrt(Math.LN2 / Math.PI);
-
 /** One phase's profile at the fitted points and its derivatives by ln D, by the cell change and by the zero offset. */
 interface PhaseColumns {
   profile: Float64Array;
@@ -99,7 +97,6 @@ interface PreparedLine {
   phase: number;
   twoThetaDeg: number;
   intensity: number;
-  cosTheta: number;
   /** The instrument's Gaussian and Lorentzian FWHM there, degrees 2θ. */
   gaussianFwhm: number;
   lorentzianFwhm: number;
@@ -125,7 +122,6 @@ export function constrainedGroupFit(input: GroupFitInput): GroupFitOutcome {
         phase: p,
         twoThetaDeg: line.twoThetaDeg,
         intensity: line.intensity,
-        cosTheta: Math.cos((line.twoThetaDeg / 2) * DEG_TO_RAD),
         gaussianFwhm: parts.gaussian * PHI_GAUSSIAN,
         lorentzianFwhm: parts.lorentzian * PHI_LORENTZIAN,
         partnerDeg: wavelength.lambda2 ? partnerTwoThetaDeg(line.twoThetaDeg, lambda, wavelength.lambda2) : Number.NaN,
@@ -133,8 +129,9 @@ export function constrainedGroupFit(input: GroupFitInput): GroupFitOutcome {
       });
     }
   });
+  // The sample's Lorentzian FWHM: the Scherrer breadth of the stated kind (a Lorentzian's FWHM is 2/π of its integral breadth).
   const sizeFwhm = (line: PreparedLine, sizeNm: number): number => {
-    const w = (k * lambda) / (sizeNm * 10 * line.cosTheta) / DEG_TO_RAD;
+    const w = scherrerBreadthDeg(sizeNm, line.twoThetaDeg, lambda, k);
     return breadth === 'fwhm' ? w : w * PHI_LORENTZIAN;
   };
   const profileOf = (line: PreparedLine, sizeNm: number) => thompsonCoxHastings(line.gaussianFwhm, line.lorentzianFwhm + sizeFwhm(line, sizeNm));
@@ -164,7 +161,10 @@ export function constrainedGroupFit(input: GroupFitInput): GroupFitOutcome {
   const index: number[] = [];
   const windowOf: number[] = [];
   windows.forEach(([a, b], w) => {
-    for (let i = 0; i < x.length; i++) if (x[i] >= a && x[i] <= b) (index.push(i), windowOf.push(w));
+    for (let i = lowerBound(x, a); i < x.length && x[i] <= b; i++) {
+      index.push(i);
+      windowOf.push(w);
+    }
   });
   const n = index.length;
   const P = phases.length;
@@ -218,8 +218,8 @@ export function constrainedGroupFit(input: GroupFitInput): GroupFitOutcome {
   };
   /** Add area × a unit-area pseudo-Voigt centred at `centre`, with its derivatives, over the points within reach (px ascending). */
   const addLine = (out: PhaseColumns, centre: number, area: number, fwhm: number, eta: number, dFwhm: number, dEta: number, dCentreDCell: number, reach: number): void => {
-    const lorentzNorm = 2 / (Math.PI * fwhm);
-    const gaussNorm = GAUSS_NORM / fwhm;
+    const lorentzNorm = PHI_LORENTZIAN / fwhm;
+    const gaussNorm = PHI_GAUSSIAN / fwhm;
     for (let q = lowerBound(px, centre - reach); q < n && px[q] < centre + reach; q++) {
       const u = (px[q] - centre) / fwhm;
       const u2 = u * u;
