@@ -31,7 +31,8 @@ export function reportInput(workspace: Workspace, appVersion: string, paper: Pap
       unexplainedCount: summary.unexplainedCount,
       sizeNm: summary.sizeNm,
       sizeSigmaNm: summary.sizeSigmaNm,
-      sizeLimit: result?.size.scherrer.limit ?? null,
+      // A size from the constrained group fit (every line overlapped) is labelled as such beside the number.
+      sizeLimit: summary.sizeMethod === 'constrained-group-fit' ? 'constrained group fit: every line overlaps another phase' : (result?.size.scherrer.limit ?? null),
       whSizeNm: wh?.sizeNm ?? null,
       whStrain: typeof wh?.strain === 'number' ? wh.strain : null,
       whStrainDetected: wh?.strainDetected ?? true,

@@ -280,6 +280,8 @@ describe('the app in a real browser (browser mode, headless Chromium)', () => {
     expect(html).toContain('lead-containing');
     expect(html).toMatch(/\d+\.\d\d° \(d \d+\.\d\d Å, methylammonium lead iodide monohydrate\)/);
     expect(html).toMatch(/Crystallog \d+\.\d+\.\d+/);
+    // The humid-air samples whose every target line overlaps carry the group fit's size, labelled so.
+    expect(html).toMatch(/\d+\.\d ± \d+\.\d nm \(constrained group fit: every line overlaps another phase\)/);
     await shot('10-report');
     const copy = join(SCREENSHOTS, 'exported-report.html');
     writeFileSync(copy, html);

@@ -153,7 +153,7 @@ table{table-layout:fixed}td,th{overflow-wrap:anywhere;hyphens:auto}table.samples
 <p class="small">Crystallog ${esc(input.appVersion)} · report made ${esc(input.createdAt)}</p>
 ${input.demo ? `<div class="truth"><strong>Demo project: every pattern in it is simulated, not measured.</strong>${input.truth ? `<br>${esc(input.truth)}` : ''}</div>` : ''}
 <h2>Samples</h2>
-<table class="samples">${columns([13, 10, 6, 12, 17, 17, 12.5, 12.5])}<tr><th>Sample</th><th>Variant</th><th>Time, temp.</th><th>Verdict</th><th>Phase (verdict, score)</th><th>Low-angle extra peaks</th><th>Scherrer size</th><th>Williamson–<wbr>Hall</th></tr>
+<table class="samples">${columns([13, 10, 6, 12, 17, 17, 12.5, 12.5])}<tr><th>Sample</th><th>Variant</th><th>Time, temp.</th><th>Verdict</th><th>Phase (verdict, score)</th><th>Low-angle extra peaks</th><th>Crystallite size</th><th>Williamson–<wbr>Hall</th></tr>
 ${rows}</table>
 <h2>Crystallite size across the series</h2>
 ${seriesSvg(input.variants, 'variant')}
