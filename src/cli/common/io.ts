@@ -44,7 +44,7 @@ export function loadAllReferences(path: string): StoredReference[] {
 }
 
 /** Every current reference with the library's stored d-sorted line index (for analyze: all lines loaded, to share with the workers). */
-export function loadReferencesWithIndex(path: string): { references: StoredReference[]; index: ReferenceIndex } {
+export function loadReferencesWithIndex(path: string): { references: readonly StoredReference[]; index: ReferenceIndex } {
   return withReferencesWithIndex(path, (loaded) => loaded);
 }
 
@@ -52,7 +52,7 @@ export function loadReferencesWithIndex(path: string): { references: StoredRefer
  * Work with every current reference and the stored line index while the library is open: with
  * linesOnDemand, each reference's lines are read from the library only if the work asks for them (a single match).
  */
-export function withReferencesWithIndex<T>(path: string, work: (loaded: { references: StoredReference[]; index: ReferenceIndex }) => T, options: { linesOnDemand?: boolean } = {}): T {
+export function withReferencesWithIndex<T>(path: string, work: (loaded: { references: readonly StoredReference[]; index: ReferenceIndex }) => T, options: { linesOnDemand?: boolean } = {}): T {
   return withLibrary(path, (library) => {
     const loaded = library.referencesWithIndex(options);
     if (loaded.references.length === 0) throw new InputError(`the library ${path} holds no references; add some with: crystallog library import FILE --library ${path}`);

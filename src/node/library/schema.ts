@@ -89,6 +89,24 @@ export const LIBRARY_MIGRATIONS: readonly Migration[] = [
       ) STRICT;
     `);
   },
+  // 5: the snapshot's names and tags on their own, each reference's solid-solution partners, and where each head starts in the heads text (part
+  // head_start) and each reference's lines in line_values (part value_start), so that loading it
+  // parses no head until its reference is read. The snapshot is a cache: the old one is dropped.
+  (db) => {
+    db.exec(`
+      DROP TABLE line_index;
+      DELETE FROM line_index_part;
+      CREATE TABLE line_index (
+        id INTEGER PRIMARY KEY CHECK (id = 1),
+        stamp TEXT NOT NULL,
+        digest TEXT NOT NULL,        -- the library digest (names and versions, analyse.ts)
+        heads TEXT NOT NULL,         -- [id, version, name, source, details, created_at, line_count] per reference, name order (JSON)
+        names TEXT NOT NULL,         -- the same references' names, in the same order (JSON)
+        tagged TEXT NOT NULL,        -- {tag: [positions]}: which of them carry each tag (JSON)
+        partners TEXT NOT NULL       -- solid-solution partners, [[position, [positions]], ...] (solid-solution.ts; JSON)
+      ) STRICT;
+    `);
+  },
 ];
 
 export const LIBRARY_KIND = 'reference-library';
