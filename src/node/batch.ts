@@ -9,9 +9,9 @@ import { Worker } from 'node:worker_threads';
 import { workerScriptBeside } from './worker-script.js';
 import type { StoredReference } from '../core/model/reference.js';
 import { packedLinesOf } from './library/packing.js';
-import { headsOf, snapshotReferences, snapshotSourceOf, type SnapshotHeads } from './library/stored-references.js';
+import { headsOf, snapshotReferences, snapshotSourceOf, type SnapshotHeads, type SnapshotLines } from './library/stored-references.js';
+import { ReferenceLibrary } from './library/store.js';
 import { buildReferenceIndex, type ReferenceIndex } from '../core/match/reference-index.js';
-import { solidSolutionPartners } from '../core/match/solid-solution.js';
 import type { InstrumentProfile } from '../core/size/instrument.js';
 import { checkTarget, createAnalysisContext, type AnalysisContext, type AnalysisSettings } from '../core/analysis/analyse.js';
 
@@ -51,12 +51,10 @@ export interface BatchOptions {
  * `valueStart[r]` (in doubles; one more entry marks the end), Int32 h, k, l, multiplicity at
  * `indexStart[r]` (in ints; −1: none).
  */
-interface SharedLines {
-  values: SharedArrayBuffer;
-  indices: SharedArrayBuffer;
-  valueStart: Int32Array;
-  indexStart: Int32Array;
-}
+type SharedLines =
+  | { values: SharedArrayBuffer; indices: SharedArrayBuffer; valueStart: Int32Array; indexStart: Int32Array }
+  /** Or, for references loaded from a library file with their lines left there: each worker reads the versions it needs from the file. */
+  | { library: string; valueStart: Int32Array };
 
 /**
  * The setup as it crosses into a worker: the references' heads as the library snapshot keeps them
@@ -64,7 +62,6 @@ interface SharedLines {
  */
 export interface SharedSetup {
   heads: SnapshotHeads;
-  partners: [number, number[]][];
   lines: SharedLines;
   instrument: InstrumentProfile | null;
   settings: Partial<AnalysisSettings>;
@@ -107,6 +104,8 @@ export function workersFor(files: number): number {
 }
 
 function shareTyped<T extends Float64Array | Int32Array | Float32Array>(array: T): SharedArrayBuffer {
+  // Read from the library straight into shared memory: handed over as it is.
+  if (array.buffer instanceof SharedArrayBuffer && array.byteOffset === 0 && array.byteLength === array.buffer.byteLength) return array.buffer;
   const buffer = new SharedArrayBuffer(array.byteLength);
   new Uint8Array(buffer).set(new Uint8Array(array.buffer, array.byteOffset, array.byteLength));
   return buffer;
@@ -116,11 +115,12 @@ function shareTyped<T extends Float64Array | Int32Array | Float32Array>(array: T
  * The references' heads and lines in the form a worker rebuilds them from: a library snapshot's own
  * heads and bytes when the references are that snapshot, else made here reference by reference.
  */
-function shareReferences(references: readonly StoredReference[]): Pick<SharedSetup, 'heads' | 'partners' | 'lines'> {
+function shareReferences(references: readonly StoredReference[]): Pick<SharedSetup, 'heads' | 'lines'> {
   const source = snapshotSourceOf(references);
+  if (source && 'library' in source.lines && source.lines.library !== ':memory:') return { heads: sharedHeads(source.heads), lines: { library: source.lines.library, valueStart: source.valueStart } };
   if (source && 'values' in source.lines) {
     const { values, indices, indexStart } = source.lines;
-    return { heads: source.heads, partners: source.partners, lines: { values: shareBytes(values), indices: shareBytes(indices), valueStart: source.valueStart, indexStart } };
+    return { heads: sharedHeads(source.heads), lines: { values: shareBytes(values), indices: shareBytes(indices), valueStart: source.valueStart, indexStart } };
   }
   const n = references.length;
   const packed = references.map(packedLinesOf);
@@ -143,10 +143,16 @@ function shareReferences(references: readonly StoredReference[]): Pick<SharedSet
     valueBytes.set(p.values, valueStart[r]! * 8);
     if (p.indices) indexBytes.set(p.indices, indexStart[r]! * 4);
   });
-  return { heads: headsOf(references, (r) => packed[r]!.count), partners: [...solidSolutionPartners(references)], lines: { values, indices, valueStart, indexStart } };
+  return { heads: sharedHeads(headsOf(references, (r) => packed[r]!.count)), lines: { values, indices, valueStart, indexStart } };
+}
+
+/** The heads with their bytes in shared memory (every worker reads the one copy). */
+function sharedHeads(heads: SnapshotHeads): SnapshotHeads {
+  return heads.bytes.buffer instanceof SharedArrayBuffer ? heads : { ...heads, bytes: new Uint8Array(shareBytes(heads.bytes)) };
 }
 
 function shareBytes(bytes: Uint8Array): SharedArrayBuffer {
+  if (bytes.buffer instanceof SharedArrayBuffer && bytes.byteOffset === 0 && bytes.byteLength === bytes.buffer.byteLength) return bytes.buffer;
   const buffer = new SharedArrayBuffer(bytes.byteLength);
   new Uint8Array(buffer).set(bytes);
   return buffer;
@@ -165,8 +171,12 @@ export function shareSetup(setup: BatchSetup): SharedSetup {
 
 /** The analysis context inside a worker, on the shared index and lines. */
 export function contextFromShared(shared: SharedSetup): AnalysisContext {
-  const { values, indices, valueStart, indexStart } = shared.lines;
-  const references = snapshotReferences({ heads: shared.heads, partners: shared.partners, lines: { values: Buffer.from(values), indices: Buffer.from(indices), indexStart }, valueStart });
+  const shares = shared.lines;
+  // A worker reading from the library file keeps its connection for its life (the versions never change).
+  const lines: SnapshotLines = 'library' in shares
+    ? { ...ReferenceLibrary.openLineReader(shares.library), library: shares.library }
+    : { values: Buffer.from(shares.values), indices: Buffer.from(shares.indices), indexStart: shares.indexStart };
+  const references = snapshotReferences({ heads: shared.heads, lines, valueStart: shares.valueStart });
   const index: ReferenceIndex = {
     references,
     d: new Float64Array(shared.index.d),

@@ -29,6 +29,9 @@ export interface SolidSolution {
 
 const normalisedGroup = (symbol: string | undefined): string | null => (symbol ? symbol.replace(/[\s_]/g, '').toLowerCase() : null);
 
+/** The space group of a cell as compared (spaces and underscores dropped, any case), or null when it names none. */
+export const normalisedGroupOf = (cell: UnitCell | null | undefined): string | null => normalisedGroup(cell?.spaceGroup);
+
 function similarCells(p: UnitCell, q: UnitCell): boolean {
   if (normalisedGroup(p.spaceGroup) === null || normalisedGroup(p.spaceGroup) !== normalisedGroup(q.spaceGroup)) return false;
   const edge = (x: number, y: number): boolean => Math.abs(x - y) <= SIMILAR_EDGE_FRACTION * Math.min(x, y);
@@ -42,7 +45,7 @@ export function solidSolutionPartners(refs: readonly StoredReference[]): Map<num
   let found = partnersByLibrary.get(refs);
   if (found) return found;
   // The space group is asked first: most references have none, and their lines are then never decoded.
-  found = structurePartners(refs.map((r) => (normalisedGroup(r.cell?.spaceGroup) !== null && r.lines.some((l) => l.hkl) ? r.cell : null)));
+  found = structurePartners(refs.map((r) => (normalisedGroupOf(r.cell) !== null && r.lines.some((l) => l.hkl) ? r.cell : null)));
   partnersByLibrary.set(refs, found);
   return found;
 }

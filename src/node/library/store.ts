@@ -2,8 +2,7 @@ import type { Statement } from 'better-sqlite3';
 import { InputError } from '../../core/errors.js';
 import { formatReferenceJson, toFileEntry } from '../../core/library/json-format.js';
 import { hasHkl, packLines, packedLinesOf, unpackValues, type PackedLines } from './packing.js';
-import { structurePartners } from '../../core/match/solid-solution.js';
-import type { UnitCell } from '../../core/model/cell.js';
+import { normalisedGroupOf } from '../../core/match/solid-solution.js';
 import { detailsOf, HeadsBuilder, snapshotReferences, storedReference, type SnapshotLines, type VersionDetails } from './stored-references.js';
 import type { Reference, StoredReference } from '../../core/model/reference.js';
 import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from './schema.js';
@@ -205,17 +204,16 @@ export class ReferenceLibrary {
    * the library is open). When the snapshot is missing or older than the library, it is made from
    * the packed line arrays (never from line objects) and, when the file is writable, stored.
    */
-  referencesWithIndex(options: { linesOnDemand?: boolean } = {}): { references: readonly StoredReference[]; index: ReferenceIndex } {
+  referencesWithIndex(options: { linesOnDemand?: boolean; sharedMemory?: boolean } = {}): { references: readonly StoredReference[]; index: ReferenceIndex } {
     const head = this.statements.snapshotHead.get();
     if (head && head.stamp === this.stamp()) {
-      const blob = (name: SnapshotBlob) => this.readPart(name);
+      const blob = (name: SnapshotBlob) => this.readPart(name, options.sharedMemory ?? false);
       const lines: SnapshotLines = options.linesOnDemand
-        ? { read: (id: number, version: number) => this.packedLinesOfVersion(id, version) }
+        ? { read: (id: number, version: number) => this.packedLinesOfVersion(id, version), library: this.path }
         : { values: blob('line_values'), indices: blob('line_indices'), indexStart: typedView(Int32Array, blob('index_start')) };
-      const { heads, names, tagged, partners } = this.statements.snapshotHeads.get()!;
+      const facts = this.statements.snapshotFacts.get()!;
       const references = snapshotReferences({
-        heads: { text: heads, start: typedView(Int32Array, blob('head_start')), names: JSON.parse(names) as string[], tagged: JSON.parse(tagged) as Record<string, number[]> },
-        partners: JSON.parse(partners) as [number, number[]][],
+        heads: { bytes: blob('heads'), start: typedView(Int32Array, blob('head_start')), ...facts },
         lines,
         valueStart: typedView(Int32Array, blob('value_start')),
       });
@@ -228,6 +226,15 @@ export class ReferenceLibrary {
     }
     const references = this.all();
     return { references, index: referenceIndexFromPacked(references, packedIndexOf(references)) };
+  }
+
+  /**
+   * Reads stored versions' packed lines from a library file by id and version, read-only (a batch
+   * worker reading the lines its patterns ask for; a version never changes once stored).
+   */
+  static openLineReader(path: string): { read: (id: number, version: number) => PackedLines; close: () => void } {
+    const library = ReferenceLibrary.open(path, { readOnly: true });
+    return { read: (id, version) => library.packedLinesOfVersion(id, version), close: () => library.close() };
   }
 
   /** A stored version's packed lines, read while the library is open (for references whose lines are read on demand). */
@@ -258,7 +265,6 @@ export class ReferenceLibrary {
     const valueStart = new Int32Array(references + 1);
     const indices: Buffer[] = [];
     const builder = new HeadsBuilder();
-    const cells: (UnitCell | null)[] = [];
     const digestOf: { name: string; version: number }[] = [];
     let n = 0;
     let ints = 0;
@@ -279,8 +285,7 @@ export class ReferenceLibrary {
         ints += 4 * count;
       }
       const { tags, cell } = JSON.parse(details) as VersionDetails;
-      builder.add(id, version, name, source, details, tags, createdAt, count);
-      cells.push(cell && hasHkl(lineIndices, count) ? cell : null);
+      builder.add(id, version, name, source, details, tags, normalisedGroupOf(cell) !== null && hasHkl(lineIndices, count) ? cell! : null, createdAt, count);
       valueStart[r] = 2 * n;
       digestOf.push({ name, version });
       n += count;
@@ -288,8 +293,8 @@ export class ReferenceLibrary {
     }
     valueStart[r] = 2 * n;
     const heads = builder.finish();
-    const partners = JSON.stringify([...structurePartners(cells)]);
-    this.statements.saveSnapshot.run({ stamp: this.stamp(), digest: libraryDigest(digestOf), heads: heads.text, names: JSON.stringify(heads.names), tagged: JSON.stringify(heads.tagged), partners });
+    this.statements.saveSnapshot.run({ stamp: this.stamp(), digest: libraryDigest(digestOf), names: heads.names, tagged: heads.tagged, partners: heads.partners });
+    this.savePart('heads', Buffer.from(heads.bytes.buffer, heads.bytes.byteOffset, heads.bytes.byteLength));
     this.savePart('head_start', bytes(heads.start));
     this.savePart('value_start', bytes(valueStart));
     this.savePart('line_values', bytes(lineValues));
@@ -311,9 +316,10 @@ export class ReferenceLibrary {
     }
   }
 
-  /** One array of the snapshot, its parts joined in one buffer. */
-  private readPart(array: SnapshotBlob): Buffer {
-    const whole = Buffer.allocUnsafe(this.statements.partBytes.get(array) ?? 0);
+  /** One array of the snapshot, its parts joined in one buffer (in shared memory, for a batch's workers, when asked). */
+  private readPart(array: SnapshotBlob, shared: boolean): Buffer {
+    const size = this.statements.partBytes.get(array) ?? 0;
+    const whole = shared ? Buffer.from(new SharedArrayBuffer(size)) : Buffer.allocUnsafe(size);
     let at = 0;
     for (const bytes of this.statements.parts.iterate(array)) {
       whole.set(bytes, at);
@@ -549,7 +555,7 @@ interface StoreOptions {
 }
 
 /** The snapshot's arrays (line_index_part, schema.ts steps 3 to 5), each stored in parts of at most 8 MB. */
-const SNAPSHOT_BLOBS = ['line_values', 'line_indices', 'index_start', 'value_start', 'head_start', 'd', 'reference_of', 'intensity'] as const;
+const SNAPSHOT_BLOBS = ['heads', 'head_start', 'line_values', 'line_indices', 'index_start', 'value_start', 'd', 'reference_of', 'intensity'] as const;
 const SNAPSHOT_PART_BYTES = 8 * 1024 * 1024;
 type SnapshotBlob = (typeof SNAPSHOT_BLOBS)[number];
 
@@ -595,14 +601,14 @@ function prepareStatements(db: Db) {
       { line_count: number; line_values: Buffer; line_indices: Buffer | null }
     >,
     snapshotHead: db.prepare(`SELECT stamp, digest FROM line_index WHERE id = 1`) as Statement<[], { stamp: string; digest: string }>,
-    snapshotHeads: db.prepare(`SELECT heads, names, tagged, partners FROM line_index WHERE id = 1`) as Statement<[], { heads: string; names: string; tagged: string; partners: string }>,
+    snapshotFacts: db.prepare(`SELECT names, tagged, partners FROM line_index WHERE id = 1`) as Statement<[], { names: string; tagged: string; partners: string }>,
     parts: (db.prepare(`SELECT bytes FROM line_index_part WHERE array = ? ORDER BY part`) as Statement<[string], Buffer>).pluck(),
     partBytes: (db.prepare(`SELECT sum(length(bytes)) FROM line_index_part WHERE array = ?`) as Statement<[string], number | null>).pluck(),
     currentIdsByName: (db.prepare(`SELECT e.id FROM reference_entry e WHERE e.deleted_at IS NULL ORDER BY e.name`) as Statement<[], number>).pluck(),
     currentTotals: db.prepare(`SELECT count(*) AS "references", coalesce(sum(v.line_count), 0) AS lines ${CURRENT}`) as Statement<[], { references: number; lines: number }>,
     stamp: db.prepare(`SELECT count(*) AS n, total(current_version) AS versions, (SELECT max(rowid) FROM reference_version) AS last
       FROM reference_entry WHERE deleted_at IS NULL`) as Statement<[], { n: number; versions: number; last: number | null }>,
-    saveSnapshot: db.prepare(`INSERT OR REPLACE INTO line_index (id, stamp, digest, heads, names, tagged, partners) VALUES (1, @stamp, @digest, @heads, @names, @tagged, @partners)`),
+    saveSnapshot: db.prepare(`INSERT OR REPLACE INTO line_index (id, stamp, digest, names, tagged, partners) VALUES (1, @stamp, @digest, @names, @tagged, @partners)`),
     savePart: db.prepare(`INSERT OR REPLACE INTO line_index_part (array, part, bytes) VALUES (?, ?, ?)`),
     dropSnapshot: db.prepare(`DELETE FROM line_index`),
     dropParts: db.prepare(`DELETE FROM line_index_part`),

@@ -1,6 +1,7 @@
 import { lazyList } from '../../core/model/lazy-list.js';
 import { withListFacts, type Reference, type StoredReference } from '../../core/model/reference.js';
-import { knownPartners } from '../../core/match/solid-solution.js';
+import { knownPartners, normalisedGroupOf, structurePartners } from '../../core/match/solid-solution.js';
+import type { UnitCell } from '../../core/model/cell.js';
 import { withLazyLines, type BlockSlice, type PackedBlock, type PackedLines } from './packing.js';
 
 /** The fields of a version kept in its `details` JSON. */
@@ -25,26 +26,31 @@ export function storedReference(id: number, version: number, name: string, sourc
 
 /**
  * The heads of a library snapshot: one JSON array of [id, version, name, source, details, createdAt,
- * count] per reference in name order, where each head starts in that text, and the names alone.
- * A head is parsed only when its reference is first read.
+ * count] per reference in name order as UTF-8 bytes, where each head starts in them, and what is
+ * known of all references at once (names, tags, solid-solution partners) as JSON texts. A head is
+ * decoded only when its reference is first read, the names and tags only when asked for.
  */
 export interface SnapshotHeads {
-  text: string;
-  /** UTF-16 offset of each head in `text`, then the offset just past the last (references + 1). */
+  bytes: Uint8Array;
+  /** Byte offset of each head in `bytes`, then the offset just past the last (references + 1). */
   start: Int32Array;
-  names: readonly string[];
-  /** Positions of the references with each tag, ascending. */
-  tagged: Record<string, number[]>;
+  /** The names in order (JSON array). */
+  names: string;
+  /** Positions of the references with each tag, ascending ({tag: [positions]} JSON). */
+  tagged: string;
+  /** Solid-solution partners by position ([[position, [positions]], ...] JSON; solid-solution.ts). */
+  partners: string;
 }
 
-/** Where the lines of a snapshot's references lie: the block's bytes, or a read from the library by id and version. */
-export type SnapshotLines = { values: Buffer; indices: Buffer; indexStart: Int32Array } | { read: (id: number, version: number) => PackedLines };
+/**
+ * Where the lines of a snapshot's references lie: the block's bytes, or a read by id and version from
+ * the library file (named, so that a batch's workers can open it and read the same immutable versions).
+ */
+export type SnapshotLines = { values: Buffer; indices: Buffer; indexStart: Int32Array } | { read: (id: number, version: number) => PackedLines; library: string };
 
 /** A snapshot's references as loaded, so that a batch can hand the same heads and bytes to its workers. */
 export interface SnapshotSource {
   heads: SnapshotHeads;
-  /** Solid-solution partners by position (solid-solution.ts), found when the snapshot was made. */
-  partners: [number, number[]][];
   lines: SnapshotLines;
   /** Float64 offset of each reference's packed values in the block, then the end (references + 1). */
   valueStart: Int32Array;
@@ -52,30 +58,41 @@ export interface SnapshotSource {
 
 /** Collects heads in order into the snapshot's form (the store from its rows, a batch from reference objects). */
 export class HeadsBuilder {
-  private readonly heads: string[] = [];
-  private readonly names: string[] = [];
-  private readonly starts: number[] = [];
+  private heads: string[] = [];
+  private names: string[] = [];
+  private starts: number[] = [];
+  private cells: (UnitCell | null)[] = [];
   private tagged: Record<string, number[]> = Object.create(null) as Record<string, number[]>;
   private at = 1; // past the opening bracket
 
-  /** One reference's head; `details` is its details JSON text as stored, `tags` the tags in it. */
-  add(id: number, version: number, name: string, source: string, details: string, tags: readonly string[], createdAt: string, count: number): void {
+  /**
+   * One reference's head: `details` is its details JSON text as stored, `tags` the tags in it, `cell`
+   * its cell when it may have solid-solution partners (its lines carry hkl), else null.
+   */
+  add(id: number, version: number, name: string, source: string, details: string, tags: readonly string[], cell: UnitCell | null, createdAt: string, count: number): void {
     const head = `[${id},${version},${JSON.stringify(name)},${JSON.stringify(source)},${details},${JSON.stringify(createdAt)},${count}]`;
     for (const tag of tags) (this.tagged[tag] ??= []).push(this.names.length);
     this.heads.push(head);
     this.names.push(name);
+    this.cells.push(cell);
     this.starts.push(this.at);
-    this.at += head.length + 1; // and the comma (or closing bracket) after it
+    this.at += Buffer.byteLength(head) + 1; // and the comma (or closing bracket) after it
   }
 
   /** The heads gathered (the builder is left empty). */
   finish(): SnapshotHeads {
-    const start = Int32Array.from([...this.starts, this.at]);
-    const heads: SnapshotHeads = { text: `[${this.heads.join(',')}]`, start, names: this.names.slice(), tagged: this.tagged };
+    const heads: SnapshotHeads = {
+      bytes: Buffer.from(`[${this.heads.join(',')}]`),
+      start: Int32Array.from([...this.starts, this.at]),
+      names: JSON.stringify(this.names),
+      tagged: JSON.stringify(this.tagged),
+      partners: JSON.stringify([...structurePartners(this.cells)]),
+    };
+    this.heads = [];
+    this.names = [];
+    this.starts = [];
+    this.cells = [];
     this.tagged = Object.create(null) as Record<string, number[]>;
-    this.heads.length = 0;
-    this.names.length = 0;
-    this.starts.length = 0;
     return heads;
   }
 }
@@ -93,7 +110,10 @@ export function detailsOf(ref: Reference): VersionDetails {
 /** Heads for references that were not loaded from a snapshot (their lines' counts as given). */
 export function headsOf(references: readonly StoredReference[], lineCount: (r: number) => number): SnapshotHeads {
   const builder = new HeadsBuilder();
-  references.forEach((ref, r) => builder.add(ref.id, ref.version, ref.name, ref.source, JSON.stringify(detailsOf(ref)), ref.tags, ref.createdAt, lineCount(r)));
+  references.forEach((ref, r) => {
+    const cell = normalisedGroupOf(ref.cell) !== null && ref.lines.some((l) => l.hkl) ? ref.cell! : null;
+    builder.add(ref.id, ref.version, ref.name, ref.source, JSON.stringify(detailsOf(ref)), ref.tags, cell, ref.createdAt, lineCount(r));
+  });
   return builder.finish();
 }
 
@@ -112,8 +132,9 @@ export function snapshotSourceOf(references: readonly StoredReference[]): Snapsh
  */
 export function snapshotReferences(source: SnapshotSource): readonly StoredReference[] {
   const { heads, lines, valueStart } = source;
-  const n = heads.names.length;
-  if (heads.start.length !== n + 1 || valueStart.length !== n + 1) throw new Error(`library snapshot: ${n} names, ${heads.start.length - 1} heads and ${valueStart.length - 1} line blocks do not agree`);
+  const n = heads.start.length - 1;
+  if (n < 0 || valueStart.length !== n + 1) throw new Error(`library snapshot: ${n} heads and ${valueStart.length - 1} line blocks do not agree`);
+  const text = Buffer.from(heads.bytes.buffer, heads.bytes.byteOffset, heads.bytes.byteLength);
   const ids = new Int32Array(n);
   const versions = new Int32Array(n);
   const count = new Int32Array(n);
@@ -124,12 +145,20 @@ export function snapshotReferences(source: SnapshotSource): readonly StoredRefer
     count,
   };
   const list = lazyList(n, (r) => {
-    const [id, version, name, refSource, details, createdAt] = JSON.parse(heads.text.slice(heads.start[r]!, heads.start[r + 1]! - 1)) as Head;
+    const [id, version, name, refSource, details, createdAt] = JSON.parse(text.toString('utf8', heads.start[r]!, heads.start[r + 1]! - 1)) as Head;
     ids[r] = id;
     versions[r] = version;
     return storedReference(id, version, name, refSource, details, createdAt, { block, r });
   });
   sourceOf.set(list, source);
-  knownPartners(list, new Map(source.partners));
-  return withListFacts(list, { names: heads.names, tagged: new Map(Object.entries(heads.tagged)) });
+  knownPartners(list, new Map(JSON.parse(heads.partners) as [number, number[]][]));
+  let names: string[] | null = null;
+  let tagged: Record<string, number[]> | null = null;
+  return withListFacts(list, {
+    names: () => (names ??= JSON.parse(heads.names) as string[]),
+    tagged: (tag) => {
+      tagged ??= JSON.parse(heads.tagged) as Record<string, number[]>;
+      return Object.hasOwn(tagged, tag) ? tagged[tag]! : [];
+    },
+  });
 }
