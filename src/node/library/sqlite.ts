@@ -18,6 +18,11 @@ export interface OpenDatabaseOptions {
   busyTimeoutMs?: number;
   /** Open for reading only: nothing is written to the file, not even its journal mode. */
   readOnly?: boolean;
+  /**
+   * Run on the writing connection after a file of an older schema opened for reading was brought up
+   * to date (the one write such an open makes), to remake what the upgrade dropped (a cache).
+   */
+  afterUpgrade?: (db: Db) => void;
 }
 
 /** What opening found and did that the user should hear of (an unclean shutdown checked, say). */
@@ -43,7 +48,12 @@ export function openDatabase(path: string, options: OpenDatabaseOptions, found: 
     if (isNew) throw new InputError(`the ${options.kind} file does not exist`, { file: path });
     if (found.olderSchema !== undefined) {
       // A file from an earlier version is brought up to date once (its migrations only add), then read.
-      openDatabase(path, { ...options, readOnly: false }, found).close();
+      const writer = openDatabase(path, { ...options, readOnly: false }, found);
+      try {
+        options.afterUpgrade?.(writer);
+      } finally {
+        writer.close();
+      }
       found.notes.push(`${path}: brought up to date from schema version ${found.olderSchema} to ${options.migrations.length}`);
       found.olderSchema = undefined;
     }

@@ -104,7 +104,13 @@ export class ReferenceLibrary {
   static open(path: string, options: OpenLibraryOptions = {}): ReferenceLibrary {
     const found = { notes: [] as string[] };
     const { onLockWait, snapshotPartBytes, ...databaseOptions } = options;
-    const db = openDatabase(path, { kind: LIBRARY_KIND, migrations: LIBRARY_MIGRATIONS, ...databaseOptions }, found);
+    // A reader that brings an older file up to date remakes its matching snapshot in the same go, so
+    // later reads load it in one read instead of decoding every reference.
+    const afterUpgrade = (writer: Db) => {
+      const library = new ReferenceLibrary(writer, path, options.busyTimeoutMs ?? DEFAULT_BUSY_TIMEOUT_MS, onLockWait, snapshotPartBytes ?? SNAPSHOT_PART_BYTES);
+      library.write(() => library.saveSnapshot());
+    };
+    const db = openDatabase(path, { kind: LIBRARY_KIND, migrations: LIBRARY_MIGRATIONS, ...databaseOptions, afterUpgrade }, found);
     if (options.readOnly && schemaVersion(db) === 0) {
       db.close();
       throw new InputError('this library file holds no references yet; add some with: crystallog library import FILE --library ' + path, { file: path });
