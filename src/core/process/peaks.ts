@@ -65,7 +65,7 @@ const MAX_PEAK_FWHM_DEG = 5;
 const MIN_START_MEDIANS = 0.5;
 /** Candidates at least this many background σ high are the clear peaks whose widths set that bound. */
 const CLEAR_PEAK_SIGMA = 10;
-/** A search fit has converged when a step lowers χ² by less than this (parameters within about σ/10). */
+/** A search fit has converged when a step lowers χ² by less than this times the reduced χ² (parameters within about σ/10). */
 const CONVERGED_CHI2_CHANGE = 0.01;
 
 export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSearchResult {
