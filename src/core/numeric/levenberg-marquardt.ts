@@ -66,6 +66,20 @@ const REJECTED_MIN_DAMPING = 0.1;
 /** Damping below this counts as a near Gauss–Newton step (its small gain means convergence). */
 const GAUSS_NEWTON_DAMPING = 1;
 
+/** 2δᵀg − δᵀNδ for the step δ (N count × count), or NaN when every entry of δ is 0. */
+function promisedReduction(normal: Float64Array, gradient: Float64Array, step: Float64Array, count: number): number {
+  let predicted = 0;
+  let moving = false;
+  for (let a = 0; a < count; a++) {
+    if (step[a] === 0) continue;
+    moving = true;
+    let row = 0;
+    for (let b = 0; b < count; b++) row += normal[a * count + b] * step[b];
+    predicted += step[a] * (2 * gradient[a] - row);
+  }
+  return moving ? predicted : Number.NaN;
+}
+
 /** Damping after a rejected step (Nielsen's growth), at least REJECTED_MIN_DAMPING. */
 function raised(damping: number, growth: number): number {
   return Math.max(damping * growth, REJECTED_MIN_DAMPING);
@@ -132,16 +146,9 @@ export class LevenbergMarquardt {
       }
       const clipped = solved === CLIPPED;
       const { normal, gradient } = this;
-      // Reduction of χ² the linearised model promises for this step: 2δᵀg − δᵀNδ.
-      let predicted = 0;
-      let moving = false;
-      for (let a = 0; a < count; a++) {
-        if (step[a] === 0) continue;
-        moving = true;
-        let row = 0;
-        for (let b = 0; b < count; b++) row += normal[a * count + b] * step[b];
-        predicted += step[a] * (2 * gradient[a] - row);
-      }
+      // Reduction of χ² the linearised model promises for this step: 2δᵀg − δᵀNδ (NaN: no parameter moves).
+      const predicted = promisedReduction(normal, gradient, step, count);
+      const moving = !Number.isNaN(predicted);
       if (!moving || (!clipped && damping < GAUSS_NEWTON_DAMPING && predicted < converged)) break;
       // A step the linearised model says goes uphill (possible only with parameters clipped onto a limit) is
       // rejected untried.
