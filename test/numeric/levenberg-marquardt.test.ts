@@ -105,4 +105,58 @@ describe('Levenberg–Marquardt', () => {
     expect(a.evaluations).toBeLessThan(b.evaluations);
     expect(tight[0]).toBeCloseTo(2.025, 9);
   });
+
+  it('moves the other parameters to their best values given one clipped onto its limit (projected step)', () => {
+    // Line a + b·x through data of slope 2 and intercept 1 with b ≤ 1: the bounded least-squares answer is
+    // b = 1 and the mean of y − x for a (the two columns are correlated, so a must move with b's clip).
+    const x = [1, 2, 3, 4];
+    const y = x.map((v) => 1 + 2 * v);
+    const inner = target(
+      2,
+      (p) => x.map((v, i) => y[i] - (p[0] + p[1] * v)),
+      () => x.map((v) => [1, v]),
+    );
+    const tried: number[][] = [];
+    const line: NormalEquationsTarget = {
+      evaluate(p, normal, gradient, stopAt) {
+        tried.push([p[0], p[1]]);
+        return inner.evaluate(p, normal, gradient, stopAt);
+      },
+    };
+    const params = Float64Array.from([0, 0]);
+    new LevenbergMarquardt().minimise(line, params, 2, {
+      lower: Float64Array.from([-Infinity, -Infinity]),
+      upper: Float64Array.from([Infinity, 1]),
+      maxIterations: 50,
+      relativeTolerance: 1e-14,
+    });
+    const meanOfRest = x.reduce((s, v, i) => s + y[i] - v, 0) / x.length;
+    expect(params[1]).toBe(1);
+    expect(params[0]).toBeCloseTo(meanOfRest, 9);
+    // The model is linear: the first step lands next to the answer (within its small damping), with a moved too.
+    expect(tried[1][1]).toBe(1);
+    expect(Math.abs(tried[1][0] - meanOfRest)).toBeLessThan(0.01);
+    expect(tried.length).toBeLessThanOrEqual(5);
+  });
+
+  it('counts the absolute tolerance in units of the reduced χ² when given the degrees of freedom', () => {
+    // A constant through scattered data (reduced χ² ≈ 2 500): Δχ² = 1 is far below a tenth of its σ.
+    const y = [100, 0, 100, 0, 100, 0];
+    const constant = target(
+      1,
+      (p) => y.map((v) => v - p[0]),
+      () => y.map(() => [1]),
+    );
+    const solver = new LevenbergMarquardt();
+    const options = { ...free(1), lower: Float64Array.from([-Infinity]), upper: Float64Array.from([Infinity]), maxIterations: 50, relativeTolerance: 1e-14, absoluteTolerance: 0.01 };
+    // A start that the first (damped) step does not quite reach the minimum from.
+    const plain = Float64Array.from([1e4]);
+    const scaled = Float64Array.from([1e4]);
+    const a = solver.minimise(constant, plain, 1, options);
+    const b = solver.minimise(constant, scaled, 1, { ...options, degreesOfFreedom: y.length - 1 });
+    expect(b.evaluations).toBeLessThanOrEqual(a.evaluations);
+    // Within a tenth of the (scaled) σ of the mean: σ = √(χ²/ν / N) ≈ 20.
+    expect(Math.abs(scaled[0] - 50)).toBeLessThan(2);
+    expect(Math.abs(plain[0] - 50)).toBeLessThan(0.05);
+  });
 });

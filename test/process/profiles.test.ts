@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { pseudoVoigtIntegralBreadth, thompsonCoxHastings, thompsonCoxHastingsWithDerivatives } from '../../src/core/process/profiles.js';
+import { etaFromQuarterWidth, lorentzianHeightShare, pseudoVoigtIntegralBreadth, splitPseudoVoigt, thompsonCoxHastings, thompsonCoxHastingsWithDerivatives } from '../../src/core/process/profiles.js';
 import { golden } from './golden.js';
 
 describe('profile widths', () => {
@@ -34,5 +34,27 @@ describe('profile widths', () => {
       expect(t.dEtaDGaussian).toBeCloseTo((dg.eta - t.eta) / h, 4);
       expect(t.dEtaDLorentzian).toBeCloseTo((dl.eta - t.eta) / h, 4);
     }
+  });
+});
+
+describe('η from the width at a quarter of the height', () => {
+  it('gives 0 for a Gaussian (√2 FWHM) and 1 for a Lorentzian (√3 FWHM), clamped beyond', () => {
+    expect(etaFromQuarterWidth(Math.SQRT2)).toBeCloseTo(0, 9);
+    expect(etaFromQuarterWidth(Math.sqrt(3))).toBeCloseTo(1, 9);
+    expect(etaFromQuarterWidth(1.2)).toBe(0);
+    expect(etaFromQuarterWidth(2.5)).toBe(1);
+  });
+
+  it.each([0.1, 0.3, 0.5, 0.7, 0.9])('recovers η = %s from its pseudo-Voigt’s quarter-height width', (eta) => {
+    // Quarter-height half width of the unit-FWHM profile by bisection.
+    const mix = lorentzianHeightShare(eta);
+    let lo = 0.5;
+    let hi = 1;
+    for (let k = 0; k < 60; k++) {
+      const mid = 0.5 * (lo + hi);
+      if (splitPseudoVoigt(mid, 1, mix, 0) > 0.25) lo = mid;
+      else hi = mid;
+    }
+    expect(etaFromQuarterWidth(2 * lo)).toBeCloseTo(eta, 6);
   });
 });

@@ -264,6 +264,7 @@ class GroupFitter {
         maxIterations: this.maxIterations,
         relativeTolerance: CHI2_TOLERANCE,
         absoluteTolerance: this.convergedChi2Change,
+        degreesOfFreedom: Math.max(model.last - model.first - paramCount, 1),
       });
       fitWork.lmSteps += solved.steps;
       const points = model.last - model.first;

@@ -90,6 +90,15 @@ function lineAt(dx: number, invLow: number, invHigh: number, mix: number, out: F
   return mix * lor + gaussShare * gau;
 }
 
+// evaluate's sums over all points: χ², the background line's normal-matrix cells and gradient.
+const S_CHI2 = 0;
+const S_OFF_OFF = 1;
+const S_SLOPE_OFF = 2;
+const S_SLOPE_SLOPE = 3;
+const S_G_OFF = 4;
+const S_G_SLOPE = 5;
+const SUM_VALUES = 6;
+
 /** One group's model in a workspace sized for the largest group so far (nothing allocated per point). */
 export class GroupModel implements NormalEquationsTarget {
   peakCount = 0;
@@ -109,6 +118,8 @@ export class GroupModel implements NormalEquationsTarget {
   private jac = new Float64Array(0);
   private activePeak = new Int32Array(0);
   private readonly line = new Float64Array(LINE_VALUES);
+  /** χ² and the background line's own cells, summed over the runs (S_…). */
+  private readonly sums = new Float64Array(SUM_VALUES);
   /** Edges of the runs of points with one fixed set of peaks (see evaluate). */
   private edges = new Int32Array(0);
   private readonly doublet: boolean;
@@ -185,193 +196,257 @@ export class GroupModel implements NormalEquationsTarget {
    */
   evaluate(params: Float64Array, normal: Float64Array, gradient: Float64Array, stopAt = Number.POSITIVE_INFINITY): number {
     this.prepare(params);
-    const { x, y, weight, background, perPeak } = this.setting;
-    const { others, lo, hi, activeBase, activePeak, jac } = this;
+    const { perPeak } = this.setting;
+    const { lo, hi, activePeak, sums } = this;
     const paramCount = this.paramCount;
     const peakCount = this.peakCount;
-    const middle = this.middle;
-    const bgBase = peakCount * perPeak;
-    const offset = params[bgBase];
-    const slope = params[bgBase + 1];
     normal.fill(0, 0, paramCount * paramCount);
     gradient.fill(0, 0, paramCount);
+    sums.fill(0);
     fitWork.evaluations++;
     for (let k = 0; k < peakCount; k++) fitWork.profilePoints += hi[k] - lo[k];
     const edgeCount = this.runEdges();
     const edges = this.edges;
-    const bgRow = bgBase * paramCount;
-    const slopeRow = bgRow + paramCount;
-    // The background line's own cells and χ², summed in locals over all points.
-    let chi2 = 0;
-    let nOffOff = 0;
-    let nSlopeOff = 0;
-    let nSlopeSlope = 0;
-    let gOff = 0;
-    let gSlope = 0;
+    // Each kind of run in a function of its own: each is compiled once, on its own feedback (one function
+    // holding all three was compiled mid-loop and dropped at the next kind of run, several times a search).
     for (let run = 0; run + 1 < edgeCount; run++) {
       const from = edges[run];
       const to = edges[run + 1];
       let active = 0;
       for (let k = 0; k < peakCount; k++) if (lo[k] <= from && from < hi[k]) activePeak[active++] = k;
-      if (active === 0) {
-        for (let i = from; i < to; i++) {
-          const t = x[i] - middle;
-          const residual = y[i] - (background[i] + others[i] + offset + slope * t);
-          const w = weight[i];
-          chi2 += w * residual * residual;
-          nOffOff += w;
-          nSlopeOff += w * t;
-          nSlopeSlope += w * t * t;
-          gOff += w * residual;
-          gSlope += w * t * residual;
-          if (chi2 >= stopAt) return chi2;
-        }
-      } else if (active === 1 && perPeak === 4) {
-        // One peak: its 4×4 block, its background-row cells and its gradient in locals for the run.
-        const k = activePeak[0];
-        const b = k * 4;
-        const r0 = b * paramCount + b;
-        const r1 = r0 + paramCount;
-        const r2 = r1 + paramCount;
-        const r3 = r2 + paramCount;
-        let n00 = normal[r0];
-        let n10 = normal[r1];
-        let n11 = normal[r1 + 1];
-        let n20 = normal[r2];
-        let n21 = normal[r2 + 1];
-        let n22 = normal[r2 + 2];
-        let n30 = normal[r3];
-        let n31 = normal[r3 + 1];
-        let n32 = normal[r3 + 2];
-        let n33 = normal[r3 + 3];
-        let o0 = normal[bgRow + b];
-        let o1 = normal[bgRow + b + 1];
-        let o2 = normal[bgRow + b + 2];
-        let o3 = normal[bgRow + b + 3];
-        let s0 = normal[slopeRow + b];
-        let s1 = normal[slopeRow + b + 1];
-        let s2 = normal[slopeRow + b + 2];
-        let s3 = normal[slopeRow + b + 3];
-        let g0 = gradient[b];
-        let g1 = gradient[b + 1];
-        let g2 = gradient[b + 2];
-        let g3 = gradient[b + 3];
-        for (let i = from; i < to; i++) {
-          const xi = x[i];
-          const t = xi - middle;
-          const model = this.peakAt(xi, k, params, background[i] + others[i] + offset + slope * t, 0);
-          const j0 = jac[0];
-          const j1 = jac[1];
-          const j2 = jac[2];
-          const j3 = jac[3];
-          const residual = y[i] - model;
-          const w = weight[i];
-          chi2 += w * residual * residual;
-          const w0 = w * j0;
-          g0 += w0 * residual;
-          n00 += w0 * j0;
-          o0 += w0;
-          s0 += w0 * t;
-          const w1 = w * j1;
-          g1 += w1 * residual;
-          n10 += w1 * j0;
-          n11 += w1 * j1;
-          o1 += w1;
-          s1 += w1 * t;
-          const w2 = w * j2;
-          g2 += w2 * residual;
-          n20 += w2 * j0;
-          n21 += w2 * j1;
-          n22 += w2 * j2;
-          o2 += w2;
-          s2 += w2 * t;
-          const w3 = w * j3;
-          g3 += w3 * residual;
-          n30 += w3 * j0;
-          n31 += w3 * j1;
-          n32 += w3 * j2;
-          n33 += w3 * j3;
-          o3 += w3;
-          s3 += w3 * t;
-          nOffOff += w;
-          nSlopeOff += w * t;
-          nSlopeSlope += w * t * t;
-          gOff += w * residual;
-          gSlope += w * t * residual;
-          if (chi2 >= stopAt) return chi2;
-        }
-        normal[r0] = n00;
-        normal[r1] = n10;
-        normal[r1 + 1] = n11;
-        normal[r2] = n20;
-        normal[r2 + 1] = n21;
-        normal[r2 + 2] = n22;
-        normal[r3] = n30;
-        normal[r3 + 1] = n31;
-        normal[r3 + 2] = n32;
-        normal[r3 + 3] = n33;
-        normal[bgRow + b] = o0;
-        normal[bgRow + b + 1] = o1;
-        normal[bgRow + b + 2] = o2;
-        normal[bgRow + b + 3] = o3;
-        normal[slopeRow + b] = s0;
-        normal[slopeRow + b + 1] = s1;
-        normal[slopeRow + b + 2] = s2;
-        normal[slopeRow + b + 3] = s3;
-        gradient[b] = g0;
-        gradient[b + 1] = g1;
-        gradient[b + 2] = g2;
-        gradient[b + 3] = g3;
-      } else {
-        for (let a = 0; a < active; a++) activeBase[a] = activePeak[a] * perPeak;
-        for (let i = from; i < to; i++) {
-          const xi = x[i];
-          const t = xi - middle;
-          let model = background[i] + others[i] + offset + slope * t;
-          for (let a = 0; a < active; a++) model = this.peakAt(xi, activePeak[a], params, model, a * perPeak);
-          const residual = y[i] - model;
-          const w = weight[i];
-          chi2 += w * residual * residual;
-          // Lower triangle (row ≥ column) block by block: peaks in increasing order.
-          if (perPeak === 4) {
-            this.addPoint4(normal, gradient, active, w, residual, t, bgRow, slopeRow);
-          } else for (let a = 0; a < active; a++) {
-            const ja = a * perPeak;
-            const baseA = activeBase[a];
-            for (let r = 0; r < perPeak; r++) {
-              const wr = w * jac[ja + r];
-              const row = (baseA + r) * paramCount;
-              gradient[baseA + r] += wr * residual;
-              for (let c = 0; c < a; c++) {
-                const jb = c * perPeak;
-                const cell = row + activeBase[c];
-                normal[cell] += wr * jac[jb];
-                normal[cell + 1] += wr * jac[jb + 1];
-                normal[cell + 2] += wr * jac[jb + 2];
-                normal[cell + 3] += wr * jac[jb + 3];
-                if (perPeak === 5) normal[cell + 4] += wr * jac[jb + 4];
-              }
-              for (let c = 0; c <= r; c++) normal[row + baseA + c] += wr * jac[ja + c];
-              normal[bgRow + baseA + r] += wr;
-              normal[slopeRow + baseA + r] += wr * t;
-            }
+      if (active === 0) this.runWithoutPeaks(params, from, to, stopAt);
+      else if (active === 1 && perPeak === 4) this.runOnePeak(params, normal, gradient, from, to, stopAt);
+      else this.runPeaks(params, normal, gradient, active, from, to, stopAt);
+      if (sums[S_CHI2] >= stopAt) return sums[S_CHI2];
+    }
+    const bgBase = peakCount * perPeak;
+    const bgRow = bgBase * paramCount;
+    const slopeRow = bgRow + paramCount;
+    normal[bgRow + bgBase] = sums[S_OFF_OFF];
+    normal[slopeRow + bgBase] = sums[S_SLOPE_OFF];
+    normal[slopeRow + bgBase + 1] = sums[S_SLOPE_SLOPE];
+    gradient[bgBase] = sums[S_G_OFF];
+    gradient[bgBase + 1] = sums[S_G_SLOPE];
+    for (let r = 0; r < paramCount; r++) for (let c = r + 1; c < paramCount; c++) normal[r * paramCount + c] = normal[c * paramCount + r];
+    return sums[S_CHI2];
+  }
+
+  /** Points [from, to) under no peak of the group: χ² and the background line's cells into sums. */
+  private runWithoutPeaks(params: Float64Array, from: number, to: number, stopAt: number): void {
+    const { x, y, weight, background } = this.setting;
+    const { others, sums } = this;
+    const middle = this.middle;
+    const bgBase = this.peakCount * this.setting.perPeak;
+    const offset = params[bgBase];
+    const slope = params[bgBase + 1];
+    let chi2 = sums[S_CHI2];
+    let nOffOff = sums[S_OFF_OFF];
+    let nSlopeOff = sums[S_SLOPE_OFF];
+    let nSlopeSlope = sums[S_SLOPE_SLOPE];
+    let gOff = sums[S_G_OFF];
+    let gSlope = sums[S_G_SLOPE];
+    for (let i = from; i < to; i++) {
+      const t = x[i] - middle;
+      const residual = y[i] - (background[i] + others[i] + offset + slope * t);
+      const w = weight[i];
+      chi2 += w * residual * residual;
+      nOffOff += w;
+      nSlopeOff += w * t;
+      nSlopeSlope += w * t * t;
+      gOff += w * residual;
+      gSlope += w * t * residual;
+      if (chi2 >= stopAt) break;
+    }
+    sums[S_CHI2] = chi2;
+    sums[S_OFF_OFF] = nOffOff;
+    sums[S_SLOPE_OFF] = nSlopeOff;
+    sums[S_SLOPE_SLOPE] = nSlopeSlope;
+    sums[S_G_OFF] = gOff;
+    sums[S_G_SLOPE] = gSlope;
+  }
+
+  /** Points [from, to) under one peak of four parameters: its 4×4 block, its background-row cells and its gradient in locals. */
+  private runOnePeak(params: Float64Array, normal: Float64Array, gradient: Float64Array, from: number, to: number, stopAt: number): void {
+    const { x, y, weight, background } = this.setting;
+    const { others, activePeak, jac, sums } = this;
+    const paramCount = this.paramCount;
+    const middle = this.middle;
+    const bgBase = this.peakCount * 4;
+    const offset = params[bgBase];
+    const slope = params[bgBase + 1];
+    const bgRow = bgBase * paramCount;
+    const slopeRow = bgRow + paramCount;
+    let chi2 = sums[S_CHI2];
+    let nOffOff = sums[S_OFF_OFF];
+    let nSlopeOff = sums[S_SLOPE_OFF];
+    let nSlopeSlope = sums[S_SLOPE_SLOPE];
+    let gOff = sums[S_G_OFF];
+    let gSlope = sums[S_G_SLOPE];
+    const k = activePeak[0];
+    const b = k * 4;
+    const r0 = b * paramCount + b;
+    const r1 = r0 + paramCount;
+    const r2 = r1 + paramCount;
+    const r3 = r2 + paramCount;
+    let n00 = normal[r0];
+    let n10 = normal[r1];
+    let n11 = normal[r1 + 1];
+    let n20 = normal[r2];
+    let n21 = normal[r2 + 1];
+    let n22 = normal[r2 + 2];
+    let n30 = normal[r3];
+    let n31 = normal[r3 + 1];
+    let n32 = normal[r3 + 2];
+    let n33 = normal[r3 + 3];
+    let o0 = normal[bgRow + b];
+    let o1 = normal[bgRow + b + 1];
+    let o2 = normal[bgRow + b + 2];
+    let o3 = normal[bgRow + b + 3];
+    let s0 = normal[slopeRow + b];
+    let s1 = normal[slopeRow + b + 1];
+    let s2 = normal[slopeRow + b + 2];
+    let s3 = normal[slopeRow + b + 3];
+    let g0 = gradient[b];
+    let g1 = gradient[b + 1];
+    let g2 = gradient[b + 2];
+    let g3 = gradient[b + 3];
+    for (let i = from; i < to; i++) {
+      const xi = x[i];
+      const t = xi - middle;
+      const model = this.peakAt(xi, k, params, background[i] + others[i] + offset + slope * t, 0);
+      const j0 = jac[0];
+      const j1 = jac[1];
+      const j2 = jac[2];
+      const j3 = jac[3];
+      const residual = y[i] - model;
+      const w = weight[i];
+      chi2 += w * residual * residual;
+      const w0 = w * j0;
+      g0 += w0 * residual;
+      n00 += w0 * j0;
+      o0 += w0;
+      s0 += w0 * t;
+      const w1 = w * j1;
+      g1 += w1 * residual;
+      n10 += w1 * j0;
+      n11 += w1 * j1;
+      o1 += w1;
+      s1 += w1 * t;
+      const w2 = w * j2;
+      g2 += w2 * residual;
+      n20 += w2 * j0;
+      n21 += w2 * j1;
+      n22 += w2 * j2;
+      o2 += w2;
+      s2 += w2 * t;
+      const w3 = w * j3;
+      g3 += w3 * residual;
+      n30 += w3 * j0;
+      n31 += w3 * j1;
+      n32 += w3 * j2;
+      n33 += w3 * j3;
+      o3 += w3;
+      s3 += w3 * t;
+      nOffOff += w;
+      nSlopeOff += w * t;
+      nSlopeSlope += w * t * t;
+      gOff += w * residual;
+      gSlope += w * t * residual;
+      if (chi2 >= stopAt) break;
+    }
+    normal[r0] = n00;
+    normal[r1] = n10;
+    normal[r1 + 1] = n11;
+    normal[r2] = n20;
+    normal[r2 + 1] = n21;
+    normal[r2 + 2] = n22;
+    normal[r3] = n30;
+    normal[r3 + 1] = n31;
+    normal[r3 + 2] = n32;
+    normal[r3 + 3] = n33;
+    normal[bgRow + b] = o0;
+    normal[bgRow + b + 1] = o1;
+    normal[bgRow + b + 2] = o2;
+    normal[bgRow + b + 3] = o3;
+    normal[slopeRow + b] = s0;
+    normal[slopeRow + b + 1] = s1;
+    normal[slopeRow + b + 2] = s2;
+    normal[slopeRow + b + 3] = s3;
+    gradient[b] = g0;
+    gradient[b + 1] = g1;
+    gradient[b + 2] = g2;
+    gradient[b + 3] = g3;
+    sums[S_CHI2] = chi2;
+    sums[S_OFF_OFF] = nOffOff;
+    sums[S_SLOPE_OFF] = nSlopeOff;
+    sums[S_SLOPE_SLOPE] = nSlopeSlope;
+    sums[S_G_OFF] = gOff;
+    sums[S_G_SLOPE] = gSlope;
+  }
+
+  /** Points [from, to) under `active` peaks (activePeak), or under one with an asymmetry: the lower triangle point by point. */
+  private runPeaks(params: Float64Array, normal: Float64Array, gradient: Float64Array, active: number, from: number, to: number, stopAt: number): void {
+    const { x, y, weight, background, perPeak } = this.setting;
+    const { others, activeBase, activePeak, jac, sums } = this;
+    const paramCount = this.paramCount;
+    const middle = this.middle;
+    const bgBase = this.peakCount * perPeak;
+    const offset = params[bgBase];
+    const slope = params[bgBase + 1];
+    const bgRow = bgBase * paramCount;
+    const slopeRow = bgRow + paramCount;
+    let chi2 = sums[S_CHI2];
+    let nOffOff = sums[S_OFF_OFF];
+    let nSlopeOff = sums[S_SLOPE_OFF];
+    let nSlopeSlope = sums[S_SLOPE_SLOPE];
+    let gOff = sums[S_G_OFF];
+    let gSlope = sums[S_G_SLOPE];
+    for (let a = 0; a < active; a++) activeBase[a] = activePeak[a] * perPeak;
+    for (let i = from; i < to; i++) {
+      const xi = x[i];
+      const t = xi - middle;
+      let model = background[i] + others[i] + offset + slope * t;
+      for (let a = 0; a < active; a++) model = this.peakAt(xi, activePeak[a], params, model, a * perPeak);
+      const residual = y[i] - model;
+      const w = weight[i];
+      chi2 += w * residual * residual;
+      // Lower triangle (row ≥ column) block by block: peaks in increasing order.
+      if (perPeak === 4) {
+        this.addPoint4(normal, gradient, active, w, residual, t, bgRow, slopeRow);
+      } else for (let a = 0; a < active; a++) {
+        const ja = a * perPeak;
+        const baseA = activeBase[a];
+        for (let r = 0; r < perPeak; r++) {
+          const wr = w * jac[ja + r];
+          const row = (baseA + r) * paramCount;
+          gradient[baseA + r] += wr * residual;
+          for (let c = 0; c < a; c++) {
+            const jb = c * perPeak;
+            const cell = row + activeBase[c];
+            normal[cell] += wr * jac[jb];
+            normal[cell + 1] += wr * jac[jb + 1];
+            normal[cell + 2] += wr * jac[jb + 2];
+            normal[cell + 3] += wr * jac[jb + 3];
+            if (perPeak === 5) normal[cell + 4] += wr * jac[jb + 4];
           }
-          nOffOff += w;
-          nSlopeOff += w * t;
-          nSlopeSlope += w * t * t;
-          gOff += w * residual;
-          gSlope += w * t * residual;
-          if (chi2 >= stopAt) return chi2;
+          for (let c = 0; c <= r; c++) normal[row + baseA + c] += wr * jac[ja + c];
+          normal[bgRow + baseA + r] += wr;
+          normal[slopeRow + baseA + r] += wr * t;
         }
       }
+      nOffOff += w;
+      nSlopeOff += w * t;
+      nSlopeSlope += w * t * t;
+      gOff += w * residual;
+      gSlope += w * t * residual;
+      if (chi2 >= stopAt) break;
     }
-    normal[bgRow + bgBase] = nOffOff;
-    normal[slopeRow + bgBase] = nSlopeOff;
-    normal[slopeRow + bgBase + 1] = nSlopeSlope;
-    gradient[bgBase] = gOff;
-    gradient[bgBase + 1] = gSlope;
-    for (let r = 0; r < paramCount; r++) for (let c = r + 1; c < paramCount; c++) normal[r * paramCount + c] = normal[c * paramCount + r];
-    return chi2;
+    sums[S_CHI2] = chi2;
+    sums[S_OFF_OFF] = nOffOff;
+    sums[S_SLOPE_OFF] = nSlopeOff;
+    sums[S_SLOPE_SLOPE] = nSlopeSlope;
+    sums[S_G_OFF] = gOff;
+    sums[S_G_SLOPE] = gSlope;
   }
 
   /**

@@ -33,8 +33,9 @@ export interface PeakAcceptance {
    */
   weightSigma?: Float64Array;
   /**
-   * Also stop a fit once a step lowers χ² by less than this (absolute): Δχ² = 0.01 means the parameters
-   * are within about a tenth of their standard uncertainties of the minimum, enough for a search.
+   * Also stop a fit once a step lowers χ² by less than this, in units of the group's reduced χ² where that
+   * exceeds 1 (its σ are scaled by it): Δχ² = 0.01 means the parameters are within about a tenth of their
+   * standard uncertainties of the minimum, enough for a search.
    */
   convergedChi2Change?: number;
 }

@@ -4,6 +4,7 @@ import type { Wavelength } from '../model/wavelengths.js';
 import { fitPeakGroups, type PeakAcceptance } from './fit.js';
 import { kAlpha1Sources, partnerTwoThetaDeg, strippedVariance, stripKAlpha2 } from './kalpha2.js';
 import { findLocalMaxima } from './local-maxima.js';
+import { etaFromQuarterWidth } from './profiles.js';
 import { savitzkyGolay } from './savitzky-golay.js';
 import { DEFAULT_CLIPPING_HALF_WIDTH_DEG, liftToNoiseMedian, snipBackground } from './snip.js';
 import { lowerBound } from '../model/sorted.js';
@@ -64,7 +65,7 @@ const MAX_PEAK_FWHM_DEG = 5;
 const MIN_START_MEDIANS = 0.5;
 /** Candidates at least this many background σ high are the clear peaks whose widths set that bound. */
 const CLEAR_PEAK_SIGMA = 10;
-/** A search fit has converged when a step lowers χ² by less than this (parameters within about σ/10). */
+/** A search fit has converged when a step lowers χ² by less than this times the reduced χ² (parameters within about σ/10). */
 const CONVERGED_CHI2_CHANGE = 0.01;
 
 export function findPeaks(pattern: Pattern, options: PeakSearchOptions): PeakSearchResult {
@@ -427,7 +428,7 @@ function smoothedSigma(smoothed: Float64Array, background: Float64Array, noiseSi
   return sigma;
 }
 
-/** Starting values from the Kα2-stripped net signal: parabolic top, height, width at half height. */
+/** Starting values from the Kα2-stripped net signal: parabolic top, height, width at half height, η from the width at a quarter. */
 function guessAt(x: Float64Array, signal: Float64Array, i: number, leftBase: number, rightBase: number): PeakGuess {
   const height = signal[i];
   let twoTheta = x[i];
@@ -443,13 +444,28 @@ function guessAt(x: Float64Array, signal: Float64Array, i: number, leftBase: num
   while (left > leftBase && signal[left] > half) left--;
   let right = i;
   while (right < rightBase && signal[right] > half) right++;
-  const leftEdge = crossing(x, signal, left, left + 1, half);
-  const rightEdge = crossing(x, signal, right - 1, right, half);
-  const leftHalf = x[i] - leftEdge;
-  const rightHalf = rightEdge - x[i];
+  const leftHalf = x[i] - crossing(x, signal, left, left + 1, half);
+  const rightHalf = crossing(x, signal, right - 1, right, half) - x[i];
+  const leftClear = !(signal[left] > half);
+  const rightClear = !(signal[right] > half);
   // Where one side runs into a neighbour before half height, trust the other side.
-  const fwhm = signal[left] > half ? 2 * rightHalf : signal[right] > half ? 2 * leftHalf : leftHalf + rightHalf;
-  return { twoTheta, height, fwhm: fwhm > 0 ? fwhm : x[Math.min(i + 1, x.length - 1)] - x[Math.max(i - 1, 0)] };
+  const fwhm = !leftClear ? 2 * rightHalf : !rightClear ? 2 * leftHalf : leftHalf + rightHalf;
+  if (!(fwhm > 0)) return { twoTheta, height, fwhm: x[Math.min(i + 1, x.length - 1)] - x[Math.max(i - 1, 0)] };
+  // The same on to a quarter of the height, on the sides that reach it before a neighbour.
+  const quarter = height / 4;
+  while (left > leftBase && signal[left] > quarter) left--;
+  while (right < rightBase && signal[right] > quarter) right++;
+  let widthHalf = 0;
+  let widthQuarter = 0;
+  if (leftClear && !(signal[left] > quarter)) {
+    widthHalf += leftHalf;
+    widthQuarter += x[i] - crossing(x, signal, left, left + 1, quarter);
+  }
+  if (rightClear && !(signal[right] > quarter)) {
+    widthHalf += rightHalf;
+    widthQuarter += crossing(x, signal, right - 1, right, quarter) - x[i];
+  }
+  return widthHalf > 0 ? { twoTheta, height, fwhm, eta: etaFromQuarterWidth(widthQuarter / widthHalf) } : { twoTheta, height, fwhm };
 }
 
 /** x where the line through (x[a], s[a]) and (x[b], s[b]) reaches level. */

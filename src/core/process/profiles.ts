@@ -77,6 +77,20 @@ export function lorentzianHeightShare(eta: number): number {
   return (eta * LORENTZ_NORM) / (eta * LORENTZ_NORM + (1 - eta) * GAUSS_NORM);
 }
 
+/**
+ * η of the pseudo-Voigt whose full width at a quarter of its height is `ratio` times its FWHM (√2 for a
+ * Gaussian, √3 for a Lorentzian; clamped to 0…1 outside): a starting value for a fit, from the peak's shape.
+ */
+export function etaFromQuarterWidth(ratio: number): number {
+  // At u = ratio/2 FWHM the unit-height profile mix·L + (1 − mix)·G is 1/4.
+  const r2 = ratio * ratio;
+  const gau = Math.exp(-LN2 * r2);
+  const mix = Math.min(Math.max((0.25 - gau) / (1 / (1 + r2) - gau), 0), 1);
+  if (!Number.isFinite(mix)) return 0.5;
+  // Invert lorentzianHeightShare: mix = ηL / (ηL + (1 − η)G).
+  return (mix * GAUSS_NORM) / (LORENTZ_NORM * (1 - mix) + mix * GAUSS_NORM);
+}
+
 /** d(lorentzianHeightShare)/dη. */
 export function lorentzianHeightShareSlope(eta: number): number {
   const norm = eta * LORENTZ_NORM + (1 - eta) * GAUSS_NORM;

@@ -90,13 +90,7 @@ export function savitzkyGolay(y: Float64Array, options: SavitzkyGolayOptions): F
   }
   const out = new Float64Array(n);
   const half = (windowPoints - 1) >> 1;
-  const centre = savitzkyGolayWeights(windowPoints, polyOrder, half, derivative, stepSize);
-  for (let i = half; i < n - half; i++) {
-    let s = 0;
-    const start = i - half;
-    for (let j = 0; j < windowPoints; j++) s += centre[j] * y[start + j];
-    out[i] = s;
-  }
+  convolve(y, savitzkyGolayWeights(windowPoints, polyOrder, half, derivative, stepSize), out);
   // Edges: the polynomial fitted to the first / last full window, evaluated at each edge point.
   for (let position = 0; position < half; position++) {
     const first = savitzkyGolayWeights(windowPoints, polyOrder, position, derivative, stepSize);
@@ -111,4 +105,20 @@ export function savitzkyGolay(y: Float64Array, options: SavitzkyGolayOptions): F
     out[n - 1 - position] = tail;
   }
   return out;
+}
+
+/**
+ * out[i] = Σ weights[j]·y[i − half + j] wherever the window lies within y (half = (weights − 1)/2).
+ * (The long loop in a small function of its own: the JIT compiles it once, not mid-loop and again for the edges.)
+ */
+function convolve(y: Float64Array, weights: Float64Array, out: Float64Array): void {
+  const w = weights.length;
+  const half = (w - 1) >> 1;
+  const n = y.length;
+  for (let i = half; i < n - half; i++) {
+    let s = 0;
+    const start = i - half;
+    for (let j = 0; j < w; j++) s += weights[j] * y[start + j];
+    out[i] = s;
+  }
 }

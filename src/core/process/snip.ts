@@ -37,8 +37,8 @@ export function snipBackground(x: Float64Array, y: Float64Array, options: SnipOp
   const maxWindow = options.maxWindowPoints ?? Number.POSITIVE_INFINITY;
   const block = n > 2 ? Math.floor(halfWidthDeg / ((x[n - 1] - x[0]) / (n - 1)) / maxWindow) : 1;
   if (block >= 2 && n >= 8 * block) return coarseSnip(x, y, block, halfWidthDeg);
-  let v = new Float64Array(n);
-  let next = new Float64Array(n);
+  const v = new Float64Array(n);
+  const next = new Float64Array(n);
   for (let i = 0; i < n; i++) v[i] = toLls(y[i]);
   if (n < 3 || !(halfWidthDeg > 0)) return y.slice();
 
@@ -54,6 +54,18 @@ export function snipBackground(x: Float64Array, y: Float64Array, options: SnipOp
     if (p > widest) widest = p;
   }
 
+  const clipped = clipPasses(v, next, windowPoints, widest);
+  const background = clipped === v ? next : v;
+  for (let i = 0; i < n; i++) background[i] = fromLls(clipped[i]);
+  return background;
+}
+
+/**
+ * The clipping passes, window `widest` down to 1, between the buffers v (the start) and next; returns the
+ * one holding the result. (A small function of its own, so that the JIT compiles its long loop once.)
+ */
+function clipPasses(v: Float64Array, next: Float64Array, windowPoints: Int32Array, widest: number): Float64Array {
+  const n = v.length;
   for (let p = widest; p >= 1; p--) {
     // 2p ≤ n − 1 (p never exceeds a point's distance to either end), so the three ranges do not overlap.
     for (let i = 0; i < p; i++) next[i] = v[i];
@@ -68,9 +80,7 @@ export function snipBackground(x: Float64Array, y: Float64Array, options: SnipOp
     v = next;
     next = swap;
   }
-  const background = next;
-  for (let i = 0; i < n; i++) background[i] = fromLls(v[i]);
-  return background;
+  return v;
 }
 
 /** SNIP on block means of `block` points, linearly interpolated back to x. */
