@@ -33,14 +33,15 @@ function contents(path: string) {
 const refs = (): Reference[] => checkReferences([silicon(), ...Array.from({ length: 50 }, (_, i) => syntheticPhase(`phase ${i}`, 10 + (i % 7), i % 3 ? ['generated'] : []))]);
 
 describe('an import that creates its library file', () => {
-  it('makes the library an import into an empty file makes, in WAL mode, with nothing left beside it', () => {
+  it('makes the library that importing its references one by one makes, in WAL mode, with nothing left beside it', () => {
     const dir = tempDir();
     const built = join(dir, 'built.sqlite');
     expect(ReferenceLibrary.importIntoNew(built, refs(), { change: 'import from refs.json' })).toMatchObject({ updated: [], unchanged: [] });
     expect(readdirSync(dir)).toEqual(['built.sqlite']);
+    // One by one: each reference after the first stored by its own statements, the snapshot made from the stored rows.
     const plain = join(dir, 'plain.sqlite');
     const library = ReferenceLibrary.open(plain);
-    library.importCheckedReferences(refs(), { change: 'import from refs.json' });
+    for (const ref of refs()) library.importCheckedReferences([ref], { change: 'import from refs.json' });
     library.close();
     expect(contents(built)).toEqual(contents(plain));
     const raw = new Database(built, { readonly: true });
@@ -51,6 +52,23 @@ describe('an import that creates its library file', () => {
     const again = ReferenceLibrary.open(built);
     expect(again.importCheckedReferences(refs())).toMatchObject({ added: [], updated: [] });
     again.close();
+  });
+
+  it('stores the snapshot alike in many parts when the references come in name order (their values kept in parts as they are)', () => {
+    const dir = tempDir();
+    const sorted = checkReferences(Array.from({ length: 120 }, (_, i) => syntheticPhase(`phase ${String(i).padStart(3, '0')}`, 5 + (i % 11))));
+    const inParts = join(dir, 'parts.sqlite');
+    const writer = ReferenceLibrary.open(inParts, { snapshotPartBytes: 1000 }); // not a multiple of 16: a reference's values span two parts
+    writer.importCheckedReferences(sorted, { change: 'import' });
+    writer.close();
+    const raw = new Database(inParts, { readonly: true });
+    expect((raw.prepare(`SELECT count(*) AS n FROM line_index_part WHERE array = 'line_values'`).get() as { n: number }).n).toBeGreaterThan(10);
+    raw.close();
+    const whole = join(dir, 'whole.sqlite');
+    const library = ReferenceLibrary.open(whole);
+    for (const ref of sorted) library.importCheckedReferences([ref], { change: 'import' });
+    library.close();
+    expect(contents(inParts)).toEqual(contents(whole));
   });
 
   it('leaves no file when a reference is bad, and says what the source said', () => {
