@@ -1,7 +1,7 @@
 import type { Statement } from 'better-sqlite3';
 import { InputError } from '../../core/errors.js';
 import { formatReferenceJson, toFileEntry } from '../../core/library/json-format.js';
-import { packLines, packedLinesOf, unpackValues, withLazyLines, type PackedBlock, type PackedLines, type BlockSlice } from './packing.js';
+import { packedLinesOf, unpackValues, withLazyLines, type PackedBlock, type PackedLines, type BlockSlice } from './packing.js';
 import type { Reference, StoredReference } from '../../core/model/reference.js';
 import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from './schema.js';
 import { DEFAULT_BUSY_TIMEOUT_MS, openDatabase, readMeta, schemaVersion, writeMeta, type Db } from './sqlite.js';
@@ -520,7 +520,7 @@ export class ReferenceLibrary {
   /** Add one checked reference as a new version when its content differs from the current one (its row told to `written`). */
   private storeVersion(ref: Reference, change: string, options: StoreOptions = {}): keyof ImportSummary {
     const s = this.statements;
-    const packed = packLines(ref.lines);
+    const packed = packedLinesOf(ref);
     const hash = contentHash(ref, packed);
     const { batch } = options;
     const entry = batch ? undefined : s.entryByName.get(ref.name);
