@@ -192,11 +192,12 @@ export class ReferenceLibrary {
       // the snapshot is made from the rows in hand (their line values as they lie when they came in
       // name order); else from the stored rows.
       const current = this.statements.currentIdsByName.all();
-      if (!current.every((id) => written.has(id))) {
+      const inOrder = written.inOrder(current);
+      if (!inOrder && !current.every((id) => written.has(id))) {
         written.clear();
         this.saveSnapshot();
       } else {
-        const lineValues = written.inOrder(current) ? () => written.takeParts() : undefined;
+        const lineValues = inOrder ? () => written.takeParts() : undefined;
         this.saveSnapshot({ references: current.length, lines: written.lines, rows: written.rows(current), lineValues });
       }
       return summary;
@@ -573,9 +574,17 @@ const EMPTY = Buffer.alloc(0);
  * (when the rows came in name order, the parts are the snapshot's line_values as they are).
  */
 class WrittenRows {
-  /** Each row without its values, and where its values start (bytes). */
-  private readonly heads: Array<{ row: VersionRow; start: number }> = [];
-  private readonly byId = new Map<number, number>();
+  // One entry per row in each (no object per row): its VersionRow fields but the values, and where those start (bytes).
+  private readonly ids: number[] = [];
+  private readonly versions: number[] = [];
+  private readonly names: string[] = [];
+  private readonly sources: string[] = [];
+  private readonly details: string[] = [];
+  private readonly createdAt: string[] = [];
+  private readonly counts: number[] = [];
+  private readonly starts: number[] = [];
+  private readonly indices: (Buffer | null)[] = [];
+  private byId: Map<number, number> | null = null;
   private parts: Buffer[] = [];
   private bytes = 0;
   /** Lines of all rows. */
@@ -583,11 +592,18 @@ class WrittenRows {
 
   constructor(private readonly partBytes: number) {}
 
-  add(row: VersionRow): void {
-    const values = row[7];
-    this.byId.set(row[0], this.heads.length);
-    this.heads.push({ row: [row[0], row[1], row[2], row[3], row[4], row[5], row[6], EMPTY, row[8]], start: this.bytes });
-    this.lines += row[6];
+  add([id, version, name, source, details, createdAt, count, values, indices]: VersionRow): void {
+    this.ids.push(id);
+    this.versions.push(version);
+    this.names.push(name);
+    this.sources.push(source);
+    this.details.push(details);
+    this.createdAt.push(createdAt);
+    this.counts.push(count);
+    this.starts.push(this.bytes);
+    this.indices.push(indices);
+    this.byId = null;
+    this.lines += count;
     for (let from = 0; from < values.byteLength; ) {
       const at = this.bytes % this.partBytes;
       if (at === 0) this.parts.push(Buffer.allocUnsafe(this.partBytes));
@@ -599,21 +615,22 @@ class WrittenRows {
   }
 
   has(id: number): boolean {
-    return this.byId.has(id);
+    return this.positions().has(id);
   }
 
   /** Whether the rows were written in this order of ids, and only they. */
   inOrder(ids: readonly number[]): boolean {
-    return ids.length === this.heads.length && ids.every((id, k) => this.heads[k]!.row[0] === id);
+    return ids.length === this.ids.length && ids.every((id, k) => this.ids[k] === id);
   }
 
   /** The rows of these ids in this order, their values where they lie (copied when they span two parts). */
   *rows(ids: readonly number[]): Generator<VersionRow> {
-    for (const id of ids) {
-      const { row, start } = this.heads[this.byId.get(id)!]!;
-      const out: VersionRow = [...row];
-      out[7] = this.slice(start, start + 16 * row[6]);
-      yield out;
+    const positions = this.inOrder(ids) ? null : this.positions();
+    for (let r = 0; r < ids.length; r++) {
+      const k = positions ? positions.get(ids[r]!)! : r;
+      const start = this.starts[k]!;
+      const count = this.counts[k]!;
+      yield [this.ids[k]!, this.versions[k]!, this.names[k]!, this.sources[k]!, this.details[k]!, this.createdAt[k]!, count, this.slice(start, start + 16 * count), this.indices[k]!];
     }
   }
 
@@ -626,9 +643,15 @@ class WrittenRows {
   }
 
   clear(): void {
-    this.heads.length = 0;
-    this.byId.clear();
+    for (const list of [this.ids, this.versions, this.names, this.sources, this.details, this.createdAt, this.counts, this.starts, this.indices]) list.length = 0;
+    this.byId = null;
     this.parts = [];
+  }
+
+  /** Row position by id. */
+  private positions(): Map<number, number> {
+    if (!this.byId) this.byId = new Map(this.ids.map((id, k) => [id, k]));
+    return this.byId;
   }
 
   private slice(from: number, to: number): Buffer {
