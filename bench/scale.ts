@@ -11,7 +11,7 @@
  * also one measured pattern (test/fixtures/measured, 16 509 points).
  */
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { formatReferenceJson } from '../src/core/library/json-format.js';
@@ -20,8 +20,14 @@ import { BENCH_WAVELENGTH, cacheDir, syntheticLibrary } from './inputs.js';
 import { timeStats, type BenchRow } from './types.js';
 
 const CLI = join(dirname(fileURLToPath(import.meta.url)), '..', '..', 'bin', 'crystallog.js');
-/** The compiled `peaks` command module: importing it alone is the command's module load, without its first call. */
-const PEAKS_MODULE = pathToFileURL(join(dirname(fileURLToPath(import.meta.url)), '..', 'src', 'cli', 'commands', 'peaks.js')).href;
+/** The bundled `peaks` command module (its file named in the build's modules.json): importing it alone is the command's module load, without its first call. */
+const PEAKS_MODULE = ((): string => {
+  const bundle = join(dirname(fileURLToPath(import.meta.url)), '..', 'cli-bundle');
+  const inputs = JSON.parse(readFileSync(join(bundle, 'modules.json'), 'utf8')) as Record<string, string[]>;
+  const file = Object.keys(inputs).find((f) => inputs[f]!.includes('dist/src/cli/commands/peaks.js'));
+  if (!file) throw new Error(`${join(bundle, 'modules.json')} names no bundle file with the peaks command`);
+  return pathToFileURL(join(bundle, file)).href;
+})();
 const REFS = Number(process.env.CRYSTALLOG_BENCH_SCALE_REFS ?? 100_000);
 const ROUNDS = Number(process.env.CRYSTALLOG_BENCH_SCALE_ROUNDS ?? 3);
 /** Two batch sizes, both small enough for one worker: their difference gives the per-file cost, the rest is set-up. */

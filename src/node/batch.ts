@@ -8,7 +8,9 @@ import { availableParallelism } from 'node:os';
 import { Worker } from 'node:worker_threads';
 import { workerScriptBeside } from './worker-script.js';
 import type { StoredReference } from '../core/model/reference.js';
-import { packedLinesOf, wholeBlockOf, withLazyLines, type PackedBlock } from './library/packing.js';
+import { packedLinesOf } from './library/packing.js';
+import { headsOf, snapshotReferences, snapshotSourceOf, type SnapshotHeads, type SnapshotLines } from './library/stored-references.js';
+import { ReferenceLibrary } from './library/store.js';
 import { buildReferenceIndex, type ReferenceIndex } from '../core/match/reference-index.js';
 import type { InstrumentProfile } from '../core/size/instrument.js';
 import { checkTarget, createAnalysisContext, type AnalysisContext, type AnalysisSettings } from '../core/analysis/analyse.js';
@@ -44,24 +46,22 @@ export interface BatchOptions {
   workerScript?: URL;
 }
 
-/** A reference without its lines, as it is cloned into each worker (the lines travel packed and shared). */
-type ReferenceHead = Omit<StoredReference, 'lines'>;
+/**
+ * Every reference's lines in shared buffers: Float64 d then intensity per reference (packing.ts) from
+ * `valueStart[r]` (in doubles; one more entry marks the end), Int32 h, k, l, multiplicity at
+ * `indexStart[r]` (in ints; −1: none).
+ */
+type SharedLines =
+  | { values: SharedArrayBuffer; indices: SharedArrayBuffer; valueStart: Int32Array; indexStart: Int32Array }
+  /** Or, for references loaded from a library file with their lines left there: each worker reads the versions it needs from the file. */
+  | { library: string; valueStart: Int32Array };
 
 /**
- * Every reference's lines in shared buffers: Float64 d then intensity per reference (packing.ts) at
- * `valueStart[r]` (in doubles), Int32 h, k, l, multiplicity at `indexStart[r]` (in ints; −1: none).
+ * The setup as it crosses into a worker: the references' heads as the library snapshot keeps them
+ * (one text, made into reference objects only when read) and shared buffers, never a clone of every reference.
  */
-interface SharedLines {
-  values: SharedArrayBuffer;
-  indices: SharedArrayBuffer;
-  valueStart: Int32Array;
-  indexStart: Int32Array;
-  count: Int32Array;
-}
-
-/** The setup as it crosses into a worker: small heads and shared buffers, never a clone of every line. */
 export interface SharedSetup {
-  heads: ReferenceHead[];
+  heads: SnapshotHeads;
   lines: SharedLines;
   instrument: InstrumentProfile | null;
   settings: Partial<AnalysisSettings>;
@@ -104,35 +104,37 @@ export function workersFor(files: number): number {
 }
 
 function shareTyped<T extends Float64Array | Int32Array | Float32Array>(array: T): SharedArrayBuffer {
+  // Read from the library straight into shared memory: handed over as it is.
+  if (array.buffer instanceof SharedArrayBuffer && array.byteOffset === 0 && array.byteLength === array.buffer.byteLength) return array.buffer;
   const buffer = new SharedArrayBuffer(array.byteLength);
   new Uint8Array(buffer).set(new Uint8Array(array.buffer, array.byteOffset, array.byteLength));
   return buffer;
 }
 
 /**
- * Every reference's lines in two shared buffers, once for all workers: the library snapshot's block
- * copied whole when the references are that block in order, else packed reference by reference.
+ * The references' heads and lines in the form a worker rebuilds them from: a library snapshot's own
+ * heads and bytes when the references are that snapshot, else made here reference by reference.
  */
-function shareLines(references: readonly StoredReference[]): SharedLines {
-  const whole = wholeBlockOf(references);
-  if (whole && 'values' in whole.lines) {
-    const { values, indices, indexStart } = whole.lines;
-    return { values: shareBytes(values), indices: shareBytes(indices), valueStart: whole.valueStart, indexStart, count: whole.count };
+function shareReferences(references: readonly StoredReference[]): Pick<SharedSetup, 'heads' | 'lines'> {
+  const source = snapshotSourceOf(references);
+  if (source && 'library' in source.lines && source.lines.library !== ':memory:') return { heads: sharedHeads(source.heads), lines: { library: source.lines.library, valueStart: source.valueStart } };
+  if (source && 'values' in source.lines) {
+    const { values, indices, indexStart } = source.lines;
+    return { heads: sharedHeads(source.heads), lines: { values: shareBytes(values), indices: shareBytes(indices), valueStart: source.valueStart, indexStart } };
   }
   const n = references.length;
   const packed = references.map(packedLinesOf);
-  const valueStart = new Int32Array(n);
+  const valueStart = new Int32Array(n + 1);
   const indexStart = new Int32Array(n);
-  const count = new Int32Array(n);
   let doubles = 0;
   let ints = 0;
   packed.forEach((p, r) => {
     valueStart[r] = doubles;
-    count[r] = p.count;
     doubles += 2 * p.count;
     indexStart[r] = p.indices ? ints : -1;
     if (p.indices) ints += 4 * p.count;
   });
+  valueStart[n] = doubles;
   const values = new SharedArrayBuffer(doubles * 8);
   const indices = new SharedArrayBuffer(ints * 4);
   const valueBytes = new Uint8Array(values);
@@ -141,41 +143,26 @@ function shareLines(references: readonly StoredReference[]): SharedLines {
     valueBytes.set(p.values, valueStart[r]! * 8);
     if (p.indices) indexBytes.set(p.indices, indexStart[r]! * 4);
   });
-  return { values, indices, valueStart, indexStart, count };
+  return { heads: sharedHeads(headsOf(references, (r) => packed[r]!.count)), lines: { values, indices, valueStart, indexStart } };
+}
+
+/** The heads with their bytes in shared memory (every worker reads the one copy). */
+function sharedHeads(heads: SnapshotHeads): SnapshotHeads {
+  return heads.bytes.buffer instanceof SharedArrayBuffer ? heads : { ...heads, bytes: new Uint8Array(shareBytes(heads.bytes)) };
 }
 
 function shareBytes(bytes: Uint8Array): SharedArrayBuffer {
+  if (bytes.buffer instanceof SharedArrayBuffer && bytes.byteOffset === 0 && bytes.byteLength === bytes.buffer.byteLength) return bytes.buffer;
   const buffer = new SharedArrayBuffer(bytes.byteLength);
   new Uint8Array(buffer).set(bytes);
   return buffer;
-}
-
-/** References whose lines are decoded from the shared buffers on first use (most are never looked at). */
-function referencesFromShared(heads: readonly ReferenceHead[], shared: SharedLines): StoredReference[] {
-  const block: PackedBlock = {
-    lines: { values: Buffer.from(shared.values), indices: Buffer.from(shared.indices), indexStart: shared.indexStart },
-    valueStart: shared.valueStart,
-    count: shared.count,
-  };
-  return heads.map((head, r) => withLazyLines(head, { block, r }));
-}
-
-/**
- * A reference's fields without its lines, copied key by key: destructuring `{ lines, ...head }` would
- * read `lines` and so decode every line of a library's lazily decoded references.
- */
-function headOf(ref: StoredReference): ReferenceHead {
-  const head: Record<string, unknown> = {};
-  for (const key of Object.keys(ref)) if (key !== 'lines') head[key] = (ref as unknown as Record<string, unknown>)[key];
-  return head as unknown as ReferenceHead;
 }
 
 /** Index the references once and put the index and the lines where every worker can read them without a copy. */
 export function shareSetup(setup: BatchSetup): SharedSetup {
   const index = setup.index ?? buildReferenceIndex(setup.references);
   return {
-    heads: setup.references.map(headOf),
-    lines: shareLines(setup.references),
+    ...shareReferences(setup.references),
     instrument: setup.instrument,
     settings: setup.settings,
     index: { d: shareTyped(index.d), referenceOf: shareTyped(index.referenceOf), intensity: shareTyped(index.intensity), ...(index.libraryDigest ? { libraryDigest: index.libraryDigest } : {}) },
@@ -184,7 +171,12 @@ export function shareSetup(setup: BatchSetup): SharedSetup {
 
 /** The analysis context inside a worker, on the shared index and lines. */
 export function contextFromShared(shared: SharedSetup): AnalysisContext {
-  const references = referencesFromShared(shared.heads, shared.lines);
+  const shares = shared.lines;
+  // A worker reading from the library file keeps its connection for its life (the versions never change).
+  const lines: SnapshotLines = 'library' in shares
+    ? { ...ReferenceLibrary.openLineReader(shares.library), library: shares.library }
+    : { values: Buffer.from(shares.values), indices: Buffer.from(shares.indices), indexStart: shares.indexStart };
+  const references = snapshotReferences({ heads: shared.heads, lines, valueStart: shares.valueStart });
   const index: ReferenceIndex = {
     references,
     d: new Float64Array(shared.index.d),

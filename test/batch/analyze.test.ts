@@ -9,6 +9,8 @@ import { patternToXyText, simulatePattern } from '../../src/core/crystal/simulat
 import { InputError } from '../../src/core/errors.js';
 import type { Reference } from '../../src/core/model/reference.js';
 import { ReferenceLibrary } from '../../src/node/library/store.js';
+import { analyzeFiles, shareSetup } from '../../src/node/batch.js';
+import { loadReferencesWithIndex } from '../../src/cli/common/io.js';
 import { dFromTwoTheta } from '../../src/core/model/units.js';
 import { anodeWavelength } from '../../src/core/model/wavelengths.js';
 
@@ -57,9 +59,10 @@ async function run(options: Partial<AnalyzeCommandOptions>, inputs: string[] = f
 
 beforeAll(async () => {
   dir = mkdtempSync(join(tmpdir(), 'crystallog-batch-test-'));
-  // Tests run from TypeScript sources; the worker thread needs JavaScript, so bundle it once.
-  const outfile = join(dir, 'batch-worker.mjs');
-  await build({ entryPoints: [fileURLToPath(new URL('../../src/node/batch-worker.ts', import.meta.url))], bundle: true, platform: 'node', format: 'esm', outfile, logLevel: 'silent' });
+  // Tests run from TypeScript sources; the worker thread needs JavaScript, so bundle it once, inside the
+  // project so that its packages (the SQLite binding a worker reads lines with) resolve from node_modules.
+  const outfile = join(fileURLToPath(new URL('../../node_modules/.cache/crystallog-test/', import.meta.url)), `batch-worker-${process.pid}.mjs`);
+  await build({ entryPoints: [fileURLToPath(new URL('../../src/node/batch-worker.ts', import.meta.url))], bundle: true, platform: 'node', format: 'esm', packages: 'external', outfile, logLevel: 'silent' });
   workerScript = pathToFileURL(outfile);
   library = join(dir, 'library.db');
   const store = ReferenceLibrary.open(library);
@@ -72,6 +75,7 @@ beforeAll(async () => {
 
 afterAll(() => {
   if (dir) rmSync(dir, { recursive: true, force: true });
+  if (workerScript) rmSync(workerScript, { force: true });
 });
 
 describe('crystallog analyze over many files', () => {
@@ -88,6 +92,20 @@ describe('crystallog analyze over many files', () => {
       expect(f.error).toBeUndefined();
       expect(f.match!.phases[0]).toMatchObject({ name: expected[i], verdict: 'present' });
     });
+  }, 60_000);
+
+  it('gives the same results when the workers read the lines from the library file as with every line handed to them', async () => {
+    const good = files.filter((f) => !f.endsWith('broken.xy'));
+    const fromFile = loadReferencesWithIndex(library); // the library is closed again: only the workers read lines
+    const store = ReferenceLibrary.open(library, { readOnly: true });
+    const inMemory = store.all();
+    store.close();
+    const settings = {};
+    expect('library' in shareSetup({ ...fromFile, instrument: null, settings }).lines).toBe(true); // the lines stay in the file
+    const viaFile = await analyzeFiles(good, { ...fromFile, instrument: null, settings }, { workers: 2, workerScript });
+    const viaMemory = await analyzeFiles(good, { references: inMemory, instrument: null, settings }, { workers: 2, workerScript });
+    expect(viaFile.every((o) => o.error === null && o.json !== null)).toBe(true);
+    expect(viaFile.map((o) => o.json)).toEqual(viaMemory.map((o) => o.json));
   }, 60_000);
 
   it('gives byte-identical JSON with one worker and with three', async () => {

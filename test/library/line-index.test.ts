@@ -167,7 +167,7 @@ describe('a library from the version before the stored index', () => {
     reopened.close();
   });
 
-  it('with the one-row snapshot of schema 3 is brought up to date with a note, and its snapshot made anew in parts matches as before', async () => {
+  it('with the one-row snapshot of schema 3 is brought up to date with a note by a reader, its snapshot made anew in parts, and matches as before', async () => {
     const path = join(dir, 'schema-3.db');
     const library = ReferenceLibrary.open(path);
     library.importReferences(loadSeedReferences());
@@ -182,10 +182,13 @@ describe('a library from the version before the stored index', () => {
     raw.close();
     const reader = ReferenceLibrary.open(path, { readOnly: true });
     expect(reader.openNotes.some((n) => /brought up to date from schema version 3/.test(n))).toBe(true);
-    const unindexed = reader.referencesWithIndex(); // no snapshot yet, and a reader does not write one: made in memory
-    expect(unindexed.references).toEqual(expected.references);
-    expectSameIndex(unindexed.index, expected.index);
+    const upgraded = reader.referencesWithIndex(); // the snapshot was made anew with the upgrade, the one write of this open
+    expect(upgraded.references).toEqual(expected.references);
+    expectSameIndex(upgraded.index, expected.index);
     reader.close();
+    const snapshot = new Database(path, { readonly: true });
+    expect(snapshot.prepare(`SELECT count(*) AS n FROM line_index`).get()).toEqual({ n: 1 });
+    snapshot.close();
     const writer = ReferenceLibrary.open(path);
     const rebuilt = writer.referencesWithIndex();
     expect(rebuilt.references).toEqual(expected.references);

@@ -6,7 +6,7 @@
 import { crystallinityEstimate, type CrystallinityEstimate } from './crystallinity.js';
 import { InputError } from '../errors.js';
 import { sha256Stream } from '../model/checksum.js';
-import type { StoredReference } from '../model/reference.js';
+import { namesOf, type StoredReference } from '../model/reference.js';
 import { buildReferenceIndex, type ReferenceIndex } from '../match/reference-index.js';
 import { matchPhases } from '../match/match.js';
 import { type MatchOptions, type MatchResult } from '../match/types.js';
@@ -103,20 +103,27 @@ export interface ReferenceLookup {
 /** Scans below this many lookups, then builds a map (a single match asks for a few names out of 100 000). */
 const SCANS_BEFORE_MAP = 16;
 
-/** References by exact name: the first few lookups scan the list, later ones use a map built once. */
+/** References by exact name: the first few lookups scan the names, later ones use a map built once. */
 export class ReferencesByName implements ReferenceLookup {
-  private map: Map<string, StoredReference> | null = null;
+  private map: Map<string, number> | null = null;
   private scans = 0;
+  private names: readonly string[] | null = null;
   constructor(private readonly references: readonly StoredReference[]) {}
   get(name: string): StoredReference | undefined {
+    const at = this.positionOf(name);
+    return at === undefined ? undefined : this.references[at];
+  }
+  private positionOf(name: string): number | undefined {
     if (this.map) return this.map.get(name);
+    this.names ??= namesOf(this.references);
+    const names = this.names;
     if (this.scans++ < SCANS_BEFORE_MAP) {
       // Scanned from the end: with equal names the last wins, as in a map built from the list.
-      for (let i = this.references.length - 1; i >= 0; i--) if (this.references[i]!.name === name) return this.references[i];
+      for (let i = names.length - 1; i >= 0; i--) if (names[i] === name) return i;
       return undefined;
     }
     this.map = new Map();
-    for (const r of this.references) this.map.set(r.name, r);
+    names.forEach((n, i) => this.map!.set(n, i));
     return this.map.get(name);
   }
 }
@@ -134,7 +141,8 @@ function checkPhaseNamed(references: readonly StoredReference[], name: string | 
 
 function findByName(references: readonly StoredReference[], name: string): StoredReference | undefined {
   const key = name.toLowerCase();
-  return references.find((r) => r.name.toLowerCase() === key);
+  const at = namesOf(references).findIndex((n) => n.toLowerCase() === key);
+  return at < 0 ? undefined : references[at];
 }
 
 export function libraryDigest(references: readonly Pick<StoredReference, 'name' | 'version'>[]): string {

@@ -5,7 +5,7 @@
  */
 import { InputError } from '../errors.js';
 import { checkSettingRange } from '../model/setting-ranges.js';
-import type { StoredReference } from '../model/reference.js';
+import { positionsTagged, type StoredReference } from '../model/reference.js';
 import type { FittedPeak } from '../model/peak.js';
 import { dFromTwoTheta } from '../model/units.js';
 import { buildPeakTable } from './peak-table.js';
@@ -478,17 +478,7 @@ const boundedByLibrary = new WeakMap<readonly StoredReference[], number[]>();
 function boundedReferences(refs: readonly StoredReference[]): number[] {
   let found = boundedByLibrary.get(refs);
   if (!found) {
-    found = [];
-    const bounded = new Set(BOUNDED_ABSENCE_TAGS);
-    for (let r = 0; r < refs.length; r++) {
-      const tags = refs[r]!.tags;
-      for (let t = 0; t < tags.length; t++) {
-        if (bounded.has(tags[t]!)) {
-          found.push(r);
-          break;
-        }
-      }
-    }
+    found = positionsTagged(refs, BOUNDED_ABSENCE_TAGS);
     boundedByLibrary.set(refs, found);
   }
   return found;

@@ -2,7 +2,7 @@
  * Which measured peaks the phases of an explanation claim, and what is left: clear peaks still open,
  * low-angle peaks, the areas per fitted group for the joint scales, and the unexplained peaks.
  */
-import type { StoredReference } from '../model/reference.js';
+import { positionsTagged, type StoredReference } from '../model/reference.js';
 import { nearestPeak, type PeakTable } from './peak-table.js';
 import { type GroupIntensities } from './quantify.js';
 import { phaseLines, type Claims, type PhaseEvaluation } from './score.js';
@@ -143,9 +143,7 @@ export function unexplainedPeaks(
   lambda: number,
   shift: MatchShift,
 ): UnexplainedPeak[] {
-  const decomposition = refs
-    .filter((r) => r.tags.includes(DECOMPOSITION_TAG))
-    .map((r) => phaseLines(r, lambda, table.rangeMin, table.rangeMax));
+  const decomposition = positionsTagged(refs, [DECOMPOSITION_TAG]).map((r) => phaseLines(refs[r]!, lambda, table.rangeMin, table.rangeMax));
   const out: UnexplainedPeak[] = [];
   for (let k = 0; k < table.count; k++) {
     if (claims.claimed[k] >= 0) continue;

@@ -29,6 +29,9 @@ export interface SolidSolution {
 
 const normalisedGroup = (symbol: string | undefined): string | null => (symbol ? symbol.replace(/[\s_]/g, '').toLowerCase() : null);
 
+/** The space group of a cell as compared (spaces and underscores dropped, any case), or null when it names none. */
+export const normalisedGroupOf = (cell: UnitCell | null | undefined): string | null => normalisedGroup(cell?.spaceGroup);
+
 function similarCells(p: UnitCell, q: UnitCell): boolean {
   if (normalisedGroup(p.spaceGroup) === null || normalisedGroup(p.spaceGroup) !== normalisedGroup(q.spaceGroup)) return false;
   const edge = (x: number, y: number): boolean => Math.abs(x - y) <= SIMILAR_EDGE_FRACTION * Math.min(x, y);
@@ -41,20 +44,35 @@ const partnersByLibrary = new WeakMap<readonly StoredReference[], Map<number, nu
 export function solidSolutionPartners(refs: readonly StoredReference[]): Map<number, number[]> {
   let found = partnersByLibrary.get(refs);
   if (found) return found;
-  found = new Map();
+  // The space group is asked first: most references have none, and their lines are then never decoded.
+  found = structurePartners(refs.map((r) => (normalisedGroupOf(r.cell) !== null && r.lines.some((l) => l.hkl) ? r.cell : null)));
+  partnersByLibrary.set(refs, found);
+  return found;
+}
+
+/** The partners of a library's references as found earlier (the library keeps them with its snapshot), so none is read to find them. */
+export function knownPartners(refs: readonly StoredReference[], partners: Map<number, number[]>): void {
+  partnersByLibrary.set(refs, partners);
+}
+
+/**
+ * Per position, the other positions of its structure type: same space group, similar cell. A
+ * reference takes part only with a cell that names its space group and lines indexed by hkl (null: it does not).
+ */
+export function structurePartners(cells: readonly (UnitCell | null | undefined)[]): Map<number, number[]> {
+  const found = new Map<number, number[]>();
   const byGroup = new Map<string, number[]>();
-  refs.forEach((r, i) => {
-    const group = normalisedGroup(r.cell?.spaceGroup);
-    if (group === null || !r.lines.some((l) => l.hkl)) return;
+  cells.forEach((cell, i) => {
+    const group = normalisedGroup(cell?.spaceGroup);
+    if (group === null) return;
     byGroup.set(group, [...(byGroup.get(group) ?? []), i]);
   });
   for (const members of byGroup.values()) {
     for (const i of members) {
-      const partners = members.filter((j) => j !== i && similarCells(refs[i].cell!, refs[j].cell!));
+      const partners = members.filter((j) => j !== i && similarCells(cells[i]!, cells[j]!));
       if (partners.length > 0) found.set(i, partners);
     }
   }
-  partnersByLibrary.set(refs, found);
   return found;
 }
 

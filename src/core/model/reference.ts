@@ -34,3 +34,38 @@ export interface StoredReference extends Reference {
   version: number;
   createdAt: string;
 }
+
+/**
+ * What a lazily loaded list of references (stored-references.ts) knows of all its references without
+ * making them: their names in order, and the positions of the references with a tag.
+ */
+export interface ListFacts {
+  names: () => readonly string[];
+  /** Positions of the references with this tag (exact), ascending. */
+  tagged: (tag: string) => readonly number[];
+}
+
+const factsOfList = new WeakMap<object, ListFacts>();
+
+/** Tell lookups by name or tag what the list holds, so that they make none of its references. */
+export function withListFacts<T extends readonly Reference[]>(references: T, facts: ListFacts): T {
+  factsOfList.set(references, facts);
+  return references;
+}
+
+/** The names of the list's references in order: known ones without reading the references, else read from them. */
+export function namesOf(references: readonly Reference[]): readonly string[] {
+  return factsOfList.get(references)?.names() ?? references.map((r) => r.name);
+}
+
+/** Positions of the references that carry any of these tags (exact), ascending. */
+export function positionsTagged(references: readonly Reference[], tags: readonly string[]): number[] {
+  const facts = factsOfList.get(references);
+  if (facts) return [...new Set(tags.flatMap((tag) => facts.tagged(tag)))].sort((a, b) => a - b);
+  const wanted = new Set(tags);
+  const found: number[] = [];
+  references.forEach((r, i) => {
+    if (r.tags.some((tag) => wanted.has(tag))) found.push(i);
+  });
+  return found;
+}

@@ -39,6 +39,14 @@ export function packLines(lines: readonly ReferenceLine[]): PackedLines {
   return { count: n, values: Buffer.from(values.buffer, values.byteOffset, values.byteLength), indices };
 }
 
+/** Whether any packed line carries an hkl. */
+export function hasHkl(indices: Uint8Array | null, count: number): boolean {
+  if (!indices) return false;
+  const packed = viewAs(Int32Array, indices, 4 * count);
+  for (let i = 0; i < count; i++) if (packed[4 * i] !== ABSENT) return true;
+  return false;
+}
+
 /** d and intensity of the packed lines as typed arrays (intensity NaN = unknown). */
 export function unpackValues(values: Uint8Array, count: number): { d: Float64Array; intensity: Float64Array } {
   const all = viewAs(Float64Array, values, 2 * count);
@@ -98,20 +106,6 @@ export interface BlockSlice {
 /** The packed lines of references read from a store (their stored bytes, or where they lie in a snapshot), so no line objects are needed. */
 const packedOf = new WeakMap<object, PackedLines | BlockSlice>();
 
-/**
- * The block the references' lines already lie in, in this order (reference r at position r of one
- * block with its lines loaded), or null: a batch then shares that block whole instead of re-packing.
- */
-export function wholeBlockOf(references: readonly Reference[]): PackedBlock | null {
-  let block: PackedBlock | null = null;
-  for (let r = 0; r < references.length; r++) {
-    const known = packedOf.get(references[r]!);
-    if (!known || !('block' in known) || known.r !== r || (block !== null && known.block !== block)) return null;
-    block = known.block;
-  }
-  return block && !('read' in block.lines) && block.count.length === references.length ? block : null;
-}
-
 /** A reference's lines packed: the stored bytes for references loaded from a library, else packed now. */
 export function packedLinesOf(ref: Reference): PackedLines {
   const known = packedOf.get(ref);
@@ -121,7 +115,7 @@ export function packedLinesOf(ref: Reference): PackedLines {
   }
   if (!('block' in known)) return known;
   const packed = sliceOf(known);
-  // A read from the library is kept; a slice of a loaded block stays a slice (cheap to cut again, and wholeBlockOf still sees the block).
+  // A read from the library is kept; a slice of a loaded block stays a slice (cheap to cut again).
   if ('read' in known.block.lines) packedOf.set(ref, packed);
   return packed;
 }

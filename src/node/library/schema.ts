@@ -89,6 +89,24 @@ export const LIBRARY_MIGRATIONS: readonly Migration[] = [
       ) STRICT;
     `);
   },
+  // 5: the snapshot's heads become UTF-8 bytes (part heads) with where each starts (part head_start),
+  // and where each reference's lines start in line_values (part value_start), so that loading it
+  // decodes no head until its reference is read; its names, tags and solid-solution partners are kept
+  // beside them for lookups that would otherwise read every head. The snapshot is a cache: the old one is dropped.
+  (db) => {
+    db.exec(`
+      DROP TABLE line_index;
+      DELETE FROM line_index_part;
+      CREATE TABLE line_index (
+        id INTEGER PRIMARY KEY CHECK (id = 1),
+        stamp TEXT NOT NULL,
+        digest TEXT NOT NULL,        -- the library digest (names and versions, analyse.ts)
+        names TEXT NOT NULL,         -- the references' names in name order (JSON); their heads are in line_index_part
+        tagged TEXT NOT NULL,        -- {tag: [positions]}: which of them carry each tag (JSON)
+        partners TEXT NOT NULL       -- solid-solution partners, [[position, [positions]], ...] (solid-solution.ts; JSON)
+      ) STRICT;
+    `);
+  },
 ];
 
 export const LIBRARY_KIND = 'reference-library';

@@ -1,7 +1,9 @@
 import type { Statement } from 'better-sqlite3';
 import { InputError } from '../../core/errors.js';
 import { formatReferenceJson, toFileEntry } from '../../core/library/json-format.js';
-import { packedLinesOf, unpackValues, withLazyLines, type PackedBlock, type PackedLines, type BlockSlice } from './packing.js';
+import { hasHkl, packedLinesOf, unpackValues, type PackedLines } from './packing.js';
+import { normalisedGroupOf } from '../../core/match/solid-solution.js';
+import { detailsOf, HeadsBuilder, snapshotReferences, storedReference, type SnapshotLines, type VersionDetails } from './stored-references.js';
 import type { Reference, StoredReference } from '../../core/model/reference.js';
 import { LIBRARY_KIND, LIBRARY_MIGRATIONS } from './schema.js';
 import { DEFAULT_BUSY_TIMEOUT_MS, openDatabase, readMeta, schemaVersion, writeMeta, type Db } from './sqlite.js';
@@ -74,15 +76,6 @@ type VersionRow = [
   lineIndices: Buffer | null,
 ];
 
-/** The fields of a version kept in its `details` JSON. */
-interface VersionDetails {
-  formula: string;
-  tags: string[];
-  notes?: string;
-  rir?: number;
-  cell?: Reference['cell'];
-  intensityBasis?: string;
-}
 
 const VERSION_COLUMNS = `v.entry_id AS id, v.version, v.name, v.source, v.details, v.created_at, v.line_count, v.line_values, v.line_indices`;
 const CURRENT = `FROM reference_entry e JOIN reference_version v ON v.entry_id = e.id AND v.version = e.current_version
@@ -112,7 +105,13 @@ export class ReferenceLibrary {
   static open(path: string, options: OpenLibraryOptions = {}): ReferenceLibrary {
     const found = { notes: [] as string[] };
     const { onLockWait, snapshotPartBytes, ...databaseOptions } = options;
-    const db = openDatabase(path, { kind: LIBRARY_KIND, migrations: LIBRARY_MIGRATIONS, ...databaseOptions }, found);
+    // A reader that brings an older file up to date remakes its matching snapshot in the same go, so
+    // later reads load it in one read instead of decoding every reference.
+    const afterUpgrade = (writer: Db) => {
+      const library = new ReferenceLibrary(writer, path, options.busyTimeoutMs ?? DEFAULT_BUSY_TIMEOUT_MS, onLockWait, snapshotPartBytes ?? SNAPSHOT_PART_BYTES);
+      library.write(() => library.saveSnapshot());
+    };
+    const db = openDatabase(path, { kind: LIBRARY_KIND, migrations: LIBRARY_MIGRATIONS, ...databaseOptions, afterUpgrade }, found);
     if (options.readOnly && schemaVersion(db) === 0) {
       db.close();
       throw new InputError('this library file holds no references yet; add some with: crystallog library import FILE --library ' + path, { file: path });
@@ -243,14 +242,19 @@ export class ReferenceLibrary {
    * the library is open). When the snapshot is missing or older than the library, it is made from
    * the packed line arrays (never from line objects) and, when the file is writable, stored.
    */
-  referencesWithIndex(options: { linesOnDemand?: boolean } = {}): { references: StoredReference[]; index: ReferenceIndex } {
+  referencesWithIndex(options: { linesOnDemand?: boolean; sharedMemory?: boolean } = {}): { references: readonly StoredReference[]; index: ReferenceIndex } {
     const head = this.statements.snapshotHead.get();
     if (head && head.stamp === this.stamp()) {
-      const blob = (name: SnapshotBlob) => this.readPart(name);
-      const lines = options.linesOnDemand
-        ? { read: (id: number, version: number) => this.packedLinesOfVersion(id, version) }
+      const blob = (name: SnapshotBlob) => this.readPart(name, options.sharedMemory ?? false);
+      const lines: SnapshotLines = options.linesOnDemand
+        ? { read: (id: number, version: number) => this.packedLinesOfVersion(id, version), library: this.path }
         : { values: blob('line_values'), indices: blob('line_indices'), indexStart: typedView(Int32Array, blob('index_start')) };
-      const references = referencesFromSnapshot(this.statements.snapshotHeads.get()!, lines);
+      const facts = this.statements.snapshotFacts.get()!;
+      const references = snapshotReferences({
+        heads: { bytes: blob('heads'), start: typedView(Int32Array, blob('head_start')), ...facts },
+        lines,
+        valueStart: typedView(Int32Array, blob('value_start')),
+      });
       const index = { d: typedView(Float64Array, blob('d')), referenceOf: typedView(Int32Array, blob('reference_of')), intensity: typedView(Float32Array, blob('intensity')) };
       return { references, index: { ...referenceIndexFromPacked(references, index), libraryDigest: head.digest } };
     }
@@ -260,6 +264,15 @@ export class ReferenceLibrary {
     }
     const references = this.all();
     return { references, index: referenceIndexFromPacked(references, packedIndexOf(references)) };
+  }
+
+  /**
+   * Reads stored versions' packed lines from a library file by id and version, read-only (a batch
+   * worker reading the lines its patterns ask for; a version never changes once stored).
+   */
+  static openLineReader(path: string): { read: (id: number, version: number) => PackedLines; close: () => void } {
+    const library = ReferenceLibrary.open(path, { readOnly: true });
+    return { read: (id, version) => library.packedLinesOfVersion(id, version), close: () => library.close() };
   }
 
   /** A stored version's packed lines, read while the library is open (for references whose lines are read on demand). */
@@ -288,8 +301,9 @@ export class ReferenceLibrary {
     let lineValues: Float64Array | null = given?.lineValues ? null : new Float64Array(2 * lines);
     let gathered: PackedLineIndex | null = { d: new Float64Array(lines), referenceOf: new Int32Array(lines), intensity: new Float32Array(lines) };
     const indexStart = new Int32Array(references);
+    const valueStart = new Int32Array(references + 1);
     const indices: Buffer[] = [];
-    const heads: string[] = [];
+    const builder = new HeadsBuilder();
     const digestOf: { name: string; version: number }[] = [];
     let n = 0;
     let ints = 0;
@@ -309,13 +323,19 @@ export class ReferenceLibrary {
         indices.push(Buffer.from(lineIndices));
         ints += 4 * count;
       }
-      heads.push(`[${id},${version},${JSON.stringify(name)},${JSON.stringify(source)},${details},${JSON.stringify(createdAt)},${count}]`);
+      const { tags, cell } = JSON.parse(details) as VersionDetails;
+      builder.add(id, version, name, source, details, tags, normalisedGroupOf(cell) !== null && hasHkl(lineIndices, count) ? cell! : null, createdAt, count);
+      valueStart[r] = 2 * n;
       digestOf.push({ name, version });
       n += count;
       r++;
     }
-    this.statements.saveSnapshot.run({ stamp: this.stamp(), digest: libraryDigest(digestOf), heads: `[${heads.join(',')}]` });
-    heads.length = 0;
+    valueStart[r] = 2 * n;
+    const heads = builder.finish();
+    this.statements.saveSnapshot.run({ stamp: this.stamp(), digest: libraryDigest(digestOf), names: heads.names, tagged: heads.tagged, partners: heads.partners });
+    this.savePart('heads', Buffer.from(heads.bytes.buffer, heads.bytes.byteOffset, heads.bytes.byteLength));
+    this.savePart('head_start', bytes(heads.start));
+    this.savePart('value_start', bytes(valueStart));
     this.saveParts('line_values', lineValues ? [bytes(lineValues)] : given!.lineValues!());
     lineValues = null;
     this.savePart('line_indices', Buffer.concat(indices));
@@ -344,9 +364,10 @@ export class ReferenceLibrary {
     if (part === 0) this.statements.savePart.run(array, 0, EMPTY);
   }
 
-  /** One array of the snapshot, its parts joined in one buffer. */
-  private readPart(array: SnapshotBlob): Buffer {
-    const whole = Buffer.allocUnsafe(this.statements.partBytes.get(array) ?? 0);
+  /** One array of the snapshot, its parts joined in one buffer (in shared memory, for a batch's workers, when asked). */
+  private readPart(array: SnapshotBlob, shared: boolean): Buffer {
+    const size = this.statements.partBytes.get(array) ?? 0;
+    const whole = shared ? Buffer.from(new SharedArrayBuffer(size)) : Buffer.allocUnsafe(size);
     let at = 0;
     for (const bytes of this.statements.parts.iterate(array)) {
       whole.set(bytes, at);
@@ -737,35 +758,10 @@ class NewRows {
   }
 }
 
-/** The snapshot's arrays (line_index_part, schema.ts steps 3 and 4), each stored in parts of at most 8 MB. */
-const SNAPSHOT_BLOBS = ['line_values', 'line_indices', 'index_start', 'd', 'reference_of', 'intensity'] as const;
+/** The snapshot's arrays (line_index_part, schema.ts steps 3 to 5), each stored in parts of at most 8 MB. */
+const SNAPSHOT_BLOBS = ['heads', 'head_start', 'line_values', 'line_indices', 'index_start', 'value_start', 'd', 'reference_of', 'intensity'] as const;
 const SNAPSHOT_PART_BYTES = 8 * 1024 * 1024;
 type SnapshotBlob = (typeof SNAPSHOT_BLOBS)[number];
-
-/**
- * The references of a snapshot: heads from one JSON array, lines left in the packed bytes until read,
- * or (given `read`) read from the library by id and version when asked for.
- */
-function referencesFromSnapshot(headsJson: string, lines: { values: Buffer; indices: Buffer; indexStart: Int32Array } | { read: (id: number, version: number) => PackedLines }): StoredReference[] {
-  const heads = JSON.parse(headsJson) as Array<[number, number, string, string, VersionDetails, string, number]>;
-  const n = heads.length;
-  const ids = new Int32Array(n);
-  const versions = new Int32Array(n);
-  const block: PackedBlock = {
-    lines: 'read' in lines ? { read: (r) => lines.read(ids[r]!, versions[r]!) } : lines,
-    valueStart: new Int32Array(n),
-    count: new Int32Array(n),
-  };
-  let doubles = 0;
-  return heads.map(([id, version, name, source, details, createdAt, count], r) => {
-    ids[r] = id;
-    versions[r] = version;
-    block.valueStart[r] = doubles;
-    block.count[r] = count;
-    doubles += 2 * count;
-    return storedReference(id, version, name, source, details, createdAt, { block, r });
-  });
-}
 
 interface EntryRow {
   id: number;
@@ -809,14 +805,14 @@ function prepareStatements(db: Db) {
       { line_count: number; line_values: Buffer; line_indices: Buffer | null }
     >,
     snapshotHead: db.prepare(`SELECT stamp, digest FROM line_index WHERE id = 1`) as Statement<[], { stamp: string; digest: string }>,
-    snapshotHeads: (db.prepare(`SELECT heads FROM line_index WHERE id = 1`) as Statement<[], string>).pluck(),
+    snapshotFacts: db.prepare(`SELECT names, tagged, partners FROM line_index WHERE id = 1`) as Statement<[], { names: string; tagged: string; partners: string }>,
     parts: (db.prepare(`SELECT bytes FROM line_index_part WHERE array = ? ORDER BY part`) as Statement<[string], Buffer>).pluck(),
     partBytes: (db.prepare(`SELECT sum(length(bytes)) FROM line_index_part WHERE array = ?`) as Statement<[string], number | null>).pluck(),
     currentIdsByName: (db.prepare(`SELECT e.id FROM reference_entry e WHERE e.deleted_at IS NULL ORDER BY e.name`) as Statement<[], number>).pluck(),
     currentTotals: db.prepare(`SELECT count(*) AS "references", coalesce(sum(v.line_count), 0) AS lines ${CURRENT}`) as Statement<[], { references: number; lines: number }>,
     stamp: db.prepare(`SELECT count(*) AS n, total(current_version) AS versions, (SELECT max(rowid) FROM reference_version) AS last
       FROM reference_entry WHERE deleted_at IS NULL`) as Statement<[], { n: number; versions: number; last: number | null }>,
-    saveSnapshot: db.prepare(`INSERT OR REPLACE INTO line_index (id, stamp, digest, heads) VALUES (1, @stamp, @digest, @heads)`),
+    saveSnapshot: db.prepare(`INSERT OR REPLACE INTO line_index (id, stamp, digest, names, tagged, partners) VALUES (1, @stamp, @digest, @names, @tagged, @partners)`),
     savePart: db.prepare(`INSERT OR REPLACE INTO line_index_part (array, part, bytes) VALUES (?, ?, ?)`),
     dropSnapshot: db.prepare(`DELETE FROM line_index`),
     dropParts: db.prepare(`DELETE FROM line_index_part`),
@@ -861,14 +857,6 @@ function sameContent(stored: string | undefined, hash: string, ref: Reference): 
   return stored === createHash('sha256').update(canonicalContent(ref)).digest('hex');
 }
 
-function detailsOf(ref: Reference): VersionDetails {
-  const details: VersionDetails = { formula: ref.formula, tags: ref.tags };
-  if (ref.notes !== undefined) details.notes = ref.notes;
-  if (ref.rir !== undefined && ref.rir !== null) details.rir = ref.rir;
-  if (ref.cell) details.cell = ref.cell;
-  if (ref.intensityBasis !== undefined) details.intensityBasis = ref.intensityBasis;
-  return details;
-}
 
 
 /**
@@ -877,15 +865,6 @@ function detailsOf(ref: Reference): VersionDetails {
  */
 function storedFromRow([id, version, name, source, detailsJson, createdAt, count, values, indices]: VersionRow): StoredReference {
   return storedReference(id, version, name, source, JSON.parse(detailsJson) as VersionDetails, createdAt, { count, values, indices });
-}
-
-function storedReference(id: number, version: number, name: string, source: string, details: VersionDetails, createdAt: string, packed: PackedLines | BlockSlice): StoredReference {
-  const ref: Omit<StoredReference, 'lines'> = { id, version, createdAt, name, formula: details.formula, tags: details.tags, source };
-  if (details.notes !== undefined) ref.notes = details.notes;
-  if (details.rir !== undefined) ref.rir = details.rir;
-  if (details.cell) ref.cell = details.cell;
-  if (details.intensityBasis !== undefined) ref.intensityBasis = details.intensityBasis;
-  return withLazyLines(ref, packed);
 }
 
 /**
