@@ -1,13 +1,13 @@
 import type { Command } from 'commander';
 import { InputError } from '../../core/errors.js';
-import { existsSync, rmSync } from 'node:fs';
+import { existsSync } from 'node:fs';
 import { checkReferences } from '../../core/library/validate.js';
 import { streamReferenceFile } from '../../node/library/import-files.js';
 import type { SkippedCifBlock } from '../../core/crystal/structure.js';
 import { formatReferenceJson } from '../../core/library/json-format.js';
 import type { Reference } from '../../core/model/reference.js';
 import { ensureSeeded } from '../../node/library/seed.js';
-import { type ImportSummary, type ReferenceVersionInfo } from '../../node/library/store.js';
+import { ReferenceLibrary, type ImportSummary, type ReferenceVersionInfo } from '../../node/library/store.js';
 import { parseWavelength } from '../../core/model/wavelengths.js';
 import { withLibrary, writeFileAtomically } from '../common/io.js';
 import { runCommand } from '../common/run-command.js';
@@ -133,8 +133,8 @@ function withCifDetails(file: string, refs: Reference[], o: ImportOptions): Refe
 
 /**
  * Store the references of every file in one transaction, each file read as it is stored (a large JSON
- * file streamed): one bad reference in any file changes nothing, and a library file this import
- * created is removed again.
+ * file streamed): one bad reference in any file changes nothing, and a library file the import
+ * would create is not made (it is built beside and put in place whole, ReferenceLibrary.importIntoNew).
  */
 export function importCommand(files: string[], o: ImportOptions): ImportResult {
   const wavelength = o.wavelength === undefined ? undefined : parseWavelength(o.wavelength);
@@ -162,20 +162,24 @@ export function importCommand(files: string[], o: ImportOptions): ImportResult {
       entry.skipped = contents.skipped;
     }
   }
-  const created = !existsSync(o.library);
-  try {
-    return withLibrary(
-      o.library,
-      (lib) => {
-        const summary = lib.importCheckedReferences(references(), { change: `import from ${files.length === 1 ? files[0] : `${files.length} files`}` });
-        return { library: o.library, files: read, ...summary };
-      },
-      'create',
-    );
-  } catch (err) {
-    if (created) for (const f of [o.library, `${o.library}-wal`, `${o.library}-shm`]) rmSync(f, { force: true });
-    throw err;
+  const change = `import from ${files.length === 1 ? files[0] : `${files.length} files`}`;
+  if (!existsSync(o.library)) {
+    const summary = ReferenceLibrary.importIntoNew(o.library, references(), { change });
+    if (summary) return { library: o.library, files: read, ...summary };
+    // Another process made the file meanwhile: read the files again, into that library.
+    for (const entry of read) {
+      entry.references = [];
+      entry.skipped = [];
+    }
   }
+  return withLibrary(
+    o.library,
+    (lib) => {
+      const summary = lib.importCheckedReferences(references(), { change });
+      return { library: o.library, files: read, ...summary };
+    },
+    'create',
+  );
 }
 
 /** Names of what a file brought, in full up to a dozen; a large library is named by its first and last few (the JSON output lists all). */

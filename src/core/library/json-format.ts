@@ -6,6 +6,7 @@ import { positionsFromCell } from './from-crystal.js';
 import { JsonPlaces, type JsonPath } from './json-locate.js';
 import { LINE_HAS_D, LINE_HAS_HKL, LINE_HAS_INTENSITY, LINE_HAS_MULTIPLICITY, LINE_HAS_TWO_THETA, readReferenceList, type ListItem, type PlainLines } from './json-stream.js';
 import type { Reference, ReferenceLine } from '../model/reference.js';
+import { withPackedValues } from './packed-lines.js';
 import {
   describeEntry,
   describeField,
@@ -134,6 +135,12 @@ function referenceFromPlain(head: Record<string, unknown>, plain: PlainLines | n
   if (!checked.success) return null;
   try {
     const lambda = entryWavelength(checked.data);
+    const values = packedValuesOfPlain(plain, lambda);
+    if (values) {
+      // Without a `lines` of its own: the accessor is added, not put in place of a value (which would make the object a slow dictionary).
+      const { lines: _none, ...head } = normalizeReferenceOwningLines(referenceHead(checked.data));
+      return withPackedValues(head, values);
+    }
     const lines: ReferenceLine[] = new Array(plain.count);
     for (let i = 0; i < plain.count; i++) {
       const given = plain.given[i]!;
@@ -150,12 +157,31 @@ function referenceFromPlain(head: Record<string, unknown>, plain: PlainLines | n
   }
 }
 
+/**
+ * The lines of a plain entry as packed values (packed-lines.ts), when they need no line objects: no
+ * line with hkl or multiplicity, d by decreasing value (as normal form has them). Else null, and
+ * line objects are made (and sorted). A bad line throws as lineD does.
+ */
+function packedValuesOfPlain(plain: PlainLines, lambda: number | undefined): Float64Array | null {
+  const n = plain.count;
+  const values = new Float64Array(2 * n);
+  for (let i = 0; i < n; i++) {
+    const given = plain.given[i]!;
+    if (given & (LINE_HAS_HKL | LINE_HAS_MULTIPLICITY)) return null;
+    const d = lineD(given & LINE_HAS_D ? plain.d[i] : undefined, given & LINE_HAS_TWO_THETA ? plain.twoTheta[i] : undefined, i, lambda);
+    if (i > 0 && d > values[i - 1]!) return null;
+    values[i] = d;
+    values[n + i] = given & LINE_HAS_INTENSITY ? plain.intensity[i]! : Number.NaN;
+  }
+  return values;
+}
+
 function entryWavelength(entry: FileEntryHead): number | undefined {
   return entry.wavelength === undefined ? undefined : wavelengthAngstrom(entry.wavelength);
 }
 
-/** The reference of a checked entry whose lines (in d, these objects its own) are already made. */
-function referenceFromEntry(entry: FileEntryHead, lines: ReferenceLine[] | undefined): Reference {
+/** A checked entry's reference without its lines (none yet). */
+function referenceHead(entry: FileEntryHead): Reference {
   const ref: Reference = {
     name: entry.name,
     formula: entry.formula ?? '',
@@ -167,7 +193,12 @@ function referenceFromEntry(entry: FileEntryHead, lines: ReferenceLine[] | undef
   if (entry.rir !== undefined) ref.rir = entry.rir;
   if (entry.cell) ref.cell = entry.cell;
   if (entry.intensityBasis !== undefined) ref.intensityBasis = entry.intensityBasis;
+  return ref;
+}
 
+/** The reference of a checked entry whose lines (in d, these objects its own) are already made. */
+function referenceFromEntry(entry: FileEntryHead, lines: ReferenceLine[] | undefined): Reference {
+  const ref = referenceHead(entry);
   if (lines && lines.length > 0) {
     ref.lines = lines;
     return normalizeReferenceOwningLines(ref);

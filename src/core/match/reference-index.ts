@@ -54,22 +54,14 @@ export function buildReferenceIndex(references: readonly StoredReference[]): Ref
 
 /**
  * Sort gathered lines by d (lines without a positive d are dropped): what a library stores at
- * import time, so that matching never sorts or decodes line objects.
+ * import time, so that matching never sorts or decodes line objects. The gathered arrays are used
+ * as scratch space (the result may be them): hand over arrays gathered for this.
  */
 export function sortLineIndex(lines: PackedLineIndex): PackedLineIndex {
   const total = lines.d.length;
   let n = 0;
   for (let i = 0; i < total; i++) if (lines.d[i]! > 0) n++;
-  const kept = n === total ? lines : dropNonPositive(lines, n);
-  const { order, sorted: d } = sortedOrder(kept.d);
-  const referenceOf = new Int32Array(n);
-  const intensity = new Float32Array(n);
-  for (let i = 0; i < n; i++) {
-    const k = order[i]!;
-    referenceOf[i] = kept.referenceOf[k]!;
-    intensity[i] = kept.intensity[k]!;
-  }
-  return { d, referenceOf, intensity };
+  return sortByD(n === total ? lines : dropNonPositive(lines, n));
 }
 
 function dropNonPositive(lines: PackedLineIndex, n: number): PackedLineIndex {
@@ -104,61 +96,74 @@ export function referenceIndexFromPacked(references: readonly StoredReference[],
 
 /** Index of the high 32-bit word of a Float64 in a Uint32Array view (1 on little-endian platforms). */
 const HIGH_WORD = new Uint32Array(new Float64Array([1]).buffer)[1] === 0x3ff00000 ? 1 : 0;
-const RADIX_BITS = 11;
-const RADIX = 1 << RADIX_BITS;
+/** Widest digit of a radix pass: 4096 counters, whose writes stay in cache. */
+const MAX_RADIX_BITS = 12;
 
 /**
- * Permutation that sorts positive values ascending (stable), and the values in that order: an LSD
- * radix sort, three 11-bit passes over the high 32 bits of each value's IEEE 754 pattern (which
- * order positive doubles; Knuth, TAOCP vol. 3, 5.2.5), then one insertion pass for values that share
- * those bits, by then next to each other. Linear time, and sequential memory access but for the scatter.
+ * Lines of positive d sorted by d, ascending and stable: an LSD radix sort on the high 32 bits of
+ * each d's IEEE 754 pattern (which order positive doubles; Knuth, TAOCP vol. 3, 5.2.5), less the
+ * smallest, so that a library's d range (a few binary orders of magnitude) takes two passes; each
+ * pass moves the lines whole (d, reference, intensity), as a gather by a sorted order afterwards
+ * reads memory at random and costs more than the passes. Then one insertion pass for values that
+ * share those bits, by then next to each other. `lines` is one of the two buffers.
  */
-function sortedOrder(values: Float64Array): { order: Uint32Array; sorted: Float64Array } {
-  const n = values.length;
-  const words = new Uint32Array(values.buffer, values.byteOffset, 2 * n);
-  let keys = new Uint32Array(n);
-  let order = new Uint32Array(n);
+function sortByD(lines: PackedLineIndex): PackedLineIndex {
+  const n = lines.d.length;
+  if (n < 2) return lines;
+  let words = new Uint32Array(lines.d.buffer, lines.d.byteOffset, 2 * n);
+  let min = 0xffffffff;
+  let max = 0;
   for (let i = 0; i < n; i++) {
-    keys[i] = words[2 * i + HIGH_WORD]!;
-    order[i] = i;
+    const key = words[2 * i + HIGH_WORD]!;
+    if (key < min) min = key;
+    if (key > max) max = key;
   }
-  let nextKeys = new Uint32Array(n);
-  let nextOrder = new Uint32Array(n);
-  const start = new Uint32Array(RADIX);
-  for (let shift = 0; shift < 32; shift += RADIX_BITS) {
+  const bits = 32 - Math.clz32(max - min);
+  const passes = Math.max(1, Math.ceil(bits / MAX_RADIX_BITS));
+  const digit = Math.max(1, Math.ceil(bits / passes));
+  const mask = (1 << digit) - 1;
+  const start = new Uint32Array(1 << digit);
+  let from = lines;
+  let to: PackedLineIndex = { d: new Float64Array(n), referenceOf: new Int32Array(n), intensity: new Float32Array(n) };
+  for (let pass = 0, shift = 0; pass < passes; pass++, shift += digit) {
     start.fill(0);
-    for (let i = 0; i < n; i++) start[(keys[i]! >>> shift) & (RADIX - 1)]++;
+    for (let i = 0; i < n; i++) start[((words[2 * i + HIGH_WORD]! - min) >>> shift) & mask]++;
     let sum = 0;
-    for (let b = 0; b < RADIX; b++) {
+    for (let b = 0; b <= mask; b++) {
       const count = start[b]!;
       start[b] = sum;
       sum += count;
     }
+    const { d, referenceOf, intensity } = from;
+    const next = to;
     for (let i = 0; i < n; i++) {
-      const key = keys[i]!;
-      const at = start[(key >>> shift) & (RADIX - 1)]++;
-      nextKeys[at] = key;
-      nextOrder[at] = order[i]!;
+      const at = start[((words[2 * i + HIGH_WORD]! - min) >>> shift) & mask]++;
+      next.d[at] = d[i]!;
+      next.referenceOf[at] = referenceOf[i]!;
+      next.intensity[at] = intensity[i]!;
     }
-    [keys, nextKeys] = [nextKeys, keys];
-    [order, nextOrder] = [nextOrder, order];
+    to = from;
+    from = next;
+    words = new Uint32Array(from.d.buffer, from.d.byteOffset, 2 * n);
   }
-  const sorted = new Float64Array(n);
-  for (let i = 0; i < n; i++) sorted[i] = values[order[i]!]!;
+  const { d, referenceOf, intensity } = from;
   for (let i = 1; i < n; i++) {
-    const v = sorted[i]!;
-    if (v >= sorted[i - 1]!) continue;
-    const item = order[i]!;
+    const v = d[i]!;
+    if (v >= d[i - 1]!) continue;
+    const r = referenceOf[i]!;
+    const value = intensity[i]!;
     let j = i - 1;
-    while (j >= 0 && sorted[j]! > v) {
-      sorted[j + 1] = sorted[j]!;
-      order[j + 1] = order[j]!;
+    while (j >= 0 && d[j]! > v) {
+      d[j + 1] = d[j]!;
+      referenceOf[j + 1] = referenceOf[j]!;
+      intensity[j + 1] = intensity[j]!;
       j--;
     }
-    sorted[j + 1] = v;
-    order[j + 1] = item;
+    d[j + 1] = v;
+    referenceOf[j + 1] = r;
+    intensity[j + 1] = value;
   }
-  return { order, sorted };
+  return from;
 }
 
 

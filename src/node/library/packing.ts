@@ -1,5 +1,6 @@
 import type { Hkl } from '../../core/model/cell.js';
 import type { Reference, ReferenceLine } from '../../core/model/reference.js';
+import { packedValuesOf } from '../../core/library/packed-lines.js';
 
 /**
  * Compact storage of a reference's lines, so that loading 100 000 references stays fast:
@@ -108,7 +109,10 @@ const packedOf = new WeakMap<object, PackedLines | BlockSlice>();
 /** A reference's lines packed: the stored bytes for references loaded from a library, else packed now. */
 export function packedLinesOf(ref: Reference): PackedLines {
   const known = packedOf.get(ref);
-  if (!known) return packLines(ref.lines);
+  if (!known) {
+    const values = packedValuesOf(ref); // lines a file reader kept packed, never read as objects
+    return values ? { count: values.length / 2, values: Buffer.from(values.buffer, values.byteOffset, values.byteLength), indices: null } : packLines(ref.lines);
+  }
   if (!('block' in known)) return known;
   const packed = sliceOf(known);
   // A read from the library is kept; a slice of a loaded block stays a slice (cheap to cut again).

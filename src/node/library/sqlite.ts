@@ -23,6 +23,12 @@ export interface OpenDatabaseOptions {
    * to date (the one write such an open makes), to remake what the upgrade dropped (a cache).
    */
   afterUpgrade?: (db: Db) => void;
+  /**
+   * `path` is a private new file being built for the file named here (and in messages): its journal
+   * is kept in memory and nothing is synced, since no other connection can see it (the builder
+   * switches it to WAL, syncs it and moves it into place; see ReferenceLibrary.importIntoNew).
+   */
+  buildingFor?: string;
 }
 
 /** What opening found and did that the user should hear of (an unclean shutdown checked, say). */
@@ -59,23 +65,25 @@ export function openDatabase(path: string, options: OpenDatabaseOptions, found: 
     }
     return openReadOnly(path, options);
   }
+  const shown = options.buildingFor ?? path;
   let db: Db;
   try {
     db = new Database(path, { timeout: options.busyTimeoutMs ?? DEFAULT_BUSY_TIMEOUT_MS });
   } catch (err) {
-    throw new InputError(`cannot open ${options.kind} file: ${errorText(err)}`, { file: path });
+    throw new InputError(`cannot open ${options.kind} file: ${errorText(err)}`, { file: shown });
   }
   try {
     // Set before the file's first page is written (later it holds until a VACUUM).
     if (isNew) db.pragma(`page_size = ${NEW_FILE_PAGE_BYTES}`);
-    db.pragma('journal_mode = WAL');
+    // A new file's pages need no journal (SQLite journals only pages that existed at BEGIN), so MEMORY costs next to nothing and keeps ROLLBACK.
+    db.pragma(options.buildingFor === undefined ? 'journal_mode = WAL' : 'journal_mode = MEMORY');
     db.pragma('foreign_keys = ON');
-    db.pragma('synchronous = NORMAL');
+    db.pragma(options.buildingFor === undefined ? 'synchronous = NORMAL' : 'synchronous = OFF');
     migrate(db, path, isNew, options);
     return db;
   } catch (err) {
     db.close();
-    throw asInputError(err, path, options.kind);
+    throw asInputError(err, shown, options.kind);
   }
 }
 

@@ -66,7 +66,8 @@ export function describeHolder(libraryPath: string): string {
   return `"${holder.command}" (pid ${holder.pid}${where}, writing since ${holder.startedAt})`;
 }
 
-function processRuns(pid: number): boolean {
+/** Whether a process of this host runs (a note or file it left is not stale). */
+export function processRuns(pid: number): boolean {
   try {
     process.kill(pid, 0);
     return true;
