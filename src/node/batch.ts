@@ -103,11 +103,11 @@ export function workersFor(files: number): number {
   return Math.max(1, Math.min(defaultWorkerCount(), Math.ceil(files / FILES_PER_EXTRA_WORKER)));
 }
 
-function shareTyped<T extends Float64Array | Int32Array | Float32Array>(array: T): SharedArrayBuffer {
-  // Read from the library straight into shared memory: handed over as it is.
-  if (array.buffer instanceof SharedArrayBuffer && array.byteOffset === 0 && array.byteLength === array.buffer.byteLength) return array.buffer;
-  const buffer = new SharedArrayBuffer(array.byteLength);
-  new Uint8Array(buffer).set(new Uint8Array(array.buffer, array.byteOffset, array.byteLength));
+/** The bytes of a typed array in shared memory: handed over as they are when already there whole (read from the library so), else copied once. */
+function shareView(view: ArrayBufferView): SharedArrayBuffer {
+  if (view.buffer instanceof SharedArrayBuffer && view.byteOffset === 0 && view.byteLength === view.buffer.byteLength) return view.buffer;
+  const buffer = new SharedArrayBuffer(view.byteLength);
+  new Uint8Array(buffer).set(new Uint8Array(view.buffer, view.byteOffset, view.byteLength));
   return buffer;
 }
 
@@ -120,7 +120,7 @@ function shareReferences(references: readonly StoredReference[]): Pick<SharedSet
   if (source && 'library' in source.lines && source.lines.library !== ':memory:') return { heads: sharedHeads(source.heads), lines: { library: source.lines.library, valueStart: source.valueStart } };
   if (source && 'values' in source.lines) {
     const { values, indices, indexStart } = source.lines;
-    return { heads: sharedHeads(source.heads), lines: { values: shareBytes(values), indices: shareBytes(indices), valueStart: source.valueStart, indexStart } };
+    return { heads: sharedHeads(source.heads), lines: { values: shareView(values), indices: shareView(indices), valueStart: source.valueStart, indexStart } };
   }
   const n = references.length;
   const packed = references.map(packedLinesOf);
@@ -148,14 +148,7 @@ function shareReferences(references: readonly StoredReference[]): Pick<SharedSet
 
 /** The heads with their bytes in shared memory (every worker reads the one copy). */
 function sharedHeads(heads: SnapshotHeads): SnapshotHeads {
-  return heads.bytes.buffer instanceof SharedArrayBuffer ? heads : { ...heads, bytes: new Uint8Array(shareBytes(heads.bytes)) };
-}
-
-function shareBytes(bytes: Uint8Array): SharedArrayBuffer {
-  if (bytes.buffer instanceof SharedArrayBuffer && bytes.byteOffset === 0 && bytes.byteLength === bytes.buffer.byteLength) return bytes.buffer;
-  const buffer = new SharedArrayBuffer(bytes.byteLength);
-  new Uint8Array(buffer).set(bytes);
-  return buffer;
+  return { ...heads, bytes: new Uint8Array(shareView(heads.bytes)) };
 }
 
 /** Index the references once and put the index and the lines where every worker can read them without a copy. */
@@ -165,7 +158,7 @@ export function shareSetup(setup: BatchSetup): SharedSetup {
     ...shareReferences(setup.references),
     instrument: setup.instrument,
     settings: setup.settings,
-    index: { d: shareTyped(index.d), referenceOf: shareTyped(index.referenceOf), intensity: shareTyped(index.intensity), ...(index.libraryDigest ? { libraryDigest: index.libraryDigest } : {}) },
+    index: { d: shareView(index.d), referenceOf: shareView(index.referenceOf), intensity: shareView(index.intensity), ...(index.libraryDigest ? { libraryDigest: index.libraryDigest } : {}) },
   };
 }
 
